@@ -1,0 +1,29 @@
+#!/usr/bin/env bash
+# Sets up everything the project needs on a fresh machine, idempotently:
+# a virtual environment with the core and its test extras, Node packages
+# (the pinned Pyodide), and Debian's Chromium for the page tests.
+# Source it: `. build_scripts/setup_env.sh`; it leaves the venv active.
+set -euo pipefail
+top="$(cd "$(dirname "${BASH_SOURCE[0]}")/.." && pwd)"
+cd "$top"
+
+if [ ! -x .venv/bin/python ]; then
+  python3 -m venv .venv
+fi
+# shellcheck disable=SC1091
+. .venv/bin/activate
+python -m pip install --quiet --upgrade pip
+python -m pip install --quiet -e ".[test]"
+
+if [ -f package.json ]; then
+  if [ ! -d node_modules ] || [ package-lock.json -nt node_modules ]; then
+    npm ci --no-audit --no-fund --loglevel=error
+  fi
+fi
+
+if [ "${SHAKESTILL_NO_BROWSER:-}" != "1" ] && ! command -v chromium >/dev/null 2>&1; then
+  if command -v apt-get >/dev/null 2>&1; then
+    apt-get update -qq
+    DEBIAN_FRONTEND=noninteractive apt-get install -y -qq chromium >/dev/null
+  fi
+fi

@@ -1,0 +1,10 @@
+#!/usr/bin/env bash
+# Sets up a fresh machine and runs every test. Exit code is pytest's.
+set -euo pipefail
+top="$(cd "$(dirname "${BASH_SOURCE[0]}")/.." && pwd)"
+cd "$top"
+. build_scripts/setup_env.sh
+if [ -f build_scripts/build_site.py ]; then
+  python build_scripts/build_site.py
+fi
+python -m pytest "$@"
