@@ -1,0 +1,227 @@
+"""dist/shakestill-offline.html: the built site as one file that opens from disk.
+
+From file:// a page may not start a worker from a file or a Blob URL, import
+sibling modules or fetch sibling files. So the single file carries
+everything inside itself:
+
+- the page's module scripts and style sheets, bundled by esbuild and inlined
+  (images they use become data: URLs);
+- every other file of the site (Pyodide, the wheels, the lock file,
+  build-info.json) and the worker bundled with Pyodide's JavaScript, packed
+  into one gzip archive held as base64 text in the page;
+- a prelude (offline_page.js) that unpacks the archive with
+  DecompressionStream, answers the page's own fetches of embedded files, and
+  makes `new Worker(".../worker.js", {type: "module"})` start a small module
+  worker from a data: URL (offline_boot.js) that receives the files, answers
+  the worker's fetches from them and runs the bundled worker.
+"""
+
+from __future__ import annotations
+
+import base64
+import gzip
+import hashlib
+import json
+import mimetypes
+import os
+import re
+import subprocess
+import tempfile
+from html.parser import HTMLParser
+from pathlib import Path
+
+TOP = Path(__file__).resolve().parent.parent
+HERE = Path(__file__).resolve().parent
+ESBUILD = TOP / "node_modules" / ".bin" / "esbuild"
+WORKER_BUNDLE = "worker-bundle.js"  # path of the bundled worker inside the archive
+DATA_ELEMENT_ID = "shakestill-embedded"
+
+# Files the page uses through HTML or CSS become data: URLs; these are their kinds.
+DATA_URL_LOADERS = ("svg", "png", "jpg", "jpeg", "gif", "webp", "ico", "woff", "woff2", "ttf")
+# Chromium refuses URLs longer than 2 MiB (its url::kMaxURLChars); the
+# worker's data: URL must stay below, with some room.
+MAX_WORKER_URL_CHARS = 2 * 1024 * 1024 - 64 * 1024
+
+# Served files whose bytes reach the single file some other way (bundled or inlined).
+INLINED_SUFFIXES = (".js", ".mjs", ".css", ".html")
+NOT_EMBEDDED = ("sw.js",)
+
+
+def mime_type(path: str) -> str:
+    if path.endswith(".mjs") or path.endswith(".js"):
+        return "text/javascript"
+    if path.endswith(".webmanifest"):
+        return "application/manifest+json"
+    return mimetypes.guess_type(path)[0] or "application/octet-stream"
+
+
+def esbuild(entry: Path, *options: str) -> str:
+    """Bundle entry with the pinned esbuild; returns the output text."""
+    if not ESBUILD.exists():
+        raise SystemExit("esbuild is missing from node_modules: run `npm ci`")
+    loaders = [f"--loader:.{ext}=dataurl" for ext in DATA_URL_LOADERS]
+    done = subprocess.run(
+        [str(ESBUILD), os.path.relpath(entry, TOP), "--bundle", "--minify",
+         "--log-level=error", "--legal-comments=none", *loaders, *options],
+        cwd=TOP, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True,
+    )
+    if done.returncode != 0:
+        raise SystemExit(f"esbuild failed on {entry}:\n{done.stderr}")
+    return done.stdout
+
+
+def bundle_worker(site: Path, work: Path) -> bytes:
+    """offline_worker.js, site/worker.js and Pyodide's JavaScript as one ES module."""
+    entry = work / "worker-entry.js"
+    # offline_worker.js first: its message listener must see the files before worker.js does.
+    entry.write_text("".join(f'import "{os.path.relpath(path, work)}";\n'
+                             for path in (HERE / "offline_worker.js", site / "worker.js")))
+    asm = os.path.relpath(site / "pyodide" / "pyodide.asm.mjs", TOP)
+    code = esbuild(entry, "--format=esm", "--platform=browser", "--external:node:*", "--external:ws",
+                   "--charset=ascii", f"--alias:shakestill-pyodide-asm=./{asm}")
+    # offline_page.js escapes %, # and white space when it makes the data: URL.
+    url_chars = len("data:text/javascript,") + len(code) + 2 * len(re.findall(r"[%#\s]", code))
+    if url_chars > MAX_WORKER_URL_CHARS:
+        raise SystemExit(f"the worker bundle makes a {url_chars}-character data: URL, "
+                         f"over the {MAX_WORKER_URL_CHARS} that Chromium accepts")
+    return code.encode()
+
+
+def archive(site: Path, worker_bundle: bytes) -> tuple[list[dict], bytes]:
+    """Index and gzip bytes of every file the single file needs at run time."""
+    entries = []
+    for path in sorted(p for p in site.rglob("*") if p.is_file()):
+        name = path.relative_to(site).as_posix()
+        if name in NOT_EMBEDDED or (name.endswith(INLINED_SUFFIXES) and not name.startswith("pyodide/")):
+            continue
+        if name.startswith("pyodide/") and name.endswith(".mjs"):
+            continue  # bundled into the worker
+        entries.append((name, path.read_bytes()))
+    entries.append((WORKER_BUNDLE, worker_bundle))
+    index = [{"path": name, "type": mime_type(name), "size": len(data)} for name, data in entries]
+    packed = gzip.compress(b"".join(data for _, data in entries), compresslevel=9, mtime=0)
+    return index, packed
+
+
+class _Tags(HTMLParser):
+    """Start tags of an HTML text with their character spans."""
+
+    def __init__(self, text: str):
+        super().__init__(convert_charrefs=True)
+        self.tags: list[tuple[str, dict, int, int]] = []
+        self._lines = [0]
+        for line in text.splitlines(keepends=True):
+            self._lines.append(self._lines[-1] + len(line))
+        self.feed(text)
+        self.close()
+
+    def _offset(self) -> int:
+        line, col = self.getpos()
+        return self._lines[line - 1] + col
+
+    def handle_starttag(self, tag, attrs):
+        start = self._offset()
+        end = start + len(self.get_starttag_text())
+        self.tags.append((tag, dict(attrs), start, end))
+
+    handle_startendtag = handle_starttag
+
+
+def _is_local(url: str | None) -> bool:
+    return bool(url) and ":" not in url.split("/")[0] and not url.startswith(("#", "//"))
+
+
+def _data_url(path: Path) -> str:
+    return f"data:{mime_type(path.name)};base64,{base64.b64encode(path.read_bytes()).decode()}"
+
+
+def _script(code: str, kind: str = "") -> str:
+    attr = f' type="{kind}"' if kind else ""
+    safe = code.replace("</script", "<\\/script")  # the HTML parser must not end the script early
+    return f"<script{attr}>{safe}</script>"
+
+
+def _prelude(index: list[dict]) -> str:
+    text = (HERE / "offline_page.js").read_text()
+    for marker, value in (("[/* @INDEX@ */]", json.dumps(index)), ("@ELEMENT@", DATA_ELEMENT_ID),
+                          ("@BUNDLE@", WORKER_BUNDLE)):
+        if text.count(marker) != 1:
+            raise SystemExit(f"offline_page.js must hold the marker {marker} exactly once")
+        text = text.replace(marker, value)
+    return _script(text)
+
+
+def _csp_hash(text: str) -> str:
+    return "'sha256-" + base64.b64encode(hashlib.sha256(text.encode()).digest()).decode() + "'"
+
+
+def allow_inline(html: str) -> str:
+    """The page's CSP, widened just enough for the single file.
+
+    Its inline scripts and styles by hash, workers from data: URLs, and the
+    prelude's Trusted Types policy. No 'unsafe-inline', no 'unsafe-eval'.
+    """
+    match = re.search(r'<meta http-equiv="Content-Security-Policy" content="([^"]*)"', html, re.I)
+    if not match:
+        return html
+    scripts = [m.group(1) for m in re.finditer(r"<script(?:\s[^>]*)?>(.*?)</script>", html, re.S)
+               if "application/octet-stream" not in m.group(0)[:80]]
+    styles = re.findall(r"<style(?:\s[^>]*)?>(.*?)</style>", html, re.S)
+    extra = {
+        "script-src": [_csp_hash(code) for code in scripts],
+        "style-src": [_csp_hash(css) for css in styles],
+        "worker-src": ["data:"],
+        "trusted-types": ["shakestill-offline"],
+    }
+    directives = [d.split() for d in match.group(1).split(";") if d.strip()]
+    for name, values in extra.items():
+        found = next((d for d in directives if d[0] == name), None)
+        if found is None:
+            continue  # not restricted by the page: nothing to widen
+        found.extend(v for v in values if v not in found)
+    policy = "; ".join(" ".join(d) for d in directives)
+    return html[:match.start(1)] + policy + html[match.end(1):]
+
+
+def inline_page(site: Path, html: str, prelude: str, payload: str) -> str:
+    """index.html with its scripts, styles and images inlined and the archive added."""
+    edits = []  # (start, end, replacement)
+    for tag, attrs, start, end in _Tags(html).tags:
+        src, href, rel = attrs.get("src"), attrs.get("href"), (attrs.get("rel") or "").lower()
+        for ref in (src, href):
+            if _is_local(ref) and not (site / ref).is_file():
+                raise SystemExit(f"index.html refers to {ref}, which the site does not have")
+        if tag == "script" and _is_local(src):
+            close = html.index("</script>", end) + len("</script>")
+            kind = "module" if attrs.get("type") == "module" else ""
+            fmt = "--format=esm" if kind else "--format=iife"
+            edits.append((start, close, _script(esbuild(site / src, fmt, "--platform=browser"), kind)))
+        elif tag == "link" and "stylesheet" in rel.split() and _is_local(href):
+            media = f' media="{attrs["media"]}"' if attrs.get("media") else ""
+            edits.append((start, end, f"<style{media}>{esbuild(site / href)}</style>"))
+        elif tag == "link" and "manifest" in rel.split():
+            edits.append((start, end, ""))  # an installable app needs a server
+        elif tag == "link" and _is_local(href):
+            edits.append((start, end, html[start:end].replace(href, _data_url(site / href), 1)))
+        elif tag in ("img", "source") and _is_local(src):
+            edits.append((start, end, html[start:end].replace(src, _data_url(site / src), 1)))
+    for start, end, text in sorted(edits, reverse=True):
+        html = html[:start] + text + html[end:]
+    # The prelude goes before the first script, after the CSP and charset metas.
+    lower = html.lower()
+    at = lower.find("<script")
+    at = lower.index("</head>") if at < 0 else at
+    html = html[:at] + prelude + "\n" + html[at:]
+    body = html.lower().rindex("</body>")
+    data = f'<script type="application/octet-stream" id="{DATA_ELEMENT_ID}">{payload}</script>\n'
+    return allow_inline(html[:body] + data + html[body:])
+
+
+def build_offline(site: Path, out: Path) -> None:
+    (TOP / "build").mkdir(exist_ok=True)
+    with tempfile.TemporaryDirectory(dir=TOP / "build") as tmp:
+        worker = bundle_worker(site, Path(tmp))
+    index, packed = archive(site, worker)
+    payload = base64.b64encode(packed).decode()
+    html = inline_page(site, (site / "index.html").read_text(), _prelude(index), payload)
+    out.write_text(html)

@@ -1,0 +1,197 @@
+// Shakestill worker: hosts Pyodide and answers the page's requests through
+// shakestill.bridge.handle (JSON in, JSON out). A module worker (Pyodide 314
+// refuses classic workers). The served site loads it as it is. Where the
+// host cannot serve files the usual way, it sets globalThis.shakestillHost
+// before this module runs: {prepare() -> base URL of the site's files, once
+// they can be fetched; pyodideOptions: options for loadPyodide, such as
+// createPyodideModule (Pyodide's Emscripten module, handed over directly)}.
+// The single-file build does (build_scripts/offline_worker.js), and so does
+// the Node.js test runner (tests/pyodide_run.mjs).
+//
+// Protocol (DEVELOPERS.md): page -> worker {id, op, ...fields} or {id, cancel: true};
+// worker -> page {type: "boot", stage, fraction}, {type: "ready", version},
+// {type: "boot-failed", message}, {id, type: "progress", fraction, message},
+// {id, type: "result", reply}, {id, type: "error", message}.
+
+import { loadPyodide } from "./pyodide/pyodide.mjs";
+
+// Pyodide packages loaded from the shipped lock file before the core.
+const PACKAGES = ["micropip", "packaging"];
+
+const queue = []; // requests received and not started yet, oldest first
+let state = "booting"; // "booting" | "ready" | "failed"
+let failure = "";
+let bridge = null;
+let busy = false;
+
+const post = (message) => self.postMessage(message);
+const stage = (words, fraction) => post({ type: "boot", stage: words, fraction });
+
+self.addEventListener("message", (event) => receive(event.data));
+boot().then(
+  (version) => {
+    state = "ready";
+    post({ type: "ready", version });
+    pump();
+  },
+  (error) => {
+    state = "failed";
+    failure = error instanceof BootError ? error.message : `Start-up failed: ${describe(error)}`;
+    post({ type: "boot-failed", message: failure });
+    while (queue.length) refuse(queue.shift(), failure);
+  },
+);
+
+class BootError extends Error {}
+
+// A Python error's message is its whole traceback; its last line says what happened.
+function describe(error) {
+  const text = String((error && error.message) || error).trim();
+  return error && error.type ? text.split("\n").pop() : text;
+}
+
+// Runs one start-up step; a failure names the step in words.
+async function step(words, action) {
+  try {
+    return await action();
+  } catch (error) {
+    if (error instanceof BootError) throw error;
+    throw new BootError(`Could not ${words}: ${describe(error)}`);
+  }
+}
+
+async function boot() {
+  const host = globalThis.shakestillHost || {};
+  let base;
+  if (host.prepare) {
+    stage("unpacking the embedded files", 0);
+    base = new URL(await step("unpack the files embedded in the page", () => host.prepare()));
+  } else {
+    base = new URL("./", import.meta.url);
+  }
+  const info = await step("read build-info.json", async () => {
+    const response = await fetch(new URL("build-info.json", base));
+    if (!response.ok) throw new Error(`HTTP ${response.status}`);
+    return response.json();
+  });
+
+  stage("loading Python", 0.05);
+  const problems = [];
+  const pyodide = await step("start Python (Pyodide)", () =>
+    loadPyodide({
+      indexURL: new URL("pyodide/", base).href,
+      stdout: () => {},
+      stderr: (text) => problems.push(text),
+      ...host.pyodideOptions,
+    }),
+  );
+
+  stage("loading micropip", 0.7);
+  await step("load micropip and packaging", () => loadPackages(pyodide, PACKAGES));
+
+  stage("installing the core", 0.8);
+  // micropip finds the core in the shipped lock file, so loadPackage fetches
+  // the wheel from the site's own folder and checks its sha256.
+  await step(`install ${info.wheel}`, async () => {
+    const micropip = pyodide.pyimport("micropip");
+    try {
+      await micropip.install(info.name, { index_urls: [] });
+    } finally {
+      micropip.destroy();
+    }
+    requireLoaded(pyodide, [info.name], problems);
+  });
+
+  stage("starting the core", 0.9);
+  return step("import the core", () => {
+    const core = pyodide.pyimport("shakestill");
+    const version = core.__version__;
+    core.destroy();
+    if (version !== info.version) {
+      throw new Error(`it reports version ${version}, the site was built with ${info.version}`);
+    }
+    bridge = pyodide.pyimport("shakestill.bridge");
+    return version;
+  });
+}
+
+// loadPackage only logs a failed download or a hash mismatch; check the result.
+async function loadPackages(pyodide, names) {
+  const errors = [];
+  await pyodide.loadPackage(names, {
+    messageCallback: () => {},
+    errorCallback: (text) => errors.push(text),
+    checkIntegrity: true,
+  });
+  requireLoaded(pyodide, names, errors);
+}
+
+function requireLoaded(pyodide, names, errors) {
+  const missing = names.filter((name) => !(name in pyodide.loadedPackages));
+  if (missing.length) {
+    const detail = errors.length ? ` (${errors.join(" ")})` : "";
+    throw new Error(`${missing.join(", ")} did not load${detail}`);
+  }
+}
+
+function receive(message) {
+  if (!message || typeof message !== "object") return;
+  if (message.cancel) {
+    cancel(message.id);
+    return;
+  }
+  if (typeof message.op !== "string") {
+    post({ id: message.id, type: "error", message: "A request needs an op, a string such as \"check\"." });
+    return;
+  }
+  if (state === "failed") {
+    refuse(message, failure);
+    return;
+  }
+  // A newer request of the same op makes an older one that has not started pointless.
+  for (const old of queue.filter((queued) => queued.op === message.op)) {
+    drop(old, `Replaced by a newer ${message.op} request before it started.`);
+  }
+  queue.push(message);
+  pump();
+}
+
+function cancel(id) {
+  const queued = queue.find((request) => request.id === id);
+  if (queued) drop(queued, "Cancelled before it started.");
+}
+
+function drop(request, words) {
+  queue.splice(queue.indexOf(request), 1);
+  post({ id: request.id, type: "error", message: words, cancelled: true });
+}
+
+function refuse(request, words) {
+  post({ id: request.id, type: "error", message: words });
+}
+
+// Start the next request on a fresh task, so a cancel or a newer request
+// already waiting in the message queue is seen before the older one starts.
+function pump() {
+  if (busy || state !== "ready" || !queue.length) return;
+  busy = true;
+  setTimeout(() => {
+    const request = queue.shift();
+    if (request) run(request);
+    busy = false;
+    pump();
+  }, 0);
+}
+
+function run(request) {
+  const { id, ...fields } = request;
+  post({ id, type: "progress", fraction: 0, message: "started" });
+  let reply;
+  try {
+    reply = JSON.parse(bridge.handle(JSON.stringify(fields)));
+  } catch (error) {
+    post({ id, type: "error", message: `The core failed on ${request.op}: ${describe(error)}` });
+    return;
+  }
+  post({ id, type: "result", reply });
+}
