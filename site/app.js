@@ -1,0 +1,369 @@
+// Shakestill page: wires the rig sheet, the engine worker, the verdict, the
+// sketch, share links, rig files and autosave. No physics here: every number
+// shown comes from the core through the worker.
+
+import { h, replaceChildren } from "./dom.js";
+import { draftFromRig, rigFromDraft } from "./draft.js";
+import { fileNameFor, download, readRigFile } from "./rig-file.js";
+import { createReport } from "./report-view.js";
+import { createRigForm } from "./rig-form.js";
+import { showSchematic } from "./schematic-view.js";
+import { clearFragment, copyText, currentFragment, linkFor } from "./share.js";
+import { autosave } from "./storage.js";
+import { policy } from "./trusted.js";
+import { Cancelled, EngineClient, startEngineWorker } from "./worker-client.js";
+
+// Long enough to cover a burst of typing, short enough to feel immediate.
+const DEBOUNCE_MS = 250;
+const SLOW_BOOT_MS = 45_000;
+
+const $ = (id) => document.getElementById(id);
+
+const state = {
+  draft: null, // what the sheet holds: texts as typed
+  view: { v: 1, focus: "pendulum" },
+  seq: 0, // bumps on every edit; replies for older drafts are ignored
+  timer: 0,
+};
+
+const report = createReport($("check-report"), $("verdict-strip"));
+const form = createRigForm($("rig-sheet"), {
+  getDraft: () => state.draft,
+  onEdit: edited,
+  onStructure: edited,
+  onFocusSection: (section) => {
+    state.view.focus = section;
+    save();
+  },
+});
+$("rig-sheet").addEventListener("submit", (event) => event.preventDefault());
+
+// ---------------------------------------------------------------- notices
+
+function notice(text, actions = []) {
+  $("notice-text").textContent = text;
+  replaceChildren($("notice-actions"),
+    actions.map(({ label, run }) => h("button", { type: "button", on: { click: () => { hideNotice(); run(); } } }, label)),
+    h("button", { type: "button", class: "quiet", on: { click: hideNotice } }, "Dismiss"));
+  $("notice").hidden = false;
+}
+
+function hideNotice() {
+  $("notice").hidden = true;
+}
+
+function chip(id, text, chipState) {
+  const node = $(id);
+  node.textContent = text;
+  node.dataset.state = chipState;
+}
+
+// ---------------------------------------------------------------- draft and autosave
+
+function save() {
+  if (!state.draft) return;
+  const ok = autosave.save(state.draft, state.view);
+  chip("chip-autosave", ok ? "Autosave: on" : "Autosave: off (this browser blocks storage; save a rig file)",
+    ok ? "on" : "off");
+}
+
+function useDraft(draft, view = null) {
+  state.draft = draft;
+  if (view && typeof view === "object") state.view = { ...state.view, ...view };
+  form.render();
+  save();
+  schedule(0);
+  const section = document.querySelector(`[data-section="${CSS.escape(state.view.focus || "")}"]`);
+  if (view && section) section.scrollIntoView({ block: "start" });
+}
+
+/** Replace the rig with another one, keeping the current one as "previous". */
+function replaceRig(rig, view, what) {
+  const had = state.draft;
+  if (had) autosave.keepPrevious(had, state.view);
+  useDraft(draftFromRig(rig), view);
+  notice(`${what}.`, had ? [{ label: "Bring back my previous rig", run: restorePrevious }] : []);
+}
+
+function restorePrevious() {
+  const previous = autosave.previous();
+  if (!previous) return;
+  autosave.keepPrevious(state.draft, state.view);
+  useDraft(previous.draft, previous.view);
+  notice("Your previous rig is back (the one you just left is kept as previous).",
+    [{ label: "Swap back", run: restorePrevious }]);
+}
+
+function edited() {
+  save();
+  schedule(DEBOUNCE_MS);
+}
+
+// ---------------------------------------------------------------- engine
+
+const engine = new EngineClient(() => startEngineWorker(policy), {
+  onBoot: ({ stage, fraction }) => {
+    $("boot-stage").textContent = stage || "starting";
+    if (Number.isFinite(fraction)) $("boot-progress").value = fraction;
+    chip("chip-engine", `Engine: starting ${Math.round((fraction || 0) * 100)}%`, "starting");
+  },
+  onReady: (version) => {
+    $("boot").hidden = true;
+    $("version").textContent = `engine ${version}`;
+    chip("chip-engine", `Engine: ready (${version})`, "ready");
+    engineReady();
+  },
+  onFail: (message, wasReady) => {
+    $("boot").hidden = true;
+    $("boot-failed").hidden = false;
+    $("boot-failed-reason").textContent = wasReady ? `The engine stopped: ${message}` : message;
+    $("boot-failed-advice").textContent = adviceFor(message);
+    chip("chip-engine", "Engine: not running", "failed");
+    report.unavailable(message);
+  },
+});
+
+/** Plain advice for a failed start, from what the browser can and cannot do. */
+function adviceFor(message) {
+  if (typeof WebAssembly !== "object") {
+    return "This browser has WebAssembly switched off or missing (some managed laptops do this). "
+      + "Ask your IT department to allow WebAssembly for this page, or use another browser.";
+  }
+  if (typeof Worker !== "function") return "This browser cannot run background workers, which the engine needs.";
+  if (location.protocol === "file:") {
+    return "Opened from disk: use the file shakestill-offline.html, which is built to run from a file, "
+      + "or open the site's web address.";
+  }
+  if (/fetch|network|HTTP|load/i.test(message)) {
+    return "Part of the engine could not be downloaded. Check the connection and reload; "
+      + "after one complete visit the page also works offline.";
+  }
+  return "Reload the page. If it keeps failing, the browser's settings may block WebAssembly or workers.";
+}
+
+setTimeout(() => {
+  if (engine.state === "starting") {
+    $("boot-stage").textContent += " (still going: a slow connection or a busy machine can take a minute)";
+  }
+}, SLOW_BOOT_MS);
+
+function schedule(delay) {
+  clearTimeout(state.timer);
+  state.seq += 1;
+  report.pending();
+  state.timer = setTimeout(compute, delay);
+}
+
+function ignoreCancel(err) {
+  if (!(err instanceof Cancelled)) throw err;
+}
+
+/** Ask for the sketch and the check of the current draft; newer edits supersede both. */
+function compute() {
+  if (!state.draft || engine.state === "failed") return;
+  const seq = state.seq;
+  const rig = rigFromDraft(state.draft);
+  const current = () => seq === state.seq;
+
+  engine.request("schematic", { rig }, { channel: "schematic" }).then((reply) => {
+    if (!current()) return;
+    if (reply.ok) {
+      showSchematic($("schematic"), reply.svg);
+      $("schematic").dataset.state = "fresh";
+      $("schematic-stale").hidden = true;
+    } else {
+      $("schematic").dataset.state = "stale";
+      $("schematic-stale").hidden = $("schematic").querySelector("svg") === null;
+      if (reply.problems) form.showProblems(reply.problems);
+    }
+  }).catch(ignoreCancel).catch((err) => {
+    if (current()) $("schematic-stale").hidden = false;
+    console.error(err);
+  });
+
+  report.running();
+  engine.request("check", { rig }, {
+    channel: "check",
+    onProgress: (p) => current() && report.progress(p),
+  }).then((reply) => {
+    if (!current()) return;
+    if (reply.ok) {
+      form.showProblems([], reply.warnings || []);
+      report.show(reply);
+    } else if (reply.problems) {
+      form.showProblems(reply.problems, reply.warnings || []);
+      report.stale(reply.problems);
+    } else {
+      report.failed(reply.error || "the engine gave no reason");
+    }
+  }).catch(ignoreCancel).catch((err) => {
+    if (current()) report.failed(err.message || String(err));
+  });
+}
+
+// ---------------------------------------------------------------- start-up
+
+/** The rig in a share link: decoded by the core; a bad link leaves the rig alone. */
+async function openFragment(fragment) {
+  clearFragment();
+  let reply;
+  try {
+    reply = await engine.request("share_decode", { fragment });
+  } catch (err) {
+    if (err instanceof Cancelled) return;
+    reply = { ok: false, error: err.message };
+  }
+  if (reply.ok) {
+    replaceRig(reply.rig, reply.view, "Opened the rig from the link");
+    return;
+  }
+  const why = reply.problems ? reply.problems.map((p) => p.message).join(" ") : reply.error;
+  notice(`This link could not be opened, so your rig is unchanged. ${why || ""}`.trim());
+  if (!state.draft) await loadDemo(false);
+}
+
+async function loadDemo(announce = true) {
+  let reply;
+  try {
+    reply = await engine.request("demo");
+  } catch (err) {
+    notice(`The demo rig could not be loaded: ${err.message}`);
+    return;
+  }
+  if (!reply.ok) {
+    notice(`The demo rig could not be loaded: ${reply.error || "no reason given"}`);
+  } else if (announce && state.draft) {
+    replaceRig(reply.rig, null, "Started from the demo rig");
+  } else {
+    useDraft(draftFromRig(reply.rig));
+  }
+}
+
+function engineReady() {
+  const fragment = currentFragment();
+  if (fragment) openFragment(fragment);
+  else if (!state.draft) loadDemo(false);
+  else schedule(0);
+}
+
+window.addEventListener("hashchange", () => {
+  const fragment = currentFragment();
+  if (fragment && engine.state === "ready") openFragment(fragment);
+});
+
+const saved = autosave.load();
+if (saved) {
+  state.draft = saved.draft;
+  if (saved.view) state.view = { ...state.view, ...saved.view };
+  form.render();
+} else {
+  replaceChildren($("rig-sheet"), h("p", { class: "empty" }, "The demo rig loads when the engine has started."));
+}
+if (!autosave.available()) chip("chip-autosave", "Autosave: off (this browser blocks storage; save a rig file)", "off");
+if (currentFragment()) notice("Opening the rig from the link once the engine has started.");
+
+// ---------------------------------------------------------------- toolbar
+
+$("load-demo").addEventListener("click", () => loadDemo(true));
+
+$("save-file").addEventListener("click", async () => {
+  if (!state.draft) return;
+  const asTyped = rigFromDraft(state.draft);
+  const name = fileNameFor(state.draft.title);
+  let reply = null;
+  try {
+    reply = await engine.request("validate", { rig: asTyped });
+  } catch (err) {
+    if (err instanceof Cancelled) return;
+  }
+  if (reply && reply.ok) {
+    download(name, `${JSON.stringify(reply.rig, null, 2)}\n`);
+    notice(`Saved ${name} (all values in SI units).`);
+  } else {
+    download(name, `${JSON.stringify(asTyped, null, 2)}\n`);
+    notice(reply
+      ? `Saved ${name} as typed, with ${reply.problems ? reply.problems.length : "some"} problem(s) still marked; `
+        + "Shakestill points them out again when you open it."
+      : `Saved ${name} as typed; the engine has not checked it yet.`);
+  }
+});
+
+$("open-file").addEventListener("change", async (event) => {
+  const file = event.target.files[0];
+  event.target.value = "";
+  if (!file) return;
+  const { rig, problem } = await readRigFile(file);
+  if (problem) notice(`${problem} Your rig is unchanged.`);
+  else replaceRig(rig, null, `Opened ${file.name}`);
+});
+
+$("copy-link").addEventListener("click", async () => {
+  if (!state.draft) return;
+  let reply;
+  try {
+    reply = await engine.request("share_encode", { rig: rigFromDraft(state.draft), view: state.view });
+  } catch (err) {
+    if (!(err instanceof Cancelled)) notice(`No link: ${err.message}`);
+    return;
+  }
+  if (!reply.ok) {
+    const why = reply.problems ? "fix the marked fields first." : reply.error;
+    if (reply.problems) form.showProblems(reply.problems);
+    notice(`No link yet: ${why}`);
+    return;
+  }
+  const link = linkFor(reply.fragment);
+  const box = $("share-box");
+  box.value = link;
+  const copied = await copyText(link, box);
+  notice(copied ? "Link copied. It holds the whole rig; nothing is sent to a server."
+    : "The link is selected in the box beside the button: copy it from there.");
+});
+
+$("print-report").addEventListener("click", () => window.print());
+
+// ---------------------------------------------------------------- offline copy
+
+async function registerServiceWorker() {
+  if (location.protocol === "file:") {
+    chip("chip-offline", "Offline: this file works without a network", "on");
+    return;
+  }
+  if (!("serviceWorker" in navigator)) {
+    chip("chip-offline", "Offline copy: not available in this browser", "off");
+    return;
+  }
+  try {
+    const registration = await navigator.serviceWorker.register(policy.createScriptURL(
+      new URL("sw.js", document.baseURI).href));
+    await navigator.serviceWorker.ready;
+    chip("chip-offline", "Offline copy: ready", "on");
+    document.documentElement.dataset.offline = "ready";
+    const offerUpdate = () => {
+      if (!registration.waiting || !navigator.serviceWorker.controller) return;
+      notice("A newer version of Shakestill is ready.", [{
+        label: "Reload to use it",
+        run: () => {
+          document.documentElement.dataset.updating = "yes";
+          registration.waiting.postMessage({ type: "skip-waiting" });
+        },
+      }]);
+    };
+    offerUpdate();
+    registration.addEventListener("updatefound", () => {
+      registration.installing?.addEventListener("statechange", offerUpdate);
+    });
+    let reloaded = false;
+    navigator.serviceWorker.addEventListener("controllerchange", () => {
+      if (reloaded || !document.documentElement.dataset.updating) return;
+      reloaded = true;
+      location.reload();
+    });
+  } catch (err) {
+    chip("chip-offline", "Offline copy: not available here", "off");
+    console.warn("service worker:", err);
+  }
+}
+
+registerServiceWorker();
+window.addEventListener("pagehide", save);

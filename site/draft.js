@@ -1,0 +1,171 @@
+// The draft: what the rig sheet holds. It has the shape of a rig file, but every
+// quantity is the text the user typed ("25 mm"), kept exactly, valid or not.
+// The core parses that text (it is the one place that knows units); this module
+// only moves text between the draft and the rig object sent to the core.
+
+/** SI unit of each quantity field, shown after numbers that arrive without one. */
+const LINK_UNITS = {
+  length_m: "m", rod_mass_kg: "kg", extra_inertia_kg_m2: "kg m2",
+  joint_damping_N_m_s: "N m s", joint_friction_N_m: "N m",
+};
+const MASS_UNITS = { mass_kg: "kg", at_m: "m" };
+const DRIVE_UNITS = { stroke_m: "m", rod_length_m: "m", speed_rpm: "rpm" };
+const LIMIT_UNITS = { speed_rpm: "rpm", stroke_m: "m" };
+export const GRAVITY_UNIT = "m/s2";
+
+/** Drive fields each waveform uses; the others stay in the draft for switching back. */
+const DRIVE_FIELDS = {
+  sine: ["stroke_m", "speed_rpm"],
+  crank: ["stroke_m", "rod_length_m", "speed_rpm"],
+  samples: ["samples_m", "stroke_m", "speed_rpm"],
+};
+export const WAVEFORMS = Object.keys(DRIVE_FIELDS);
+export const MAX_LINKS = 3;
+
+export function driveFieldUsed(waveform, key) {
+  return (DRIVE_FIELDS[waveform] || []).includes(key);
+}
+
+/** A number from a file becomes "0.3 m"; text stays as it is. */
+function asText(value, unit) {
+  if (value === undefined || value === null) return "";
+  if (typeof value === "number") return unit ? `${value} ${unit}` : String(value);
+  return typeof value === "string" ? value : JSON.stringify(value);
+}
+
+function isObject(value) {
+  return value !== null && typeof value === "object" && !Array.isArray(value);
+}
+
+function textFields(obj, units) {
+  const out = { ...obj };
+  for (const [key, unit] of Object.entries(units)) out[key] = asText(obj[key], unit);
+  return out;
+}
+
+/** Samples as one editable text: numbers joined by commas, each with its unit. */
+export function samplesText(samples) {
+  if (typeof samples === "string") return samples;
+  if (!Array.isArray(samples)) return "";
+  return samples.map((s) => asText(s, "m")).join(", ");
+}
+
+/** Turn a rig object (from a file, the demo, a link) into a draft. Unknown fields are kept. */
+export function draftFromRig(rig) {
+  const src = isObject(rig) ? rig : {};
+  const draft = { ...src };
+  draft.format = src.format ?? "shakestill-rig";
+  draft.version = src.version ?? 1;
+  draft.title = typeof src.title === "string" ? src.title : asText(src.title, "");
+  draft.g_m_s2 = asText(src.g_m_s2, GRAVITY_UNIT);
+  const links = Array.isArray(src.links) ? src.links : [];
+  draft.links = links.map((link) => {
+    const obj = isObject(link) ? link : {};
+    const out = textFields(obj, LINK_UNITS);
+    const masses = Array.isArray(obj.point_masses) ? obj.point_masses : [];
+    out.point_masses = masses.map((p) => textFields(isObject(p) ? p : {}, MASS_UNITS));
+    return out;
+  });
+  if (draft.links.length === 0) draft.links.push(textFields({}, LINK_UNITS));
+  const drive = isObject(src.drive) ? src.drive : {};
+  draft.drive = textFields(drive, DRIVE_UNITS);
+  draft.drive.waveform = WAVEFORMS.includes(drive.waveform) ? drive.waveform : "sine";
+  draft.drive.samples_m = samplesText(drive.samples_m);
+  const limits = isObject(src.limits) ? src.limits : {};
+  draft.limits = { ...limits };
+  for (const [key, unit] of Object.entries(LIMIT_UNITS)) {
+    const pair = Array.isArray(limits[key]) ? limits[key] : [];
+    draft.limits[key] = [asText(pair[0], unit), asText(pair[1], unit)];
+  }
+  return draft;
+}
+
+/** Copy obj, dropping blank quantity texts (a missing optional number is 0 in the core). */
+function withoutBlanks(obj, keys) {
+  const out = { ...obj };
+  for (const key of keys) {
+    const text = typeof out[key] === "string" ? out[key].trim() : out[key];
+    if (text === "" || text === undefined) delete out[key];
+    else out[key] = text;
+  }
+  return out;
+}
+
+/** Split the samples text at commas, semicolons and line breaks; each item keeps its unit. */
+export function splitSamples(text) {
+  return String(text).split(/[,;\n]+/).map((s) => s.trim()).filter((s) => s !== "");
+}
+
+/** The rig object sent to the core: the user's texts, blanks left out, unused drive fields left out. */
+export function rigFromDraft(draft) {
+  const rig = withoutBlanks(draft, ["g_m_s2"]);
+  rig.links = draft.links.map((link) => {
+    const out = withoutBlanks(link, Object.keys(LINK_UNITS));
+    out.point_masses = link.point_masses.map((p) => withoutBlanks(p, Object.keys(MASS_UNITS)));
+    return out;
+  });
+  const drive = withoutBlanks(draft.drive, Object.keys(DRIVE_UNITS));
+  const samples = splitSamples(draft.drive.samples_m || "");
+  if (samples.length) drive.samples_m = samples;
+  else delete drive.samples_m;
+  for (const key of ["stroke_m", "rod_length_m", "samples_m"]) {
+    if (!driveFieldUsed(drive.waveform, key)) delete drive[key];
+  }
+  rig.drive = drive;
+  const limits = { ...draft.limits };
+  for (const key of Object.keys(LIMIT_UNITS)) {
+    const pair = (draft.limits[key] || ["", ""]).map((s) => String(s).trim());
+    if (pair[0] === "" && pair[1] === "") delete limits[key];
+    else limits[key] = pair;
+  }
+  rig.limits = limits;
+  return rig;
+}
+
+/** "links[0].point_masses[1].at_m" -> ["links", 0, "point_masses", 1, "at_m"]. */
+export function parsePath(path) {
+  const parts = [];
+  for (const match of path.matchAll(/([^.[\]]+)|\[(\d+)\]/g)) {
+    parts.push(match[2] !== undefined ? Number(match[2]) : match[1]);
+  }
+  return parts;
+}
+
+/** The path one level up: "links[0].length_m" -> "links[0]" -> "links" -> "". */
+export function parentPath(path) {
+  return path.replace(/(\.[^.[\]]+|\[\d+\])$|^[^.[\]]+$/, "");
+}
+
+export function getPath(obj, path) {
+  return parsePath(path).reduce((node, key) => (node == null ? undefined : node[key]), obj);
+}
+
+export function setPath(obj, path, value) {
+  const keys = parsePath(path);
+  const last = keys.pop();
+  const parent = keys.reduce((node, key) => node[key], obj);
+  parent[last] = value;
+}
+
+/** A new link, copied from the one below it: a rig usually repeats its links. */
+export function addLink(draft) {
+  if (draft.links.length >= MAX_LINKS) return false;
+  const last = draft.links[draft.links.length - 1];
+  draft.links.push(structuredClone(last));
+  return true;
+}
+
+export function removeLink(draft, index) {
+  if (draft.links.length <= 1) return false;
+  draft.links.splice(index, 1);
+  return true;
+}
+
+export function addPointMass(draft, linkIndex) {
+  const link = draft.links[linkIndex];
+  link.point_masses.push({ mass_kg: "", at_m: link.length_m || "" });
+}
+
+export function removePointMass(draft, linkIndex, massIndex) {
+  draft.links[linkIndex].point_masses.splice(massIndex, 1);
+}

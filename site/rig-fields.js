@@ -1,0 +1,87 @@
+// Words of the rig sheet: the label and hint of every field, by JSON key.
+// The units named in hints are the ones the core's parser accepts.
+
+export const GENERAL_FIELDS = {
+  title: { label: "Rig name", hint: "Shown on the report and used for file names." },
+  g_m_s2: {
+    label: "Gravity",
+    hint: "Blank means standard gravity, 9.80665 m/s2. Units: m/s2, g.",
+  },
+};
+
+export const LINK_FIELDS = {
+  length_m: { label: "Length", hint: "Joint to far end. Units: m, cm, mm, in." },
+  rod_mass_kg: { label: "Rod mass", hint: "The link's own mass, spread along it. Units: kg, g." },
+  extra_inertia_kg_m2: {
+    label: "Extra inertia",
+    hint: "About the link's centre of mass. Units: kg m2, g cm2. Blank is 0.",
+  },
+  joint_damping_N_m_s: {
+    label: "Joint damping",
+    hint: "Viscous, at this link's joint. Units: N m s. Blank is 0.",
+  },
+  joint_friction_N_m: {
+    label: "Joint friction",
+    hint: "Dry friction torque at the joint. Units: N m, mN m. Blank is 0.",
+  },
+};
+
+export const MASS_FIELDS = {
+  mass_kg: { label: "Mass", hint: "Units: kg, g." },
+  at_m: { label: "Sits at", hint: "Distance from this link's joint. Units: m, cm, mm." },
+};
+
+export const WAVEFORM_NAMES = {
+  sine: "Sine: pure up-and-down motion",
+  crank: "Crank: slider-crank with a connecting rod",
+  samples: "Samples: one cycle of measured or designed motion",
+};
+
+export const DRIVE_FIELDS = {
+  waveform: { label: "Waveform", hint: "How the pivot moves over one drive revolution." },
+  stroke_m: { label: "Stroke", hint: "Top to bottom of the pivot's travel. Units: m, cm, mm." },
+  stroke_m_samples: {
+    label: "Stroke (optional)",
+    hint: "Scales the samples to this stroke; blank keeps them as given. Units: m, cm, mm.",
+  },
+  rod_length_m: {
+    label: "Connecting rod",
+    hint: "Crank pin to wrist pin; longer than half the stroke. Units: m, cm, mm.",
+  },
+  samples_m: {
+    label: "Samples",
+    hint: "Pivot height over one cycle at equal steps, separated by commas or line breaks; "
+      + "at least 8. Each may carry its unit: m, cm, mm.",
+  },
+  speed_rpm: {
+    label: "Speed",
+    hint: "Drive speed; one pivot cycle per revolution. Units: rpm, Hz.",
+  },
+};
+
+export const LIMIT_FIELDS = {
+  speed_rpm: { label: "Speed range", hint: "What the motor can do. Units: rpm, Hz." },
+  stroke_m: { label: "Stroke range", hint: "What the mechanism can be set to. Units: m, cm, mm." },
+};
+
+/** "links[1].point_masses[0].at_m" -> "Link 2, point mass 1, sits at": for the problem list. */
+export function describePath(path) {
+  const words = [];
+  for (const match of path.matchAll(/([^.[\]]+)(?:\[(\d+)\])?/g)) {
+    const [, key, index] = match;
+    const n = index === undefined ? "" : ` ${Number(index) + 1}`;
+    if (key === "links") words.push(`Link${n}`);
+    else if (key === "point_masses") words.push(`point mass${n}`);
+    else if (key === "drive") words.push("Drive");
+    else if (key === "limits") words.push("Limits");
+    else if (key === "samples_m") words.push(`samples${n ? `, value${n}` : ""}`);
+    else {
+      const known = GENERAL_FIELDS[key] || LINK_FIELDS[key] || MASS_FIELDS[key]
+        || (words[0] === "Limits" ? LIMIT_FIELDS[key] : DRIVE_FIELDS[key]);
+      const label = known ? known.label.toLowerCase() : key;
+      words.push(index === undefined ? label : `${label} ${index === "0" ? "low" : "high"} end`);
+    }
+  }
+  const text = words.join(", ");
+  return text.charAt(0).toUpperCase() + text.slice(1);
+}
