@@ -1,0 +1,103 @@
+"""Benchmark of the engine: prints figures and ratios, never passes or fails.
+
+  python bench/bench_engine.py [--repeat N] [--points N]
+
+1. Wall time of one full ss.check (both equilibria, windows included) of a
+   single-link rig (target < 0.2 s) and of a 2-link rig (target < 2 s).
+2. Time per point of ss.stability for a single link against a straightforward
+   scipy.integrate.solve_ivp monodromy at equal accuracy (target ratio >= 100x).
+   "Equal accuracy": the error of each in max |rho| against solve_ivp DOP853 at
+   rtol = atol = 1e-13 is measured, and solve_ivp is timed at the loosest
+   tolerance (from 1e-3 down to 1e-12) that is at least as accurate as the engine.
+"""
+import argparse
+import pathlib
+import statistics
+import sys
+import time
+
+HERE = pathlib.Path(__file__).resolve().parent
+sys.path[:0] = [str(HERE.parent / "tests"), str(HERE.parent / "pycore")]
+
+import numpy as np  # noqa: E402
+
+import refsolvers as ref  # noqa: E402
+import shakestill as ss  # noqa: E402
+
+LIMITS = {"speed_rpm": [300.0, 3600.0], "stroke_m": [0.0, 0.04]}
+ONE_LINK = ref.rig([ref.link(0.30, 0.05, [(0.02, 0.30)], 0.0, 2e-4)],
+                   ref.crank(0.02, 0.06, 2400.0), LIMITS, title="Bench: one link")
+TWO_LINK = ref.rig([ref.link(0.20, 0.04, [(0.01, 0.20)], 0.0, 2e-4),
+                    ref.link(0.10, 0.02, [(0.008, 0.10)], 1e-6, 1e-4)],
+                   ref.crank(0.02, 0.06, 2400.0), LIMITS, title="Bench: two links")
+
+
+def timed(fn, repeat):
+    times = []
+    for _ in range(repeat):
+        t0 = time.perf_counter()
+        fn()
+        times.append(time.perf_counter() - t0)
+    return statistics.median(times), min(times)
+
+
+def bench_check(repeat):
+    print("== full check (both equilibria, speed and stroke windows)")
+    for name, data, target in (("single link", ONE_LINK, 0.2), ("two links", TWO_LINK, 2.0)):
+        rig = ss.rig_from_dict(data)
+        ss.check(rig)  # warm caches / imports
+        med, best = timed(lambda: ss.check(rig), repeat)
+        print(f"  {name:12s} median {med:8.4f} s   best {best:8.4f} s   target < {target} s"
+              f"   ({med / target:5.2f} of target)")
+
+
+def scipy_max_multiplier(data, eq, rpm, tol):
+    return float(max(abs(ref.multipliers(ref.monodromy(data, eq, speed_rpm=rpm,
+                                                       rtol=tol, atol=tol)))))
+
+
+def bench_points(points, waveform):
+    drive = ref.sine(0.02, 2400.0) if waveform == "sine" else ref.crank(0.02, 0.06, 2400.0)
+    data = ref.rig(ONE_LINK["links"], drive, LIMITS)
+    rig = ss.rig_from_dict(data)
+    speeds = np.linspace(1500.0, 3600.0, points)
+    eq = "inverted"
+    truth = [scipy_max_multiplier(data, eq, s, 1e-13) for s in speeds]
+
+    ss.stability(rig, eq, speed_rpm=float(speeds[0]))
+    t0 = time.perf_counter()
+    got = [ss.stability(rig, eq, speed_rpm=float(s)).max_multiplier for s in speeds]
+    t_engine = (time.perf_counter() - t0) / points
+    err_engine = max(abs(g - t) for g, t in zip(got, truth))
+
+    chosen = None
+    for tol in [10.0 ** -k for k in range(3, 13)]:
+        t0 = time.perf_counter()
+        vals = [scipy_max_multiplier(data, eq, s, tol) for s in speeds]
+        t_scipy = (time.perf_counter() - t0) / points
+        err = max(abs(v - t) for v, t in zip(vals, truth))
+        chosen = (tol, t_scipy, err)
+        if err <= max(err_engine, 1e-13):
+            break
+    tol, t_scipy, err_scipy = chosen
+    print(f"== per-point stability, one link, {waveform}, {points} speeds, inverted")
+    print(f"  engine   {t_engine * 1e3:9.3f} ms/point   error in max|rho| {err_engine:.2e}")
+    print(f"  solve_ivp DOP853 rtol=atol={tol:.0e}  {t_scipy * 1e3:9.3f} ms/point"
+          f"   error {err_scipy:.2e}"
+          + ("" if err_scipy <= max(err_engine, 1e-13) else "   (never as accurate as the engine)"))
+    print(f"  ratio scipy / engine  {t_scipy / t_engine:8.1f}x   target >= 100x")
+
+
+def main():
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--repeat", type=int, default=5)
+    parser.add_argument("--points", type=int, default=40)
+    args = parser.parse_args()
+    print(f"python {sys.version.split()[0]}, shakestill {ss.__version__}")
+    bench_check(args.repeat)
+    for waveform in ("sine", "crank"):
+        bench_points(args.points, waveform)
+
+
+if __name__ == "__main__":
+    main()
