@@ -3,11 +3,11 @@
 //
 //   node tests/pyodide_run.mjs SITE_DIR < script.json
 //
-// script.json: {"before_ready": [messages], "after_ready": [messages],
-// "timeout_s": number}. before_ready messages are posted at once, while the
-// worker boots; after_ready ones all together once it is ready. Prints one
-// JSON object: {"messages": [every message the worker posted, in order]}.
-// Exits when every request posted has had a result or an error.
+// script.json: {"batches": [[messages], ...], "timeout_s": number}. The
+// first batch is posted at once, while the worker boots; each later one all
+// together once the worker is ready and every request before it has had its
+// result or error. Prints one JSON object: {"messages": [every message the
+// worker posted, in order]}.
 //
 // Node is not a browser, so this stands in for what a worker has: a global
 // scope with postMessage/addEventListener, and fetch of file: URLs (Pyodide
@@ -68,9 +68,17 @@ function finish(code) {
 // Pyodide under Node takes its folder as a path, not a file: URL.
 globalThis.shakestillHost = { pyodideOptions: { indexURL: resolve(site, "pyodide") + "/" } };
 await import(pathToFileURL(resolve(site, "worker.js")).href);
-send(script.before_ready);
+const [first = [], ...later] = script.batches || [];
+send(first);
 const boot = await bootDone;
-if (boot.type === "ready") send(script.after_ready);
-// Replies come on later tasks; wait for the last one.
-while (open.size) await new Promise((next) => setTimeout(next, 20));
+const settled = async () => {
+  while (open.size) await new Promise((next) => setTimeout(next, 20));
+};
+await settled();
+if (boot.type === "ready") {
+  for (const batch of later) {
+    send(batch);
+    await settled();
+  }
+}
 finish(0);
