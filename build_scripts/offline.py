@@ -11,9 +11,13 @@ everything inside itself:
   into one gzip archive held as base64 text in the page;
 - a prelude (offline_page.js) that unpacks the archive with
   DecompressionStream, answers the page's own fetches of embedded files, and
-  makes `new Worker(".../worker.js", {type: "module"})` start a small module
-  worker from a data: URL (offline_boot.js) that receives the files, answers
-  the worker's fetches from them and runs the bundled worker.
+  makes `new Worker(".../worker.js", {type: "module"})` start the bundled
+  worker as a module worker from a data: URL; that worker's first module
+  (offline_worker.js) receives the files from the page and answers its
+  fetches from them.
+
+The page's Content-Security-Policy is kept and widened only by the hashes of
+the inlined code, data: workers and the prelude's Trusted Types policy.
 """
 
 from __future__ import annotations
@@ -42,9 +46,9 @@ DATA_URL_LOADERS = ("svg", "png", "jpg", "jpeg", "gif", "webp", "ico", "woff", "
 # worker's data: URL must stay below, with some room.
 MAX_WORKER_URL_CHARS = 2 * 1024 * 1024 - 64 * 1024
 
-# Served files whose bytes reach the single file some other way (bundled or inlined).
+# Served files whose bytes reach the single file some other way (bundled or
+# inlined), or not at all (a service worker needs a server).
 INLINED_SUFFIXES = (".js", ".mjs", ".css", ".html")
-NOT_EMBEDDED = ("sw.js",)
 
 
 def mime_type(path: str) -> str:
@@ -92,11 +96,8 @@ def archive(site: Path, worker_bundle: bytes) -> tuple[list[dict], bytes]:
     entries = []
     for path in sorted(p for p in site.rglob("*") if p.is_file()):
         name = path.relative_to(site).as_posix()
-        if name in NOT_EMBEDDED or (name.endswith(INLINED_SUFFIXES) and not name.startswith("pyodide/")):
-            continue
-        if name.startswith("pyodide/") and name.endswith(".mjs"):
-            continue  # bundled into the worker
-        entries.append((name, path.read_bytes()))
+        if not name.endswith(INLINED_SUFFIXES):
+            entries.append((name, path.read_bytes()))
     entries.append((WORKER_BUNDLE, worker_bundle))
     index = [{"path": name, "type": mime_type(name), "size": len(data)} for name, data in entries]
     packed = gzip.compress(b"".join(data for _, data in entries), compresslevel=9, mtime=0)
