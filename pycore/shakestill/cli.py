@@ -1,0 +1,123 @@
+"""The ``shakestill`` command line."""
+
+from __future__ import annotations
+
+import argparse
+import json
+import sys
+
+from . import __version__, share
+from .check import check
+from .demo import demo_rig_dict
+from .report import jsonable, report_text
+from .rig import Problem, RigError, dumps_rig, loads_rig, rig_from_dict, with_operating_point
+from .units import UnitError, parse_quantity
+
+
+def _load(source: str | None):
+    """A rig from a path, '-' (standard input), a share link, or the demo when absent."""
+    if source is None or source == "demo":
+        return rig_from_dict(demo_rig_dict(), with_warnings=True)
+    if source.startswith(share.PREFIX) or f"#{share.PREFIX}" in source:
+        data, _ = share.decode(source)
+        return rig_from_dict(data, with_warnings=True)
+    if source == "-":
+        return loads_rig(sys.stdin.read(), with_warnings=True)
+    try:
+        with open(source, encoding="utf-8") as fh:
+            text = fh.read()
+    except OSError as exc:
+        raise RigError([Problem("(file)", f"cannot read {source!r}: {exc.strerror}")]) from None
+    return loads_rig(text, with_warnings=True)
+
+
+def _override(rig, args):
+    problems = []
+    speed = stroke = None
+    if args.speed is not None:
+        try:
+            speed = parse_quantity(args.speed, "speed")
+            if not speed > 0:
+                raise UnitError("it must be greater than 0 rpm")
+        except UnitError as exc:
+            problems.append(Problem("--speed", f"{args.speed!r} is not allowed: {exc}"))
+    if args.stroke is not None:
+        try:
+            stroke = parse_quantity(args.stroke, "length")
+            if not stroke >= 0:
+                raise UnitError("it must be at least 0 m")
+        except UnitError as exc:
+            problems.append(Problem("--stroke", f"{args.stroke!r} is not allowed: {exc}"))
+    if problems:
+        raise RigError(problems)
+    if speed is None and stroke is None:
+        return rig
+    # re-validate so that a crank stroke beyond the rod is caught with its field named
+    data = json.loads(dumps_rig(with_operating_point(rig, speed_rpm=speed, stroke_m=stroke)))
+    return rig_from_dict(data, with_warnings=True)[0]
+
+
+def _cmd_check(args) -> int:
+    rig, warnings = _load(args.rig)
+    rig = _override(rig, args)
+    result = check(rig)
+    if args.json:
+        print(json.dumps(jsonable(result), indent=2, allow_nan=False))
+    else:
+        sys.stdout.write(report_text(result, warnings))
+    return 0
+
+
+def _cmd_demo(args) -> int:
+    text = json.dumps(demo_rig_dict(), indent=2) + "\n"
+    if args.output:
+        with open(args.output, "w", encoding="utf-8") as fh:
+            fh.write(text)
+    else:
+        sys.stdout.write(text)
+    return 0
+
+
+def _cmd_link(args) -> int:
+    rig, _ = _load(args.rig)
+    print("#" + share.encode(json.loads(dumps_rig(rig))))
+    return 0
+
+
+def parser() -> argparse.ArgumentParser:
+    p = argparse.ArgumentParser(prog="shakestill", description=(
+        "Plan and check rigs with a pendulum on a vertically driven pivot. "
+        "RIG is a rig file, '-' for standard input, a share link, or omitted for the demo rig."))
+    p.add_argument("--version", action="version", version=f"shakestill {__version__}")
+    sub = p.add_subparsers(dest="command", required=True)
+    c = sub.add_parser("check", help="stability of both equilibria at the operating point")
+    c.add_argument("rig", nargs="?", metavar="RIG")
+    c.add_argument("--json", action="store_true", help="print the result as JSON")
+    c.add_argument("--speed", help="override the drive speed, e.g. 1800rpm or 30Hz")
+    c.add_argument("--stroke", help="override the stroke, e.g. 25mm")
+    c.set_defaults(func=_cmd_check)
+    d = sub.add_parser("demo", help="print the built-in demo rig file")
+    d.add_argument("-o", "--output", help="write it to this file")
+    d.set_defaults(func=_cmd_demo)
+    link = sub.add_parser("link", help="print a share-link fragment for a rig")
+    link.add_argument("rig", nargs="?", metavar="RIG")
+    link.set_defaults(func=_cmd_link)
+    return p
+
+
+def main(argv=None) -> int:
+    args = parser().parse_args(argv)
+    try:
+        return args.func(args)
+    except RigError as exc:
+        where = getattr(args, "rig", None) or "the demo rig"
+        print(f"shakestill: cannot use {where}:", file=sys.stderr)
+        for problem in exc.problems:
+            print(f"  {problem.path}: {problem.message}", file=sys.stderr)
+        return 2
+    except KeyboardInterrupt:
+        return 130
+
+
+if __name__ == "__main__":
+    sys.exit(main())

@@ -1,0 +1,121 @@
+"""Plain words for the check result, for a technician at the rig; and the cautions."""
+
+from __future__ import annotations
+
+import math
+
+CAUTIONS = (
+    "A driven pendulum rig is reciprocating machinery: guard the drive and the whole space "
+    "the pendulum can sweep, including a full turn, before running it.",
+    "Wear eye protection. A bob, a clamp or a broken link can fly off at speed.",
+    "Keep hands, hair and loose clothing out of the crank, the carriage and the joints: "
+    "they are pinch points.",
+    "Stop the drive and wait until everything has come to rest before touching the rig, "
+    "adjusting a mass or freeing a jammed link.",
+    "Bring the rig up to speed at low stroke first and compare it with these numbers: they "
+    "come from a model of the rig, not from the rig itself.",
+    "Local codes, your lab's safety rules and licensed professional practice come first; "
+    "this tool does not replace a risk assessment.",
+)
+
+_NAMES = {"inverted": "Inverted (pendulum up)", "hanging": "Hanging (pendulum down)"}
+
+
+def _rpm(x: float) -> str:
+    return f"{x:,.0f} rpm"
+
+
+def _mm(x: float) -> str:
+    return f"{x * 1000:.2f} mm"
+
+
+def _window_text(window, ends, fmt, down, up) -> str:
+    if window is None:
+        return "none (not stable here)"
+    lo, hi = window
+    lo_kind = "stability edge" if ends[0] == "edge" else "rig limit"
+    hi_kind = "stability edge" if ends[1] == "edge" else "rig limit"
+    return (f"{fmt(lo)} ({lo_kind}, {down:.1f}% below) to {fmt(hi)} ({hi_kind}, {up:.1f}% above)")
+
+
+def equilibrium_lines(name: str, r: dict) -> list[str]:
+    lines = [f"{_NAMES[name]}: {'STABLE' if r['stable'] else 'UNSTABLE'}"
+             f"  (largest Floquet multiplier {r['max_multiplier']:.6f}; stable below 1)"]
+    if r["stable"]:
+        m, e = r["margins_percent"], r["window_ends"]
+        lines.append("  slow sway: {:.3f} Hz".format(r["slow_frequency_hz"]))
+        lines.append("  speed window: " + _window_text(
+            r["speed_window_rpm"], (e["speed_low"], e["speed_high"]), _rpm,
+            m["speed_down"], m["speed_up"]))
+        lines.append("  stroke window: " + _window_text(
+            r["stroke_window_m"], (e["stroke_low"], e["stroke_high"]), _mm,
+            m["stroke_down"], m["stroke_up"]))
+        nearest = min((v for v in m.values() if v is not None), default=None)
+        if nearest is not None and nearest < 10:
+            lines.append(f"  close to an edge: only {nearest:.1f}% of margin; a small change "
+                         "of speed or stroke loses this position")
+    else:
+        lines.append("  a small disturbance grows by a factor {:.3g} every drive cycle"
+                     .format(r["max_multiplier"]))
+    for msg in r.get("messages", []):
+        lines.append(f"  note: {msg}")
+    return lines
+
+
+def report_text(result: dict, warnings=()) -> str:
+    """The human report of ``shakestill check``."""
+    est = result["estimates"]
+    out = []
+    if result.get("title"):
+        out.append(result["title"])
+        out.append("=" * len(result["title"]))
+    out.append(f"Drive: {result['waveform']}, {_rpm(result['speed_rpm'])} "
+               f"({result['frequency_hz']:.2f} Hz), stroke {_mm(result['stroke_m'])}")
+    out.append(f"Peak pivot acceleration: {result['peak_accel_m_s2']:.1f} m/s^2 "
+               f"({result['peak_accel_g']:.1f} g)")
+    out.append("")
+    for name in ("inverted", "hanging"):
+        out.extend(equilibrium_lines(name, result[name]))
+        out.append("")
+    out.append("Closed-form estimates (Kapitza's averaging; a guide, not the exact answer):")
+    out.append(f"  equivalent pendulum length l_eq: {est['l_eq_m'] * 1000:.1f} mm")
+    out.append(f"  inverted needs more than about {_rpm(est['kapitza_min_speed_rpm'])} at this "
+               "stroke (exact edge: " + _edge_text(result["inverted"]) + ")")
+    inv = est["inverted_slow_frequency_hz"]
+    out.append("  inverted slow sway about " + (f"{inv:.3f} Hz" if inv else "none (estimate: "
+                                                "unstable)")
+               + f"; hanging about {est['hanging_slow_frequency_hz']:.3f} Hz")
+    out.append(f"  inverted lost above a stroke of about {_mm(est['max_stroke_estimate_m'])} "
+               "at any speed")
+    if est["effective_barrier_J"] > 0:
+        out.append(f"  knock it survives, about {est['knock_estimate_rad_s']:.2f} rad/s; release "
+                   f"angle about {math.degrees(est['release_angle_estimate_rad']):.0f} deg")
+    if warnings:
+        out.append("")
+        out.append("Warnings:")
+        out.extend(f"  {w.path}: {w.message}" for w in warnings)
+    if not result.get("converged", True):
+        out.append("")
+        out.append("Numerical note: some results did not meet their accuracy check; see notes.")
+    out.append("")
+    out.append("Safety:")
+    out.extend(f"  - {c}" for c in CAUTIONS)
+    return "\n".join(out) + "\n"
+
+
+def _edge_text(r: dict) -> str:
+    w, e = r.get("speed_window_rpm"), r.get("window_ends", {})
+    if not w:
+        return "not stable at this speed"
+    return _rpm(w[0]) if e.get("speed_low") == "edge" else "below the speed limit"
+
+
+def jsonable(obj):
+    """Plain JSON data: non-finite floats become null (JSON has no infinity)."""
+    if isinstance(obj, float):
+        return obj if math.isfinite(obj) else None
+    if isinstance(obj, dict):
+        return {k: jsonable(v) for k, v in obj.items()}
+    if isinstance(obj, (list, tuple)):
+        return [jsonable(v) for v in obj]
+    return obj
