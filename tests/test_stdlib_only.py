@@ -20,7 +20,7 @@ TWO_LINK = ref.rig([ref.link(0.20, 0.04, [(0.01, 0.20)], 0.0, 2e-4),
                    limits={"speed_rpm": [300.0, 3600.0], "stroke_m": [0.0, 0.04]},
                    title="Two-link stdlib run")
 
-CHILD = r"""
+BLOCKER = r"""
 import importlib.abc, json, sys
 
 BLOCKED = {"numpy", "scipy"}
@@ -38,12 +38,32 @@ sys.meta_path.insert(0, Block())
 for name in list(sys.modules):               # forget anything site already imported
     if name.split(".")[0] in BLOCKED:
         del sys.modules[name]
+"""
 
+CHILD = BLOCKER + r"""
 import shakestill as ss
 out = {"demo": ss.check(ss.demo_rig()), "two": ss.check(ss.rig_from_dict(json.loads(sys.argv[1])))}
 new = sorted({m.split(".")[0] for m in set(sys.modules) - before} - ALLOWED)
 print(json.dumps({"result": out, "foreign": new}))
 """
+
+
+CLI_CHILD = BLOCKER + r"""
+import runpy
+sys.argv = ["shakestill"] + sys.argv[1:]
+try:
+    runpy.run_module("shakestill", run_name="__main__")
+except SystemExit:
+    pass
+new = sorted({m.split(".")[0] for m in set(sys.modules) - before} - ALLOWED)
+print(json.dumps({"foreign": new}))
+"""
+
+
+def child_env():
+    env = dict(os.environ)
+    env["PYTHONPATH"] = os.pathsep.join([str(PKG.parent), env.get("PYTHONPATH", "")])
+    return env
 
 
 def test_imports_in_source_are_stdlib():
@@ -68,10 +88,8 @@ def test_imports_in_source_are_stdlib():
 def test_check_runs_with_numpy_and_scipy_unimportable():
     # Run time: the demo check and a 2-link check in a child where any non-stdlib
     # import raises ImportError give the same JSON as this process (exact equality).
-    env = dict(os.environ)
-    env["PYTHONPATH"] = os.pathsep.join([str(PKG.parent), env.get("PYTHONPATH", "")])
     proc = subprocess.run([sys.executable, "-c", CHILD, json.dumps(TWO_LINK)],
-                          capture_output=True, text=True, env=env, timeout=600)
+                          capture_output=True, text=True, env=child_env(), timeout=600)
     assert proc.returncode == 0, proc.stderr[-3000:]
     child = json.loads(proc.stdout.strip().splitlines()[-1])
     assert child["foreign"] == []
@@ -79,9 +97,26 @@ def test_check_runs_with_numpy_and_scipy_unimportable():
     assert child["result"] == json.loads(json.dumps(here))
 
 
+def test_cli_json_is_check_with_overrides(tmp_path):
+    # `shakestill check RIG --json --speed 1800rpm --stroke 25mm` in the blocked child
+    # prints exactly ss.check of the same rig at 1800 rpm and 0.025 m (DEVELOPERS.md:
+    # check() is "exactly the JSON of shakestill check --json"; 1 mm = 1e-3 m).
+    path = tmp_path / "two.json"
+    path.write_text(json.dumps(TWO_LINK), encoding="utf-8")
+    proc = subprocess.run([sys.executable, "-c", CLI_CHILD, "check", str(path), "--json",
+                           "--speed", "1800rpm", "--stroke", "25mm"],
+                          capture_output=True, text=True, env=child_env(), timeout=600)
+    lines = proc.stdout.strip().splitlines()
+    assert json.loads(lines[-1])["foreign"] == [], proc.stderr[-3000:]
+    printed = json.loads("\n".join(lines[:-1]))
+    moved = json.loads(json.dumps(TWO_LINK))
+    moved["drive"].update(speed_rpm=1800.0, stroke_m=0.025)
+    assert printed == json.loads(json.dumps(ss.check(ss.rig_from_dict(moved))))
+
+
 def test_blocker_really_blocks():
     # The child's finder must make numpy unimportable, or the test above proves nothing.
-    probe = CHILD.split("import shakestill")[0] + (
+    probe = BLOCKER + (
         "\ntry:\n    import numpy\n    print('imported')\nexcept ImportError:\n    print('blocked')\n")
     proc = subprocess.run([sys.executable, "-c", probe], capture_output=True, text=True, timeout=120)
     assert proc.stdout.strip() == "blocked", proc.stdout + proc.stderr
