@@ -26,7 +26,15 @@ const state = {
   timer: 0,
 };
 
-const report = createReport($("check-report"), $("verdict-strip"));
+const report = createReport($("check-report"), $("verdict-strip"), showCautions);
+
+/** The core's cautions (the same words as the command line) replace the page's opening list. */
+function showCautions(cautions) {
+  const list = document.querySelector(".safety .cautions");
+  if (list.dataset.source === "core") return;
+  replaceChildren(list, cautions.map((text) => h("li", {}, text)));
+  list.dataset.source = "core";
+}
 const form = createRigForm($("rig-sheet"), {
   getDraft: () => state.draft,
   onEdit: edited,

@@ -17,10 +17,19 @@ export function num(x, digits = 4) {
 // Strokes are shown in millimetres, the unit a technician sets them in.
 const mm = (m) => `${num(m * 1000)} mm`;
 const rpm = (r) => `${num(r)} rpm`;
+const hz = (f) => `${num(f)} Hz`;
+const percent = (p) => `${p.toFixed(1)}%`;
+const END_WORDS = { edge: "stability edge", limit: "rig limit" };
 
-function windowText(win, show) {
-  if (!Array.isArray(win)) return "none (not stable here, or outside the limits)";
-  return `${show(win[0])} to ${show(win[1])}`;
+/** "1594 rpm (stability edge, 11.5% below) to 3600 rpm (rig limit, 25.0% above)". */
+function windowText(win, ends, down, up, show) {
+  if (!Array.isArray(win)) return "none (not stable here)";
+  const side = (value, kind, margin, where) => {
+    const words = [END_WORDS[kind], Number.isFinite(margin) ? `${percent(margin)} ${where}` : null]
+      .filter(Boolean).join(", ");
+    return words ? `${show(value)} (${words})` : show(value);
+  };
+  return `${side(win[0], ends[0], down, "below")} to ${side(win[1], ends[1], up, "above")}`;
 }
 
 const EQUILIBRIA = {
@@ -29,72 +38,93 @@ const EQUILIBRIA = {
     yes: "Stays up",
     no: "Falls over",
     yesText: "The upright position is stable at this speed and stroke: small knocks die away or stay small.",
-    noText: "The upright position is not stable here: the pendulum will fall. Change speed or stroke "
-      + "toward the windows below (or see the hints), and keep guards in place while trying.",
+    noText: "The upright position is not stable here: the pendulum will fall. Change speed or stroke, "
+      + "with the drive stopped, and keep the guards in place while trying.",
   },
   hanging: {
     title: "Hanging (pendulum down)",
     yes: "Hangs steady",
     no: "Swings up",
-    yesText: "The hanging position is stable: the drive does not pump the swing.",
+    yesText: "The hanging position is stable: the drive does not pump up a swing.",
     noText: "The hanging position is unstable at this speed and stroke (parametric resonance): "
-      + "the swing grows by itself. Expect large motion and load on the joints.",
+      + "a swing grows by itself. Expect large motion and loads on the joints.",
   },
 };
 
 function row(label, value, note) {
-  return h("div", { class: "row" }, h("dt", {}, label), h("dd", {}, value, note ? h("span", { class: "note" }, ` ${note}`) : null));
-}
-
-function marginsNote(eq, key) {
-  const m = eq.margins && eq.margins[key];
-  if (!m || typeof m !== "object") return null;
-  const parts = [];
-  if (Number.isFinite(m.below_percent)) parts.push(`${num(m.below_percent, 3)}% below`);
-  if (Number.isFinite(m.above_percent)) parts.push(`${num(m.above_percent, 3)}% above`);
-  return parts.length ? `(room: ${parts.join(", ")})` : null;
+  return h("div", { class: "row" }, h("dt", {}, label),
+    h("dd", {}, value, note ? h("span", { class: "note" }, ` ${note}`) : null));
 }
 
 function equilibriumCard(name, eq) {
   const words = EQUILIBRIA[name];
-  const stable = Boolean(eq && eq.stable);
-  const state = stable ? "stable" : "unstable";
-  return h("article", { class: `eq-card is-${state}`, "data-eq": name, "aria-labelledby": `eq-${name}` },
-    h("h3", { id: `eq-${name}` }, words.title, " ",
-      h("span", { class: "verdict-word" }, stable ? words.yes : words.no)),
-    h("p", { class: "eq-text" }, stable ? words.yesText : words.noText),
-    eq && eq.converged === false
-      ? h("p", { class: "eq-warning" }, `Not fully converged: ${eq.message || "treat this result with care"}.`)
-      : null,
-    h("dl", { class: "facts" },
-      row("Speed window", windowText(eq.speed_window_rpm, rpm), marginsNote(eq, "speed")),
-      row("Stroke window", windowText(eq.stroke_window_m, mm), marginsNote(eq, "stroke")),
-      row("Slow wobble", eq.slow_frequency_hz == null ? "none (not stable)" : `${num(eq.slow_frequency_hz)} Hz`,
-        "the slow swing you see on top of the buzz"),
-      row("Largest Floquet multiplier", num(eq.max_multiplier, 6), "below 1 is stable")));
+  const stable = Boolean(eq.stable);
+  const m = eq.margins_percent || {};
+  const e = eq.window_ends || {};
+  const facts = stable
+    ? [
+      row("Speed window", windowText(eq.speed_window_rpm, [e.speed_low, e.speed_high],
+        m.speed_down, m.speed_up, rpm)),
+      row("Stroke window", windowText(eq.stroke_window_m, [e.stroke_low, e.stroke_high],
+        m.stroke_down, m.stroke_up, mm)),
+      row("Slow sway", eq.slow_frequency_hz == null ? "n/a" : hz(eq.slow_frequency_hz),
+        "the slow swing riding on the fast buzz"),
+    ]
+    : [row("Growth per drive cycle", `× ${num(eq.max_multiplier, 4)}`,
+      "a small disturbance grows by this factor every revolution")];
+  facts.push(row("Largest Floquet multiplier", num(eq.max_multiplier, 6), "stable below 1"));
+  const notes = Array.isArray(eq.messages) ? eq.messages : [];
+  return h("article", { class: `eq-card is-${stable ? "stable" : "unstable"}`, "data-eq": name,
+    "aria-labelledby": `eq-${name}` },
+  h("h3", { id: `eq-${name}` }, words.title, " ",
+    h("span", { class: "verdict-word" }, stable ? words.yes : words.no)),
+  h("p", { class: "eq-text" }, stable ? words.yesText : words.noText),
+  eq.converged === false
+    ? h("p", { class: "eq-warning" }, "Accuracy check not met: treat this verdict with care.")
+    : null,
+  h("dl", { class: "facts" }, facts),
+  notes.length ? h("ul", { class: "eq-notes" }, notes.map((n) => h("li", {}, n))) : null);
 }
 
-/** Closed-form estimates next to the exact values, if the core gives them. */
+/** Kapitza's closed-form estimates beside the exact values of the same things. */
 function estimates(result) {
   const est = result.estimates;
-  if (!est || typeof est !== "object") return null;
-  const rows = Object.entries(est).filter(([, v]) => typeof v === "number" || v === null)
-    .map(([key, value]) => row(key.replace(/_/g, " "), num(value)));
-  if (!rows.length) return null;
+  if (!est) return null;
+  const inv = result.inverted || {};
+  const hang = result.hanging || {};
+  const ends = inv.window_ends || {};
+  const exactEdge = (win, kind, show) => {
+    if (!Array.isArray(win)) return "not stable here";
+    return kind === "edge" ? show(win) : "beyond the rig's limit";
+  };
+  const rows = [
+    ["Inverted needs more than", rpm(est.kapitza_min_speed_rpm),
+      exactEdge(inv.speed_window_rpm, ends.speed_low, (w) => rpm(w[0]))],
+    ["Inverted lost above a stroke of", mm(est.max_stroke_estimate_m),
+      exactEdge(inv.stroke_window_m, ends.stroke_high, (w) => mm(w[1]))],
+    ["Inverted slow sway", est.inverted_slow_frequency_hz == null ? "none (unstable)" : hz(est.inverted_slow_frequency_hz),
+      inv.stable ? hz(inv.slow_frequency_hz) : "not stable"],
+    ["Hanging slow sway", hz(est.hanging_slow_frequency_hz),
+      hang.stable ? hz(hang.slow_frequency_hz) : "not stable"],
+    ["Equivalent pendulum length", mm(est.l_eq_m), ""],
+  ];
+  if (est.effective_barrier_J > 0) {
+    rows.push(["Knock it survives", `${num(est.knock_estimate_rad_s, 3)} rad/s`, ""]);
+    // Display only: the angle in degrees, as people measure it at the rig.
+    rows.push(["Recovers from a release below", `${num(est.release_angle_estimate_rad * 180 / Math.PI, 3)}°`, ""]);
+  }
   return h("section", { class: "estimates", "aria-labelledby": "est-h" },
-    h("h3", { id: "est-h" }, "Quick estimates (closed form, for comparison)"),
-    h("dl", { class: "facts" }, rows));
+    h("h3", { id: "est-h" }, "Quick estimates beside the exact values"),
+    h("p", { class: "hint" }, "Kapitza's averaging treats the drive as fast and the links as one rigid "
+      + "pendulum: a guide to what moves the result, not the answer."),
+    h("table", { class: "est-table" },
+      h("thead", {}, h("tr", {}, h("th", { scope: "col" }, "Quantity"),
+        h("th", { scope: "col" }, "Estimate"), h("th", { scope: "col" }, "Exact"))),
+      h("tbody", {}, rows.map(([label, guess, exact]) => h("tr", {},
+        h("th", { scope: "row" }, label), h("td", {}, guess), h("td", {}, exact || "—"))))));
 }
 
-function cautions(result) {
-  const list = Array.isArray(result.cautions) ? result.cautions : [];
-  if (!list.length) return null;
-  return h("section", { class: "report-cautions", "aria-labelledby": "rc-h" },
-    h("h3", { id: "rc-h" }, "Cautions for this rig"),
-    h("ul", {}, list.map((c) => h("li", {}, typeof c === "string" ? c : c.message || JSON.stringify(c)))));
-}
-
-export function createReport(el, strip) {
+export function createReport(el, strip, onCautions = () => {}) {
   const status = h("p", { class: "report-status", role: "status" });
   const bar = h("progress", { class: "report-progress", max: 1, "aria-label": "Check progress", hidden: true });
   const body = h("div", { class: "report-body" }, el.querySelector(".empty") || "");
@@ -135,21 +165,27 @@ export function createReport(el, strip) {
       const result = reply.result;
       bar.hidden = true;
       el.dataset.result = JSON.stringify(result);
-      const drive = (reply.rig && reply.rig.drive) || {};
+      el.dataset.rig = JSON.stringify(reply.rig); // the rig as the core read it (SI)
       replaceChildren(body,
         h("p", { class: "operating" },
-          "At ", h("strong", {}, rpm(drive.speed_rpm)), ` (${num(result.frequency_hz)} Hz) with a `,
-          h("strong", {}, mm(drive.stroke_m)), " stroke, the pivot's peak acceleration is ",
-          h("strong", {}, `${num(result.peak_accel_m_s2)} m/s²`), "."),
+          "At ", h("strong", {}, rpm(result.speed_rpm)), ` (${num(result.frequency_hz)} Hz) with a `,
+          h("strong", {}, mm(result.stroke_m)), ` ${result.waveform || ""} stroke, the pivot's peak `
+          + "acceleration is ", h("strong", {}, `${num(result.peak_accel_m_s2)} m/s²`),
+          ` (${num(result.peak_accel_g, 3)} g).`),
         h("div", { class: "eq-cards" },
           Object.keys(EQUILIBRIA).map((name) => equilibriumCard(name, result[name] || {}))),
+        result.converged === false
+          ? h("p", { class: "eq-warning" }, "Some results did not meet their accuracy check; see the notes.")
+          : null,
         estimates(result),
-        cautions(result),
+        h("p", { class: "safety-pointer" }, "Before running the rig, read ",
+          h("a", { href: "#safety-h" }, "Before you run the rig"), "."),
         reply.report_text
           ? h("details", { class: "report-text" },
             h("summary", {}, "The same report in the command line's words"),
             h("pre", {}, reply.report_text))
           : null);
+      if (Array.isArray(reply.cautions) && reply.cautions.length) onCautions(reply.cautions);
       updateStrip(result);
       setState("fresh", "");
     },

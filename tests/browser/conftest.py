@@ -1,0 +1,134 @@
+"""Fixtures for the page tests: the built site served on 127.0.0.1, Debian's
+Chromium driven by Playwright (never a downloaded browser), every request the
+browser makes recorded, and screenshots saved to test-artifacts/.
+
+Missing prerequisites (dist/ not built, no Chromium, no Playwright) skip these
+tests locally with the reason; with CI=true they fail instead.
+"""
+
+from __future__ import annotations
+
+import importlib.util
+import os
+from pathlib import Path
+
+import pytest
+
+from pagekit import CHROMIUM, CHROMIUM_ARGS, LAPTOP, OFFLINE, SITE, TOP
+
+
+def missing(reason: str):
+    """Skip locally; fail under CI, where every prerequisite must be present."""
+    if os.environ.get("CI") == "true":
+        pytest.fail(f"missing prerequisite under CI: {reason}", pytrace=False)
+    pytest.skip(reason)
+
+
+def _serve_module():
+    spec = importlib.util.spec_from_file_location("shakestill_serve", TOP / "build_scripts" / "serve.py")
+    module = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(module)
+    return module
+
+
+@pytest.fixture(scope="session")
+def site_dir() -> Path:
+    if not (SITE / "index.html").is_file() or not (SITE / "sw.js").is_file():
+        missing("dist/site/ is not built: run python build_scripts/build_site.py")
+    return SITE
+
+
+@pytest.fixture(scope="session")
+def offline_file() -> Path:
+    if not OFFLINE.is_file():
+        missing("dist/shakestill-offline.html is not built: run python build_scripts/build_site.py")
+    return OFFLINE
+
+
+class Server:
+    """dist/site/ on 127.0.0.1 at a random free port, in a background thread."""
+
+    def __init__(self, folder: Path):
+        self.server, self.url = _serve_module().start(folder, 0)
+        self.origin = self.url.rstrip("/")
+
+    def stop(self):
+        self.server.shutdown()
+        self.server.server_close()
+
+
+@pytest.fixture(scope="session")
+def server(site_dir):
+    srv = Server(site_dir)
+    yield srv
+    srv.stop()
+
+
+@pytest.fixture
+def own_server(site_dir):
+    """A server of the test's own, for tests that stop it."""
+    srv = Server(site_dir)
+    yield srv
+    try:
+        srv.stop()
+    except OSError:
+        pass
+
+
+@pytest.fixture(scope="session")
+def browser():
+    try:
+        from playwright.sync_api import sync_playwright
+    except ImportError:
+        missing("playwright is not installed (pip install -e .[test])")
+    if not CHROMIUM.exists():
+        missing("Debian's chromium is not installed at /usr/bin/chromium (apt-get install chromium)")
+    with sync_playwright() as p:
+        b = p.chromium.launch(executable_path=str(CHROMIUM), args=CHROMIUM_ARGS)
+        yield b
+        b.close()
+
+
+class Recorder:
+    """Every request the browser makes in one context, and every page error."""
+
+    def __init__(self):
+        self.urls: list[str] = []
+        self.errors: list[str] = []
+
+    def attach(self, context):
+        context.on("request", lambda req: self.urls.append(req.url))
+        context.on("page", self.watch)
+        for page in context.pages:
+            self.watch(page)
+
+    def watch(self, page):
+        page.on("request", lambda req: self.urls.append(req.url))
+        page.on("pageerror", lambda err: self.errors.append(str(err)))
+
+
+@pytest.fixture
+def new_context(browser):
+    """Factory of fresh browser contexts (own storage, own service workers), each recorded."""
+    made = []
+
+    def make(viewport=LAPTOP, **options):
+        context = browser.new_context(viewport=viewport, accept_downloads=True, **options)
+        context.recorder = Recorder()
+        context.recorder.attach(context)
+        made.append(context)
+        return context
+
+    yield make
+    for context in made:
+        context.close()
+
+
+@pytest.fixture
+def context(new_context):
+    return new_context()
+
+
+@pytest.fixture
+def page(context):
+    return context.new_page()

@@ -1,0 +1,93 @@
+"""Helpers of the page tests: paths, viewports, waiting for results, the CLI's
+check of the same rig, and number comparison."""
+
+from __future__ import annotations
+
+import json
+import math
+import shutil
+import subprocess
+import sys
+from pathlib import Path
+
+TOP = Path(__file__).resolve().parents[2]
+SITE = TOP / "dist" / "site"
+OFFLINE = TOP / "dist" / "shakestill-offline.html"
+ARTIFACTS = TOP / "test-artifacts"
+CHROMIUM = Path("/usr/bin/chromium")
+# The flags that work on this machine's closed network (see the project rules).
+CHROMIUM_ARGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
+                 "--disable-background-networking", "--disable-component-update", "--disable-sync"]
+# Pyodide starts in a few seconds on a quiet machine; CI shares two cores with the build.
+BOOT_TIMEOUT_MS = 120_000
+RESULT_TIMEOUT_MS = 120_000
+
+LAPTOP = {"width": 1366, "height": 768}
+TABLET_PORTRAIT = {"width": 768, "height": 1024}
+TABLET_LANDSCAPE = {"width": 1024, "height": 768}
+
+
+
+def shot(page, name: str, full_page: bool = True) -> Path:
+    """Save a screenshot of the page's current state to test-artifacts/."""
+    ARTIFACTS.mkdir(exist_ok=True)
+    path = ARTIFACTS / f"{name}.png"
+    page.screenshot(path=str(path), full_page=full_page)
+    return path
+
+
+def wait_for_result(page, previous: str | None = None, timeout: int = RESULT_TIMEOUT_MS) -> dict:
+    """Wait for a fresh check result other than `previous` (JSON text); return it parsed.
+
+    Stops at once, with the page's own words, if the engine failed to start.
+    """
+    page.wait_for_function(
+        """(previous) => {
+            if (!document.getElementById("boot-failed").hidden) return true;
+            const el = document.getElementById("check-report");
+            return el && el.dataset.state === "fresh" && el.dataset.result !== undefined
+                && el.dataset.result !== previous;
+        }""", arg=previous, timeout=timeout)
+    if page.is_visible("#boot-failed"):
+        raise AssertionError(f"the engine did not start: {page.inner_text('#boot-failed-reason')}")
+    return json.loads(page.get_attribute("#check-report", "data-result"))
+
+
+def open_page(page, url: str) -> dict:
+    page.goto(url)
+    return wait_for_result(page, timeout=BOOT_TIMEOUT_MS)
+
+
+def cli_check(rig: dict, tmp_path: Path) -> dict:
+    """`shakestill check RIG --json` on a rig file, as the command line gives it."""
+    path = tmp_path / "rig.json"
+    path.write_text(json.dumps(rig))
+    exe = shutil.which("shakestill", path=str(Path(sys.executable).parent)) or shutil.which("shakestill")
+    command = [exe] if exe else [sys.executable, "-m", "shakestill.cli"]
+    done = subprocess.run([*command, "check", str(path), "--json"], capture_output=True, text=True,
+                          timeout=300)
+    assert done.returncode in (0, 1), done.stderr
+    return json.loads(done.stdout)
+
+
+def assert_same_numbers(got, want, rel=1e-9, abs_tol=1e-12, where="result"):
+    """Same structure, same strings and booleans; numbers equal to `rel` relative."""
+    if isinstance(want, dict):
+        assert isinstance(got, dict) and set(got) == set(want), f"{where}: keys {sorted(got)} != {sorted(want)}"
+        for key in want:
+            assert_same_numbers(got[key], want[key], rel, abs_tol, f"{where}.{key}")
+    elif isinstance(want, list):
+        assert isinstance(got, list) and len(got) == len(want), f"{where}: {got!r} != {want!r}"
+        for i, (g, w) in enumerate(zip(got, want)):
+            assert_same_numbers(g, w, rel, abs_tol, f"{where}[{i}]")
+    elif isinstance(want, (int, float)) and not isinstance(want, bool):
+        assert isinstance(got, (int, float)) and not isinstance(got, bool), f"{where}: {got!r} != {want!r}"
+        assert math.isclose(got, want, rel_tol=rel, abs_tol=abs_tol), f"{where}: {got!r} != {want!r}"
+    else:
+        assert got == want, f"{where}: {got!r} != {want!r}"
+
+
+def wait_for_stale(page, timeout: int = RESULT_TIMEOUT_MS) -> None:
+    """Wait until the verdict is marked stale (a problem in the sheet keeps the old result)."""
+    page.wait_for_function("() => document.getElementById('check-report').dataset.state === 'stale'",
+                           timeout=timeout)

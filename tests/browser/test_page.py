@@ -1,0 +1,168 @@
+"""The page's main job in headless Chromium: the check of the rig on the sheet,
+following edits, agrees with the command line's `shakestill check --json` for
+the same rig; bad values are told beside their field in the validator's words."""
+
+from __future__ import annotations
+
+import json
+from urllib.parse import urlsplit
+
+import pytest
+
+from pagekit import (TABLET_LANDSCAPE, TABLET_PORTRAIT, assert_same_numbers, cli_check,
+                     open_page, shot, wait_for_result, wait_for_stale)
+
+pytestmark = pytest.mark.browser
+
+ss = pytest.importorskip("shakestill")
+
+
+def demo_dict() -> dict:
+    return ss.rig_to_dict(ss.demo_rig())
+
+
+def test_demo_check_appears_and_matches_cli(page, server, tmp_path):
+    result = open_page(page, server.url)
+    # Independent value: the command line on the same (demo) rig, 1e-9 relative.
+    assert_same_numbers(result, cli_check(demo_dict(), tmp_path))
+    for name in ("inverted", "hanging"):
+        card = page.locator(f".eq-card[data-eq={name}]")
+        word = "is-stable" if result[name]["stable"] else "is-unstable"
+        assert word in card.get_attribute("class")
+    shot(page, "laptop-demo")
+
+
+@pytest.mark.parametrize("viewport,name", [(TABLET_PORTRAIT, "tablet-portrait"),
+                                           (TABLET_LANDSCAPE, "tablet-landscape")])
+def test_tablet_layouts_fit_the_width(new_context, server, viewport, name):
+    page = new_context(viewport=viewport, has_touch=True, is_mobile=True).new_page()
+    open_page(page, server.url)
+    shot(page, f"{name}-demo")
+    # Nothing may scroll sideways on a tablet: page width equals the viewport (CSS px).
+    width = page.evaluate("document.documentElement.scrollWidth")
+    assert width == viewport["width"]
+
+
+def test_stroke_edit_updates_and_matches_cli(page, server, tmp_path):
+    before = open_page(page, server.url)
+    old = page.get_attribute("#check-report", "data-result")
+    page.fill('[data-path="drive.stroke_m"]', "25 mm")
+    after = wait_for_result(page, old)
+    rig = demo_dict()
+    rig["drive"]["stroke_m"] = "25 mm"
+    assert_same_numbers(after, cli_check(rig, tmp_path))
+    # The demo's stroke is not 25 mm, so the peak acceleration must have moved.
+    assert after["peak_accel_m_s2"] != pytest.approx(before["peak_accel_m_s2"], rel=1e-6)
+    # The core read "25 mm" as 0.025 m (units.py), shown in the verdict's rig.
+    assert json.loads(page.get_attribute("#check-report", "data-rig"))["drive"]["stroke_m"] == \
+        pytest.approx(0.025, rel=1e-12)
+    shot(page, "laptop-stroke-25mm")
+
+
+def test_bad_value_is_told_beside_its_field_and_old_result_kept(page, server, tmp_path):
+    open_page(page, server.url)
+    good = page.get_attribute("#check-report", "data-result")
+    field = page.locator('[data-path="drive.stroke_m"]')
+    field.fill("25 parsecs")
+    wait_for_stale(page)
+    rig = demo_dict()
+    rig["drive"]["stroke_m"] = "25 parsecs"
+    # The validator's own words (the CLI prints the same problem list).
+    with pytest.raises(ss.RigError) as caught:
+        ss.rig_from_dict(rig)
+    words = [p.message for p in caught.value.problems if p.path == "drive.stroke_m"]
+    assert len(words) == 1
+    message_id = "m-drive-stroke_m"
+    assert message_id in field.get_attribute("aria-describedby").split()
+    assert words[0] in page.locator(f"#{message_id}").inner_text()
+    assert field.get_attribute("aria-invalid") == "true"
+    # The last good result stays, marked stale.
+    assert page.get_attribute("#check-report", "data-result") == good
+    shot(page, "laptop-bad-stroke")
+    # No alert box: the page never called window.alert (no dialog event fired).
+    dialogs = []
+    page.on("dialog", lambda d: dialogs.append(d.message))
+    field.fill("20 mm")
+    wait_for_result(page, None)
+    assert dialogs == []
+    assert page.locator(f"#{message_id}").is_hidden()
+
+
+def test_no_request_leaves_the_site(context, server):
+    page = context.new_page()
+    open_page(page, server.url)
+    old = page.get_attribute("#check-report", "data-result")
+    page.fill('[data-path="drive.speed_rpm"]', "40 Hz")
+    wait_for_result(page, old)
+    page.click("#copy-link")
+    page.wait_for_function("() => document.getElementById('share-box').value.includes('#')")
+    urls = context.recorder.urls
+    # The page fetched its own files (the engine's wasm among them) ...
+    assert any(u.endswith(".wasm") for u in urls), urls
+    # ... and nothing from any other origin.
+    foreign = [u for u in urls if not u.startswith(("data:", "blob:"))
+               and f"{urlsplit(u).scheme}://{urlsplit(u).netloc}" != server.origin]
+    assert foreign == []
+    assert context.recorder.errors == []
+
+
+def test_autosave_keeps_invalid_text_over_a_reload(page, server):
+    open_page(page, server.url)
+    page.fill('[data-path="links[0].length_m"]', "30 cm and a bit")
+    wait_for_stale(page)
+    page.reload()
+    wait_for_stale(page)
+    assert page.input_value('[data-path="links[0].length_m"]') == "30 cm and a bit"
+
+
+def test_added_link_by_keyboard_matches_cli(page, server, tmp_path):
+    open_page(page, server.url)
+    old = page.get_attribute("#check-report", "data-result")
+    page.focus('button[data-action="add-link"]')
+    page.keyboard.press("Enter")
+    # Focus moves to the new link's first field.
+    assert page.evaluate("document.activeElement.dataset.path") == "links[1].length_m"
+    result = wait_for_result(page, old)
+    rig = demo_dict()
+    rig["links"].append(json.loads(json.dumps(rig["links"][0])))
+    assert_same_numbers(result, cli_check(rig, tmp_path))
+
+
+def test_saved_file_is_the_validated_rig_and_opens_again(page, server, tmp_path):
+    open_page(page, server.url)
+    old = page.get_attribute("#check-report", "data-result")
+    page.fill('[data-path="title"]', "Shaker table B")
+    page.fill('[data-path="drive.speed_rpm"]', "2700 rpm")
+    wait_for_result(page, old)
+    with page.expect_download() as info:
+        page.click("#save-file")
+    saved = json.loads(open(info.value.path()).read())
+    want = demo_dict()
+    want["title"] = "Shaker table B"
+    want["drive"]["speed_rpm"] = "2700 rpm"
+    # The file is the rig as the core normalises it (rig_to_dict of the validated rig).
+    assert saved == ss.rig_to_dict(ss.rig_from_dict(want))
+    assert info.value.suggested_filename == "shaker-table-b.rig.json"
+
+    # A file that is not JSON is refused and the rig stays.
+    bad = tmp_path / "notes.json"
+    bad.write_text("stroke 20 mm")
+    page.set_input_files("#open-file", str(bad))
+    page.wait_for_selector("#notice:not([hidden])")
+    assert "not valid JSON" in page.inner_text("#notice-text")
+    assert page.input_value('[data-path="title"]') == "Shaker table B"
+
+    # The saved file opens back into the sheet with the same check.
+    current = page.get_attribute("#check-report", "data-result")
+    saved_path = tmp_path / "back.rig.json"
+    saved["title"] = "Shaker table B, reopened"
+    saved_path.write_text(json.dumps(saved))
+    page.set_input_files("#open-file", str(saved_path))
+    page.wait_for_function("""() => {
+        const el = document.getElementById("check-report");
+        return el.dataset.state === "fresh" && (el.dataset.rig || "").includes("reopened");
+    }""", timeout=120_000)
+    result = json.loads(page.get_attribute("#check-report", "data-result"))
+    want = json.loads(current)
+    want["title"] = "Shaker table B, reopened"
+    assert_same_numbers(result, want)

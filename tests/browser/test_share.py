@@ -1,0 +1,88 @@
+"""Share links: the rig and view travel in the URL fragment; a fresh browser
+restores them exactly; a tampered link is refused and the rig stays."""
+
+from __future__ import annotations
+
+import json
+
+import pytest
+
+from pagekit import open_page, shot, wait_for_result
+
+pytestmark = pytest.mark.browser
+
+ss = pytest.importorskip("shakestill")
+
+
+def make_link(page) -> str:
+    old = page.input_value("#share-box")
+    page.click("#copy-link")
+    page.wait_for_function("""(old) => {
+        const value = document.getElementById("share-box").value;
+        return value.includes("#") && value !== old;
+    }""", arg=old)
+    return page.input_value("#share-box")
+
+
+def edited_rig(page, server):
+    open_page(page, server.url)
+    old = page.get_attribute("#check-report", "data-result")
+    page.fill('[data-path="title"]', "Exhibit pendulum, hall 2")
+    page.fill('[data-path="drive.stroke_m"]', "22.5 mm")
+    page.fill('[data-path="links[0].joint_damping_N_m_s"]', "0.0003 N m s")
+    return wait_for_result(page, old)
+
+
+def test_share_link_restores_the_rig_in_a_fresh_browser(new_context, server):
+    sender = new_context().new_page()
+    result = edited_rig(sender, server)
+    rig = json.loads(sender.get_attribute("#check-report", "data-rig"))
+    link = make_link(sender)
+    assert link.startswith(server.url)
+
+    receiver = new_context().new_page()  # no storage shared with the sender
+    got = open_page(receiver, link)
+    # Exactly the same rig as the core read it, and so exactly the same check.
+    assert json.loads(receiver.get_attribute("#check-report", "data-rig")) == rig
+    assert got == result
+    assert receiver.input_value('[data-path="title"]') == "Exhibit pendulum, hall 2"
+    # The independent reading of the same rig by the core on CPython.
+    want = ss.rig_to_dict(ss.rig_from_dict(rig))
+    assert json.loads(receiver.get_attribute("#check-report", "data-rig")) == want
+    # The link is taken off the address bar once opened (the autosave holds the rig).
+    assert "#" not in receiver.url
+    shot(receiver, "laptop-opened-from-link")
+
+
+def test_tampered_link_is_refused_and_rig_untouched(new_context, server):
+    sender = new_context().new_page()
+    edited_rig(sender, server)
+    link = make_link(sender)
+    base, fragment = link.split("#", 1)
+    middle = len(fragment) // 2
+    flipped = "A" if fragment[middle] != "A" else "B"
+    tampered = f"{base}#{fragment[:middle]}{flipped}{fragment[middle + 1:]}"
+
+    page = new_context().new_page()
+    open_page(page, server.url)
+    old = page.get_attribute("#check-report", "data-result")
+    page.fill('[data-path="title"]', "My own rig")
+    wait_for_result(page, old)  # the title is part of the result
+    rig_before = page.get_attribute("#check-report", "data-rig")
+    result_before = page.get_attribute("#check-report", "data-result")
+
+    page.goto(tampered)  # same page, new fragment: the hashchange path
+    page.wait_for_selector("#notice:not([hidden])", timeout=60_000)
+    assert "could not be opened" in page.inner_text("#notice-text")
+    assert page.input_value('[data-path="title"]') == "My own rig"
+    assert page.get_attribute("#check-report", "data-rig") == rig_before
+    assert page.get_attribute("#check-report", "data-result") == result_before
+    shot(page, "laptop-tampered-link")
+
+    # Opened cold in a fresh browser, the bad link also says why, and the demo rig loads instead.
+    cold = new_context().new_page()
+    cold.goto(tampered)
+    cold.wait_for_function("() => document.getElementById('notice-text').textContent.includes('could not be opened')",
+                           timeout=120_000)
+    wait_for_result(cold)
+    assert json.loads(cold.get_attribute("#check-report", "data-rig")) == ss.rig_to_dict(ss.demo_rig())
