@@ -21,15 +21,13 @@ const hz = (f) => `${num(f)} Hz`;
 const percent = (p) => `${p.toFixed(1)}%`;
 const END_WORDS = { edge: "stability edge", limit: "rig limit" };
 
-/** "1594 rpm (stability edge, 11.5% below) to 3600 rpm (rig limit, 25.0% above)". */
+/** ["1594 rpm to 3600 rpm", "stability edge 41.0% below; rig limit 33.3% above"]. */
 function windowText(win, ends, down, up, show) {
-  if (!Array.isArray(win)) return "none (not stable here)";
-  const side = (value, kind, margin, where) => {
-    const words = [END_WORDS[kind], Number.isFinite(margin) ? `${percent(margin)} ${where}` : null]
-      .filter(Boolean).join(", ");
-    return words ? `${show(value)} (${words})` : show(value);
-  };
-  return `${side(win[0], ends[0], down, "below")} to ${side(win[1], ends[1], up, "above")}`;
+  if (!Array.isArray(win)) return ["none (not stable here)", ""];
+  const side = (kind, margin, where) => [END_WORDS[kind],
+    Number.isFinite(margin) ? `${percent(margin)} ${where}` : null].filter(Boolean).join(" ");
+  return [`${show(win[0])} to ${show(win[1])}`,
+    [side(ends[0], down, "below"), side(ends[1], up, "above")].filter(Boolean).join("; ")];
 }
 
 const EQUILIBRIA = {
@@ -56,6 +54,12 @@ function row(label, value, note) {
     h("dd", {}, value, note ? h("span", { class: "note" }, ` ${note}`) : null));
 }
 
+/** A window: the range on one line, where each end comes from and its margin below it. */
+function windowRow(label, [range, ends]) {
+  return h("div", { class: "row" }, h("dt", {}, label),
+    h("dd", {}, range, ends ? h("span", { class: "sub" }, ends) : null));
+}
+
 function equilibriumCard(name, eq) {
   const words = EQUILIBRIA[name];
   const stable = Boolean(eq.stable);
@@ -63,9 +67,9 @@ function equilibriumCard(name, eq) {
   const e = eq.window_ends || {};
   const facts = stable
     ? [
-      row("Speed window", windowText(eq.speed_window_rpm, [e.speed_low, e.speed_high],
+      windowRow("Speed window", windowText(eq.speed_window_rpm, [e.speed_low, e.speed_high],
         m.speed_down, m.speed_up, rpm)),
-      row("Stroke window", windowText(eq.stroke_window_m, [e.stroke_low, e.stroke_high],
+      windowRow("Stroke window", windowText(eq.stroke_window_m, [e.stroke_low, e.stroke_high],
         m.stroke_down, m.stroke_up, mm)),
       row("Slow sway", eq.slow_frequency_hz == null ? "n/a" : hz(eq.slow_frequency_hz),
         "the slow swing riding on the fast buzz"),
