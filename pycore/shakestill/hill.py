@@ -23,6 +23,8 @@ from dataclasses import dataclass
 
 SPECIAL_DIVISOR = 1.0  # rows with |theta0 - 4 r^2| below this stay unnormalised
 TAIL_EXACT_ROWS = 32  # rows past the truncation summed exactly in the tail term
+THIRD_ORDER_ROWS = 12  # three-cycles fall like r^-6: a dozen rows past R is enough
+THIRD_ORDER_FLOOR = 1e-14  # three-cycles smaller than this (relative) are left out
 
 
 @dataclass(frozen=True)
@@ -169,6 +171,43 @@ def _tail_log_correction(theta0: float, theta: tuple, truncation: int) -> float:
     return -total
 
 
+def _tail_third_order(theta0: float, theta: tuple, truncation: int) -> complex:
+    """(1/3) tr(A^3) over three-cycles touching the rows beyond R (two or more harmonics).
+
+    A cycle r -> r - n1 -> r - n1 - n2 -> r (n1 + n2 + n3 = 0) appears once per starting row
+    in tr(A^3); the 1/3 counts it once. Cycles beyond R + TAIL_EXACT_ROWS are O(R^-5) smaller.
+    """
+    h = len(theta)
+
+    def coef(n: int):
+        return theta[n - 1] if n > 0 else theta[-n - 1].conjugate()
+
+    size = sum(abs(c) for c in theta)
+    reach = truncation + THIRD_ORDER_ROWS
+    # Special (unnormalised) rows lie deep inside whenever R follows default_truncation;
+    # should one be reached, its cycles are left out rather than divided by ~0.
+    inv = {r: (1.0 / (theta0 - 4 * r * r) if abs(theta0 - 4 * r * r) >= SPECIAL_DIVISOR else 0.0)
+           for r in range(-reach - 2 * h, reach + 2 * h + 1)}
+    rows = [r for r in range(-reach, reach + 1) if abs(r) > truncation - 2 * h]
+    total = 0.0
+    for n1 in range(-h, h + 1):
+        for n2 in range(-h, h + 1):
+            n3 = -n1 - n2
+            if not (n1 and n2 and n3) or abs(n3) > h:
+                continue
+            weight = coef(n1) * coef(n2) * coef(n3)
+            if abs(weight) <= THIRD_ORDER_FLOOR * size ** 3:
+                continue
+            s = 0.0
+            for r in rows:
+                j, k = r - n1, r - n1 - n2
+                if abs(r) > truncation or abs(j) > truncation or abs(k) > truncation:
+                    s += inv[r] * inv[j] * inv[k]
+            total += weight * s
+    value = total / 3.0
+    return value.real if isinstance(value, complex) else value
+
+
 def hill_trace(theta0: float, theta: tuple, truncation: int) -> float:
     """Trace of the one-period (pi in z) monodromy of Hill's equation.
 
@@ -189,6 +228,8 @@ def hill_trace(theta0: float, theta: tuple, truncation: int) -> float:
     det = _band_determinant(theta0, coefs, truncation, set(special))
     det = det.real if isinstance(det, complex) else det
     corr = _tail_log_correction(theta0, theta, truncation)
+    if len(theta) > 1:
+        corr += _tail_third_order(theta0, coefs, truncation)
     try:
         value = 2.0 - 4.0 * det * math.exp(corr) * _sine_factor(theta0, special)
     except OverflowError:

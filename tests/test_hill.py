@@ -1,0 +1,77 @@
+"""Hill's determinant against Mathieu characteristic values and direct integration."""
+
+import math
+
+import numpy as np
+import pytest
+from scipy.integrate import solve_ivp
+from scipy.special import mathieu_a, mathieu_b
+
+from shakestill.hill import default_truncation, hill_trace, needed_harmonics
+
+
+def trace_by_integration(theta0, theta):
+    """Reference: trace of the pi-periodic monodromy of Hill's equation by solve_ivp (DOP853)."""
+    def p(z):
+        return theta0 + sum(2 * (c * np.exp(2j * (k + 1) * z)).real for k, c in enumerate(theta))
+
+    def rhs(z, y):
+        return [y[1], -p(z) * y[0], y[3], -p(z) * y[2]]
+
+    sol = solve_ivp(rhs, (0, math.pi), [1, 0, 0, 1], method="DOP853", rtol=1e-13, atol=1e-13)
+    return sol.y[0, -1] + sol.y[3, -1]
+
+
+@pytest.mark.parametrize("q", [0.05, 0.4, 0.908, 2.0, 5.0])
+@pytest.mark.parametrize("order", [0, 1, 2, 3, 4])
+def test_trace_at_mathieu_characteristic_values(q, order):
+    # scipy.special.mathieu_a/b: y'' + (a - 2q cos 2z) y = 0 has a periodic solution
+    # (period pi for even order: trace +2; period 2 pi for odd order: trace -2).
+    # In Hill's form theta0 = a, theta_1 = -q. Tolerance 1e-8 covers scipy's own accuracy.
+    target = 2.0 if order % 2 == 0 else -2.0
+    for a in ([mathieu_a(order, q)] + ([mathieu_b(order, q)] if order > 0 else [])):
+        R = default_truncation(a, (-q,))
+        assert abs(hill_trace(a, (-q,), R) - target) < 1e-8
+
+
+@pytest.mark.parametrize("theta0, theta", [
+    (0.0, (0.3, 0.1)),                 # pole of row 0 exactly
+    (4.0, (0.5, -0.2, 0.05)),          # pole of rows +-1 exactly
+    (16.0 + 1e-9, (0.7,)),             # next to the poles of rows +-2
+    (-3.0, (0.4 + 0.3j, 0.1 - 0.2j)),  # complex harmonics: a waveform with sine terms
+    (7.3, (1.5, 0.6, 0.2, 0.05)),
+])
+def test_trace_matches_direct_integration(theta0, theta):
+    # Reference: scipy.integrate.solve_ivp (DOP853, rtol 1e-13); tolerance 1e-9 of
+    # max(1, |trace|), the scale on which the engine checks its own convergence.
+    R = default_truncation(theta0, theta)
+    expected = trace_by_integration(theta0, theta)
+    assert abs(hill_trace(theta0, theta, R) - expected) <= 1e-9 * max(1.0, abs(expected))
+
+
+def test_undriven_trace_is_cosine():
+    # Closed form: with no harmonics u = cos(sqrt(theta0) z), trace = 2 cos(pi sqrt(theta0)).
+    for theta0 in (0.3, 2.7, 11.0):
+        assert hill_trace(theta0, (0.0,), 10) == pytest.approx(2 * math.cos(math.pi * math.sqrt(theta0)),
+                                                               abs=1e-13)
+    assert hill_trace(-2.0, (0.0,), 10) == pytest.approx(2 * math.cosh(math.pi * math.sqrt(2.0)),
+                                                         rel=1e-13)
+
+
+def test_truncation_error_falls_with_rows():
+    # The tail term makes the error fall like R^-7 (fourth-order remainder); between
+    # R = 10 and R = 20 it must shrink at least 50-fold (128 expected). Reference for
+    # the exact value: scipy.special.mathieu_b(1, 5).
+    q, a = 5.0, mathieu_b(1, 5.0)
+    e10 = abs(hill_trace(a, (-q,), 10) + 2)
+    e20 = abs(hill_trace(a, (-q,), 20) + 2)
+    assert e20 < e10 / 50
+
+
+def test_needed_harmonics_keeps_the_trace():
+    # A crank-like fast-falling series: dropping the tail may not move the trace by more than tol.
+    theta0, theta = 0.8, tuple(0.4 * 0.05 ** k for k in range(10))
+    R = default_truncation(theta0, theta)
+    keep = needed_harmonics(theta0, theta, R, tol=1e-12)
+    assert keep < len(theta)
+    assert abs(hill_trace(theta0, theta[:keep], R) - hill_trace(theta0, theta, R)) <= 1e-12 * 2
