@@ -144,15 +144,25 @@ def _system(rig: Rig, equilibrium: str):
 
 
 def default_steps(rig: Rig, equilibrium: str) -> int:
-    """Steps per cycle from the fastest rate of the linear system over the cycle."""
+    """Steps per cycle from the fastest rate of the linear system over the cycle.
+
+    The rate is sqrt(G_peak * |eig B|) + |eig C|; the crank's peak acceleration is taken
+    at top dead centre, r omega^2 (1 + r/l), which is close enough to choose a step.
+    """
     B, C = _system(rig, equilibrium)
-    peak_G = rig.g_m_s2 + drv.peak_accel_m_s2(rig.drive)
-    stiff = max(abs(ev) for ev in eigvals([[peak_G * x for x in row] for row in B]))
+    d = rig.drive
+    omega = 2 * math.pi * d.frequency_hz
+    if d.waveform == "crank":
+        r = d.stroke_m / 2
+        peak = r * (1 + r / d.rod_length_m) * omega ** 2
+    else:
+        peak = drv.peak_accel_m_s2(d)
+    stiff = max(abs(ev) for ev in eigvals([[(rig.g_m_s2 + peak) * x for x in row] for row in B]))
     damp = max(abs(ev) for ev in eigvals(C)) if _is_damped(rig) else 0.0
     rate = math.sqrt(stiff) + damp
-    period = 1.0 / rig.drive.frequency_hz
-    harmonics = drv.harmonics(rig.drive).count
-    return min(MAX_STEPS, max(MIN_STEPS, 2 * harmonics, math.ceil(rate * period / STEP_PHASE)))
+    harmonics = drv.harmonics(d).count
+    steps = math.ceil(rate / d.frequency_hz / STEP_PHASE)
+    return min(MAX_STEPS, max(MIN_STEPS, 2 * harmonics, steps))
 
 
 def _G_nodes(rig: Rig, steps: int) -> list[float]:

@@ -38,33 +38,37 @@ def fundamental_matrix(B: Sequence[Sequence[float]], C: Sequence[Sequence[float]
     n = len(B)
     size = 2 * n
     h = period / steps
-    # X is stored by columns: X[col] = [q_0..q_{n-1}, v_0..v_{n-1}]
-    X = [[1.0 if i == col else 0.0 for i in range(size)] for col in range(size)]
-    Bf = [list(map(float, row)) for row in B]
-    Cf = [list(map(float, row)) for row in C]
-    damped = any(x != 0.0 for row in Cf for x in row)
+    # The state is the whole matrix, flattened row by row: rows 0..n-1 hold q, rows
+    # n..2n-1 hold q' (each row across the 2n columns), so one list operation does all.
+    X = [1.0 if i == j else 0.0 for i in range(size) for j in range(size)]
+    damped = any(x != 0.0 for row in C for x in row)
+    B_rows = [[(j, float(b)) for j, b in enumerate(row) if b != 0.0] for row in B]
+    C_rows = [[(j, float(c)) for j, c in enumerate(row) if c != 0.0] for row in C]
     weights = [(i, b * h) for i, b in enumerate(_B) if b != 0.0]
     stage_rows = [[(j, a * h) for j, a in _A[i]] for i in range(N_STAGES)]
+    half = n * size  # where the q' rows start
+    zero = [0.0] * size
     for s in range(steps):
         base = s * N_STAGES
-        new_X = []
-        for x in X:
-            k = []
-            for i in range(N_STAGES):
-                y = list(x)
-                for j, ah in stage_rows[i]:
-                    kj = k[j]
-                    y = [a + ah * b for a, b in zip(y, kj)]
-                q, v = y[:n], y[n:]
-                g = G_nodes[base + i]
-                acc = [-g * sum(br * qq for br, qq in zip(brow, q)) for brow in Bf]
+        k = []
+        for i in range(N_STAGES):
+            y = X
+            for j, ah in stage_rows[i]:
+                y = [a + ah * b for a, b in zip(y, k[j])]
+            g = G_nodes[base + i]
+            deriv = y[half:]  # dq/dt = q'
+            for row in range(n):
+                acc = zero
+                for j, b in B_rows[row]:
+                    coef = -g * b
+                    qj = y[j * size:(j + 1) * size]
+                    acc = [a + coef * q for a, q in zip(acc, qj)]
                 if damped:
-                    acc = [a - sum(cr * vv for cr, vv in zip(crow, v)) for a, crow in zip(acc, Cf)]
-                k.append(v + acc)
-            out = list(x)
-            for i, bh in weights:
-                out = [a + bh * b for a, b in zip(out, k[i])]
-            new_X.append(out)
-        X = new_X
-    # return row-major: M[i][col]
-    return [[X[col][i] for col in range(size)] for i in range(size)]
+                    for j, c in C_rows[row]:
+                        vj = y[half + j * size:half + (j + 1) * size]
+                        acc = [a - c * v for a, v in zip(acc, vj)]
+                deriv += acc
+            k.append(deriv)
+        for i, bh in weights:
+            X = [a + bh * b for a, b in zip(X, k[i])]
+    return [X[i * size:(i + 1) * size] for i in range(size)]

@@ -13,7 +13,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-from .floquet import Settings, Stability, default_steps, hill_form, stability
+from .floquet import Settings, Stability, hill_form, stability
 from .hill import default_truncation, needed_harmonics
 from .properties import properties
 from .rig import Rig, max_stroke_m, with_operating_point
@@ -22,7 +22,7 @@ from .roots import brentq, golden_max
 EDGE_RTOL = 1e-10  # window edges to this relative precision
 PHASE_STEP = 0.08  # scan spacing in sqrt(|theta0|) ~ 2 omega0 / omega (tongue n sits near n)
 SPEED_STEP = 0.04  # at most this relative change of speed between scan points
-STROKE_POINTS = 80  # scan points across the stroke range
+STROKE_POINTS = 50  # scan points across the stroke range
 
 
 @dataclass(frozen=True)
@@ -54,7 +54,7 @@ def scan_settings(rig: Rig, equilibrium: str, corners: list[Rig]) -> Settings:
             kept = max(kept, keep)
             rows = max(rows, default_truncation(form.theta0, form.theta[:keep]))
         return Settings(truncation=rows, harmonics=kept)
-    return Settings(steps=max(default_steps(c, equilibrium) for c in corners))
+    return Settings()  # several links: steps chosen at each point from its own rates
 
 
 class _Probe:
@@ -68,6 +68,14 @@ class _Probe:
         self.count += 1
         kw = {"speed_rpm": value} if self.axis == "speed" else {"stroke_m": value}
         return stability(self.rig, self.equilibrium, settings=self.settings, verify=False, **kw)
+
+
+class _Found(Exception):
+    """Raised inside a peak search as soon as an unstable point turns up."""
+
+    def __init__(self, value: float, stability: Stability):
+        super().__init__(value)
+        self.value, self.stability = value, stability
 
 
 def _closeness(s: Stability) -> float:
@@ -124,18 +132,17 @@ def _peak_search(probe: _Probe, a, b, c):
         if not (math.isfinite(kb) and kb > ka and kb > kc):
             continue
         lo, hi = sorted((a[0], c[0]))
-        unstable = []
 
         def f(x: float) -> float:
             s = probe(x)
             if not s.stable:
-                unstable.append((x, s))
-                return 1.0 + max(s.margin, 0.0)
+                raise _Found(x, s)
             return key(s)
 
-        golden_max(f, lo, hi, xtol=EDGE_RTOL * abs(hi) * 100)
-        if unstable:  # the unstable point nearest the side the walk came from
-            return min(unstable, key=lambda vs: abs(vs[0] - a[0]))
+        try:
+            golden_max(f, lo, hi, xtol=EDGE_RTOL * abs(hi) * 100)
+        except _Found as found:
+            return found.value, found.stability
     return None
 
 
