@@ -17,6 +17,7 @@ from .units import UnitError, parse_quantity
 FORMAT = "shakestill-rig"
 VERSION = 1
 STANDARD_GRAVITY = 9.80665  # m/s^2, the conventional standard value (CGPM 1901)
+AIR_DENSITY = 1.204  # kg/m^3, dry air at 20 C and 101.325 kPa (handbook value)
 MAX_LINKS = 3
 MIN_SAMPLES = 8  # fewer cannot describe a waveform's first harmonics usefully
 WAVEFORMS = ("sine", "crank", "samples")
@@ -45,6 +46,9 @@ class RigError(ValueError):
 class PointMass:
     mass_kg: float
     at_m: float  # from the link's own joint
+    drag_coefficient: float = 0.0  # quadratic air drag C_d (0: off)
+    frontal_area_m2: float = 0.0
+    given: frozenset = frozenset()
     extra: tuple = ()
 
 
@@ -68,6 +72,7 @@ class Drive:
     rod_length_m: float = 0.0  # crank only
     samples_m: tuple[float, ...] = ()  # samples only: one cycle at equal phases
     samples_stroke_m: float = 0.0  # samples only: the stroke the samples have as given
+    carriage_mass_kg: float = 0.0  # moving mass of the carriage, for drive loads
     given: frozenset = frozenset()
     extra: tuple = ()
 
@@ -80,6 +85,9 @@ class Drive:
 class Limits:
     speed_rpm: tuple[float, float]
     stroke_m: tuple[float, float]
+    max_force_N: float | None = None  # on the drive (pivot reaction plus carriage)
+    max_power_W: float | None = None
+    max_accel_m_s2: float | None = None  # of the pivot
     given: frozenset = frozenset()
     extra: tuple = ()
 
@@ -91,6 +99,7 @@ class Rig:
     limits: Limits
     title: str = ""
     g_m_s2: float = STANDARD_GRAVITY
+    air_density_kg_m3: float = AIR_DENSITY
     given: frozenset = frozenset()
     extra: tuple = ()
 
@@ -202,11 +211,14 @@ def _show(value: Any) -> str:
     return text if len(text) <= 60 else text[:57] + "..."
 
 
-_RIG_KEYS = ("format", "version", "title", "g_m_s2", "links", "drive", "limits")
+_RIG_KEYS = ("format", "version", "title", "g_m_s2", "air_density_kg_m3", "links", "drive",
+             "limits")
 _LINK_KEYS = ("length_m", "rod_mass_kg", "point_masses", "extra_inertia_kg_m2",
               "joint_damping_N_m_s", "joint_friction_N_m")
-_DRIVE_KEYS = ("waveform", "stroke_m", "rod_length_m", "speed_rpm", "samples_m")
-_LIMIT_KEYS = ("speed_rpm", "stroke_m")
+_DRIVE_KEYS = ("waveform", "stroke_m", "rod_length_m", "speed_rpm", "samples_m",
+               "carriage_mass_kg")
+_LIMIT_KEYS = ("speed_rpm", "stroke_m", "max_force_N", "max_power_W", "max_accel_m_s2")
+_POINT_KEYS = ("mass_kg", "at_m", "drag_coefficient", "frontal_area_m2")
 
 
 def _read_link(r: _Reader, raw: Any, path: str) -> Link | None:
@@ -233,12 +245,17 @@ def _read_link(r: _Reader, raw: Any, path: str) -> Link | None:
             continue
         mass = r.number(pobj, "mass_kg", ppath, kind="mass", unit="kg", minimum=0.0)
         at = r.number(pobj, "at_m", ppath, kind="length", unit="m", minimum=0.0)
-        extra = r.extras(pobj, ("mass_kg", "at_m"), ppath)
+        cd = r.number(pobj, "drag_coefficient", ppath, kind="plain", unit="(no unit)",
+                      default=0.0, minimum=0.0)
+        area = r.number(pobj, "frontal_area_m2", ppath, kind="area", unit="m^2", default=0.0,
+                        minimum=0.0)
+        extra = r.extras(pobj, _POINT_KEYS, ppath)
         if at is not None and length is not None and at > length * (1 + 1e-12):
             r.fail(f"{ppath}.at_m", f"{_show(pobj['at_m'])} is not allowed: a point mass must sit "
                                     f"on its link, from 0 to {length:g} m (the link's length)")
-        elif mass is not None and at is not None:
-            points.append(PointMass(mass, at, extra))
+        elif None not in (mass, at, cd, area):
+            points.append(PointMass(mass, at, cd, area,
+                                    frozenset(k for k in _POINT_KEYS if k in pobj), extra))
     extra = r.extras(obj, _LINK_KEYS, path)
     if None in (length, rod, inertia, damping, friction):
         return None
@@ -280,6 +297,8 @@ def _read_drive(r: _Reader, raw: Any) -> Drive | None:
                                  + ", ".join(f'"{w}"' for w in WAVEFORMS))
         return None
     speed = r.number(obj, "speed_rpm", path, kind="speed", unit="rpm", exclusive_minimum=0.0)
+    carriage = r.number(obj, "carriage_mass_kg", path, kind="mass", unit="kg", default=0.0,
+                        minimum=0.0)
     given = frozenset(k for k in _DRIVE_KEYS if k in obj)
     extra = r.extras(obj, _DRIVE_KEYS, path)
     if waveform == "samples":
@@ -294,9 +313,9 @@ def _read_drive(r: _Reader, raw: Any) -> Drive | None:
                 r.fail("drive.samples_m", "the samples do not move (max - min is 0 m): give a "
                                           "waveform that moves, or give drive.stroke_m")
                 stroke = None
-        if None in (speed, samples, stroke):
+        if None in (speed, samples, stroke, carriage):
             return None
-        return Drive(waveform, speed, stroke, 0.0, samples, stroke, given, extra)
+        return Drive(waveform, speed, stroke, 0.0, samples, stroke, carriage, given, extra)
     stroke = r.number(obj, "stroke_m", path, kind="length", unit="m", minimum=0.0)
     rod = 0.0
     if waveform == "crank":
@@ -306,9 +325,9 @@ def _read_drive(r: _Reader, raw: Any) -> Drive | None:
                                          f"connecting rod must be longer than the crank radius "
                                          f"(stroke/2 = {stroke / 2:g} m)")
             rod = None
-    if None in (speed, stroke, rod):
+    if None in (speed, stroke, rod, carriage):
         return None
-    return Drive(waveform, speed, stroke, rod, (), 0.0, given, extra)
+    return Drive(waveform, speed, stroke, rod, (), 0.0, carriage, given, extra)
 
 
 def rig_from_dict(data: Any, *, with_warnings: bool = False):
@@ -334,6 +353,8 @@ def rig_from_dict(data: Any, *, with_warnings: bool = False):
         title = ""
     g = r.number(obj, "g_m_s2", "", kind="acceleration", unit="m/s^2",
                  default=STANDARD_GRAVITY, exclusive_minimum=0.0)
+    rho = r.number(obj, "air_density_kg_m3", "", kind="plain", unit="kg/m^3",
+                   default=AIR_DENSITY, minimum=0.0)
     links: list[Link] = []
     raw_links = obj.get("links")
     if not isinstance(raw_links, list) or not 1 <= len(raw_links) <= MAX_LINKS:
@@ -351,7 +372,7 @@ def rig_from_dict(data: Any, *, with_warnings: bool = False):
     if r.problems:
         raise RigError(r.problems)
     given = frozenset(k for k in _RIG_KEYS if k in obj)
-    rig = Rig(tuple(links), drive, limits, title, g, given, extra)
+    rig = Rig(tuple(links), drive, limits, title, g, rho, given, extra)
     _warn_operating_point(r, rig)
     return (rig, r.warnings) if with_warnings else rig
 
@@ -367,8 +388,14 @@ def _read_limits(r: _Reader, raw: Any, drive: Drive | None) -> Limits | None:
     default_stroke = (0.0, max(stroke0 * 4.0, 1e-3))
     speed = r.pair(obj, "speed_rpm", "limits", kind="speed", unit="rpm", default=default_speed)
     stroke = r.pair(obj, "stroke_m", "limits", kind="length", unit="m", default=default_stroke)
+    caps = {}
+    for key, kind, unit in (("max_force_N", "force", "N"), ("max_power_W", "power", "W"),
+                            ("max_accel_m_s2", "acceleration", "m/s^2")):
+        caps[key] = (r.number(obj, key, "limits", kind=kind, unit=unit, exclusive_minimum=0.0)
+                     if key in obj else None)
     extra = r.extras(obj, _LIMIT_KEYS, "limits")
-    return Limits(speed, stroke, frozenset(k for k in _LIMIT_KEYS if k in obj), extra)
+    return Limits(speed, stroke, caps["max_force_N"], caps["max_power_W"],
+                  caps["max_accel_m_s2"], frozenset(k for k in _LIMIT_KEYS if k in obj), extra)
 
 
 def _warn_operating_point(r: _Reader, rig: Rig) -> None:
@@ -396,12 +423,19 @@ def _put(out: dict, key: str, value: Any, given: frozenset, default: Any) -> Non
         out[key] = value
 
 
+def _point_to_dict(p: PointMass) -> dict:
+    out: dict[str, Any] = {"mass_kg": p.mass_kg, "at_m": p.at_m}
+    _put(out, "drag_coefficient", p.drag_coefficient, p.given, 0.0)
+    _put(out, "frontal_area_m2", p.frontal_area_m2, p.given, 0.0)
+    out.update(dict(p.extra))
+    return out
+
+
 def _link_to_dict(link: Link) -> dict:
     out: dict[str, Any] = {"length_m": link.length_m}
     _put(out, "rod_mass_kg", link.rod_mass_kg, link.given, 0.0)
     if "point_masses" in link.given or link.point_masses:
-        out["point_masses"] = [{"mass_kg": p.mass_kg, "at_m": p.at_m, **dict(p.extra)}
-                               for p in link.point_masses]
+        out["point_masses"] = [_point_to_dict(p) for p in link.point_masses]
     _put(out, "extra_inertia_kg_m2", link.extra_inertia_kg_m2, link.given, 0.0)
     _put(out, "joint_damping_N_m_s", link.joint_damping_N_m_s, link.given, 0.0)
     _put(out, "joint_friction_N_m", link.joint_friction_N_m, link.given, 0.0)
@@ -420,6 +454,7 @@ def _drive_to_dict(drive: Drive) -> dict:
     if drive.waveform == "crank":
         out["rod_length_m"] = drive.rod_length_m
     out["speed_rpm"] = drive.speed_rpm
+    _put(out, "carriage_mass_kg", drive.carriage_mass_kg, drive.given, 0.0)
     out.update(dict(drive.extra))
     return out
 
@@ -429,12 +464,15 @@ def rig_to_dict(rig: Rig) -> dict:
     out: dict[str, Any] = {"format": FORMAT, "version": VERSION}
     _put(out, "title", rig.title, rig.given, "")
     _put(out, "g_m_s2", rig.g_m_s2, rig.given, STANDARD_GRAVITY)
+    _put(out, "air_density_kg_m3", rig.air_density_kg_m3, rig.given, AIR_DENSITY)
     out["links"] = [_link_to_dict(link) for link in rig.links]
     out["drive"] = _drive_to_dict(rig.drive)
     if "limits" in rig.given:
         limits = {}
         _put(limits, "speed_rpm", list(rig.limits.speed_rpm), rig.limits.given, None)
         _put(limits, "stroke_m", list(rig.limits.stroke_m), rig.limits.given, None)
+        for key in ("max_force_N", "max_power_W", "max_accel_m_s2"):
+            _put(limits, key, getattr(rig.limits, key), rig.limits.given, None)
         limits.update(dict(rig.limits.extra))
         out["limits"] = limits
     out.update(dict(rig.extra))
