@@ -19,12 +19,13 @@ from __future__ import annotations
 
 import cmath
 import math
+from functools import lru_cache
 from dataclasses import dataclass
 
 SPECIAL_DIVISOR = 1.0  # rows with |theta0 - 4 r^2| below this stay unnormalised
 TAIL_EXACT_ROWS = 32  # rows past the truncation summed exactly in the tail term
 THIRD_ORDER_ROWS = 12  # three-cycles fall like r^-6: a dozen rows past R is enough
-THIRD_ORDER_FLOOR = 1e-14  # three-cycles smaller than this (relative) are left out
+THIRD_ORDER_FLOOR = 1e-15  # three-cycles whose tail sum is below this are left out
 
 
 @dataclass(frozen=True)
@@ -171,39 +172,64 @@ def _tail_log_correction(theta0: float, theta: tuple, truncation: int) -> float:
     return -total
 
 
-def _tail_third_order(theta0: float, theta: tuple, truncation: int) -> complex:
-    """(1/3) tr(A^3) over three-cycles touching the rows beyond R (two or more harmonics).
+@lru_cache(maxsize=512)
+def _three_cycles(theta: tuple, truncation: int) -> tuple:
+    """The three-cycles (n1, n2, weight) whose tail sum can matter at ~1e-15.
 
-    A cycle r -> r - n1 -> r - n1 - n2 -> r (n1 + n2 + n3 = 0) appears once per starting row
-    in tr(A^3); the 1/3 counts it once. Cycles beyond R + TAIL_EXACT_ROWS are O(R^-5) smaller.
+    A cycle's rows all lie past R - 2H and each divisor is at least ~4 (R - 2H)^2, so its
+    tail sum is at most rows / (4 (R - 2H)^2)^3 times its weight; smaller ones are dropped.
+    Depends on the harmonics only, so a scan along speed reuses it.
     """
     h = len(theta)
 
     def coef(n: int):
         return theta[n - 1] if n > 0 else theta[-n - 1].conjugate()
 
-    size = sum(abs(c) for c in theta)
-    reach = truncation + THIRD_ORDER_ROWS
-    # Special (unnormalised) rows lie deep inside whenever R follows default_truncation;
-    # should one be reached, its cycles are left out rather than divided by ~0.
-    inv = {r: (1.0 / (theta0 - 4 * r * r) if abs(theta0 - 4 * r * r) >= SPECIAL_DIVISOR else 0.0)
-           for r in range(-reach - 2 * h, reach + 2 * h + 1)}
-    rows = [r for r in range(-reach, reach + 1) if abs(r) > truncation - 2 * h]
-    total = 0.0
+    inner = max(1, truncation - 2 * h)
+    bound = (2 * (THIRD_ORDER_ROWS + 2 * h) + 1) / (4.0 * inner * inner) ** 3
+    out = []
     for n1 in range(-h, h + 1):
         for n2 in range(-h, h + 1):
             n3 = -n1 - n2
             if not (n1 and n2 and n3) or abs(n3) > h:
                 continue
             weight = coef(n1) * coef(n2) * coef(n3)
-            if abs(weight) <= THIRD_ORDER_FLOOR * size ** 3:
+            if abs(weight) * bound > THIRD_ORDER_FLOOR:
+                out.append((n1, n2, weight))
+    return tuple(out)
+
+
+def _tail_third_order(theta0: float, theta: tuple, truncation: int):
+    """(1/3) tr(A^3) over three-cycles touching the rows beyond R (two or more harmonics).
+
+    A cycle r -> r - n1 -> r - n1 - n2 -> r (n1 + n2 + n3 = 0) appears once per starting row
+    in tr(A^3); the 1/3 counts it once. Cycles beyond R + THIRD_ORDER_ROWS are O(R^-5)
+    smaller.
+    """
+    cycles = _three_cycles(tuple(theta), truncation)
+    if not cycles:
+        return 0.0
+    h = len(theta)
+    reach = truncation + THIRD_ORDER_ROWS
+    base = reach + 2 * h  # inv[r + base] = 1 / (theta0 - 4 r^2)
+    # Special (unnormalised) rows lie deep inside whenever R follows default_truncation;
+    # should one be reached, its cycles are left out rather than divided by ~0.
+    inv = [(1.0 / (theta0 - 4 * r * r) if abs(theta0 - 4 * r * r) >= SPECIAL_DIVISOR else 0.0)
+           for r in range(-base, base + 1)]
+    total = 0.0
+    for n1, n2, weight in cycles:
+        offsets = (0, -n1, -n1 - n2)
+        hi_m, lo_m = max(offsets), min(offsets)
+        # rows whose cycle leaves [-R, R]: r > R - hi_m, or r < -R - lo_m
+        ranges = ((truncation - hi_m + 1, reach), (-reach, -truncation - lo_m - 1))
+        s = 0.0
+        for first, last in ranges:
+            if first > last:
                 continue
-            s = 0.0
-            for r in rows:
-                j, k = r - n1, r - n1 - n2
-                if abs(r) > truncation or abs(j) > truncation or abs(k) > truncation:
-                    s += inv[r] * inv[j] * inv[k]
-            total += weight * s
+            a0, a1 = first + base, last + base + 1
+            s += sum(x * y * z for x, y, z in zip(inv[a0:a1], inv[a0 - n1:a1 - n1],
+                                                 inv[a0 - n1 - n2:a1 - n1 - n2]))
+        total += weight * s
     value = total / 3.0
     return value.real if isinstance(value, complex) else value
 

@@ -64,7 +64,7 @@ class Probe:
                          settings=self.settings, verify=False)
 
 
-def speed_points(rig: Rig, start: float, stop: float) -> list[float]:
+def speed_points(rig: Rig, start: float, stop: float, *, step: float = SPEED_STEP) -> list[float]:
     """Speeds from ``start`` towards ``stop`` (start excluded, stop included): tongues are
     evenly spaced in 1/speed, and the relative step is bounded as well."""
     points = []
@@ -75,7 +75,7 @@ def speed_points(rig: Rig, start: float, stop: float) -> list[float]:
     while (stop - v) * direction > 0:
         inv = 1.0 / v - direction * inv_step
         by_phase = abs(1.0 / inv - v) if inv > 0 else math.inf
-        v = v + direction * min(by_phase, SPEED_STEP * v)
+        v = v + direction * min(by_phase, step * v)
         points.append(min(v, stop) if direction > 0 else max(v, stop))
     return points
 
@@ -106,7 +106,7 @@ def _closeness(s: Stability) -> float:
     return -min(abs(a - b) for i, a in enumerate(rhos) for b in rhos[i + 1:])
 
 
-def _hidden_point(probe: Probe, a, b, c):
+def _hidden_point(probe: Probe, a, b, c, rtol: float):
     """If a, b, c share a verdict and the margin peaks towards the other verdict at b,
     search [a, c] for a point of the other verdict; return it or None."""
     stable = b[1].stable
@@ -124,34 +124,36 @@ def _hidden_point(probe: Probe, a, b, c):
             return key(s)
 
         try:
-            golden_max(f, lo, hi, xtol=EDGE_RTOL * max(abs(lo), abs(hi)) * 100)
+            golden_max(f, lo, hi, xtol=rtol * max(abs(lo), abs(hi)) * 100)
         except _Found as found:
             return found.x, found.s
     return None
 
 
-def edge_between(probe: Probe, a, b) -> Edge:
+def edge_between(probe: Probe, a, b, *, rtol: float = EDGE_RTOL) -> Edge:
     """The edge between points a and b (each (x, Stability)) of different verdicts."""
     fa = min(a[1].margin, -1e-300) if a[1].stable else max(a[1].margin, 1e-300)
     fb = min(b[1].margin, -1e-300) if b[1].stable else max(b[1].margin, 1e-300)
     x = brentq(lambda v: probe(v).margin, a[0], b[0], fa=fa, fb=fb,
-               xtol=EDGE_RTOL * max(abs(a[0]), abs(b[0])), rtol=EDGE_RTOL)
+               xtol=rtol * max(abs(a[0]), abs(b[0])), rtol=rtol)
     gained = b[1].stable if b[0] > a[0] else a[1].stable
     return Edge(x, gained)
 
 
-def walk(probe: Probe, start: float, s0: Stability, points: list[float]) -> Iterator[Edge]:
+def walk(probe: Probe, start: float, s0: Stability, points: list[float], *,
+         rtol: float = EDGE_RTOL) -> Iterator[Edge]:
     """Every edge met walking from ``start`` through ``points``, in walking order."""
     prev2, prev = None, (start, s0)
     for x in points:
         cur = (x, probe(x))
         if cur[1].stable != prev[1].stable:
-            yield edge_between(probe, prev, cur)
+            yield edge_between(probe, prev, cur, rtol=rtol)
             prev2 = None
         else:
-            hidden = _hidden_point(probe, prev2, prev, cur) if prev2 is not None else None
+            hidden = _hidden_point(probe, prev2, prev, cur, rtol) if prev2 is not None else None
             if hidden is not None:
-                edges = (edge_between(probe, prev2, hidden), edge_between(probe, hidden, cur))
+                edges = (edge_between(probe, prev2, hidden, rtol=rtol),
+                         edge_between(probe, hidden, cur, rtol=rtol))
                 yield from sorted(edges, key=lambda e: abs(e.x - prev2[0]))
                 prev2 = None
             else:
