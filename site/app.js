@@ -15,7 +15,8 @@ import { Cancelled, EngineClient, startEngineWorker } from "./worker-client.js";
 
 // Long enough to cover a burst of typing, short enough to feel immediate.
 const DEBOUNCE_MS = 250;
-const SLOW_BOOT_MS = 45_000;
+// No start-up news for this long means the start has stalled (e.g. a blocked download).
+const STALLED_BOOT_MS = 60_000;
 
 const $ = (id) => document.getElementById(id);
 
@@ -47,6 +48,13 @@ const form = createRigForm($("rig-sheet"), {
 $("rig-sheet").addEventListener("submit", (event) => event.preventDefault());
 
 // ---------------------------------------------------------------- notices
+
+/** The core's words as a sentence: capital first letter, full stop at the end. */
+function sentence(text) {
+  const t = String(text || "").trim();
+  if (!t) return "";
+  return t.charAt(0).toUpperCase() + t.slice(1) + (/[.!?]$/.test(t) ? "" : ".");
+}
 
 function notice(text, actions = []) {
   $("notice-text").textContent = text;
@@ -109,25 +117,46 @@ function edited() {
 
 // ---------------------------------------------------------------- engine
 
+let stallTimer = 0;
+function watchBoot(stage) {
+  clearTimeout(stallTimer);
+  stallTimer = setTimeout(() => {
+    if (engine.state !== "starting") return;
+    $("boot-failed").hidden = false;
+    $("boot-failed-reason").textContent = `The engine has made no progress for a minute, at the step "${stage}".`;
+    $("boot-failed-advice").textContent = "Part of it may be blocked or very slow to download (a proxy or "
+      + "filter on managed networks can do this). Wait a little longer, or reload; after one complete "
+      + "visit the page works offline.";
+    chip("chip-engine", "Engine: stalled", "failed");
+  }, STALLED_BOOT_MS);
+}
+watchBoot("opening");
+
 const engine = new EngineClient(() => startEngineWorker(policy), {
   onBoot: ({ stage, fraction }) => {
+    watchBoot(stage || "starting");
     $("boot-stage").textContent = stage || "starting";
     if (Number.isFinite(fraction)) $("boot-progress").value = fraction;
     chip("chip-engine", `Engine: starting ${Math.round((fraction || 0) * 100)}%`, "starting");
   },
   onReady: (version) => {
+    clearTimeout(stallTimer);
     $("boot").hidden = true;
+    $("boot-failed").hidden = true;
     $("version").textContent = `engine ${version}`;
     chip("chip-engine", `Engine: ready (${version})`, "ready");
     engineReady();
   },
   onFail: (message, wasReady) => {
+    clearTimeout(stallTimer);
     $("boot").hidden = true;
     $("boot-failed").hidden = false;
     $("boot-failed-reason").textContent = wasReady ? `The engine stopped: ${message}` : message;
     $("boot-failed-advice").textContent = adviceFor(message);
     chip("chip-engine", "Engine: not running", "failed");
-    report.unavailable(message);
+    report.unavailable();
+    // A first visit has no rig yet (the demo comes from the engine): start a blank sheet to type into.
+    if (!state.draft) useDraft(draftFromRig({}));
   },
 });
 
@@ -148,12 +177,6 @@ function adviceFor(message) {
   }
   return "Reload the page. If it keeps failing, the browser's settings may block WebAssembly or workers.";
 }
-
-setTimeout(() => {
-  if (engine.state === "starting") {
-    $("boot-stage").textContent += " (still going: a slow connection or a busy machine can take a minute)";
-  }
-}, SLOW_BOOT_MS);
 
 function schedule(delay) {
   clearTimeout(state.timer);
@@ -225,8 +248,8 @@ async function openFragment(fragment) {
     replaceRig(reply.rig, reply.view, "Opened the rig from the link");
     return;
   }
-  const why = reply.problems ? reply.problems.map((p) => p.message).join(" ") : reply.error;
-  notice(`This link could not be opened, so your rig is unchanged. ${why || ""}`.trim());
+  const why = reply.problems ? reply.problems.map((p) => sentence(p.message)).join(" ") : sentence(reply.error);
+  notice(`This link could not be opened, so your rig is unchanged. ${why}`.trim());
   if (!state.draft) await loadDemo(false);
 }
 

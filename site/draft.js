@@ -66,7 +66,7 @@ export function draftFromRig(rig) {
     out.point_masses = masses.map((p) => textFields(isObject(p) ? p : {}, MASS_UNITS));
     return out;
   });
-  if (draft.links.length === 0) draft.links.push(textFields({}, LINK_UNITS));
+  if (draft.links.length === 0) draft.links.push({ ...textFields({}, LINK_UNITS), point_masses: [] });
   const drive = isObject(src.drive) ? src.drive : {};
   draft.drive = textFields(drive, DRIVE_UNITS);
   draft.drive.waveform = WAVEFORMS.includes(drive.waveform) ? drive.waveform : "sine";

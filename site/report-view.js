@@ -130,9 +130,11 @@ function estimates(result) {
 
 export function createReport(el, strip, onCautions = () => {}) {
   const status = h("p", { class: "report-status", role: "status" });
+  // Screen readers hear the verdict when it changes, not the whole report on every edit.
+  const announce = h("p", { class: "visually-hidden", role: "status" });
   const bar = h("progress", { class: "report-progress", max: 1, "aria-label": "Check progress", hidden: true });
   const body = h("div", { class: "report-body" }, el.querySelector(".empty") || "");
-  replaceChildren(el, status, bar, body);
+  replaceChildren(el, status, announce, bar, body);
 
   function setState(name, words) {
     el.dataset.state = name;
@@ -144,6 +146,9 @@ export function createReport(el, strip, onCautions = () => {}) {
   }
 
   function updateStrip(result) {
+    const said = Object.keys(EQUILIBRIA).map((name) => `${EQUILIBRIA[name].title}: `
+      + `${result[name] && result[name].stable ? EQUILIBRIA[name].yes : EQUILIBRIA[name].no}.`).join(" ");
+    if (announce.textContent !== `Verdict: ${said}`) announce.textContent = `Verdict: ${said}`;
     for (const name of Object.keys(EQUILIBRIA)) {
       const item = strip.querySelector(`[data-eq="${name}"]`);
       const stable = Boolean(result[name] && result[name].stable);
@@ -204,8 +209,10 @@ export function createReport(el, strip, onCautions = () => {}) {
       bar.hidden = true;
       setState("stale", `The check did not finish: ${message}${hasResult() ? " The last good result stays below." : ""}`);
     },
-    unavailable(message) {
-      setState("stale", `No results: the engine is not running (${message}).`);
+    unavailable() {
+      setState(hasResult() ? "stale" : "off", hasResult()
+        ? "The engine stopped: the result below is the last one it gave."
+        : "No results while the engine is not running (see the message at the top).");
     },
   };
 }

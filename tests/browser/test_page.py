@@ -59,6 +59,22 @@ def test_stroke_edit_updates_and_matches_cli(page, server, tmp_path):
     shot(page, "laptop-stroke-25mm")
 
 
+def test_fast_typing_ends_on_the_last_text(page, server, tmp_path):
+    """Each keystroke supersedes the computation before it; the verdict must end on the final text."""
+    open_page(page, server.url)
+    old = page.get_attribute("#check-report", "data-result")
+    field = page.locator('[data-path="drive.speed_rpm"]')
+    field.fill("")
+    field.press_sequentially("3100 rpm", delay=40)  # "3", "31", ... each a valid speed on the way
+    result = wait_for_result(page, old)
+    page.wait_for_timeout(1500)  # any late reply of a superseded request would land here
+    result = wait_for_result(page, None)
+    rig = demo_dict()
+    rig["drive"]["speed_rpm"] = "3100 rpm"
+    assert_same_numbers(result, cli_check(rig, tmp_path))
+    assert result["speed_rpm"] == 3100
+
+
 def test_bad_value_is_told_beside_its_field_and_old_result_kept(page, server, tmp_path):
     open_page(page, server.url)
     good = page.get_attribute("#check-report", "data-result")
@@ -166,3 +182,20 @@ def test_saved_file_is_the_validated_rig_and_opens_again(page, server, tmp_path)
     want = json.loads(current)
     want["title"] = "Shaker table B, reopened"
     assert_same_numbers(result, want)
+
+
+def test_failed_start_says_why_in_words(context, server):
+    # A file the engine needs cannot be fetched (as behind a filtering proxy).
+    context.route("**/build-info.json", lambda route: route.abort("blockedbyclient"))
+    page = context.new_page()
+    page.goto(server.url)
+    page.wait_for_selector("#boot-failed:not([hidden])", timeout=120_000)
+    reason = page.inner_text("#boot-failed-reason")
+    assert reason.startswith("Could not"), reason  # the worker names the step that failed
+    assert page.inner_text("#boot-failed-advice") != ""
+    assert page.get_attribute("#chip-engine", "data-state") == "failed"
+    # A first visit still gets a blank sheet to type into, autosaved while the engine is down.
+    page.fill('[data-path="links[0].length_m"]', "310 mm")
+    saved = page.evaluate("() => JSON.parse(localStorage.getItem('shakestill.autosave.v1')).draft")
+    assert saved["links"][0]["length_m"] == "310 mm"
+    shot(page, "laptop-engine-failed")
