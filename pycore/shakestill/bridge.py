@@ -65,7 +65,108 @@ def _op_share_decode(request: dict) -> dict:
     return {"rig": rig, "view": view}
 
 
+def _op_point(request: dict) -> dict:
+    """Exact stability of both equilibria at one (speed, stroke): the chart's read-out."""
+    from .floquet import stability
+    from .units import UnitError, parse_quantity
+    rig, _ = _rig(request)
+    try:
+        speed = parse_quantity(request.get("speed_rpm"), "speed")
+        stroke = parse_quantity(request.get("stroke_m"), "length")
+    except UnitError as exc:
+        raise RigError([Problem("speed_rpm/stroke_m", str(exc))]) from None
+    if not (speed > 0 and stroke >= 0):
+        raise RigError([Problem("speed_rpm/stroke_m", "the speed must be above 0 and the "
+                                                      "stroke at least 0")])
+    out = {"speed_rpm": speed, "stroke_m": stroke}
+    for eq in ("inverted", "hanging"):
+        s = stability(rig, eq, speed_rpm=speed, stroke_m=stroke)
+        out[eq] = {"stable": s.stable, "max_multiplier": s.max_multiplier,
+                   "slow_frequency_hz": s.slow_frequency_hz, "converged": s.converged}
+    return out
+
+
+def _op_runup(request: dict) -> dict:
+    from .runup import runup
+    rig, _ = _rig(request)
+    try:
+        result = runup(rig, rate_rpm_s=float(request.get("rate_rpm_s", 0)),
+                       start_rpm=float(request.get("start_rpm", 0.0)),
+                       end_rpm=request.get("end_rpm"),
+                       factor=float(request.get("factor", 10.0)))
+    except (TypeError, ValueError) as exc:
+        raise RigError([Problem("runup", str(exc))]) from None
+    return {"result": result}
+
+
+# Long work runs as a job: start it, then call job_step repeatedly (each call does about
+# budget_ms of work and returns the picture so far), or job_cancel. The worker stays free
+# to take other requests between steps.
+_JOBS: dict[int, dict] = {}
+_NEXT_JOB = [1]
+
+
+def _chart_job(rig, request):
+    from .chart import chart_steps
+    return chart_steps(rig, rows=int(request.get("rows", 120)),
+                       y_axis=request.get("y_axis", "stroke"))
+
+
+def _op_job_start(request: dict) -> dict:
+    kind = request.get("kind")
+    if kind != "chart":
+        raise RigError([Problem("kind", f"{kind!r} is not a job this core runs (chart)")])
+    rig, _ = _rig(request)
+    try:
+        steps = _chart_job(rig, request)
+        job = _NEXT_JOB[0]
+        _NEXT_JOB[0] += 1
+        _JOBS[job] = {"kind": kind, "rig": rig, "steps": steps, "last": None}
+    except ValueError as exc:
+        raise RigError([Problem(kind, str(exc))]) from None
+    return {"job": job}
+
+
+def _op_job_step(request: dict) -> dict:
+    import time
+    from .chart import chart_dict, render
+    job = _JOBS.get(request.get("job"))
+    if job is None:
+        raise RigError([Problem("job", "no such job (finished or cancelled)")])
+    budget = float(request.get("budget_ms", 150)) / 1000.0
+    start = time.perf_counter()
+    fraction, done = 0.0, False
+    try:
+        while time.perf_counter() - start < budget:
+            fraction, job["last"] = next(job["steps"])
+            done = job["last"].complete
+            if done:
+                break
+    except StopIteration:
+        done = True
+    except ValueError as exc:
+        _JOBS.pop(request.get("job"), None)
+        raise RigError([Problem(job["kind"], str(exc))]) from None
+    if done:
+        _JOBS.pop(request.get("job"), None)
+        fraction = 1.0
+    reply = {"fraction": fraction, "done": done}
+    if job["last"] is not None and (done or request.get("partial", True)):
+        svg, axes = render(job["last"], job["rig"])
+        reply.update({"svg": svg, "axes": axes, "chart": chart_dict(job["last"])})
+    return reply
+
+
+def _op_job_cancel(request: dict) -> dict:
+    return {"cancelled": _JOBS.pop(request.get("job"), None) is not None}
+
+
 OPS = {
+    "point": _op_point,
+    "runup": _op_runup,
+    "job_start": _op_job_start,
+    "job_step": _op_job_step,
+    "job_cancel": _op_job_cancel,
     "demo": _op_demo,
     "validate": _op_validate,
     "check": _op_check,

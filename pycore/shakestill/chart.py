@@ -303,3 +303,32 @@ def chart_dict(c: Chart) -> dict:
         "complete": c.complete,
         "notes": list(c.notes),
     }
+
+
+def accel_lines(c: Chart, rig: Rig, *, points: int = 48, most: int = 5) -> list[tuple]:
+    """Lines of constant peak pivot acceleration (in g) across a stroke chart."""
+    if c.y_axis != "stroke":
+        return []
+    lo, hi = c.speed_range
+    y0, y1 = c.y_range
+    corner = drv.peak_accel_m_s2(with_operating_point(rig, stroke_m=y1).drive, hi) / G0
+    chosen = [g for g in ACCEL_LINES_G if g < corner][-most:]
+    out = []
+    for g_value in chosen:
+        line = []
+        for k in range(points + 1):
+            speed = lo + (hi - lo) * k / points
+            stroke = stroke_for_peak_accel(rig, g_value * G0, speed)
+            if y0 <= stroke <= y1:
+                line.append([speed, stroke])
+        if len(line) > 1:
+            out.append((g_value, line))
+    return out
+
+
+def render(c: Chart, rig: Rig, **options) -> tuple[str, dict]:
+    """SVG text and axis mapping of a chart, with boundaries and acceleration lines."""
+    from .svg import chart_svg
+    eqs = list(c.rows[0].edges) if c.rows else []
+    lines = [b for eq in eqs for b in boundaries(c, eq)]
+    return chart_svg(c, rig, boundaries=lines, accel_lines=accel_lines(c, rig), **options)

@@ -9,7 +9,7 @@ import sys
 from . import __version__, share
 from .check import check
 from .demo import demo_rig_dict
-from .report import jsonable, report_text
+from .report import jsonable, report_text, runup_text
 from .rig import Problem, RigError, dumps_rig, loads_rig, rig_from_dict, with_operating_point
 from .units import UnitError, parse_quantity
 
@@ -68,6 +68,59 @@ def _cmd_check(args) -> int:
     return 0
 
 
+def _quantity(text: str | None, kind: str, option: str, *, minimum: float | None = None,
+              above: float | None = None):
+    """An option's value in SI, or a RigError naming the option and what is allowed."""
+    if text is None:
+        return None
+    try:
+        value = parse_quantity(text, kind)
+    except UnitError as exc:
+        raise RigError([Problem(option, f"{text!r} is not allowed: {exc}")]) from None
+    if above is not None and not value > above:
+        raise RigError([Problem(option, f"{text!r} is not allowed: it must be above {above:g}")])
+    if minimum is not None and not value >= minimum:
+        raise RigError([Problem(option, f"{text!r} is not allowed: it must be at least "
+                                        f"{minimum:g}")])
+    return value
+
+
+def _cmd_chart(args) -> int:
+    from .chart import chart, chart_dict, render
+    rig, _ = _load(args.rig)
+    rig = _override(rig, args)
+    if not 2 <= args.rows <= 2000:
+        raise RigError([Problem("--rows", f"{args.rows} is not allowed: use 2 to 2000 rows")])
+    c = chart(rig, rows=args.rows, y_axis=args.y_axis)
+    svg, axes = render(c, rig)
+    if args.output:
+        with open(args.output, "w", encoding="utf-8") as fh:
+            fh.write(svg)
+    if args.json:
+        print(json.dumps(jsonable({**chart_dict(c), "axes": axes}), allow_nan=False))
+    elif not args.output:
+        sys.stdout.write(svg + "\n")
+    else:
+        print(f"wrote {args.output}: {len(c.rows)} rows, {c.evaluations} stability evaluations")
+    return 0
+
+
+def _cmd_runup(args) -> int:
+    from .runup import runup
+    rig, _ = _load(args.rig)
+    rig = _override(rig, args)
+    rate = _quantity(args.rate, "rate", "--rate", above=0.0)
+    start = _quantity(args.start, "speed", "--from", minimum=0.0) or 0.0
+    end = _quantity(args.to, "speed", "--to", above=0.0)
+    factor = _quantity(args.factor, "plain", "--factor", above=1.0) or 10.0
+    result = runup(rig, rate_rpm_s=rate, start_rpm=start, end_rpm=end, factor=factor)
+    if args.json:
+        print(json.dumps(jsonable(result), indent=2, allow_nan=False))
+    else:
+        sys.stdout.write(runup_text(result))
+    return 0
+
+
 def _cmd_demo(args) -> int:
     text = json.dumps(demo_rig_dict(), indent=2) + "\n"
     if args.output:
@@ -99,6 +152,26 @@ def parser() -> argparse.ArgumentParser:
     d = sub.add_parser("demo", help="print the built-in demo rig file")
     d.add_argument("-o", "--output", help="write it to this file")
     d.set_defaults(func=_cmd_demo)
+    ch = sub.add_parser("chart", help="stability chart over speed x stroke (SVG, or --json)")
+    ch.add_argument("rig", nargs="?", metavar="RIG")
+    ch.add_argument("-o", "--output", help="write the SVG to this file")
+    ch.add_argument("--json", action="store_true", help="print rows, edges, boundaries as JSON")
+    ch.add_argument("--rows", type=int, default=120, help="rows across the y range (120)")
+    ch.add_argument("--y-axis", choices=("stroke", "accel"), default="stroke",
+                    help="stroke, or peak pivot acceleration")
+    ch.add_argument("--speed", help="move the operating point's speed, e.g. 1800rpm")
+    ch.add_argument("--stroke", help="move the operating point's stroke, e.g. 25mm")
+    ch.set_defaults(func=_cmd_chart)
+    ru = sub.add_parser("runup", help="resonances crossed while the speed ramps")
+    ru.add_argument("rig", nargs="?", metavar="RIG")
+    ru.add_argument("--rate", required=True, help="ramp rate, e.g. 200rpm/s")
+    ru.add_argument("--from", dest="start", help="start speed (default 0: from rest)")
+    ru.add_argument("--to", help="end speed (default: the operating speed)")
+    ru.add_argument("--factor", help="largest acceptable growth of a disturbance (10)")
+    ru.add_argument("--json", action="store_true", help="print the result as JSON")
+    ru.add_argument("--speed", help="move the operating point's speed, e.g. 1800rpm")
+    ru.add_argument("--stroke", help="move the operating point's stroke, e.g. 25mm")
+    ru.set_defaults(func=_cmd_runup)
     link = sub.add_parser("link", help="print a share-link fragment for a rig")
     link.add_argument("rig", nargs="?", metavar="RIG")
     link.set_defaults(func=_cmd_link)

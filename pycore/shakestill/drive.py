@@ -67,7 +67,7 @@ def _series(samples: tuple[float, ...], scale: float):
     return mean, cos_c, sin_c
 
 
-def _phase_derivatives(drive: Drive, phi: float) -> tuple[float, float, float]:
+def phase_derivatives(drive: Drive, phi: float) -> tuple[float, float, float]:
     """y, dy/dphi, d2y/dphi2 at phase ``phi``."""
     if drive.waveform == "sine":
         amp = drive.stroke_m / 2.0
@@ -94,13 +94,13 @@ def _phase_derivatives(drive: Drive, phi: float) -> tuple[float, float, float]:
 def pivot(drive: Drive, phase_rad: float, speed_rpm: float | None = None) -> PivotState:
     """Pivot displacement, velocity and acceleration at a drive phase."""
     omega = TWO_PI * (drive.speed_rpm if speed_rpm is None else speed_rpm) / 60.0
-    y, dy, d2y = _phase_derivatives(drive, phase_rad)
+    y, dy, d2y = phase_derivatives(drive, phase_rad)
     return PivotState(y, omega * dy, omega * omega * d2y)
 
 
 def phase_accel_m(drive: Drive, phase_rad: float) -> float:
     """d2y/dphi2 at a phase: the acceleration per (rad/s)^2 of drive speed."""
-    return _phase_derivatives(drive, phase_rad)[2]
+    return phase_derivatives(drive, phase_rad)[2]
 
 
 def peak_accel_m_s2(drive: Drive, speed_rpm: float | None = None) -> float:
@@ -115,7 +115,7 @@ def peak_phase_accel_m(drive: Drive) -> float:
         return drive.stroke_m / 2.0
 
     def mag(phi: float) -> float:
-        return abs(_phase_derivatives(drive, phi)[2])
+        return abs(phase_derivatives(drive, phi)[2])
 
     h = TWO_PI / _PEAK_SCAN
     best = max(range(_PEAK_SCAN), key=lambda k: mag(k * h))
@@ -140,7 +140,7 @@ def _crank_harmonics(r: float, rod: float) -> Harmonics:
     drive = Drive("crank", 60.0, 2.0 * r, rod)
     points = 32
     while True:
-        values = [_phase_derivatives(drive, TWO_PI * j / points)[2] for j in range(points)]
+        values = [phase_derivatives(drive, TWO_PI * j / points)[2] for j in range(points)]
         spectrum = fft(values)
         coefs = [2.0 * spectrum[k].real / points for k in range(1, points // 2)]
         top = max(abs(c) for c in coefs) or 1.0

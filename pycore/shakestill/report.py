@@ -119,3 +119,36 @@ def jsonable(obj):
     if isinstance(obj, (list, tuple)):
         return [jsonable(v) for v in obj]
     return obj
+
+
+def runup_text(result: dict) -> str:
+    """Words for a run-up result."""
+    out = [f"Run-up at {result['rate_rpm_s']:g} rpm/s from {result['start_rpm']:,.0f} to "
+           f"{result['end_rpm']:,.0f} rpm, stroke {_mm(result['stroke_m'])} "
+           f"(acceptable growth: x{result['factor']:g})"]
+    for name in ("inverted", "hanging"):
+        r = result.get(name)
+        if r is None:
+            continue
+        out.append("")
+        out.append(f"{_NAMES[name]}:")
+        if not r["crossings"]:
+            out.append("  no unstable speeds crossed")
+        for c in r["crossings"]:
+            grow = c["simulated_amplification"] or c["amplification"]
+            out.append(f"  unstable from {_rpm(c['speed_from_rpm'])} to {_rpm(c['speed_to_rpm'])}:"
+                       f" {c['seconds']:.2f} s, {c['cycles']:.0f} cycles, a disturbance grows "
+                       f"x{grow:.3g} (estimate x{c['amplification']:.3g})")
+        if r["crossings"]:
+            out.append(f"  ramp at least {r['min_rate_rpm_s']:.3g} rpm/s to keep each crossing "
+                       f"under x{result['factor']:g}" + ("" if r["ok"] else "  <- NOT MET"))
+        out.append("  " + r["rundown"])
+    out.append("")
+    out.append("Note: " + result["note"])
+    if result.get("inverted", {}).get("crossings"):
+        out.append("The inverted position cannot be held while the drive runs up below its lower "
+                   "edge; bring it up by hand or a catch only after the speed is in its window.")
+    out.append("")
+    out.append("Safety:")
+    out.extend(f"  - {c}" for c in CAUTIONS)
+    return "\n".join(out) + "\n"

@@ -82,3 +82,156 @@ def schematic(rig: Rig, *, width_px: int = 320, height_px: int = 420,
                  f"{_f(bar * 1000)} mm</text>")
     parts.append("</svg>")
     return "".join(parts)
+
+
+# ----------------------------------------------------------------------------- chart
+
+REGION_FILL = {  # verdict classes of the chart, with their legend words
+    "both": ("#6aa56e", "both stable"),
+    "inverted": ("#3d7fb3", "inverted stable only"),
+    "hanging": ("#e6b84a", "hanging stable only"),
+    "neither": ("#efe9df", "neither stable"),
+}
+EDGE_INK = {"inverted": "#123a5a", "hanging": "#7a4f00"}
+PLOT_BOX = (64, 24, 150, 52)  # left, top, right (legend room), bottom margins in px
+
+
+def nice_ticks(lo: float, hi: float, count: int = 6) -> list[float]:
+    """Round tick values covering [lo, hi]."""
+    if hi <= lo:
+        return [lo]
+    raw = (hi - lo) / count
+    mag = 10 ** math.floor(math.log10(raw))
+    step = min((m * mag for m in (1, 2, 2.5, 5, 10) if m * mag >= raw), default=10 * mag)
+    first = math.ceil(lo / step) * step
+    ticks, v = [], first
+    while v <= hi + 1e-12 * step:
+        ticks.append(round(v, 12))
+        v += step
+    return ticks
+
+
+def _classes(row) -> list[tuple[float, float, str]]:
+    """Split a row's speed range into spans of one verdict class."""
+    cuts = {row.speed_min, row.speed_max}
+    for eq in row.edges:
+        cuts.update(e.x for e in row.edges[eq])
+    cuts = sorted(cuts)
+    spans = []
+    for a, b in zip(cuts, cuts[1:]):
+        mid = 0.5 * (a + b)
+        inside = {eq: any(lo <= mid <= hi for lo, hi in row.stable_intervals(eq)) for eq in row.edges}
+        inv, hang = inside.get("inverted", False), inside.get("hanging", False)
+        cls = "both" if inv and hang else "inverted" if inv else "hanging" if hang else "neither"
+        if spans and spans[-1][2] == cls and abs(spans[-1][1] - a) < 1e-12:
+            spans[-1] = (spans[-1][0], b, cls)
+        else:
+            spans.append((a, b, cls))
+    return spans
+
+
+def chart_svg(chart, rig: Rig, *, width_px: int = 760, height_px: int = 470,
+              boundaries: list[dict] | None = None, accel_lines: list[tuple] = ()) -> tuple[str, dict]:
+    """The stability chart as SVG, and its axis mapping {x: {...}, y: {...}}.
+
+    x is speed (rpm), y stroke (mm) or peak acceleration (g). The mapping is linear:
+    px = px_min + (value - min) / (max - min) * (px_max - px_min).
+    """
+    left, top, right, bottom = PLOT_BOX
+    x0, x1 = chart.speed_range
+    y0, y1 = chart.y_range
+    stroke_axis = chart.y_axis == "stroke"
+    y_scale = 1000.0 if stroke_axis else 1 / 9.80665  # shown in mm or g
+    mapping = {
+        "x": {"min": x0, "max": x1, "px_min": left, "px_max": width_px - right, "unit": "rpm",
+              "quantity": "speed_rpm"},
+        "y": {"min": y0, "max": y1, "px_min": height_px - bottom, "px_max": top,
+              "unit": "m" if stroke_axis else "m/s^2",
+              "quantity": "stroke_m" if stroke_axis else "peak_accel_m_s2"},
+        "width_px": width_px, "height_px": height_px,
+    }
+
+    def px(v):
+        return left + (v - x0) / (x1 - x0) * (width_px - right - left)
+
+    def py(v):
+        return (height_px - bottom) - (v - y0) / ((y1 - y0) or 1.0) * (height_px - bottom - top)
+
+    title = f"Stability chart: {rig.title or 'rig'} ({rig.drive.waveform} drive)"
+    out = [f'<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 {width_px} {height_px}" '
+           f'width="{width_px}" height="{height_px}" role="img" class="stability-chart" '
+           'font-family="system-ui, sans-serif">', f"<title>{esc(title)}</title>",
+           f'<rect x="{left}" y="{top}" width="{width_px - left - right}" '
+           f'height="{height_px - top - bottom}" fill="{REGION_FILL["neither"][0]}"/>']
+    rows = chart.rows
+    ys = [r.y for r in rows]
+    for i, row in enumerate(rows):
+        lo_y = 0.5 * (ys[i - 1] + row.y) if i else row.y
+        hi_y = 0.5 * (row.y + ys[i + 1]) if i + 1 < len(rows) else row.y
+        if i == 0:
+            lo_y = max(y0, row.y - (hi_y - row.y))
+        if i + 1 == len(rows):
+            hi_y = min(y1, row.y + (row.y - lo_y))
+        for a, b, cls in _classes(row):
+            if cls == "neither":
+                continue
+            out.append(f'<rect x="{_f(px(a))}" y="{_f(py(hi_y))}" width="{_f(px(b) - px(a))}" '
+                       f'height="{_f(py(lo_y) - py(hi_y) + 0.3)}" fill="{REGION_FILL[cls][0]}"/>')
+    for line in boundaries or []:
+        pts = " ".join(f"{_f(px(x))},{_f(py(y))}" for x, y in line["points"])
+        out.append(f'<polyline points="{pts}" fill="none" stroke="{EDGE_INK[line["equilibrium"]]}" '
+                   f'stroke-width="1.4"><title>{esc(line["equilibrium"] + ": " + line["kind"])}'
+                   "</title></polyline>")
+    for g_value, points in accel_lines:
+        pts = " ".join(f"{_f(px(x))},{_f(py(y))}" for x, y in points)
+        out.append(f'<polyline points="{pts}" fill="none" stroke="#555" stroke-width="0.8" '
+                   'stroke-dasharray="3 3"/>')
+        lx, ly = points[-1]
+        out.append(f'<text x="{_f(px(lx) - 2)}" y="{_f(py(ly) + 11)}" font-size="10" '
+                   f'text-anchor="end" fill="#333">{esc(f"{g_value:g} g")}</text>')
+    for t in chart.tongues:
+        if x0 <= t["speed_rpm"] <= x1:
+            out.append(f'<text x="{_f(px(t["speed_rpm"]))}" y="{_f(height_px - bottom - 4)}" '
+                       f'font-size="10" text-anchor="middle" fill="#5a3b00">'
+                       f'{esc(t["label"])}</text>')
+    # operating point
+    op_y = rig.drive.stroke_m if stroke_axis else None
+    if op_y is None:
+        from .drive import peak_accel_m_s2
+        op_y = peak_accel_m_s2(rig.drive)
+    ox, oy = px(rig.drive.speed_rpm), py(op_y)
+    out.append(f'<g class="operating-point"><circle cx="{_f(ox)}" cy="{_f(oy)}" r="6" fill="none" '
+               f'stroke="#b0122b" stroke-width="2.5"/><line x1="{_f(ox - 9)}" y1="{_f(oy)}" '
+               f'x2="{_f(ox + 9)}" y2="{_f(oy)}" stroke="#b0122b" stroke-width="1.5"/>'
+               f'<line x1="{_f(ox)}" y1="{_f(oy - 9)}" x2="{_f(ox)}" y2="{_f(oy + 9)}" '
+               'stroke="#b0122b" stroke-width="1.5"/><title>operating point</title></g>')
+    # axes
+    out.append(f'<rect x="{left}" y="{top}" width="{width_px - left - right}" '
+               f'height="{height_px - top - bottom}" fill="none" stroke="{INK}"/>')
+    for v in nice_ticks(x0, x1):
+        out.append(f'<line x1="{_f(px(v))}" y1="{height_px - bottom}" x2="{_f(px(v))}" '
+                   f'y2="{height_px - bottom + 5}" stroke="{INK}"/><text x="{_f(px(v))}" '
+                   f'y="{height_px - bottom + 17}" font-size="11" text-anchor="middle" '
+                   f'fill="{INK}">{v:g}</text>')
+    for v in nice_ticks(y0 * y_scale, y1 * y_scale):
+        yv = v / y_scale
+        out.append(f'<line x1="{left - 5}" y1="{_f(py(yv))}" x2="{left}" y2="{_f(py(yv))}" '
+                   f'stroke="{INK}"/><text x="{left - 8}" y="{_f(py(yv) + 4)}" font-size="11" '
+                   f'text-anchor="end" fill="{INK}">{v:g}</text>')
+    out.append(f'<text x="{_f((left + width_px - right) / 2)}" y="{height_px - 12}" '
+               f'font-size="12" text-anchor="middle" fill="{INK}">drive speed (rpm)</text>')
+    ylabel = "stroke (mm)" if stroke_axis else "peak pivot acceleration (g)"
+    out.append(f'<text transform="translate(16 {_f((top + height_px - bottom) / 2)}) rotate(-90)" '
+               f'font-size="12" text-anchor="middle" fill="{INK}">{ylabel}</text>')
+    lx = width_px - right + 12
+    for k, (cls, (fill, words)) in enumerate(REGION_FILL.items()):
+        y = top + 8 + k * 20
+        out.append(f'<rect x="{lx}" y="{y}" width="14" height="14" fill="{fill}" stroke="{INK}" '
+                   f'stroke-width="0.5"/><text x="{lx + 20}" y="{y + 11}" font-size="11" '
+                   f'fill="{INK}">{words}</text>')
+    y = top + 8 + 4 * 20 + 6
+    out.append(f'<circle cx="{lx + 7}" cy="{y + 7}" r="5" fill="none" stroke="#b0122b" '
+               f'stroke-width="2"/><text x="{lx + 20}" y="{y + 11}" font-size="11" '
+               f'fill="{INK}">operating point</text>')
+    out.append("</svg>")
+    return "".join(out), mapping
