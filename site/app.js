@@ -179,6 +179,7 @@ function adviceFor(message) {
 }
 
 function schedule(delay) {
+  $("share-box").value = ""; // a link made before this change no longer holds the rig on the sheet
   clearTimeout(state.timer);
   state.seq += 1;
   report.pending();

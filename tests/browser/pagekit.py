@@ -91,3 +91,12 @@ def wait_for_stale(page, timeout: int = RESULT_TIMEOUT_MS) -> None:
     """Wait until the verdict is marked stale (a problem in the sheet keeps the old result)."""
     page.wait_for_function("() => document.getElementById('check-report').dataset.state === 'stale'",
                            timeout=timeout)
+
+
+def wait_for_rig(page, text: str, timeout: int = RESULT_TIMEOUT_MS) -> dict:
+    """Wait for a fresh result of a rig whose JSON holds `text` (a title, say); return the result."""
+    page.wait_for_function("""(text) => {
+        const el = document.getElementById("check-report");
+        return el.dataset.state === "fresh" && (el.dataset.rig || "").includes(text);
+    }""", arg=text, timeout=timeout)
+    return json.loads(page.get_attribute("#check-report", "data-result"))

@@ -10,7 +10,7 @@ from urllib.parse import urlsplit
 import pytest
 
 from pagekit import (TABLET_LANDSCAPE, TABLET_PORTRAIT, assert_same_numbers, cli_check,
-                     open_page, shot, wait_for_result, wait_for_stale)
+                     open_page, shot, wait_for_result, wait_for_rig, wait_for_stale)
 
 pytestmark = pytest.mark.browser
 
@@ -174,11 +174,7 @@ def test_saved_file_is_the_validated_rig_and_opens_again(page, server, tmp_path)
     saved["title"] = "Shaker table B, reopened"
     saved_path.write_text(json.dumps(saved))
     page.set_input_files("#open-file", str(saved_path))
-    page.wait_for_function("""() => {
-        const el = document.getElementById("check-report");
-        return el.dataset.state === "fresh" && (el.dataset.rig || "").includes("reopened");
-    }""", timeout=120_000)
-    result = json.loads(page.get_attribute("#check-report", "data-result"))
+    result = wait_for_rig(page, "reopened")
     want = json.loads(current)
     want["title"] = "Shaker table B, reopened"
     assert_same_numbers(result, want)

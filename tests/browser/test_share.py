@@ -7,7 +7,7 @@ import json
 
 import pytest
 
-from pagekit import open_page, shot, wait_for_result
+from pagekit import open_page, shot, wait_for_result, wait_for_rig
 
 pytestmark = pytest.mark.browser
 
@@ -86,3 +86,22 @@ def test_tampered_link_is_refused_and_rig_untouched(new_context, server):
                            timeout=120_000)
     wait_for_result(cold)
     assert json.loads(cold.get_attribute("#check-report", "data-rig")) == ss.rig_to_dict(ss.demo_rig())
+
+
+def test_opening_a_link_keeps_the_previous_rig_to_bring_back(new_context, server):
+    sender = new_context().new_page()
+    edited_rig(sender, server)
+    link = make_link(sender)
+
+    page = new_context().new_page()
+    open_page(page, server.url)
+    old = page.get_attribute("#check-report", "data-result")
+    page.fill('[data-path="title"]', "Bench rig, my own")
+    page.fill('[data-path="drive.speed_rpm"]', "2650 rpm")
+    mine = wait_for_result(page, old)
+    page.goto(link)
+    wait_for_rig(page, "hall 2")
+    page.get_by_role("button", name="Bring back my previous rig").click()
+    back = wait_for_rig(page, "my own")
+    assert back == mine
+    assert page.input_value('[data-path="drive.speed_rpm"]') == "2650 rpm"  # the text as typed
