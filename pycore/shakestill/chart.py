@@ -25,6 +25,7 @@ COARSE_EVERY = 8  # first pass walks every 8th row whole; the rest follow their 
 CHART_SPEED_STEP = 0.1  # relative speed step of a whole-row walk (peaks are still searched)
 CHART_RTOL = 1e-8  # edges in a chart to this relative precision (the target is 1e-4)
 FOLLOW_SLACK = 0.002  # bracket half-width added to the neighbours' spread (relative)
+FOLLOW_CHECKS = 6  # verdicts spot-checked across a followed row (geometrically spaced)
 DEFAULT_ROWS = 120
 ACCEL_LINES_G = (1, 2, 5, 10, 20, 50, 100, 200, 500, 1000, 2000)  # candidate iso-lines
 G0 = 9.80665
@@ -147,6 +148,16 @@ def _follow(probe: Probe, lo: float, hi: float, s0, prediction):
             return None
         found.append(edge_between(probe, (a, sa), (b, sb), rtol=CHART_RTOL))
         state, last = gained, found[-1].x
+    # Spot checks across the row: a region the neighbours do not show sends the row to a walk.
+    cuts = [lo] + [e.x for e in found] + [hi]
+    verdicts = [s0.stable]
+    for e in found:
+        verdicts.append(e.gained)
+    for k in range(1, FOLLOW_CHECKS + 2):  # the last one is the row's end
+        x = lo * (hi / lo) ** (k / (FOLLOW_CHECKS + 1))
+        span = next(i for i in range(len(cuts) - 1) if cuts[i] <= x <= cuts[i + 1])
+        if probe(x).stable != verdicts[span]:
+            return None
     return tuple(found)
 
 
