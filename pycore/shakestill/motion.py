@@ -168,9 +168,12 @@ def _mode_at(m: Model, seg: Segment, t: float, y, mode) -> tuple[list, list[Even
     mode = list(mode)
     n = m.n
     rel = relative_rates(y[n:])
+    trying = []
     for k in range(n):  # a sliding joint at rest is tried stuck; otherwise it slides its way
         if m.friction[k] > 0 and mode[k] != 0:
             mode[k] = 0 if abs(rel[k]) <= RATE_ZERO else (1 if rel[k] > 0 else -1)
+            if mode[k] == 0:
+                trying.append(k)
     changes = []
     for _ in range(n + 1):  # release the worst overloaded stuck joint, until all hold
         lam = accelerations(m, seg, mode, t, y)[1]
@@ -180,8 +183,14 @@ def _mode_at(m: Model, seg: Segment, t: float, y, mode) -> tuple[list, list[Even
             break
         _, k = max(over)
         mode[k] = -1 if lam[k] > 0 else 1  # slips the way the unheld torque drives it
-        changes.append(Event(t, "slip", k, f"joint {k + 1} slips: needs {abs(lam[k]):.4g} N m, "
-                                           f"friction holds {m.friction[k]:.4g} N m"))
+        if k in trying:
+            trying.remove(k)
+        else:
+            changes.append(Event(t, "slip", k, f"joint {k + 1} slips: needs {abs(lam[k]):.4g} "
+                                               f"N m, friction holds {m.friction[k]:.4g} N m"))
+    lam = accelerations(m, seg, mode, t, y)[1] if trying else lam
+    changes += [Event(t, "stick", k, f"joint {k + 1} held by friction: {abs(lam[k]):.4g} N m "
+                                     f"of {m.friction[k]:.4g}") for k in trying]
     return mode, changes
 
 
@@ -240,20 +249,12 @@ def _dips(step, n: int, k: int, s: int) -> bool:
 
 
 def _after_switch(m: Model, seg: Segment, mode, t: float, y, k: int):
-    """New mode and events once joint k reaches a switch at time t."""
-    mode = list(mode)
-    if mode[k] != 0:
+    """New mode, state and events once joint k reaches a switch at time t."""
+    if mode[k] != 0:  # at rest: sticks if the joint can hold it, else slides back the other way
         y = _stick_state(m, y, k)
-        trial = list(mode)
-        trial[k] = 0
-        lam = accelerations(m, seg, trial, t, y)[1][k]
-        if abs(lam) <= m.friction[k]:
-            mode, others = _mode_at(m, seg, t, y, trial)
-            return mode, y, [Event(t, "stick", k, f"joint {k + 1} sticks: holds "
-                                                  f"{abs(lam):.4g} N m of {m.friction[k]:.4g}")
-                             ] + others
-        mode[k] = -1 if lam > 0 else 1  # passes through zero and slides back
-        return mode, y, []
+        mode, events = _mode_at(m, seg, t, y, mode)
+        return mode, y, events
+    mode = list(mode)
     lam = accelerations(m, seg, mode, t, y)[1][k]
     mode[k] = -1 if lam > 0 else 1
     return mode, y, [Event(t, "slip", k, f"joint {k + 1} slips: needs {abs(lam):.4g} N m, "
@@ -314,7 +315,13 @@ class _Watch:
             if self.sc.stop_at_fall:
                 self.stop = True
 
-    def piece(self, seg: Segment, step, ta: float, tb: float, mode, strobes) -> None:
+    def begin(self, seg: Segment, t_end: float) -> None:
+        """A new segment: its stroboscopic times."""
+        phase = self.sc.strobe_phase_rad
+        self.strobes = [] if phase is None else phase_times(seg, t_end, phase)
+        self.strobes.reverse()  # popped from the end, earliest first
+
+    def piece(self, seg: Segment, step, ta: float, tb: float, mode) -> None:
         """Record everything in [ta, tb) of one accepted step (tb <= step.t1)."""
         dt = self.frame_dt
         if dt is not None:
@@ -323,9 +330,10 @@ class _Watch:
                 t = self.next_frame * dt
                 self._frame(seg, t, step(max(ta, min(t, step.t1))), mode)
                 self.next_frame += 1
-        for t, k in strobes:
-            if ta <= t < tb and k not in self.strobe["k"]:
-                y = step(t)
+        while self.strobes and self.strobes[-1][0] < tb:
+            t, k = self.strobes.pop()
+            if k not in self.strobe["k"]:
+                y = step(max(ta, t))
                 self.strobe["k"].add(k)
                 self.strobe["t"].append(t)
                 self.strobe["q"].append(tuple(y[:self.n]))
@@ -344,11 +352,23 @@ class _Watch:
 
     def _bands(self, step, ta: float, tb: float) -> None:
         n, sc, ref = self.n, self.sc, self.ref
+        ya, yb = step(ta), step(tb)
+        span = tb - ta
         for i in range(n):
-            for t0, t1 in _monotone(step, n, i, ta, tb):
-                q0, q1 = step(t0)[i], step(t1)[i]
-                self._turns(step, i, t0, t1, q0, q1)
-                d0, d1 = _deviation(q0, ref), _deviation(q1, ref)
+            q0, q1, w0, w1 = ya[i], yb[i], ya[n + i], yb[n + i]
+            parts = [(ta, tb, q0, q1)]
+            if (w0 > 0) != (w1 > 0) and w0 != 0 and w1 != 0:
+                # The angle turns inside; find where only if a threshold is within reach.
+                reach = span * (abs(w0) + abs(w1)) + span * span * (abs(step.f0[n + i])
+                                                                    + abs(step.f1[n + i]))
+                if self._near(i, q0, q1, reach):
+                    tm = locate(lambda t: step(t)[n + i], ta, tb, w0, w1,
+                                xtol=1e-9 * span + 1e-15)
+                    qm = step(tm)[i]
+                    parts = [(ta, tm, q0, qm), (tm, tb, qm, q1)]
+            for t0, t1, qa, qb in parts:
+                self._turns(step, i, t0, t1, qa, qb)
+                d0, d1 = _deviation(qa, ref), _deviation(qb, ref)
                 if d1 > sc.fall_band_rad >= d0:
                     self._fall(self._cross(step, i, t0, t1, sc.fall_band_rad), i)
                     if self.stop:
@@ -367,6 +387,14 @@ class _Watch:
                                      f"of {sc.reference} and stayed {sc.settle_s:g} s"))
             self.disturbed = self.fallen = False
 
+    def _near(self, i: int, q0: float, q1: float, reach: float) -> bool:
+        """Whether an angle within ``reach`` of [q0, q1] could cross a band or a full turn."""
+        d = sorted((_deviation(q0, self.ref), _deviation(q1, self.ref)))
+        u = sorted((abs(q0 - self.start[i]), abs(q1 - self.start[i])))
+        return (any(d[0] - reach <= b <= d[1] + reach
+                    for b in (self.sc.fall_band_rad, self.sc.recover_band_rad))
+                or (self.turns[i] < 1.0 and u[1] + reach >= TWO_PI))
+
     def _cross(self, step, i: int, t0: float, t1: float, band: float) -> float:
         def g(t):
             return _deviation(step(t)[i], self.ref) - band
@@ -382,15 +410,6 @@ class _Watch:
             t = locate(g, t0, t1, g(t0), g(t1))
             self.events.append(Event(t, "rotation", i, f"link {i + 1} went over the top: a full "
                                                        "turn"))
-
-
-def _monotone(step, n: int, i: int, ta: float, tb: float) -> list[tuple[float, float]]:
-    """[ta, tb] split where link i's rate changes sign (at most once is looked for)."""
-    w0, w1 = step(ta)[n + i], step(tb)[n + i]
-    if (w0 > 0) != (w1 > 0) and w0 != 0 and w1 != 0:
-        tm = locate(lambda t: step(t)[n + i], ta, tb, w0, w1, xtol=1e-9 * (tb - ta) + 1e-15)
-        return [(ta, tm), (tm, tb)]
-    return [(ta, tb)]
 
 
 # ----------------------------------------------------------------------------- the run
@@ -455,11 +474,10 @@ def simulate(rig: Rig, scenario: Scenario | None = None, *, chain_model: Model |
                 watch.jumped(seg.t0, y, event)
             mode, changes = _mode_at(m, seg, seg.t0, y, mode)
             watch.events.extend(changes)
-            strobes = ([] if sc.strobe_phase_rad is None
-                       else phase_times(seg, t_end, sc.strobe_phase_rad))
+            watch.begin(seg, t_end)
             t = seg.t0
             while t < t_end and not watch.stop:
-                t, y, h, mode = _advance(m, seg, mode, t, y, t_end, h, sc, watch, strobes, work)
+                t, y, h, mode = _advance(m, seg, mode, t, y, t_end, h, sc, watch, work)
             if watch.stop:
                 break
         if not watch.stop:
@@ -475,7 +493,7 @@ def simulate(rig: Rig, scenario: Scenario | None = None, *, chain_model: Model |
                   tuple(watch.turns), watch.fell, success, message, work)
 
 
-def _advance(m, seg, mode, t, y, t_end, h, sc, watch, strobes, work):
+def _advance(m, seg, mode, t, y, t_end, h, sc, watch, work):
     """Integrate from t until t_end, a friction switch or a stop; returns the new (t, y, h, mode)."""
     fun = rhs(m, seg, mode)
     for step in steps(fun, t, y, t_end, rtol=sc.rtol, atol=sc.atol, first_step=h,
@@ -484,7 +502,7 @@ def _advance(m, seg, mode, t, y, t_end, h, sc, watch, strobes, work):
             h = step.t1 - step.t0
         switch = _switch(m, seg, mode, step) if any(m.friction) else None
         cut = switch[0] if switch else step.t1
-        watch.piece(seg, step, step.t0, cut, mode, strobes)
+        watch.piece(seg, step, step.t0, cut, mode)
         if watch.stop:
             return cut, list(step(cut)), h, mode
         if switch:
