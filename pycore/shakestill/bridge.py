@@ -108,7 +108,8 @@ _NEXT_JOB = [1]
 
 def _chart_job(rig, request):
     from .chart import chart_steps
-    return chart_steps(rig, rows=int(request.get("rows", 120)),
+    rows = request.get("rows")
+    return chart_steps(rig, rows=None if rows is None else int(rows),
                        y_axis=request.get("y_axis", "stroke"))
 
 

@@ -27,6 +27,7 @@ CHART_RTOL = 1e-8  # edges in a chart to this relative precision (the target is 
 FOLLOW_SLACK = 0.002  # bracket half-width added to the neighbours' spread (relative)
 FOLLOW_CHECKS = 6  # verdicts spot-checked across a followed row (geometrically spaced)
 DEFAULT_ROWS = 120
+DEFAULT_ROWS_SEVERAL_LINKS = 30  # each point costs an RK monodromy: a coarser map by default
 ACCEL_LINES_G = (1, 2, 5, 10, 20, 50, 100, 200, 500, 1000, 2000)  # candidate iso-lines
 G0 = 9.80665
 
@@ -191,9 +192,14 @@ def tongues(rig: Rig) -> tuple[dict, ...]:
     return tuple(out)
 
 
-def chart_steps(rig: Rig, *, rows: int = DEFAULT_ROWS, y_axis: str = "stroke",
+def chart_steps(rig: Rig, *, rows: int | None = None, y_axis: str = "stroke",
                 equilibria=EQUILIBRIA) -> Iterator[tuple[float, Chart]]:
-    """Yield (fraction done, chart so far) after each row; the last chart is complete."""
+    """Yield (fraction done, chart so far) after each row; the last chart is complete.
+
+    ``rows`` defaults to DEFAULT_ROWS for one link and DEFAULT_ROWS_SEVERAL_LINKS otherwise.
+    """
+    if rows is None:
+        rows = DEFAULT_ROWS if rig.n_links == 1 else DEFAULT_ROWS_SEVERAL_LINKS
     if y_axis not in ("stroke", "accel"):
         raise ValueError(f"y_axis: {y_axis!r} is not 'stroke' or 'accel'")
     if not 2 <= rows <= 2000:

@@ -89,7 +89,7 @@ def _cmd_chart(args) -> int:
     from .chart import chart, chart_dict, render
     rig, _ = _load(args.rig)
     rig = _override(rig, args)
-    if not 2 <= args.rows <= 2000:
+    if args.rows is not None and not 2 <= args.rows <= 2000:
         raise RigError([Problem("--rows", f"{args.rows} is not allowed: use 2 to 2000 rows")])
     c = chart(rig, rows=args.rows, y_axis=args.y_axis)
     svg, axes = render(c, rig)
@@ -156,7 +156,7 @@ def parser() -> argparse.ArgumentParser:
     ch.add_argument("rig", nargs="?", metavar="RIG")
     ch.add_argument("-o", "--output", help="write the SVG to this file")
     ch.add_argument("--json", action="store_true", help="print rows, edges, boundaries as JSON")
-    ch.add_argument("--rows", type=int, default=120, help="rows across the y range (120)")
+    ch.add_argument("--rows", type=int, help="rows across the y range (120; 30 for several links)")
     ch.add_argument("--y-axis", choices=("stroke", "accel"), default="stroke",
                     help="stroke, or peak pivot acceleration")
     ch.add_argument("--speed", help="move the operating point's speed, e.g. 1800rpm")

@@ -1,0 +1,81 @@
+"""Benchmark of the stability chart: prints figures and ratios, never passes or fails.
+
+  python bench/bench_chart.py [--rows 120]
+
+For each case: the wall time of a chart over the rig's limits at the detail of a
+200 x 120 grid (rows of 120 strokes; edges are roots in speed, finer than 200 columns),
+and the time a straightforward per-cell chart would take with scipy.integrate.solve_ivp
+monodromies (DOP853, rtol 1e-10, the accuracy needed for edges to ~1e-4 when refined from
+cells): the per-cell time is measured on 40 cells and multiplied by 200 x 120 x 2
+equilibria. Targets: one link with damping, sine <= 0.3 s and crank <= 2 s on CPython;
+two links <= 15 s; ratio >= 100x.
+"""
+import argparse
+import math
+import pathlib
+import sys
+import time
+
+sys.path.insert(0, str(pathlib.Path(__file__).resolve().parents[1] / "pycore"))
+
+import numpy as np  # noqa: E402
+from scipy.integrate import solve_ivp  # noqa: E402
+
+import shakestill as ss  # noqa: E402
+from shakestill.chart import chart  # noqa: E402
+
+CELLS = 200 * 120 * 2
+
+
+def rig(waveform, links=None):
+    d = ss.demo_rig_dict()
+    d["drive"]["waveform"] = waveform
+    if links:
+        d["links"] = links
+        d["drive"]["stroke_m"] = 0.016
+    return ss.rig_from_dict(d)
+
+
+def solve_ivp_cell(r, eq, speed, stroke):
+    lin = ss.linearise(r, eq)
+    M, D, K = (np.array(x) for x in (lin.M, lin.D, lin.K))
+    Minv, n = np.linalg.inv(M), len(M)
+    w = 2 * math.pi * speed / 60
+    drive = ss.with_operating_point(r, stroke_m=stroke).drive
+
+    def rhs(t, y):
+        Y = y.reshape(2 * n, 2 * n)
+        acc = ss.pivot(drive, w * t, speed).a_m_s2
+        return np.vstack([Y[n:], -Minv @ ((9.80665 + acc) * K @ Y[:n] + D @ Y[n:])]).ravel()
+
+    sol = solve_ivp(rhs, (0, 2 * math.pi / w), np.eye(2 * n).ravel(), method="DOP853",
+                    rtol=1e-10, atol=1e-12)
+    return max(abs(np.linalg.eigvals(sol.y[:, -1].reshape(2 * n, 2 * n))))
+
+
+def main():
+    p = argparse.ArgumentParser()
+    p.add_argument("--rows", type=int, default=120)
+    args = p.parse_args()
+    two = [{"length_m": 0.15, "rod_mass_kg": 0.03, "joint_damping_N_m_s": 2e-4},
+           {"length_m": 0.12, "rod_mass_kg": 0.02, "point_masses": [{"mass_kg": 0.01, "at_m": 0.12}],
+            "joint_damping_N_m_s": 1e-4}]
+    for name, r, target in (("one link, sine", rig("sine"), 0.3), ("one link, crank", rig("crank"), 2.0),
+                            ("two links, crank", rig("crank", two), 15.0)):
+        t0 = time.perf_counter()
+        c = chart(r, rows=args.rows)
+        took = time.perf_counter() - t0
+        lo, hi = r.limits.speed_rpm
+        t0 = time.perf_counter()
+        for k in range(20):
+            for eq in ("inverted", "hanging"):
+                solve_ivp_cell(r, eq, lo + (hi - lo) * (k + 0.5) / 20, r.drive.stroke_m)
+        per_cell = (time.perf_counter() - t0) / 40
+        peer = per_cell * CELLS
+        print(f"{name:18s} chart {took:7.2f} s ({c.evaluations} evaluations, target <= {target} s, "
+              f"{took / target:4.2f} of target); per-cell solve_ivp {per_cell * 1e3:6.2f} ms x "
+              f"{CELLS} = {peer:8.0f} s; ratio {peer / took:7.0f}x (target >= 100x)")
+
+
+if __name__ == "__main__":
+    main()
