@@ -423,10 +423,15 @@ def _put(out: dict, key: str, value: Any, given: frozenset, default: Any) -> Non
         out[key] = value
 
 
+def _put_zeros(out: dict, item, keys: tuple[str, ...]) -> None:
+    """Optional numbers that default to 0, written when given or non-zero."""
+    for key in keys:
+        _put(out, key, getattr(item, key), item.given, 0.0)
+
+
 def _point_to_dict(p: PointMass) -> dict:
     out: dict[str, Any] = {"mass_kg": p.mass_kg, "at_m": p.at_m}
-    _put(out, "drag_coefficient", p.drag_coefficient, p.given, 0.0)
-    _put(out, "frontal_area_m2", p.frontal_area_m2, p.given, 0.0)
+    _put_zeros(out, p, ("drag_coefficient", "frontal_area_m2"))
     out.update(dict(p.extra))
     return out
 
@@ -436,9 +441,7 @@ def _link_to_dict(link: Link) -> dict:
     _put(out, "rod_mass_kg", link.rod_mass_kg, link.given, 0.0)
     if "point_masses" in link.given or link.point_masses:
         out["point_masses"] = [_point_to_dict(p) for p in link.point_masses]
-    _put(out, "extra_inertia_kg_m2", link.extra_inertia_kg_m2, link.given, 0.0)
-    _put(out, "joint_damping_N_m_s", link.joint_damping_N_m_s, link.given, 0.0)
-    _put(out, "joint_friction_N_m", link.joint_friction_N_m, link.given, 0.0)
+    _put_zeros(out, link, ("extra_inertia_kg_m2", "joint_damping_N_m_s", "joint_friction_N_m"))
     out.update(dict(link.extra))
     return out
 
