@@ -6,6 +6,8 @@ from __future__ import annotations
 
 import pytest
 
+from shakestill.report import CAUTIONS
+
 from pagekit import TABLET_PORTRAIT, open_page, shot, wait_for_stale
 
 pytestmark = pytest.mark.browser
@@ -111,3 +113,16 @@ def test_every_control_is_named_and_big_enough_on_a_tablet(new_context, server):
     # WCAG 2.2 SC 2.5.8: targets at least 24 by 24 CSS px (inline text links excepted).
     assert page.evaluate(SMALL_TARGETS) == []
     shot(page, "tablet-portrait-added-mass")
+
+
+def test_print_shows_the_report_and_cautions_without_controls(page, server):
+    open_page(page, server.url)
+    page.emulate_media(media="print")
+    visible = """(sel) => [...document.querySelectorAll(sel)].filter((el) => {
+        const r = el.getBoundingClientRect(); return r.width > 0 && r.height > 0; }).length"""
+    assert page.evaluate(visible, "button, .toolbar, .verdict-strip, .coming") == 0
+    # What the paper must carry: both verdict cards, the sketch and every caution of the core.
+    assert page.evaluate(visible, ".eq-card") == 2
+    assert page.evaluate(visible, "#schematic svg") == 1
+    cautions = page.evaluate(visible, ".safety .cautions li")
+    assert cautions == len(CAUTIONS)

@@ -4,12 +4,11 @@ reload with the server gone still computes; the single file computes from disk."
 from __future__ import annotations
 
 import pytest
+import shakestill as ss  # the core on CPython: the independent reading
 
 from pagekit import BOOT_TIMEOUT_MS, assert_same_numbers, cli_check, open_page, shot, wait_for_result
 
 pytestmark = pytest.mark.browser
-
-ss = pytest.importorskip("shakestill")
 
 
 def test_reload_without_server_still_computes(context, own_server, tmp_path):

@@ -8,13 +8,12 @@ import json
 from urllib.parse import urlsplit
 
 import pytest
+import shakestill as ss  # the core on CPython: the independent reading
 
 from pagekit import (TABLET_LANDSCAPE, TABLET_PORTRAIT, assert_same_numbers, cli_check,
                      open_page, shot, wait_for_result, wait_for_rig, wait_for_stale)
 
 pytestmark = pytest.mark.browser
-
-ss = pytest.importorskip("shakestill")
 
 
 def demo_dict() -> dict:

@@ -6,12 +6,11 @@ from __future__ import annotations
 import json
 
 import pytest
+import shakestill as ss  # the core on CPython: the independent reading
 
 from pagekit import open_page, shot, wait_for_result, wait_for_rig
 
 pytestmark = pytest.mark.browser
-
-ss = pytest.importorskip("shakestill")
 
 
 def make_link(page) -> str:
