@@ -14,6 +14,7 @@ from .rig import Rig
 from .windows import window
 
 G0 = 9.80665  # m/s^2 per "g" of acceleration (standard gravity)
+CLOSE_TO_EDGE_PERCENT = 10.0  # less margin than this to any window end is called out
 
 
 def _percent(op: float, end: float | None) -> float | None:
@@ -87,4 +88,9 @@ def check(rig: Rig) -> dict:
         "hanging_frequencies_hz": list(props.hanging_frequencies_hz),
     }
     result["converged"] = all(result[n]["converged"] for n in EQUILIBRIA)
+    for name in EQUILIBRIA:
+        margins = [v for v in result[name]["margins_percent"].values() if v is not None]
+        nearest = min(margins) if result[name]["stable"] and margins else None
+        result[name]["nearest_margin_percent"] = nearest
+        result[name]["close_to_edge"] = nearest is not None and nearest < CLOSE_TO_EDGE_PERCENT
     return result

@@ -50,10 +50,9 @@ def equilibrium_lines(name: str, r: dict) -> list[str]:
         lines.append("  stroke window: " + _window_text(
             r["stroke_window_m"], (e["stroke_low"], e["stroke_high"]), _mm,
             m["stroke_down"], m["stroke_up"]))
-        nearest = min((v for v in m.values() if v is not None), default=None)
-        if nearest is not None and nearest < 10:
-            lines.append(f"  close to an edge: only {nearest:.1f}% of margin; a small change "
-                         "of speed or stroke loses this position")
+        if r.get("close_to_edge"):
+            lines.append(f"  close to an edge: only {r['nearest_margin_percent']:.1f}% of margin; "
+                         "a small change of speed or stroke loses this position")
     else:
         lines.append("  a small disturbance grows by a factor {:.3g} every drive cycle"
                      .format(r["max_multiplier"]))
