@@ -5,8 +5,10 @@
 import { h, replaceChildren } from "./dom.js";
 import { draftFromRig, rigFromDraft } from "./draft.js";
 import { fileNameFor, download, readRigFile } from "./rig-file.js";
+import { createChartView } from "./chart-view.js";
 import { createReport } from "./report-view.js";
 import { createRigForm } from "./rig-form.js";
+import { createRunupView } from "./runup-view.js";
 import { showSchematic } from "./schematic-view.js";
 import { clearFragment, copyText, currentFragment, linkFor } from "./share.js";
 import { autosave } from "./storage.js";
@@ -15,6 +17,8 @@ import { Cancelled, EngineClient, startEngineWorker } from "./worker-client.js";
 
 // Long enough to cover a burst of typing, short enough to feel immediate.
 const DEBOUNCE_MS = 250;
+// The map takes seconds of engine time: wait this long after the last edit before redrawing it.
+const CHART_DEBOUNCE_MS = 2500;
 // No start-up news for this long means the start has stalled (e.g. a blocked download).
 const STALLED_BOOT_MS = 60_000;
 
@@ -25,6 +29,8 @@ const state = {
   view: { v: 1, focus: "pendulum" },
   seq: 0, // bumps on every edit; replies for older drafts are ignored
   timer: 0,
+  chartTimer: 0, // the map waits for a pause in editing
+  mapDrawn: false,
 };
 
 const report = createReport($("check-report"), $("verdict-strip"), showCautions);
@@ -160,6 +166,48 @@ const engine = new EngineClient(() => startEngineWorker(policy), {
   },
 });
 
+const chart = createChartView({
+  holder: $("stability-chart"),
+  progress: $("chart-progress"),
+  status: $("chart-status"),
+  cancel: $("chart-cancel"),
+  redraw: $("chart-redraw"),
+  axisInputs: document.querySelectorAll('input[name="chart-axis"]'),
+  readout: $("chart-readout"),
+  note: $("chart-note"),
+}, { engine, onPick: pickOperatingPoint });
+
+const runup = createRunupView({
+  form: $("runup-form"),
+  rate: $("runup-rate"),
+  start: $("runup-start"),
+  factor: $("runup-factor"),
+  messages: $("runup-messages"),
+  out: $("runup-result"),
+}, { engine, getRig: () => state.draft && rigFromDraft(state.draft) });
+
+/** A point picked on the map becomes the operating point: typed into the sheet like an edit. */
+function pickOperatingPoint({ speed_rpm, stroke_m }) {
+  const put = (path, text) => {
+    const input = document.querySelector(`#rig-sheet [data-path="${path}"]`);
+    if (!input) return;
+    input.value = text;
+    input.dispatchEvent(new Event("input", { bubbles: true }));
+  };
+  put("drive.speed_rpm", `${speed_rpm} rpm`);
+  if (stroke_m !== undefined) put("drive.stroke_m", `${Number((stroke_m * 1000).toFixed(6))} mm`);
+}
+
+/** The map follows the rig, a few seconds after the last edit that changes it. */
+function mapFollows(rig) {
+  runup.rigChanged();
+  if (!chart.setRig(rig)) return;
+  clearTimeout(state.chartTimer);
+  chart.stop();
+  state.chartTimer = setTimeout(() => chart.draw(), state.mapDrawn ? CHART_DEBOUNCE_MS : 0);
+  state.mapDrawn = true;
+}
+
 /** Plain advice for a failed start, from what the browser can and cannot do. */
 function adviceFor(message) {
   if (typeof WebAssembly !== "object") {
@@ -213,6 +261,7 @@ function compute() {
     console.error(err);
   });
 
+  mapFollows(rig);
   report.running();
   engine.request("check", { rig }, {
     channel: "check",
@@ -222,6 +271,7 @@ function compute() {
     if (reply.ok) {
       form.showProblems([], reply.warnings || []);
       report.show(reply);
+      chart.setOperatingPoint(reply.result);
     } else if (reply.problems) {
       form.showProblems(reply.problems, reply.warnings || []);
       report.stale(reply.problems);

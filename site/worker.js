@@ -44,6 +44,22 @@ boot().then(
 
 class BootError extends Error {}
 
+// Starting Python takes seconds; this long without an answer means a download has hung.
+const LOAD_TIMEOUT_MS = 120_000;
+
+/** Resolves if the file can be fetched (its body is not read), else rejects with why. */
+async function reachable(url) {
+  const response = await fetch(url);
+  response.body?.cancel();
+  if (!response.ok) throw new Error(`HTTP ${response.status} for ${url.pathname.split("/").pop()}`);
+}
+
+function withinTime(ms, words, promise) {
+  let timer;
+  const late = new Promise((_, reject) => { timer = setTimeout(() => reject(new Error(words)), ms); });
+  return Promise.race([promise, late]).finally(() => clearTimeout(timer));
+}
+
 // A Python error's message is its whole traceback; its last line says what happened.
 function describe(error) {
   const text = String((error && error.message) || error).trim();
@@ -76,14 +92,18 @@ async function boot() {
   });
 
   stage("loading Python", 0.05);
+  const indexURL = new URL("pyodide/", base).href;
+  // loadPyodide never settles when its WebAssembly fails to download, so look first.
+  if (!host.prepare) await step("download Python (pyodide.asm.wasm)", () => reachable(new URL("pyodide.asm.wasm", indexURL)));
   const problems = [];
   const pyodide = await step("start Python (Pyodide)", () =>
-    loadPyodide({
-      indexURL: new URL("pyodide/", base).href,
-      stdout: () => {},
-      stderr: (text) => problems.push(text),
-      ...host.pyodideOptions,
-    }),
+    withinTime(LOAD_TIMEOUT_MS, "Python did not start within two minutes (a file may have stopped downloading)",
+      loadPyodide({
+        indexURL,
+        stdout: () => {},
+        stderr: (text) => problems.push(text),
+        ...host.pyodideOptions,
+      })),
   );
 
   stage("loading micropip", 0.7);

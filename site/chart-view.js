@@ -1,0 +1,347 @@
+// The stability map: the core's chart, computed as a job in the worker
+// (job_start, then job_step calls that each return the picture so far), with
+// a progress bar and Cancel; the only interaction added here is the cursor
+// read-out (the `point` op) and moving the operating point, both through the
+// axis mapping the core returns with each picture. No physics here.
+
+import { h, replaceChildren } from "./dom.js";
+import { svgNode } from "./schematic-view.js";
+import { Cancelled } from "./worker-client.js";
+
+const STEP_BUDGET_MS = 150; // one job step: short enough for a check to slip in between
+const POINT_THROTTLE_MS = 90; // read-out requests while the cursor moves
+const KEY_STEP = 0.01; // arrow keys move the cursor by this share of an axis (Shift: 10x)
+const SVG_NS = "http://www.w3.org/2000/svg";
+
+const AXIS_WORDS = { stroke: "stroke", accel: "peak acceleration" };
+
+/** Value on one axis of the core's mapping for an SVG coordinate, and back. */
+export const toValue = (a, px) => a.min + ((px - a.px_min) / (a.px_max - a.px_min)) * (a.max - a.min);
+export const toPx = (a, v) => a.px_min + ((v - a.min) / (a.max - a.min)) * (a.px_max - a.px_min);
+
+/** Round a value to a step well under a tenth of a pixel's worth, as a plain number. */
+function rounded(value, perPx) {
+  const step = 10 ** Math.floor(Math.log10(Math.abs(perPx) / 10));
+  const digits = Math.max(0, -Math.round(Math.log10(step)));
+  return Number((Math.round(value / step) * step).toFixed(digits));
+}
+
+function fmt(x, digits = 6) {
+  return Number.isFinite(x) ? String(Number(x.toPrecision(digits))) : "none";
+}
+
+/**
+ * @param {object} els  {holder, progress, status, cancel, redraw, axisInputs, readout, note}
+ * @param {object} deps {engine, onPick({speed_rpm, stroke_m}), currentRig()}
+ */
+export function createChartView(els, { engine, onPick }) {
+  const state = {
+    rig: null, // the rig the map is (being) drawn for
+    key: "", // that rig without its operating point: only a change here redraws the map
+    yAxis: "stroke",
+    run: 0, // bumps for every job; steps of older runs stop
+    job: null, // the worker's job number while it runs
+    axes: null,
+    svg: null,
+    cursor: null, // {x, y} in axis values
+    operating: null, // {speed_rpm, stroke_m, peak_accel_m_s2} from the last check
+    point: { seq: 0, timer: 0, last: 0 },
+  };
+
+  // ------------------------------------------------------------ the job
+
+  function status(words, fraction = null) {
+    els.status.textContent = words;
+    if (fraction !== null) els.progress.value = fraction;
+  }
+
+  async function stop(words) {
+    const job = state.job;
+    state.run += 1;
+    state.job = null;
+    els.cancel.hidden = true;
+    els.holder.setAttribute("aria-busy", "false");
+    if (words) status(words);
+    if (job !== null) {
+      try {
+        await engine.request("job_cancel", { job });
+      } catch (err) {
+        if (!(err instanceof Cancelled)) console.warn("job_cancel:", err);
+      }
+    }
+  }
+
+  async function draw() {
+    if (!state.rig) return;
+    await stop(null);
+    const run = state.run;
+    const live = () => run === state.run;
+    els.holder.dataset.state = "running";
+    els.holder.setAttribute("aria-busy", "true");
+    els.cancel.hidden = false;
+    status(`Drawing the map (${AXIS_WORDS[state.yAxis]} up the side): rough picture first`, 0);
+    try {
+      const started = await engine.request("job_start", { kind: "chart", rig: state.rig, y_axis: state.yAxis });
+      if (!live()) {
+        if (started.ok) engine.request("job_cancel", { job: started.job }).catch(() => {});
+        return;
+      }
+      if (!started.ok) {
+        finish("stale", started.problems
+          ? "The map waits for a rig without problems (see the marked fields)."
+          : `The map could not be drawn: ${started.error}`);
+        return;
+      }
+      state.job = started.job;
+      for (;;) {
+        const step = await engine.request("job_step", { job: started.job, budget_ms: STEP_BUDGET_MS });
+        if (!live()) return;
+        if (!step.ok) {
+          finish("stale", `The map stopped: ${step.error || step.problems.map((p) => p.message).join("; ")}`);
+          return;
+        }
+        if (step.svg) show(step);
+        if (step.done) {
+          state.job = null;
+          finish("done", `Map complete: ${step.chart.rows.length} rows.`);
+          return;
+        }
+        status(`Drawing the map: ${Math.round(step.fraction * 100)}% (refining between the first rows)`,
+          step.fraction);
+      }
+    } catch (err) {
+      if (live() && !(err instanceof Cancelled)) finish("stale", `The map stopped: ${err.message}`);
+    }
+  }
+
+  function finish(holderState, words) {
+    els.holder.dataset.state = holderState;
+    els.holder.setAttribute("aria-busy", "false");
+    els.cancel.hidden = true;
+    if (holderState === "done") els.progress.value = 1;
+    status(words);
+  }
+
+  function show(step) {
+    const svg = svgNode(step.svg, "Stability map");
+    svg.append(cursorMark());
+    els.holder.replaceChildren(svg);
+    state.svg = svg;
+    state.axes = step.axes;
+    els.holder.dataset.axes = JSON.stringify(step.axes);
+    els.holder.dataset.rows = String(step.chart.rows.length);
+    els.note.textContent = step.chart.notes.length
+      ? `How the map is made: ${step.chart.notes.join("; ")}.` : "";
+    placeOperatingPoint();
+    placeCursor();
+  }
+
+  // ------------------------------------------------------------ marks on the picture
+
+  function cursorMark() {
+    const g = document.createElementNS(SVG_NS, "g");
+    g.setAttribute("class", "chart-cursor");
+    g.setAttribute("visibility", "hidden");
+    g.setAttribute("pointer-events", "none");
+    for (const [x1, y1, x2, y2] of [[-12, 0, 12, 0], [0, -12, 0, 12]]) {
+      const line = document.createElementNS(SVG_NS, "line");
+      Object.entries({ x1, y1, x2, y2 }).forEach(([k, v]) => line.setAttribute(k, v));
+      g.append(line);
+    }
+    const ring = document.createElementNS(SVG_NS, "circle");
+    ring.setAttribute("r", "4");
+    g.append(ring);
+    return g;
+  }
+
+  function placeCursor() {
+    const mark = state.svg?.querySelector(".chart-cursor");
+    if (!mark) return;
+    if (!state.cursor) {
+      mark.setAttribute("visibility", "hidden");
+      return;
+    }
+    mark.setAttribute("visibility", "visible");
+    mark.setAttribute("transform",
+      `translate(${toPx(state.axes.x, state.cursor.x)} ${toPx(state.axes.y, state.cursor.y)})`);
+  }
+
+  /** Move the core's operating-point mark to the last checked point (no redraw needed). */
+  function placeOperatingPoint() {
+    const mark = state.svg?.querySelector(".operating-point");
+    const op = state.operating;
+    if (!mark || !op || !state.axes) return;
+    const circle = mark.querySelector("circle");
+    const cx = Number(circle.getAttribute("cx"));
+    const cy = Number(circle.getAttribute("cy"));
+    const y = state.axes.y.quantity === "stroke_m" ? op.stroke_m : op.peak_accel_m_s2;
+    if (!Number.isFinite(y)) return;
+    mark.setAttribute("transform",
+      `translate(${toPx(state.axes.x, op.speed_rpm) - cx} ${toPx(state.axes.y, y) - cy})`);
+  }
+
+  // ------------------------------------------------------------ cursor and read-out
+
+  /** Axis values under a pointer event, or null outside the plotting box. */
+  function valuesAt(event) {
+    if (!state.svg || !state.axes) return null;
+    const m = state.svg.getScreenCTM();
+    if (!m) return null;
+    const p = new DOMPoint(event.clientX, event.clientY).matrixTransform(m.inverse());
+    const { x, y } = state.axes;
+    const inside = (a, v) => v >= Math.min(a.px_min, a.px_max) && v <= Math.max(a.px_min, a.px_max);
+    if (!inside(x, p.x) || !inside(y, p.y)) return null;
+    return { x: toValue(x, p.x), y: toValue(y, p.y) };
+  }
+
+  /** Speed and stroke fit for the rig sheet, rounded well under a pixel's worth. */
+  function pick(values) {
+    const { x, y } = state.axes;
+    const perPx = (a) => (a.max - a.min) / (a.px_max - a.px_min);
+    const out = { speed_rpm: rounded(values.x, perPx(x)) };
+    if (y.quantity === "stroke_m") out.stroke_m = rounded(values.y, perPx(y));
+    else out.peak_accel_m_s2 = rounded(values.y, perPx(y));
+    return out;
+  }
+
+  function moveCursor(values) {
+    state.cursor = values;
+    placeCursor();
+    if (!values) {
+      els.readout.dataset.state = "idle";
+      return;
+    }
+    const p = pick(values);
+    const yText = "stroke_m" in p ? `stroke ${fmt(p.stroke_m * 1000, 5)} mm`
+      : `peak acceleration ${fmt(p.peak_accel_m_s2 / 9.80665, 4)} g`;
+    replaceChildren(els.readout, h("p", { class: "readout-where" }, `Cursor: ${fmt(p.speed_rpm, 6)} rpm, ${yText}`),
+      "stroke_m" in p ? h("p", { class: "readout-wait" }, "Working out both positions at this point…")
+        : h("p", { class: "readout-wait" }, "Exact numbers at a cursor are given in the stroke view "
+          + "(switch the side axis to stroke); click sets the speed only here."));
+    els.readout.dataset.state = "moving";
+    if ("stroke_m" in p) askPoint(p);
+  }
+
+  // Throttled: at most one request per POINT_THROTTLE_MS; a reply for an older cursor is dropped.
+  function askPoint(p) {
+    const seq = ++state.point.seq;
+    clearTimeout(state.point.timer);
+    const wait = Math.max(0, state.point.last + POINT_THROTTLE_MS - performance.now());
+    state.point.timer = setTimeout(async () => {
+      state.point.last = performance.now();
+      let reply;
+      try {
+        reply = await engine.request("point", { rig: state.rig, ...p }, { channel: "point" });
+      } catch (err) {
+        if (err instanceof Cancelled) return;
+        reply = { ok: false, error: err.message };
+      }
+      if (seq !== state.point.seq) return; // the cursor has moved on
+      showPoint(p, reply);
+    }, wait);
+  }
+
+  function showPoint(p, reply) {
+    if (!reply.ok) {
+      els.readout.dataset.state = "failed";
+      replaceChildren(els.readout, h("p", {}, `No read-out here: ${reply.error
+        || reply.problems.map((q) => q.message).join("; ")}`));
+      return;
+    }
+    els.readout.dataset.point = JSON.stringify(reply);
+    els.readout.dataset.state = "fresh";
+    const line = (name, eq) => h("li", { "data-eq": name, class: eq.stable ? "is-stable" : "is-unstable" },
+      h("strong", {}, `${name === "inverted" ? "Inverted" : "Hanging"}: ${eq.stable ? "stable" : "unstable"}`),
+      `, largest multiplier ${fmt(eq.max_multiplier, 7)}`,
+      eq.stable ? `, slow frequency ${fmt(eq.slow_frequency_hz, 5)} Hz` : "",
+      eq.converged ? "" : " (not converged: treat with care)");
+    replaceChildren(els.readout,
+      h("p", { class: "readout-where" },
+        `At ${fmt(reply.speed_rpm, 6)} rpm, stroke ${fmt(reply.stroke_m * 1000, 5)} mm`),
+      h("ul", { class: "readout-list" }, line("inverted", reply.inverted), line("hanging", reply.hanging)),
+      h("p", { class: "hint" }, "Click, tap or press Enter to make this the operating point."));
+  }
+
+  function apply(values) {
+    if (!values) return;
+    const p = pick(values);
+    onPick(p);
+  }
+
+  // Pointer events serve mouse, pen and touch alike; a tap moves the cursor, then applies.
+  els.holder.addEventListener("pointermove", (event) => moveCursor(valuesAt(event)));
+  els.holder.addEventListener("pointerdown", (event) => {
+    const values = valuesAt(event);
+    if (values) moveCursor(values);
+  });
+  els.holder.addEventListener("pointerleave", (event) => {
+    if (event.pointerType === "mouse") moveCursor(null);
+  });
+  els.holder.addEventListener("click", (event) => apply(valuesAt(event)));
+  els.holder.addEventListener("keydown", (event) => {
+    if (!state.axes) return;
+    const dirs = { ArrowLeft: [-1, 0], ArrowRight: [1, 0], ArrowUp: [0, 1], ArrowDown: [0, -1] };
+    if (event.key === "Enter" || event.key === " ") {
+      event.preventDefault();
+      apply(state.cursor);
+      return;
+    }
+    if (!(event.key in dirs)) return;
+    event.preventDefault();
+    const { x, y } = state.axes;
+    const start = state.cursor || operatingValues() || { x: (x.min + x.max) / 2, y: (y.min + y.max) / 2 };
+    const [dx, dy] = dirs[event.key];
+    const k = KEY_STEP * (event.shiftKey ? 10 : 1);
+    const clamp = (v, a) => Math.min(a.max, Math.max(a.min, v));
+    moveCursor({ x: clamp(start.x + dx * k * (x.max - x.min), x), y: clamp(start.y + dy * k * (y.max - y.min), y) });
+  });
+  els.holder.addEventListener("blur", () => moveCursor(null));
+
+  function operatingValues() {
+    const op = state.operating;
+    if (!op || !state.axes) return null;
+    return { x: op.speed_rpm, y: state.axes.y.quantity === "stroke_m" ? op.stroke_m : op.peak_accel_m_s2 };
+  }
+
+  // ------------------------------------------------------------ controls
+
+  els.cancel.addEventListener("click", () => {
+    stop("Map cancelled: what is shown is the picture so far. Redraw map to start again.");
+    els.holder.dataset.state = "cancelled";
+  });
+  els.redraw.addEventListener("click", () => draw());
+  for (const input of els.axisInputs) {
+    input.addEventListener("change", () => {
+      if (!input.checked) return;
+      state.yAxis = input.value;
+      state.cursor = null;
+      draw();
+    });
+  }
+
+  return {
+    /** A new rig on the sheet; returns true if the map must be redrawn for it. */
+    setRig(rig) {
+      const drive = { ...(rig.drive || {}) };
+      delete drive.speed_rpm;
+      delete drive.stroke_m;
+      const key = JSON.stringify({ ...rig, drive });
+      state.rig = rig;
+      if (key === state.key && els.holder.dataset.state !== "empty") return false;
+      state.key = key;
+      return true;
+    },
+    draw,
+    /** Stop a running job (a new rig is coming). */
+    stop: () => stop("The map will be drawn again for the changed rig."),
+    /** The last checked operating point (numbers from the core's check). */
+    setOperatingPoint(result) {
+      state.operating = { speed_rpm: result.speed_rpm, stroke_m: result.stroke_m,
+                          peak_accel_m_s2: result.peak_accel_m_s2 };
+      placeOperatingPoint();
+    },
+    get running() {
+      return state.job !== null;
+    },
+  };
+}

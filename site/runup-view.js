@@ -1,0 +1,121 @@
+// Run-up: the resonances the drive passes on its way to the operating speed
+// at a given ramp rate (the core's `runup` op), told as what a technician
+// does about each one. Numbers come from the core; this file only words them.
+
+import { h, replaceChildren } from "./dom.js";
+import { Cancelled } from "./worker-client.js";
+
+const NAMES = { inverted: "Inverted (upright)", hanging: "Hanging" };
+
+function n(x, digits = 4) {
+  if (!Number.isFinite(x)) return "—";
+  if (Math.abs(x) >= 1e6 || (Math.abs(x) < 1e-3 && x !== 0)) return x.toExponential(2).replace("e+", "e");
+  return String(Number(x.toPrecision(digits)));
+}
+
+/** A number typed in a field: blank gives the default, anything else must be a plain number. */
+function readNumber(input, fallback) {
+  const text = input.value.trim().replace(/\s*(rpm\/s|rpm)$/i, "");
+  if (text === "") return { value: fallback };
+  const value = Number(text);
+  return Number.isFinite(value) ? { value }
+    : { problem: `"${input.value}" is not a number; type digits such as 20` };
+}
+
+function crossingItem(c, result) {
+  const growth = c.simulated_amplification ?? c.amplification;
+  const how = c.simulated_amplification !== null ? "simulated ramp" : "frozen-speed estimate";
+  const met = Number.isFinite(growth) && growth <= result.factor;
+  const minRate = c.min_rate_rpm_s;
+  const advice = met
+    ? `Within your limit of ×${n(result.factor)}.`
+    : `NOT MET: more than your limit of ×${n(result.factor)}. `
+      + (Number.isFinite(minRate)
+        ? `Ramp through ${n(c.speed_from_rpm)}–${n(c.speed_to_rpm)} rpm at ${n(minRate)} rpm/s or faster, `
+        : "No ramp rate is fast enough here: ")
+      + "or keep the pendulum restrained (a stop or catch, never a hand) until the drive is past "
+      + `${n(c.speed_to_rpm)} rpm.`;
+  return h("li", { class: `crossing ${met ? "is-met" : "is-not-met"}`, "data-eq": c.equilibrium },
+    h("p", { class: "crossing-head" },
+      h("strong", {}, `${NAMES[c.equilibrium]}: unstable from ${n(c.speed_from_rpm)} to ${n(c.speed_to_rpm)} rpm`)),
+    h("p", {}, `At ${n(result.rate_rpm_s)} rpm/s the drive spends ${n(c.seconds, 3)} s there `
+      + `(${n(c.cycles, 3)} drive cycles); a small disturbance grows about ×${n(growth, 3)} (${how}; `
+      + `largest multiplier ${n(c.peak_multiplier)}).`),
+    h("p", {}, `Slowest ramp that keeps this under ×${n(result.factor)}: `
+      + (Number.isFinite(minRate) ? `${n(minRate)} rpm/s.` : "none (no rate is fast enough).")),
+    h("p", { class: met ? "crossing-ok" : "crossing-warn" }, advice));
+}
+
+/**
+ * @param {object} els {form, rate, start, factor, messages, out}
+ * @param {object} deps {engine, getRig()}
+ */
+export function createRunupView(els, { engine, getRig }) {
+  let seq = 0;
+
+  async function run() {
+    const rig = getRig();
+    if (!rig) return;
+    const rate = readNumber(els.rate, NaN);
+    const start = readNumber(els.start, 0);
+    const factor = readNumber(els.factor, 10);
+    const problems = [];
+    if (rate.problem || !(rate.value > 0)) problems.push(`Ramp rate: ${rate.problem || "type a rate above 0 rpm/s, such as 20"}.`);
+    if (start.problem || start.value < 0) problems.push(`Start speed: ${start.problem || "the speed must be 0 rpm or more"}.`);
+    if (factor.problem || !(factor.value > 1)) problems.push(`Acceptable growth: ${factor.problem || "it must be above 1 (10 is usual)"}.`);
+    replaceChildren(els.messages, problems.map((p) => h("p", { class: "msg is-problem" }, p)));
+    if (problems.length) return;
+    const mine = ++seq;
+    els.out.dataset.state = "running";
+    replaceChildren(els.out, h("p", { class: "empty" }, "Working out the run-up…"));
+    let reply;
+    try {
+      reply = await engine.request("runup", { rig, rate_rpm_s: rate.value, start_rpm: start.value,
+                                              factor: factor.value }, { channel: "runup" });
+    } catch (err) {
+      if (err instanceof Cancelled) return;
+      reply = { ok: false, error: err.message };
+    }
+    if (mine !== seq) return;
+    if (!reply.ok) {
+      els.out.dataset.state = "failed";
+      replaceChildren(els.out, h("p", { class: "msg is-problem" }, reply.problems
+        ? `The run-up needs a rig without problems: ${reply.problems.map((p) => p.message).join("; ")}.`
+        : `The run-up could not be worked out: ${reply.error}`));
+      return;
+    }
+    show(reply.result);
+  }
+
+  function show(result) {
+    els.out.dataset.state = "fresh";
+    els.out.dataset.result = JSON.stringify(result);
+    const all = ["inverted", "hanging"].flatMap((eq) => result[eq].crossings);
+    const bad = ["inverted", "hanging"].filter((eq) => !result[eq].ok);
+    replaceChildren(els.out,
+      h("p", { class: bad.length ? "runup-summary is-not-met" : "runup-summary is-met", role: "status" },
+        bad.length
+          ? `Not met for ${bad.map((eq) => NAMES[eq].toLowerCase()).join(" and ")}: see below before you start the drive.`
+          : `Every crossing stays within ×${n(result.factor)} at ${n(result.rate_rpm_s)} rpm/s.`),
+      h("p", {}, `Run-up from ${n(result.start_rpm)} to ${n(result.end_rpm)} rpm at the stroke of `
+        + `${n(result.stroke_m * 1000)} mm; the run-down passes the same intervals in reverse, with the same growth at the same rate.`),
+      all.length ? h("ol", { class: "crossings" }, all.map((c) => crossingItem(c, result)))
+        : h("p", {}, "No unstable interval is crossed on the way."),
+      h("p", { class: "hint" }, `How this is worked out: ${result.note}.`));
+  }
+
+  els.form.addEventListener("submit", (event) => {
+    event.preventDefault();
+    run();
+  });
+
+  return {
+    /** The rig changed: a shown result is of the old rig. */
+    rigChanged() {
+      if (els.out.dataset.state === "fresh") {
+        els.out.dataset.state = "stale";
+        els.messages.replaceChildren(h("p", { class: "msg" }, "The rig has changed since this run-up: check it again."));
+      }
+    },
+  };
+}
