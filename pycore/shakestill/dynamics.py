@@ -146,15 +146,22 @@ def relative_rates(w) -> list[float]:
     return [w[0]] + [w[k] - w[k - 1] for k in range(1, len(w))]
 
 
-def drag_torques(m: Model, q, w, v_pivot: float) -> list[float]:
-    """Generalised forces of air drag on the point masses (N m per angle)."""
-    out = [0.0] * m.n
+def drag_forces(m: Model, q, w, v_pivot: float) -> list[tuple[int, float, float, float]]:
+    """(link, at_m, F_x, F_y) of air drag on each point mass that has it (N)."""
+    out = []
     for i, at, kappa in m.drag:
         vx = sum(m.lengths[k] * math.cos(q[k]) * w[k] for k in range(i)) + at * math.cos(q[i]) * w[i]
         vy = v_pivot - sum(m.lengths[k] * math.sin(q[k]) * w[k] for k in range(i)) \
             - at * math.sin(q[i]) * w[i]
         speed = math.hypot(vx, vy)
-        fx, fy = -kappa * speed * vx, -kappa * speed * vy
+        out.append((i, at, -kappa * speed * vx, -kappa * speed * vy))
+    return out
+
+
+def drag_torques(m: Model, q, w, v_pivot: float) -> list[float]:
+    """Generalised forces of air drag on the point masses (N m per angle)."""
+    out = [0.0] * m.n
+    for i, at, fx, fy in drag_forces(m, q, w, v_pivot):
         for k in range(i + 1):
             arm = m.lengths[k] if k < i else at
             out[k] += arm * (math.cos(q[k]) * fx - math.sin(q[k]) * fy)
