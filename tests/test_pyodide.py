@@ -114,6 +114,9 @@ def _final(messages, id_):
     return finals[0]
 
 
+WORK_COUNTERS = {"evaluations"}
+
+
 def _compare(pyodide, cpython, path="reply"):
     """Every leaf equal; numbers to RELATIVE. Returns how many numbers were compared."""
     if isinstance(cpython, bool) or cpython is None or isinstance(cpython, str):
@@ -128,6 +131,9 @@ def _compare(pyodide, cpython, path="reply"):
         assert isinstance(pyodide, list) and len(pyodide) == len(cpython), path
         return sum(_compare(a, b, f"{path}[{i}]") for i, (a, b) in enumerate(zip(pyodide, cpython)))
     assert isinstance(pyodide, dict) and sorted(pyodide) == sorted(cpython), path
+    # Work counters are not results: the platforms' libm may differ in the last bit, which
+    # can change a root finder's iteration count by one while every result still agrees.
+    cpython = {k: v for k, v in cpython.items() if k not in WORK_COUNTERS}
     return sum(_compare(pyodide[k], cpython[k], f"{path}.{k}") for k in cpython)
 
 

@@ -24,6 +24,7 @@ EDGE_RTOL = 1e-10  # edges to this relative precision
 PHASE_STEP = 0.08  # scan spacing in sqrt(|theta0|) ~ 2 f0 / f (tongue n sits near n)
 SPEED_STEP = 0.04  # at most this relative change of speed between scan points
 STROKE_POINTS = 50  # scan points across a stroke range
+PEAK_FLOOR = 1e-12  # relative rise that counts as a peak (well above round-off)
 
 
 @dataclass(frozen=True)
@@ -113,7 +114,9 @@ def _hidden_point(probe: Probe, a, b, c, rtol: float):
     keys = ((lambda s: s.margin), _closeness) if stable else ((lambda s: -s.margin),)
     for key in keys:
         ka, kb, kc = key(a[1]), key(b[1]), key(c[1])
-        if not (math.isfinite(kb) and kb > ka and kb > kc):
+        # a peak must stand above round-off, or two platforms (CPython, Pyodide) could
+        # disagree on whether to search
+        if not (math.isfinite(kb) and kb - max(ka, kc) > PEAK_FLOOR * (1.0 + abs(kb))):
             continue
         lo, hi = sorted((a[0], c[0]))
 
