@@ -277,7 +277,10 @@ export function createChartView(els, { engine, onPick }) {
   els.holder.addEventListener("pointerleave", (event) => {
     if (event.pointerType === "mouse") moveCursor(null);
   });
-  els.holder.addEventListener("click", (event) => apply(valuesAt(event)));
+  // A click's clientX/Y are whole pixels; the pointer events before it carry the exact point.
+  els.holder.addEventListener("click", (event) => {
+    if (valuesAt(event)) apply(state.cursor || valuesAt(event));
+  });
   els.holder.addEventListener("keydown", (event) => {
     if (!state.axes) return;
     const dirs = { ArrowLeft: [-1, 0], ArrowRight: [1, 0], ArrowUp: [0, 1], ArrowDown: [0, -1] };

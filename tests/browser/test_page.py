@@ -194,3 +194,15 @@ def test_failed_start_says_why_in_words(context, server):
     saved = page.evaluate("() => JSON.parse(localStorage.getItem('shakestill.autosave.v1')).draft")
     assert saved["links"][0]["length_m"] == "310 mm"
     shot(page, "laptop-engine-failed")
+
+
+def test_missing_python_wasm_fails_fast_in_words(context, server):
+    # Pyodide's loader never settles when its WebAssembly cannot be fetched; the worker looks first.
+    context.route("**/pyodide.asm.wasm", lambda route: route.abort("blockedbyclient"))
+    page = context.new_page()
+    page.goto(server.url)
+    # Well under the page's one-minute stall watch: the start must fail, not stall.
+    page.wait_for_selector("#boot-failed:not([hidden])", timeout=30_000)
+    reason = page.inner_text("#boot-failed-reason")
+    assert reason.startswith("Could not download Python"), reason
+    assert page.get_attribute("#chip-engine", "data-state") == "failed"

@@ -1,0 +1,235 @@
+"""The stability map and the run-up on the page, in headless Chromium.
+
+One page is opened for the whole module (the map of the demo rig takes tens
+of seconds of engine time in Pyodide) and the tests run in file order on it:
+the map, the cursor read-out, the run-up, clicking and the keyboard, cancel,
+print and the screenshots. Independent values: the core on CPython
+(shakestill.bridge.call) and the command line (`shakestill runup --json`,
+`shakestill check --json`).
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import shutil
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+import shakestill as ss
+from shakestill import bridge
+
+from pagekit import (BOOT_TIMEOUT_MS, CHROMIUM, CHROMIUM_ARGS, LAPTOP, RESULT_TIMEOUT_MS,
+                     TABLET_PORTRAIT, assert_same_numbers, cli_check, shot, wait_for_result)
+
+pytestmark = pytest.mark.browser
+
+CHART = "#stability-chart"
+
+
+@pytest.fixture(scope="module")
+def map_page(browser, server):
+    """The demo rig's page with its map complete."""
+    context = browser.new_context(viewport=LAPTOP)
+    page = context.new_page()
+    errors = []
+    page.on("pageerror", lambda err: errors.append(str(err)))
+    page.goto(server.url)
+    wait_for_result(page, timeout=BOOT_TIMEOUT_MS)
+    wait_for_map(page)
+    page.errors = errors
+    yield page
+    context.close()
+
+
+def wait_for_map(page, timeout=RESULT_TIMEOUT_MS):
+    page.wait_for_function(f"() => document.querySelector('{CHART}').dataset.state === 'done'",
+                           timeout=timeout)
+
+
+def axes_of(page) -> dict:
+    return json.loads(page.get_attribute(CHART, "data-axes"))
+
+
+def per_px(axis: dict) -> float:
+    return abs((axis["max"] - axis["min"]) / (axis["px_max"] - axis["px_min"]))
+
+
+def client_point(page, px: float, py: float) -> tuple[float, float]:
+    """Where an SVG user-space point lands on screen: the SVG box scaled uniformly to the
+    element's width and centred (SVG 1.1, preserveAspectRatio xMidYMid meet)."""
+    page.locator(CHART).scroll_into_view_if_needed()
+    box = page.evaluate(f"""() => {{ const r = document.querySelector('{CHART} svg').getBoundingClientRect();
+        return [r.left, r.top, r.width, r.height]; }}""")
+    axes = axes_of(page)
+    scale = min(box[2] / axes["width_px"], box[3] / axes["height_px"])
+    left = box[0] + (box[2] - axes["width_px"] * scale) / 2
+    top = box[1] + (box[3] - axes["height_px"] * scale) / 2
+    return left + px * scale, top + py * scale
+
+
+def at_fraction(page, fx: float, fy: float):
+    """Screen point at fractions of the plotting box, and the axis values the mapping gives there
+    (px = px_min + (v - min) / (max - min) * (px_max - px_min), solved for v)."""
+    a = axes_of(page)
+    px = a["x"]["px_min"] + fx * (a["x"]["px_max"] - a["x"]["px_min"])
+    py = a["y"]["px_min"] + fy * (a["y"]["px_max"] - a["y"]["px_min"])
+    value = lambda ax, p: ax["min"] + (p - ax["px_min"]) / (ax["px_max"] - ax["px_min"]) * (ax["max"] - ax["min"])
+    return client_point(page, px, py), (value(a["x"], px), value(a["y"], py))
+
+
+def number_in(text: str, unit: str) -> float:
+    value, got = text.split()
+    assert got == unit, text
+    return float(value)
+
+
+def cli(*args) -> dict:
+    exe = shutil.which("shakestill", path=str(Path(sys.executable).parent)) or shutil.which("shakestill")
+    command = [exe] if exe else [sys.executable, "-m", "shakestill.cli"]
+    done = subprocess.run([*command, *args], capture_output=True, text=True, timeout=300)
+    assert done.returncode in (0, 1), done.stderr
+    return json.loads(done.stdout)
+
+
+def page_rig(page) -> dict:
+    return json.loads(page.get_attribute("#check-report", "data-rig"))
+
+
+def test_map_appears_for_the_demo_rig(map_page):
+    page = map_page
+    assert page.locator(f"{CHART} svg").count() == 1
+    assert page.evaluate("document.getElementById('chart-progress').value") == 1
+    assert page.is_hidden("#chart-cancel")
+    # Independent reading: the same job run to the end by the core on CPython.
+    start = bridge.call({"op": "job_start", "kind": "chart", "rig": ss.rig_to_dict(ss.demo_rig()),
+                         "y_axis": "stroke"})
+    step = bridge.call({"op": "job_step", "job": start["job"], "budget_ms": 1e9})
+    assert step["done"]
+    assert int(page.get_attribute(CHART, "data-rows")) == len(step["chart"]["rows"])
+    assert_same_numbers(axes_of(page), step["axes"], rel=1e-12, where="axes")
+    assert page.errors == []
+
+
+def test_readout_shows_the_point_op_numbers(map_page):
+    page = map_page
+    (cx, cy), (speed, stroke) = at_fraction(page, 0.62, 0.55)
+    page.mouse.move(cx, cy)
+    page.wait_for_function("() => document.getElementById('chart-readout').dataset.state === 'fresh'",
+                           timeout=RESULT_TIMEOUT_MS)
+    got = json.loads(page.get_attribute("#chart-readout", "data-point"))
+    a = axes_of(page)
+    # The read-out is for the point under the pointer, within half a pixel's worth.
+    assert abs(got["speed_rpm"] - speed) <= 0.5 * per_px(a["x"])
+    assert abs(got["stroke_m"] - stroke) <= 0.5 * per_px(a["y"])
+    # Independent value: the core on CPython at the same point, 1e-9 relative.
+    want = bridge.call({"op": "point", "rig": page_rig(page), "speed_rpm": got["speed_rpm"],
+                        "stroke_m": got["stroke_m"]})
+    assert_same_numbers(got, want, rel=1e-9, where="point")
+    text = page.inner_text("#chart-readout")
+    for eq in ("inverted", "hanging"):
+        shown = float(f"{want[eq]['max_multiplier']:.7g}")
+        assert f"largest multiplier {shown:g}" in text or f"largest multiplier {shown!r}" in text, text
+
+
+def test_runup_lists_the_demo_hanging_crossing_as_the_cli(map_page):
+    page = map_page
+    page.fill("#runup-rate", "20")
+    page.click("#runup-go")
+    page.wait_for_function("() => document.getElementById('runup-result').dataset.state === 'fresh'",
+                           timeout=RESULT_TIMEOUT_MS)
+    got = json.loads(page.get_attribute("#runup-result", "data-result"))
+    # Independent value: the command line on the demo rig, 1e-9 relative.
+    want = cli("runup", "--rate", "20rpm/s", "--json")
+    assert_same_numbers(got, want, rel=1e-9, where="runup")
+    hanging = want["hanging"]["crossings"]
+    assert hanging, "the demo rig's run-up passes a hanging resonance"
+    item = page.locator(".crossing[data-eq=hanging]").first
+    words = item.inner_text()
+    c = hanging[0]
+    for key in ("speed_from_rpm", "speed_to_rpm"):  # shown to 4 significant digits
+        assert f"{float(format(c[key], '.4g')):g}" in words, words
+    # The inverted position cannot be run up through at 20 rpm/s: the page must say so plainly.
+    assert not want["inverted"]["ok"]
+    assert "NOT MET" in page.locator(".crossing[data-eq=inverted]").first.inner_text()
+
+
+def test_click_moves_the_operating_point(map_page, tmp_path):
+    page = map_page
+    old = page.get_attribute("#check-report", "data-result")
+    (cx, cy), (speed, stroke) = at_fraction(page, 0.7, 0.4)
+    page.mouse.click(cx, cy)
+    result = wait_for_result(page, old)
+    a = axes_of(page)
+    typed_speed = number_in(page.input_value('[data-path="drive.speed_rpm"]'), "rpm")
+    typed_stroke = number_in(page.input_value('[data-path="drive.stroke_m"]'), "mm") / 1000
+    assert abs(typed_speed - speed) <= 0.5 * per_px(a["x"])
+    assert abs(typed_stroke - stroke) <= 0.5 * per_px(a["y"])
+    # The check followed, as for a typed edit: equal to the command line for the moved rig.
+    rig = ss.rig_to_dict(ss.demo_rig())
+    rig["drive"]["speed_rpm"], rig["drive"]["stroke_m"] = typed_speed, typed_stroke
+    assert_same_numbers(result, cli_check(rig, tmp_path))
+
+
+def test_keyboard_moves_a_cursor_and_enter_applies(map_page):
+    page = map_page
+    old = page.get_attribute("#check-report", "data-result")
+    before = json.loads(old)
+    a = axes_of(page)
+    page.focus(CHART)
+    for _ in range(3):
+        page.keyboard.press("ArrowLeft")
+    page.keyboard.press("Enter")
+    result = wait_for_result(page, old)
+    # Three steps of 1% of the speed axis from the operating point (the page's KEY_STEP).
+    want = before["speed_rpm"] - 3 * 0.01 * (a["x"]["max"] - a["x"]["min"])
+    assert abs(result["speed_rpm"] - want) <= 0.5 * per_px(a["x"])
+    assert result["stroke_m"] == pytest.approx(before["stroke_m"], abs=0.5 * per_px(a["y"]))
+
+
+def test_cancel_stops_the_job(map_page):
+    page = map_page
+    page.click("#chart-redraw")
+    page.wait_for_function(f"() => document.querySelector('{CHART}').dataset.state === 'running'"
+                           f" && Number(document.querySelector('{CHART}').dataset.rows) < 30"
+                           " && document.getElementById('chart-progress').value > 0", timeout=RESULT_TIMEOUT_MS)
+    page.click("#chart-cancel")
+    rows = page.get_attribute(CHART, "data-rows")
+    progress = page.evaluate("document.getElementById('chart-progress').value")
+    page.wait_for_timeout(2500)  # a running job adds several rows a second here
+    assert page.get_attribute(CHART, "data-state") == "cancelled"
+    assert page.get_attribute(CHART, "data-rows") == rows
+    assert page.evaluate("document.getElementById('chart-progress').value") == progress < 1
+    assert "cancelled" in page.inner_text("#chart-status").lower()
+    assert page.is_hidden("#chart-cancel")
+    page.click("#chart-redraw")
+    wait_for_map(page)
+
+
+def test_print_carries_the_map(map_page):
+    page = map_page
+    page.emulate_media(media="print")
+    visible = """(sel) => [...document.querySelectorAll(sel)].filter((el) => {
+        const r = el.getBoundingClientRect(); return r.width > 0 && r.height > 0; }).length"""
+    assert page.evaluate(visible, f"{CHART} svg") == 1
+    assert page.evaluate(visible, ".map-tools, .readout, .runup-form") == 0
+    page.emulate_media(media="screen")
+
+
+@pytest.mark.parametrize("viewport,name", [(LAPTOP, "laptop"), (TABLET_PORTRAIT, "tablet-portrait")])
+def test_screenshots_of_the_map_panel(map_page, viewport, name):
+    page = map_page
+    page.set_viewport_size(viewport)
+    page.wait_for_timeout(200)
+    panel = page.locator("section.map")
+    (cx, cy), _ = at_fraction(page, 0.5, 0.5)
+    page.mouse.move(cx, cy)
+    page.wait_for_function("() => document.getElementById('chart-readout').dataset.state === 'fresh'",
+                           timeout=RESULT_TIMEOUT_MS)
+    from pagekit import ARTIFACTS
+    ARTIFACTS.mkdir(exist_ok=True)
+    panel.screenshot(path=str(ARTIFACTS / f"{name}-map-panel.png"))
+    # Nothing may scroll sideways (CSS px of the page equal the viewport's).
+    assert page.evaluate("document.documentElement.scrollWidth") == viewport["width"]
