@@ -51,6 +51,8 @@ MAP_REFINE = 2  # cells per grid spacing (a finer cell grid than the picture)
 MAP_VALIDATE = 16  # sampled points re-run as full simulations
 MAP_SEED = 20240  # fixed, so a map is reproducible
 LOOP_CHECK_PERIODS = 3  # a loop of cells is checked by an exact run this many slow periods
+LONG_CHAIN_PERIODS = 1  # a start whose chain falls after more than this is re-run exactly:
+# snapping errors add up along a chain (an undamped orbit drifts across energy levels)
 MAP_STEPS_PER_SLOW_PERIOD = 16  # a map step of several cycles when the slow motion is slower:
 # an orbit of a few cells' radius must move about a cell per step, or cells map onto themselves
 HORIZONTAL = math.pi / 2
@@ -75,10 +77,17 @@ def _scenario(n: int, run_s: float, angle: float, rate: float, cycle_s=None) -> 
 def recovers(rig: Rig, *, angle_rad: float = 0.0, rate_rad_s: float = 0.0,
              run_s: float | None = None, chain_model=None) -> bool:
     """Whether the start (first-link angle with outer links aligned, first-link rate) recovers."""
+    return _fall_time(rig, angle_rad, rate_rad_s, run_s, chain_model) is None
+
+
+def _fall_time(rig: Rig, angle_rad: float, rate_rad_s: float, run_s=None, chain_model=None):
+    """When a start first passes the horizontal (s), or None if it recovers."""
     run = run_s or run_seconds(rig)
     m = chain_model or model(rig)
     motion = simulate(rig, _scenario(rig.n_links, run, angle_rad, rate_rad_s), chain_model=m)
-    return not motion.fell and motion.success
+    if not motion.success:
+        return motion.end_t_s
+    return min((e.t_s for e in motion.events if e.kind == "fell"), default=None)
 
 
 # ----------------------------------------------------------------------------- tolerance
@@ -423,6 +432,8 @@ def basin_steps(rig: Rig, *, size: int = MAP_SIZE, angle_max_rad: float = HORIZO
     cells = _CellMap(rig, (angles[1] - angles[0]) / refine, (rates[1] - rates[0]) / refine,
                      run_steps, step_cycles)
     cells.check_steps = math.ceil(LOOP_CHECK_PERIODS * f / slow / step_cycles) if slow else 1
+    long_chain = LONG_CHAIN_PERIODS * f / slow / step_cycles if slow else run_steps
+    confirmed = 0
     fall = [[None] * size for _ in range(size)]
     n = rig.n_links
     half = [(j, i) for j in range(size) for i in range(size) if (j, i) <= (size - 1 - j, size - 1 - i)]
@@ -434,12 +445,18 @@ def basin_steps(rig: Rig, *, size: int = MAP_SIZE, angle_max_rad: float = HORIZO
         return BasinMap(angles, rates, rec, ctf, run_cycles, step_cycles, refine, len(cells.image),
                         complete,
                         validation, message, {"cycles_integrated": round(cells.cycles),
-                                              "cells": len(cells.image), "loops": cells.loops})
+                                              "cells": len(cells.image), "loops": cells.loops,
+                                              "starts_run_exactly": confirmed})
 
     for done, (j, i) in enumerate(half):
         start = [angles[i]] * n + [rates[j]] + [0.0] * (n - 1)
         first = cells.one_step(start) if abs(angles[i]) <= HORIZONTAL else None
         value = 1.0 if first is None else 1.0 + cells.cycles_to_fall(first)
+        if long_chain < value <= run_steps:  # a long chain may have drifted: run it exactly
+            t = _fall_time(rig, angles[i], rates[j], run, cells.model)
+            value = _NEVER if t is None else float(math.ceil(t / cells.period))
+            confirmed += 1
+            cells.cycles += (t or run) * f
         fall[j][i] = fall[size - 1 - j][size - 1 - i] = value
         yield 0.7 * (done + 1) / len(half), snapshot(False)
     picks = _validation_points(fall, run_steps, validate)
