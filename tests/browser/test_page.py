@@ -179,13 +179,17 @@ def test_saved_file_is_the_validated_rig_and_opens_again(page, server, tmp_path)
     assert_same_numbers(result, want)
 
 
-def test_failed_start_says_why_in_words(context, server):
-    # A file the engine needs cannot be fetched (as behind a filtering proxy).
-    context.route("**/build-info.json", lambda route: route.abort("blockedbyclient"))
+def blocked_start(context, server, pattern: str, timeout: int):
+    """Open the page with one file blocked (as behind a filtering proxy); the failure's words."""
+    context.route(pattern, lambda route: route.abort("blockedbyclient"))
     page = context.new_page()
     page.goto(server.url)
-    page.wait_for_selector("#boot-failed:not([hidden])", timeout=120_000)
-    reason = page.inner_text("#boot-failed-reason")
+    page.wait_for_selector("#boot-failed:not([hidden])", timeout=timeout)
+    return page, page.inner_text("#boot-failed-reason")
+
+
+def test_failed_start_says_why_in_words(context, server):
+    page, reason = blocked_start(context, server, "**/build-info.json", 120_000)
     assert reason.startswith("Could not"), reason  # the worker names the step that failed
     assert page.inner_text("#boot-failed-advice") != ""
     assert page.get_attribute("#chip-engine", "data-state") == "failed"
@@ -198,11 +202,7 @@ def test_failed_start_says_why_in_words(context, server):
 
 def test_missing_python_wasm_fails_fast_in_words(context, server):
     # Pyodide's loader never settles when its WebAssembly cannot be fetched; the worker looks first.
-    context.route("**/pyodide.asm.wasm", lambda route: route.abort("blockedbyclient"))
-    page = context.new_page()
-    page.goto(server.url)
     # Well under the page's one-minute stall watch: the start must fail, not stall.
-    page.wait_for_selector("#boot-failed:not([hidden])", timeout=30_000)
-    reason = page.inner_text("#boot-failed-reason")
+    page, reason = blocked_start(context, server, "**/pyodide.asm.wasm", 30_000)
     assert reason.startswith("Could not download Python"), reason
     assert page.get_attribute("#chip-engine", "data-state") == "failed"
