@@ -233,3 +233,22 @@ def test_screenshots_of_the_map_panel(map_page, viewport, name):
     panel.screenshot(path=str(ARTIFACTS / f"{name}-map-panel.png"))
     # Nothing may scroll sideways (CSS px of the page equal the viewport's).
     assert page.evaluate("document.documentElement.scrollWidth") == viewport["width"]
+
+
+def test_rig_edit_stops_the_map_and_draws_it_again(map_page):
+    page = map_page
+    page.set_viewport_size(LAPTOP)
+    page.click("#chart-redraw")
+    page.wait_for_function(f"() => document.querySelector('{CHART}').dataset.state === 'running'"
+                           f" && Number(document.querySelector('{CHART}').dataset.rows) < 30", timeout=RESULT_TIMEOUT_MS)
+    page.fill('[data-path="links[0].length_m"]', "0.26 m")
+    page.wait_for_function("() => document.getElementById('chart-status').textContent.includes('drawn again')",
+                           timeout=RESULT_TIMEOUT_MS)
+    rows = page.get_attribute(CHART, "data-rows")
+    page.wait_for_timeout(1000)  # inside the pause before the redraw: nothing is computed
+    assert page.get_attribute(CHART, "data-rows") == rows
+    # Then a new job of the edited rig: its axes follow the core's mapping for that rig.
+    page.wait_for_function(f"() => document.querySelector('{CHART}').dataset.state === 'running'"
+                           f" && Number(document.querySelector('{CHART}').dataset.rows) < 30", timeout=RESULT_TIMEOUT_MS)
+    rig = page_rig(page)
+    assert rig["links"][0]["length_m"] == pytest.approx(0.26, rel=1e-12)
