@@ -106,8 +106,8 @@ export function createChartView(els, { engine, onPick }) {
           finish("done", `Map complete: ${step.chart.rows.length} rows.`);
           return;
         }
-        status(`Drawing the map: ${Math.round(step.fraction * 100)}% (refining between the first rows)`,
-          step.fraction);
+        status(`Drawing the map: ${Math.round(step.fraction * 100)}% (${step.chart ? step.chart.rows.length : 0} rows `
+          + "so far; the first ones are spread over the whole map, the rest fill in between)", step.fraction);
       }
     } catch (err) {
       if (live() && !(err instanceof Cancelled)) finish("stale", `The map stopped: ${err.message}`);
@@ -269,6 +269,7 @@ export function createChartView(els, { engine, onPick }) {
   }
 
   // Pointer events serve mouse, pen and touch alike; a tap moves the cursor, then applies.
+  // On a touch screen a sideways drag moves the cursor and an up-down swipe scrolls the page.
   els.holder.addEventListener("pointermove", (event) => moveCursor(valuesAt(event)));
   els.holder.addEventListener("pointerdown", (event) => {
     const values = valuesAt(event);
@@ -284,6 +285,10 @@ export function createChartView(els, { engine, onPick }) {
   els.holder.addEventListener("keydown", (event) => {
     if (!state.axes) return;
     const dirs = { ArrowLeft: [-1, 0], ArrowRight: [1, 0], ArrowUp: [0, 1], ArrowDown: [0, -1] };
+    if (event.key === "Escape") {
+      moveCursor(null);
+      return;
+    }
     if (event.key === "Enter" || event.key === " ") {
       event.preventDefault();
       apply(state.cursor);

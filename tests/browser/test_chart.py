@@ -57,16 +57,21 @@ def per_px(axis: dict) -> float:
     return abs((axis["max"] - axis["min"]) / (axis["px_max"] - axis["px_min"]))
 
 
-def client_point(page, px: float, py: float) -> tuple[float, float]:
-    """Where an SVG user-space point lands on screen: the SVG box scaled uniformly to the
-    element's width and centred (SVG 1.1, preserveAspectRatio xMidYMid meet)."""
+def svg_box(page):
+    """The SVG's user space on screen: (left, top, scale), the box scaled uniformly to the
+    element and centred (SVG 1.1, preserveAspectRatio xMidYMid meet)."""
     page.locator(CHART).scroll_into_view_if_needed()
     box = page.evaluate(f"""() => {{ const r = document.querySelector('{CHART} svg').getBoundingClientRect();
         return [r.left, r.top, r.width, r.height]; }}""")
     axes = axes_of(page)
     scale = min(box[2] / axes["width_px"], box[3] / axes["height_px"])
-    left = box[0] + (box[2] - axes["width_px"] * scale) / 2
-    top = box[1] + (box[3] - axes["height_px"] * scale) / 2
+    return (box[0] + (box[2] - axes["width_px"] * scale) / 2,
+            box[1] + (box[3] - axes["height_px"] * scale) / 2, scale)
+
+
+def client_point(page, px: float, py: float) -> tuple[float, float]:
+    """Where an SVG user-space point lands on screen."""
+    left, top, scale = svg_box(page)
     return left + px * scale, top + py * scale
 
 
@@ -252,3 +257,22 @@ def test_rig_edit_stops_the_map_and_draws_it_again(map_page):
                            f" && Number(document.querySelector('{CHART}').dataset.rows) < 30", timeout=RESULT_TIMEOUT_MS)
     rig = page_rig(page)
     assert rig["links"][0]["length_m"] == pytest.approx(0.26, rel=1e-12)
+
+
+def test_tap_on_a_tablet_moves_the_operating_point(new_context, server):
+    page = new_context(viewport=TABLET_PORTRAIT, has_touch=True, is_mobile=True).new_page()
+    page.goto(server.url)
+    wait_for_result(page, timeout=BOOT_TIMEOUT_MS)
+    old = page.get_attribute("#check-report", "data-result")
+    page.wait_for_selector(f"{CHART} svg", timeout=RESULT_TIMEOUT_MS)  # the first picture has the axes
+    a = axes_of(page)
+    (cx, cy), _ = at_fraction(page, 0.3, 0.8)
+    cx, cy = round(cx), round(cy)  # a finger lands on whole CSS pixels
+    left, top, scale = svg_box(page)
+    value = lambda ax, p: ax["min"] + (p - ax["px_min"]) / (ax["px_max"] - ax["px_min"]) * (ax["max"] - ax["min"])
+    speed, stroke = value(a["x"], (cx - left) / scale), value(a["y"], (cy - top) / scale)
+    page.touchscreen.tap(cx, cy)
+    result = wait_for_result(page, old)
+    assert abs(result["speed_rpm"] - speed) <= 0.5 * per_px(a["x"])
+    assert abs(result["stroke_m"] - stroke) <= 0.5 * per_px(a["y"])
+    shot(page, "tablet-portrait-map-tapped")
