@@ -129,3 +129,28 @@ def test_limit_flags():
     accel = 0.01 * (2 * math.pi * 40) ** 2  # A omega^2 = 632 m/s^2 > 100
     assert flags["max_accel_m_s2"]["exceeded"] and abs(flags["max_accel_m_s2"]["value"] / accel - 1) < 1e-9
     assert any("Local codes" in c for c in out["cautions"])
+
+
+def test_cli_and_bridge_loads(monkeypatch, capsys, tmp_path):
+    import json
+    from shakestill import bridge, motion_bridge
+    from test_motion import run_cli
+    data = ref.rig([ref.link(0.2, 0.0, [(0.1, 0.2)])], ref.sine(0.02, 2400.0))
+    data["drive"]["carriage_mass_kg"] = 0.35
+    path = tmp_path / "rig.json"
+    path.write_text(json.dumps(data))
+    peak = 0.45 * (0.01 * (2 * math.pi * 40) ** 2 + G)  # (m + m_c)(g + A w^2), Newton
+    assert run_cli(monkeypatch, ["loads", str(path), "--json", "--svg",
+                                 str(tmp_path / "l.svg")]) == 0
+    out = json.loads(capsys.readouterr().out)
+    assert abs(out["drive_force_N"]["peak"] / peak - 1) < 1e-9
+    assert (tmp_path / "l.svg").read_text().startswith("<svg")
+    assert run_cli(monkeypatch, ["loads", str(path)]) == 0
+    text = capsys.readouterr().out
+    assert f"peak {peak:.4g} N" in text and "Safety:" in text
+    for op, fn in motion_bridge.OPS.items():
+        monkeypatch.setitem(bridge.OPS, op, fn)
+    reply = bridge.call({"op": "loads", "rig": data, "cycles": 2})
+    assert reply["ok"] and abs(reply["result"]["drive_force_N"]["peak"] / peak - 1) < 1e-9
+    bad = bridge.call({"op": "loads", "rig": data, "cycles": 0, "knock_rad_s": "3 m"})
+    assert {p["path"] for p in bad["problems"]} == {"cycles", "knock_rad_s"}

@@ -316,3 +316,98 @@ def test_slow_motion_follows_kapitza_effective_potential():
         errors.append(np.abs(got - sol.y[0]).max())
         assert errors[-1] < 3 * eps * x0, (eps, errors[-1])  # first order in A / l
     assert 1.6 < errors[0] / errors[1] < 4.5, errors  # halving eps at least about halves it
+
+
+# ------------------------------------------------------------- front ends
+
+def run_cli(monkeypatch, argv):
+    """cli.main with a parser holding only the motion commands (as cli.py will add them)."""
+    from shakestill import cli, motion_cli
+    monkeypatch.setattr(cli, "parser", motion_cli.parser)
+    return cli.main(argv)
+
+
+def test_cli_simulate_frames_match_solve_ivp(tmp_path, monkeypatch, capsys):
+    data = ref.rig(ONE, DRIVES["sine"])
+    path = tmp_path / "rig.json"
+    path.write_text(__import__("json").dumps(data))
+    out = tmp_path / "motion.csv"
+    code = run_cli(monkeypatch, ["simulate", str(path), "--duration", "0.5s", "--angle", "0.2rad",
+                                 "--knock", "100ms:2rad/s", "--fps", "200", "--rtol", "1e-11",
+                                 "-o", str(out), "--svg", str(tmp_path / "m.svg")])
+    assert code == 0
+    rows = np.loadtxt(out, delimiter=",", skiprows=1)
+    t, y_piv, q, x1, y1 = rows[:, 0], rows[:, 2], rows[:, 3], rows[:, 5], rows[:, 6]
+    # solve_ivp on the independent equations, the knock as a rate step at 0.1 s
+    rhs = lagrange_rhs(data)
+    a = solve_ivp(rhs, (0, 0.1), [0.2, 0.0], method="DOP853", rtol=1e-12, atol=1e-12,
+                  dense_output=True)
+    b = solve_ivp(rhs, (0.1, 0.5), a.y[:, -1] + [0.0, 2.0], method="DOP853", rtol=1e-12,
+                  atol=1e-12, dense_output=True)
+    want = np.array([a.sol(x)[0] if x < 0.1 else b.sol(x)[0] for x in t])
+    assert np.abs(q - want).max() < AGREE  # solve_ivp DOP853 1e-12
+    pivot = ref.Pivot(data["drive"])
+    assert np.abs(y_piv - pivot.kinematics(pivot.omega * t)[0]).max() < 1e-11  # 10 digits
+    assert np.abs(x1 - 0.25 * np.sin(q)).max() < 1e-8  # link end: L sin q, y_p + L cos q
+    assert np.abs(y1 - (y_piv + 0.25 * np.cos(q))).max() < 1e-8
+    assert "knock" in capsys.readouterr().out and (tmp_path / "m.svg").read_text().startswith("<svg")
+
+
+@pytest.mark.parametrize("argv,option,fragment", [
+    (["--knock", "2s:3furlongs"], "--knock", "furlongs"),
+    (["--knock", "9s:1rad/s"], "--knock", "between 0 and 5"),
+    (["--knock", "1s:1rad/s:2"], "--knock", "from 1 to 1"),
+    (["--ramp", "1s:2s"], "--ramp", "AT:OVER:TO"),
+    (["--ramp", "2s:1s:100rpm", "--ramp", "1s:1s:stop"], "--ramp", "starts at 1 s"),
+    (["--duration=-1s"], "--duration", "above 0"),
+    (["--angle", "3 parsecs"], "--angle", "parsecs"),
+    (["--set", "1s:1deg,2deg"], "--set", "1 comma-separated"),
+    (["--speed-table", "/nonexistent.csv"], "--speed-table", "cannot read"),
+], ids=lambda v: v if isinstance(v, str) else " ".join(v))
+def test_cli_bad_options_are_named(monkeypatch, capsys, argv, option, fragment):
+    code = run_cli(monkeypatch, ["simulate"] + argv)
+    err = capsys.readouterr().err
+    assert code == 2 and option in err and fragment in err and "Traceback" not in err
+
+
+def test_cli_speed_table_is_the_ramp(tmp_path, monkeypatch, capsys):
+    # A measured table with the same knots as a ramp gives the same motion (to round-off).
+    table = tmp_path / "speed.csv"
+    table.write_text("time,speed\n0s,2700rpm\n0.2s,2700rpm\n0.5s,1800rpm\n")
+    a, b = tmp_path / "a.csv", tmp_path / "b.csv"
+    assert run_cli(monkeypatch, ["simulate", "--knock", "0s:1rad/s", "--duration", "1s",
+                                 "--speed-table", str(table), "-o", str(a)]) == 0
+    assert run_cli(monkeypatch, ["simulate", "--knock", "0s:1rad/s", "--duration", "1s",
+                                 "--ramp", "0.2s:0.3s:1800rpm", "-o", str(b)]) == 0
+    ra, rb = np.loadtxt(a, delimiter=",", skiprows=1), np.loadtxt(b, delimiter=",", skiprows=1)
+    assert np.abs(ra - rb).max() < 1e-12 and abs(ra[-1, 1] - 1800) < 1e-9
+
+
+def test_bridge_simulate_frames(monkeypatch):
+    from shakestill import bridge, motion_bridge
+    for op, fn in motion_bridge.OPS.items():
+        monkeypatch.setitem(bridge.OPS, op, fn)
+    data = ref.rig(TWO, DRIVES["crank"])
+    reply = bridge.call({"op": "simulate", "rig": data, "duration_s": "0.3 s",
+                         "angles_rad": [math.pi - 0.2, math.pi], "reference": "hanging",
+                         "knocks": [{"t_s": "0.1 s", "rate_rad_s": "90 deg/s", "link": 2}],
+                         "frame_rate_hz": 100})
+    assert reply["ok"], reply
+    frames = reply["frames"]
+    q = np.array(frames["angles_rad"])
+    x, y = np.array(frames["x_m"]), np.array(frames["y_m"])
+    pivot = ref.Pivot(data["drive"])
+    t = np.array(frames["t_s"])
+    assert np.abs(y[:, 0] - pivot.kinematics(pivot.omega * t)[0]).max() < 1e-12
+    assert np.abs(x[:, 2] - (0.20 * np.sin(q[:, 0]) + 0.15 * np.sin(q[:, 1]))).max() < 1e-12
+    assert [e["link"] for e in reply["events"] if e["kind"] == "knock"] == [2]
+    # the knock is a step of pi/2 rad/s in link 2's rate (units: deg/s in the request)
+    sol = solve_ivp(lagrange_rhs(data), (0, 0.1), [math.pi - 0.2, math.pi, 0.0, 0.0],
+                    method="DOP853", rtol=1e-12, atol=1e-12)
+    after = sol.y[:, -1] + [0, 0, 0, math.pi / 2]
+    sol2 = solve_ivp(lagrange_rhs(data), (0.1, 0.3), after, method="DOP853", rtol=1e-12,
+                     atol=1e-12)
+    assert np.abs(q[-1] - sol2.y[:2, -1]).max() < 1e-6  # solve_ivp DOP853 1e-12 (default tol)
+    bad = bridge.call({"op": "simulate", "rig": data, "knocks": [{"t_s": "1 furlong"}]})
+    paths = {p["path"] for p in bad["problems"]}
+    assert not bad["ok"] and {"knocks[0].t_s", "knocks[0].rate_rad_s"} <= paths

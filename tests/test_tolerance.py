@@ -97,8 +97,8 @@ def test_release_edge_approaches_the_effective_potential_crest():
     rig, slow = kapitza_rig(eps)
     crest = math.acos(G / 0.2 / (2 * slow))
     run = tl.run_seconds(rig)
-    edge = tl._finish(tl.edge_steps(lambda x: tl.recovers(rig, angle_rad=x, run_s=run),
-                                    crest / 6, math.pi / 2))
+    edge = tl._finish(tl.edge_steps(lambda x: tl.fall_steps(rig, x, 0.0, run), crest / 6,
+                                    math.pi / 2))
     assert abs(edge.value / crest - 1) < 2 * eps, (edge.value, crest)  # first order in A / l
 
 
@@ -157,3 +157,50 @@ def test_unstable_inverted_position_tolerates_nothing():
     assert not ss.stability(rig, "inverted").stable  # the premise (Floquet)
     assert tol.max_knock_rad_s == 0.0 and tol.max_release_angle_rad == 0.0
     assert "unstable" in tol.message
+
+
+def test_cli_tolerance_json_with_map(demo_tolerance, monkeypatch, capsys):
+    import json
+    from test_motion import run_cli
+    _, tol = demo_tolerance
+    assert run_cli(monkeypatch, ["tolerance", "--json", "--map", "--size", "9",
+                                 "--validate", "2"]) == 0
+    out = json.loads(capsys.readouterr().out)
+    # the same search as the API's (deterministic), and the estimate beside it
+    assert out["max_knock_rad_s"] == tol.max_knock_rad_s
+    assert out["max_release_angle_rad"] == tol.max_release_angle_rad
+    assert out["estimates"]["knock_rad_s"] == ss.estimates(ss.demo_rig()).knock_estimate_rad_s
+    basin = out["basin"]
+    assert len(basin["recovered"]) == 9 and basin["complete"]
+    assert basin["validation"]["agreement"] is not None
+    assert run_cli(monkeypatch, ["tolerance", "--size", "2"]) == 2
+    assert "--size" in capsys.readouterr().err
+
+
+def test_bridge_basin_job_steps_and_cancels(monkeypatch):
+    from shakestill import bridge, motion_bridge
+    for op, fn in motion_bridge.OPS.items():
+        monkeypatch.setitem(bridge.OPS, op, fn)
+    rig = ss.demo_rig_dict()
+    start = bridge.call({"op": "motion_job_start", "kind": "basin", "rig": rig, "size": 9,
+                         "validate": 4})
+    assert start["ok"], start
+    fractions, reply = [], None
+    for _ in range(1000):
+        reply = bridge.call({"op": "motion_job_step", "job": start["job"], "budget_ms": 50})
+        assert reply["ok"], reply
+        fractions.append(reply["fraction"])
+        if reply["done"]:
+            break
+    assert reply["done"] and len(fractions) > 2 and fractions == sorted(fractions)
+    assert reply["svg"].startswith("<svg") and reply["basin"]["complete"]
+    assert len(reply["basin"]["validation"]["points"]) == 4
+    # the same map as the API gives in one go (the job only adds pauses)
+    direct = tl.basin_map(ss.demo_rig(), size=9, validate=4)
+    assert reply["basin"]["recovered"] == [list(r) for r in direct.recovered]
+    job = bridge.call({"op": "motion_job_start", "kind": "tolerance", "rig": rig})["job"]
+    step = bridge.call({"op": "motion_job_step", "job": job, "budget_ms": 1})
+    assert step["ok"] and not step["done"] and 0 <= step["fraction"] < 1
+    assert bridge.call({"op": "motion_job_cancel", "job": job})["cancelled"] is True
+    gone = bridge.call({"op": "motion_job_step", "job": job})
+    assert not gone["ok"] and gone["problems"][0]["path"] == "job"

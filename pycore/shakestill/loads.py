@@ -16,6 +16,7 @@ compression, as when it is held up inverted).
 from __future__ import annotations
 
 import math
+from dataclasses import replace
 
 from . import drive as drv
 from .dynamics import Model, Segment, accelerations, drag_forces, model, pivot_at
@@ -26,6 +27,7 @@ from .speed import RAD_S_PER_RPM
 from .tolerance import run_seconds
 
 POINTS_PER_CYCLE = 256  # samples per drive cycle: the crank's harmonics are resolved
+ROTATION_TAIL_S = 1.0  # a link that turns fully in the last second of settling is rotating
 MAX_CYCLES = 1000  # cycles averaged at most
 
 
@@ -97,13 +99,23 @@ def loads(rig: Rig, *, equilibrium: str = "inverted", knock_rad_s: float = 0.0,
     if settle_s is None:
         settle_s = run_seconds(rig) if disturbed else 0.0
     settle_cycles = math.ceil(settle_s * f - 1e-9)
+    tail = min(settle_cycles, math.ceil(ROTATION_TAIL_S * f))  # rotating at the end?
+    head = settle_cycles - tail
     m = model(rig)
-    motion = simulate(rig, Scenario(duration_s=(settle_cycles + cycles) / f, angles_rad=angles,
+    events, ok, message = [], True, ""
+    if head:  # settle without frames, then carry on from where it got to (phase 0 again)
+        first = simulate(rig, Scenario(duration_s=head / f, angles_rad=angles, rates_rad_s=rates,
+                                       frame_rate_hz=0.0, strobe_phase_rad=None,
+                                       reference=equilibrium), chain_model=m)
+        angles, rates = first.end_state[:n], first.end_state[n:]
+        events, ok, message = list(first.events), first.success, first.message
+    motion = simulate(rig, Scenario(duration_s=(tail + cycles) / f, angles_rad=angles,
                                     rates_rad_s=rates, frame_rate_hz=points_per_cycle * f,
                                     strobe_phase_rad=None, reference=equilibrium), chain_model=m)
+    events += [replace(e, t_s=e.t_s + head / f) for e in motion.events]
     seg = Segment(0.0, 0.0, rig.drive.speed_rpm * RAD_S_PER_RPM)
-    first = settle_cycles * points_per_cycle
-    window = range(first, min(first + cycles * points_per_cycle, len(motion.t_s)))
+    first_frame = tail * points_per_cycle
+    window = range(first_frame, min(first_frame + cycles * points_per_cycle, len(motion.t_s)))
     rows = [cycle_forces(m, seg, motion.t_s[k], motion.angles_rad[k] + motion.rates_rad_s[k],
                          motion.modes[k], rig.drive.carriage_mass_kg) for k in window]
     force = [r["drive_force_N"] for r in rows]
@@ -114,7 +126,7 @@ def loads(rig: Rig, *, equilibrium: str = "inverted", knock_rad_s: float = 0.0,
     result = {
         "speed_rpm": rig.drive.speed_rpm, "stroke_m": rig.drive.stroke_m,
         "frequency_hz": f, "equilibrium": equilibrium,
-        "state": "rotating" if rotating else ("disturbed" if disturbed else "at rest"),
+        "state": "rotating" if rotating else ("moving" if disturbed else "at rest"),
         "settle_s": settle_cycles / f, "cycles": cycles,
         "total_mass_kg": m.total_mass, "carriage_mass_kg": rig.drive.carriage_mass_kg,
         "weight_N": (m.total_mass + rig.drive.carriage_mass_kg) * rig.g_m_s2,
@@ -126,10 +138,11 @@ def loads(rig: Rig, *, equilibrium: str = "inverted", knock_rad_s: float = 0.0,
         "links": [{"link": i + 1, "max_compression_N": max(0.0, max(axial[i])),
                    "max_tension_N": max(0.0, -min(axial[i]))} for i in range(n)],
         "rotation": None,
-        "events": [e.as_dict() for e in motion.events],
-        "samples": {"phase_rad": [2 * math.pi * (k - first) / points_per_cycle for k in window],
+        "events": [e.as_dict() for e in events],
+        "samples": {"phase_rad": [2 * math.pi * (k - first_frame) / points_per_cycle
+                                  for k in window],
                     "drive_force_N": force, "power_W": power, "axial_N": axial},
-        "success": motion.success, "message": motion.message,
+        "success": ok and motion.success, "message": message or motion.message,
     }
     if rotating:
         result["rotation"] = {"turns": list(motion.turns),

@@ -56,6 +56,7 @@ LONG_CHAIN_PERIODS = 1  # a start whose chain falls after more than this is re-r
 MAP_STEPS_PER_SLOW_PERIOD = 16  # a map step of several cycles when the slow motion is slower:
 # an orbit of a few cells' radius must move about a cell per step, or cells map onto themselves
 HORIZONTAL = math.pi / 2
+CHUNK_CYCLES = 64  # drive cycles per piece of a long run: the page can cancel between pieces
 
 
 def run_seconds(rig: Rig, slow_frequency_hz: float | None = None) -> float:
@@ -77,17 +78,43 @@ def _scenario(n: int, run_s: float, angle: float, rate: float, cycle_s=None) -> 
 def recovers(rig: Rig, *, angle_rad: float = 0.0, rate_rad_s: float = 0.0,
              run_s: float | None = None, chain_model=None) -> bool:
     """Whether the start (first-link angle with outer links aligned, first-link rate) recovers."""
-    return _fall_time(rig, angle_rad, rate_rad_s, run_s, chain_model) is None
+    return _finish(fall_steps(rig, angle_rad, rate_rad_s, run_s, chain_model)) is None
 
 
-def _fall_time(rig: Rig, angle_rad: float, rate_rad_s: float, run_s=None, chain_model=None):
-    """When a start first passes the horizontal (s), or None if it recovers."""
+def fall_steps(rig: Rig, angle_rad: float, rate_rad_s: float, run_s=None, chain_model=None):
+    """Generator: the recovery run in chunks of whole drive cycles, yielding between them.
+
+    Returns (StopIteration.value) when the start first passes the horizontal (s), or None if
+    it recovers. Chunks start at drive phase 0 again, so they join into one run.
+    """
     run = run_s or run_seconds(rig)
     m = chain_model or model(rig)
-    motion = simulate(rig, _scenario(rig.n_links, run, angle_rad, rate_rad_s), chain_model=m)
-    if not motion.success:
-        return motion.end_t_s
-    return min((e.t_s for e in motion.events if e.kind == "fell"), default=None)
+    n, f = rig.n_links, rig.drive.frequency_hz
+    angles, rates = (angle_rad,) * n, (rate_rad_s,) + (0.0,) * (n - 1)
+    t = 0.0
+    while t < run:
+        span = min(CHUNK_CYCLES / f, run - t)
+        sc = replace(_scenario(n, span, 0.0, 0.0), angles_rad=angles, rates_rad_s=rates)
+        motion = simulate(rig, sc, chain_model=m)
+        if not motion.success:
+            return t + motion.end_t_s
+        fell = [e.t_s for e in motion.events if e.kind == "fell"]
+        if fell:
+            return t + min(fell)
+        angles, rates = motion.end_state[:n], motion.end_state[n:]
+        t += span
+        yield
+    return None
+
+
+def _at(progress, gen):
+    """Re-yield ``progress`` for each step of a sub-generator; return its value."""
+    try:
+        while True:
+            next(gen)
+            yield progress
+    except StopIteration as stop:
+        return stop.value
 
 
 # ----------------------------------------------------------------------------- tolerance
@@ -108,23 +135,23 @@ class Edge:
     message: str = ""
 
 
-def edge_steps(ok, step: float, cap: float):
-    """Generator: scan ok(x) upward from ``step``, bisect the first failure, probe the edge.
+def edge_steps(fall, step: float, cap: float):
+    """Generator: scan upward from ``step``, bisect the first failure, probe the edge.
 
-    Yields progress fractions (rough); its return value (StopIteration.value) is the Edge.
+    ``fall(x)`` is a generator returning the fall time of start x (None: it recovered),
+    such as ``fall_steps``. Yields progress fractions (rough); returns the Edge.
     """
     evaluations = 0
 
-    def test(x):
+    def test(x, fraction):
         nonlocal evaluations
         evaluations += 1
-        return ok(x)
+        return (yield from _at(fraction, fall(x))) is None
 
     good, bad, x = 0.0, None, step
     passed = [0.0]  # scan points that recovered
     while x < cap and evaluations < MAX_SCAN:
-        yield 0.4 * x / cap
-        if not test(x):
+        if not (yield from test(x, 0.4 * x / cap)):
             bad = x
             break
         passed.append(x)
@@ -135,9 +162,8 @@ def edge_steps(ok, step: float, cap: float):
     below: list[float] = []
     for _ in range(PROBES_BELOW + 1):  # bisect; a failure found below restarts there
         while bad - good > RELATIVE_PRECISION * max(good, step * 1e-3):
-            yield 0.4 + 0.4 * (1 - (bad - good) / step)
             mid = 0.5 * (good + bad)
-            if test(mid):
+            if (yield from test(mid, 0.4 + 0.4 * (1 - (bad - good) / step))):
                 good = mid
             else:
                 bad = mid
@@ -145,8 +171,7 @@ def edge_steps(ok, step: float, cap: float):
         lows = [good - step * (k + 1) / (PROBES_BELOW + 1) for k in range(PROBES_BELOW)]
         failing = None
         for v in sorted(v for v in lows if v > 0):
-            yield 0.85
-            if not test(v):
+            if not (yield from test(v, 0.85)):
                 failing = v
                 break
         if failing is None:
@@ -155,9 +180,8 @@ def edge_steps(ok, step: float, cap: float):
         good, bad = max(p for p in passed if p < failing), failing
     above = []
     for rel in PROBES_ABOVE:
-        yield 0.95
         v = bad * (1 + rel)
-        if v < cap and test(v):
+        if v < cap and (yield from test(v, 0.95)):
             above.append(v)
     fragmented = bool(above or below)
     message = ""
@@ -219,11 +243,11 @@ def tolerance_steps(rig: Rig):
     m = model(rig)
     rate_scale = est.knock_estimate_rad_s or math.sqrt(rig.g_m_s2 / properties(rig).l_eq_m)
     knock = yield from _scaled(edge_steps(
-        lambda x: recovers(rig, rate_rad_s=x, run_s=run, chain_model=m),
+        lambda x: fall_steps(rig, 0.0, x, run, m),
         rate_scale / SCAN_STEPS, 20 * rate_scale), 0.0, 0.5)
     crest = est.crest_angle_rad or HORIZONTAL
     release = yield from _scaled(edge_steps(
-        lambda x: recovers(rig, angle_rad=x, run_s=run, chain_model=m),
+        lambda x: fall_steps(rig, x, 0.0, run, m),
         min(crest, HORIZONTAL) / SCAN_STEPS, HORIZONTAL), 0.5, 1.0)
     return Tolerance(True, knock.value, release.value, knock, release,
                      est.knock_estimate_rad_s, est.crest_angle_rad, run,
@@ -436,38 +460,42 @@ def basin_steps(rig: Rig, *, size: int = MAP_SIZE, angle_max_rad: float = HORIZO
     confirmed = 0
     fall = [[None] * size for _ in range(size)]
     n = rig.n_links
-    half = [(j, i) for j in range(size) for i in range(size) if (j, i) <= (size - 1 - j, size - 1 - i)]
+    half = [(j, i) for j in range(size) for i in range(size)
+            if (j, i) <= (size - 1 - j, size - 1 - i)]
 
     def snapshot(complete, validation=None, message=""):
         rec = tuple(tuple(None if v is None else v > run_steps for v in row) for row in fall)
         ctf = tuple(tuple(None if v is None or v > run_steps else int(v) * step_cycles
                           for v in row) for row in fall)
-        return BasinMap(angles, rates, rec, ctf, run_cycles, step_cycles, refine, len(cells.image),
-                        complete,
-                        validation, message, {"cycles_integrated": round(cells.cycles),
-                                              "cells": len(cells.image), "loops": cells.loops,
-                                              "starts_run_exactly": confirmed})
+        work = {"cycles_integrated": round(cells.cycles), "cells": len(cells.image),
+                "loops": cells.loops, "starts_run_exactly": confirmed}
+        return BasinMap(angles, rates, rec, ctf, run_cycles, step_cycles, refine,
+                        len(cells.image), complete, validation, message, work)
 
+    current = snapshot(False)
     for done, (j, i) in enumerate(half):
         start = [angles[i]] * n + [rates[j]] + [0.0] * (n - 1)
         first = cells.one_step(start) if abs(angles[i]) <= HORIZONTAL else None
         value = 1.0 if first is None else 1.0 + cells.cycles_to_fall(first)
         if long_chain < value <= run_steps:  # a long chain may have drifted: run it exactly
-            t = _fall_time(rig, angles[i], rates[j], run, cells.model)
+            t = yield from _at((0.7 * done / len(half), current), fall_steps(
+                rig, angles[i], rates[j], run, cells.model))
             value = _NEVER if t is None else float(math.ceil(t / cells.period))
             confirmed += 1
             cells.cycles += (t or run) * f
         fall[j][i] = fall[size - 1 - j][size - 1 - i] = value
-        yield 0.7 * (done + 1) / len(half), snapshot(False)
+        if i == size - 1 or done + 1 == len(half):  # the picture so far, a row at a time
+            current = snapshot(False)
+        yield 0.7 * (done + 1) / len(half), current
     picks = _validation_points(fall, run_steps, validate)
     checks = []
     for k, (j, i) in enumerate(picks):
-        sim = recovers(rig, angle_rad=angles[i], rate_rad_s=rates[j], run_s=run,
-                       chain_model=cells.model)
+        sim = (yield from _at((0.7 + 0.29 * k / max(1, len(picks)), current), fall_steps(
+            rig, angles[i], rates[j], run, cells.model))) is None
         checks.append({"angle_rad": angles[i], "rate_rad_s": rates[j],
                        "map": fall[j][i] > run_steps, "simulation": sim,
                        "edge": _on_edge(fall, run_steps, j, i)})
-        yield 0.7 + 0.3 * (k + 1) / max(1, len(picks)), snapshot(False)
+        yield 0.7 + 0.29 * (k + 1) / max(1, len(picks)), current
     validation = _agreement(checks)
     yield 1.0, snapshot(True, validation, validation["summary"] if checks else "")
 
