@@ -23,8 +23,8 @@ from typing import Callable, Iterator, Sequence
 from .dop853_tableau import A, B, C, D, E3, E5, N_STAGES, N_STAGES_EXTENDED
 from .roots import brentq
 
-RTOL = 1e-9  # default relative tolerance: far below what frames and events need
-ATOL = 1e-9  # default absolute tolerance (radians, rad/s)
+RTOL = 1e-8  # default relative tolerance: far below what frames and events need
+ATOL = 1e-8  # default absolute tolerance (radians, rad/s)
 SAFETY = 0.9  # step-size safety factor (Hairer & Wanner's dop853)
 MIN_FACTOR = 0.2  # the most a step may shrink after a rejection
 MAX_FACTOR = 10.0  # the most a step may grow after an accepted one
@@ -81,21 +81,9 @@ class Step:
         return [y + a for y, a in zip(self.y0, acc)]
 
     def _dense(self) -> list:
-        K, h, t0, y0 = self._K, self.t1 - self.t0, self.t0, self.y0
-        for s in range(N_STAGES + 1, N_STAGES_EXTENDED):
-            K.append(self._fun(t0 + C[s] * h, _combine(y0, h, K, _ROWS[s])))
-        dy = [b - a for a, b in zip(y0, self.y1)]
-        F = [dy,
-             [h * f - d for f, d in zip(self.f0, dy)],
-             [2.0 * d - h * (f1 + f0) for d, f0, f1 in zip(dy, self.f0, self.f1)]]
-        for row in _DENSE:
-            j, a = row[0]
-            acc = [a * k for k in K[j]]
-            for j, a in row[1:]:
-                acc = [s + a * k for s, k in zip(acc, K[j])]
-            F.append([h * s for s in acc])
-        self._F = F
-        return F
+        self._F = _extension(len(self.y0))(self._fun, self.t0, self.t1 - self.t0, self.y0,
+                                            self.y1, self.f0, self.f1, self._K)
+        return self._F
 
 
 def initial_step(fun: Rhs, t0: float, y0: list, f0: list, direction: float, rtol: float,
@@ -229,6 +217,33 @@ def _stepper(n: int):
     scope: dict = {}
     exec("\n".join(lines), scope)  # noqa: S102 - code built from the tableau above only
     return scope["attempt"]
+
+
+@lru_cache(maxsize=None)
+def _extension(n: int):
+    """The three extra stages and the seven rows of the 7th-degree dense output, unrolled.
+
+    ``extend(fun, t0, h, y0, y1, f0, f1, K) -> F`` with the interpolant
+    y0 + x (F0 + (1-x) (F1 + x (F2 + ...))) of Hairer's dop853 (x = (t - t0) / h).
+    """
+    comps = range(n)
+
+    def combo(row, i):
+        return " + ".join(f"{a!r} * K[{j}][{i}]" for j, a in row)
+
+    lines = ["def extend(fun, t0, h, y0, y1, f0, f1, K):"]
+    for s in range(N_STAGES + 1, N_STAGES_EXTENDED):
+        state = ", ".join(f"y0[{i}] + h * ({combo(_ROWS[s], i)})" for i in comps)
+        lines.append(f"    K.append(fun(t0 + {C[s]!r} * h, [{state}]))")
+    lines.append("    dy = [b - a for a, b in zip(y0, y1)]")
+    lines.append("    F = [dy, [h * f - d for f, d in zip(f0, dy)],"
+                 " [2.0 * d - h * (b + a) for d, a, b in zip(dy, f0, f1)]]")
+    for row in _DENSE:
+        lines.append("    F.append([" + ", ".join(f"h * ({combo(row, i)})" for i in comps) + "])")
+    lines.append("    return F")
+    scope: dict = {}
+    exec("\n".join(lines), scope)  # noqa: S102 - code built from the tableau above only
+    return scope["extend"]
 
 
 def last_step_size(step: Step) -> float:

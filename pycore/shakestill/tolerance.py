@@ -57,6 +57,8 @@ MAP_STEPS_PER_SLOW_PERIOD = 16  # a map step of several cycles when the slow mot
 # an orbit of a few cells' radius must move about a cell per step, or cells map onto themselves
 HORIZONTAL = math.pi / 2
 CHUNK_CYCLES = 64  # drive cycles per piece of a long run: the page can cancel between pieces
+RUN_TOLERANCE = 1e-8  # recovery runs: the edges are wanted to 0.5 %, far coarser than this
+CELL_TOLERANCE = 1e-7  # one map step from a cell centre: cells are 1e-2 rad wide
 
 
 def run_seconds(rig: Rig, slow_frequency_hz: float | None = None) -> float:
@@ -68,11 +70,13 @@ def run_seconds(rig: Rig, slow_frequency_hz: float | None = None) -> float:
     return max(MIN_RUN_S, SLOW_PERIODS / f) if f else MIN_RUN_S
 
 
-def _scenario(n: int, run_s: float, angle: float, rate: float, cycle_s=None) -> Scenario:
+def _scenario(n: int, run_s: float, angle: float, rate: float, cycle_s=None,
+              tol: float = RUN_TOLERANCE) -> Scenario:
     return Scenario(duration_s=cycle_s or run_s, angles_rad=(angle,) * n,
                     rates_rad_s=(rate,) + (0.0,) * (n - 1), frame_rate_hz=0.0,
                     strobe_phase_rad=None, fall_band_rad=HORIZONTAL,
-                    recover_band_rad=HORIZONTAL, settle_s=0.0, stop_at_fall=True)
+                    recover_band_rad=HORIZONTAL, settle_s=0.0, stop_at_fall=True,
+                    rtol=tol, atol=tol)
 
 
 def recovers(rig: Rig, *, angle_rad: float = 0.0, rate_rad_s: float = 0.0,
@@ -340,7 +344,7 @@ class _CellMap:
     def one_step(self, state) -> tuple | None:
         """The cell one map step after ``state``, or None if it passes the horizontal."""
         n = self.n
-        sc = replace(_scenario(n, self.period, 0.0, 0.0, self.period),
+        sc = replace(_scenario(n, self.period, 0.0, 0.0, self.period, CELL_TOLERANCE),
                      angles_rad=tuple(state[:n]), rates_rad_s=tuple(state[n:]))
         motion = simulate(self.rig, sc, chain_model=self.model)
         self.cycles += self.period / self.cycle
