@@ -178,6 +178,12 @@ OPS = {
 }
 
 
+# The motion ops (simulate, tolerance, loads and their jobs) live in their own module.
+from .motion_bridge import OPS as _MOTION_OPS  # noqa: E402  (it reads this module's helpers)
+
+OPS.update(_MOTION_OPS)
+
+
 def call(request: dict) -> dict:
     """The same as ``handle`` on Python objects."""
     if not isinstance(request, dict):

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import argparse
 import json
+import os
 import sys
 
 from . import __version__, share
@@ -172,6 +173,8 @@ def parser() -> argparse.ArgumentParser:
     ru.add_argument("--speed", help="move the operating point's speed, e.g. 1800rpm")
     ru.add_argument("--stroke", help="move the operating point's stroke, e.g. 25mm")
     ru.set_defaults(func=_cmd_runup)
+    from .motion_cli import add_commands
+    add_commands(sub)  # simulate, tolerance, loads
     link = sub.add_parser("link", help="print a share-link fragment for a rig")
     link.add_argument("rig", nargs="?", metavar="RIG")
     link.set_defaults(func=_cmd_link)
@@ -190,6 +193,9 @@ def main(argv=None) -> int:
         return 2
     except KeyboardInterrupt:
         return 130
+    except BrokenPipeError:  # output piped into a reader that stopped early (| head)
+        sys.stdout = open(os.devnull, "w")
+        return 0
 
 
 if __name__ == "__main__":
