@@ -215,11 +215,9 @@ export function createChartView(els, { engine, onPick }) {
     const yText = "stroke_m" in p ? `stroke ${fmt(p.stroke_m * 1000, 5)} mm`
       : `peak acceleration ${fmt(p.peak_accel_m_s2 / 9.80665, 4)} g`;
     replaceChildren(els.readout, h("p", { class: "readout-where" }, `Cursor: ${fmt(p.speed_rpm, 6)} rpm, ${yText}`),
-      "stroke_m" in p ? h("p", { class: "readout-wait" }, "Working out both positions at this point…")
-        : h("p", { class: "readout-wait" }, "Exact numbers at a cursor are given in the stroke view "
-          + "(switch the side axis to stroke); click sets the speed only here."));
+      h("p", { class: "readout-wait" }, "Working out both positions at this point…"));
     els.readout.dataset.state = "moving";
-    if ("stroke_m" in p) askPoint(p);
+    askPoint(p);
   }
 
   // Throttled: at most one request per POINT_THROTTLE_MS; a reply for an older cursor is dropped.
@@ -257,15 +255,28 @@ export function createChartView(els, { engine, onPick }) {
       eq.converged ? "" : " (not converged: treat with care)");
     replaceChildren(els.readout,
       h("p", { class: "readout-where" },
-        `At ${fmt(reply.speed_rpm, 6)} rpm, stroke ${fmt(reply.stroke_m * 1000, 5)} mm`),
+        `At ${fmt(reply.speed_rpm, 6)} rpm, stroke ${fmt(reply.stroke_m * 1000, 5)} mm, `
+        + `peak acceleration ${fmt(reply.peak_accel_m_s2 / 9.80665, 4)} g`),
       h("ul", { class: "readout-list" }, line("inverted", reply.inverted), line("hanging", reply.hanging)),
       h("p", { class: "hint" }, "Click, tap or press Enter to make this the operating point."));
   }
 
-  function apply(values) {
+  async function apply(values) {
     if (!values) return;
     const p = pick(values);
-    onPick(p);
+    if ("stroke_m" in p) {
+      onPick(p);
+      return;
+    }
+    // acceleration view: the core turns the acceleration into the stroke that gives it
+    let reply;
+    try {
+      reply = await engine.request("point", { rig: state.rig, ...p }, { channel: "point-apply" });
+    } catch (err) {
+      if (err instanceof Cancelled) return;
+      reply = { ok: false };
+    }
+    onPick(reply.ok ? { speed_rpm: p.speed_rpm, stroke_m: reply.stroke_m } : { speed_rpm: p.speed_rpm });
   }
 
   // Pointer events serve mouse, pen and touch alike; a tap moves the cursor, then applies.

@@ -14,7 +14,7 @@ from . import __version__, share
 from .check import check
 from .demo import demo_rig_dict
 from .report import CAUTIONS, jsonable, report_text
-from .rig import Problem, RigError, rig_from_dict, rig_to_dict
+from .rig import Problem, RigError, rig_from_dict, rig_to_dict, with_operating_point
 from .svg import schematic
 
 
@@ -69,16 +69,24 @@ def _op_point(request: dict) -> dict:
     """Exact stability of both equilibria at one (speed, stroke): the chart's read-out."""
     from .floquet import stability
     from .units import UnitError, parse_quantity
+    from .chart import stroke_for_peak_accel
+    from .drive import peak_accel_m_s2
     rig, _ = _rig(request)
     try:
         speed = parse_quantity(request.get("speed_rpm"), "speed")
-        stroke = parse_quantity(request.get("stroke_m"), "length")
+        if "stroke_m" in request:
+            stroke = parse_quantity(request.get("stroke_m"), "length")
+        else:  # the chart's acceleration view gives a peak acceleration instead
+            accel = parse_quantity(request.get("peak_accel_m_s2"), "acceleration")
+            stroke = stroke_for_peak_accel(rig, accel, speed) if speed > 0 else -1.0
     except UnitError as exc:
         raise RigError([Problem("speed_rpm/stroke_m", str(exc))]) from None
     if not (speed > 0 and stroke >= 0):
         raise RigError([Problem("speed_rpm/stroke_m", "the speed must be above 0 and the "
                                                       "stroke at least 0")])
-    out = {"speed_rpm": speed, "stroke_m": stroke}
+    out = {"speed_rpm": speed, "stroke_m": stroke,
+           "peak_accel_m_s2": peak_accel_m_s2(with_operating_point(rig, stroke_m=stroke).drive,
+                                              speed)}
     for eq in ("inverted", "hanging"):
         s = stability(rig, eq, speed_rpm=speed, stroke_m=stroke)
         out[eq] = {"stable": s.stable, "max_multiplier": s.max_multiplier,

@@ -191,9 +191,11 @@ def chart_svg(chart, rig: Rig, *, width_px: int = 760, height_px: int = 470,
                    f'text-anchor="end" fill="#333">{esc(f"{g_value:g} g")}</text>')
     for t in chart.tongues:
         if x0 <= t["speed_rpm"] <= x1:
-            out.append(f'<text x="{_f(px(t["speed_rpm"]))}" y="{_f(height_px - bottom - 4)}" '
-                       f'font-size="10" text-anchor="middle" fill="#5a3b00">'
-                       f'{esc(t["label"])}</text>')
+            tx = min(max(px(t["speed_rpm"]), left + 14), width_px - right - 14)
+            out.append(f'<text x="{_f(tx)}" y="{_f(top + 14)}" font-size="10" '
+                       f'text-anchor="middle" fill="#5a3b00">{esc(t["label"])}'
+                       "<title>hanging resonance of this order (drive near 2 f0 / n)</title>"
+                       "</text>")
     # operating point
     op_y = rig.drive.stroke_m if stroke_axis else None
     if op_y is None:
