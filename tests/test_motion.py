@@ -263,6 +263,14 @@ def test_link_sticks_when_friction_exceeds_gravity_torque():
     slips = mo.simulate(friction_rig(0.95 * torque), mo.Scenario(
         duration_s=0.5, angles_rad=(theta,), frame_rate_hz=20.0))
     assert slips.angles_rad[-1][0] - theta > 0.05  # just below: it falls away
+    # a knock frees a held link; it slides and is held again where m g d |sin q| <= T_f
+    strong = 0.2
+    knocked = mo.simulate(friction_rig(strong), mo.Scenario(
+        duration_s=2.0, angles_rad=(theta,), knocks=(mo.Knock(1.0, 3.0),), frame_rate_hz=20.0))
+    kinds = [e.kind for e in knocked.events]
+    assert kinds[:2] == ["stick", "knock"] and kinds[-1] == "stick"
+    end = knocked.end_state[0]
+    assert abs(end - theta) > 1.0 and 0.1 * G * 0.3 * abs(math.sin(end)) <= strong
 
 
 def test_coulomb_friction_loses_four_tf_over_k_per_cycle():

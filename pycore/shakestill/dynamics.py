@@ -229,9 +229,60 @@ def rhs(m: Model, seg: Segment, mode) -> Callable[[float, list], list]:
             return [w, ((g + d2y * om * om + dy * al) * a0 * sin(q) - c0 * w + slide) * inv]
         return one_link
 
+    if 0 not in mode and not m.drag:
+        return _chain_rhs(m, seg, mode)
+
     def general(t, y):
         return list(y[n:]) + accelerations(m, seg, mode, t, y)[0]
     return general
+
+
+def _chain_rhs(m: Model, seg: Segment, mode):
+    """Two or three links, nothing stuck, no drag: the equations with sines of sums
+    expanded (n sines and cosines per call) and the small solve written out."""
+    n, kin, g = m.n, m.kinematics, m.g
+    t0, ph0, om0, al = seg.t0, seg.phase0, seg.omega0, seg.alpha
+    B, D, a = m.B, m.D, m.a
+    sin, cos = math.sin, math.cos
+    # constant joint torques of the sliding joints: -T_k s_k on link k, +T_k s_k on k-1
+    slide = [0.0] * n
+    for k, torque in enumerate(m.friction):
+        if torque > 0:
+            slide[k] -= torque * mode[k]
+            if k > 0:
+                slide[k - 1] += torque * mode[k]
+    idx = range(n)
+
+    def chain_rhs(t, y):
+        tau = t - t0
+        om = om0 + al * tau
+        _, dy, d2y = kin(ph0 + tau * (om0 + 0.5 * al * tau))
+        G = g + d2y * om * om + dy * al
+        w = y[n:]
+        s = [sin(x) for x in y[:n]]
+        c = [cos(x) for x in y[:n]]
+        w2 = [x * x for x in w]
+        f = [G * a[i] * s[i] + slide[i]
+             - sum(B[i][j] * (s[i] * c[j] - c[i] * s[j]) * w2[j] + D[i][j] * w[j] for j in idx)
+             for i in idx]
+        M = [[B[i][j] * (c[i] * c[j] + s[i] * s[j]) for j in idx] for i in idx]
+        return list(w) + _solve_spd(M, f)
+    return chain_rhs
+
+
+def _solve_spd(M, f) -> list[float]:
+    """M x = f for a symmetric positive definite 2 x 2 or 3 x 3 mass matrix (Cramer)."""
+    if len(f) == 2:
+        (a, b), (_, d) = M
+        det = a * d - b * b
+        return [(d * f[0] - b * f[1]) / det, (a * f[1] - b * f[0]) / det]
+    (a, b, c), (_, d, e), (_, _, k) = M
+    A0, A1, A2 = d * k - e * e, c * e - b * k, b * e - c * d  # first row of the adjugate
+    B1, B2, C2 = a * k - c * c, b * c - a * e, a * d - b * b
+    det = a * A0 + b * A1 + c * A2
+    x, y, z = f
+    return [(A0 * x + A1 * y + A2 * z) / det, (A1 * x + B1 * y + B2 * z) / det,
+            (A2 * x + B2 * y + C2 * z) / det]
 
 
 def energy_J(m: Model, y) -> float:

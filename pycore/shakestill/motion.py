@@ -169,11 +169,14 @@ def _mode_at(m: Model, seg: Segment, t: float, y, mode) -> tuple[list, list[Even
     n = m.n
     rel = relative_rates(y[n:])
     trying = []
-    for k in range(n):  # a sliding joint at rest is tried stuck; otherwise it slides its way
-        if m.friction[k] > 0 and mode[k] != 0:
-            mode[k] = 0 if abs(rel[k]) <= RATE_ZERO else (1 if rel[k] > 0 else -1)
-            if mode[k] == 0:
-                trying.append(k)
+    for k in range(n):  # a joint that moves slides its way; one newly at rest is tried stuck
+        if m.friction[k] <= 0:
+            continue
+        if abs(rel[k]) > RATE_ZERO:
+            mode[k] = 1 if rel[k] > 0 else -1
+        elif mode[k] != 0:
+            mode[k] = 0
+            trying.append(k)
     changes = []
     for _ in range(n + 1):  # release the worst overloaded stuck joint, until all hold
         lam = accelerations(m, seg, mode, t, y)[1]
