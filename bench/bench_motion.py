@@ -33,8 +33,8 @@ sys.path[:0] = [str(TOP / "pycore")]
 from scipy.integrate import solve_ivp  # noqa: E402
 
 import shakestill as ss  # noqa: E402
+from shakestill import basin as bs  # noqa: E402
 from shakestill import motion as mo  # noqa: E402
-from shakestill import tolerance as tl  # noqa: E402
 
 clock = time.process_time  # CPU time: steadier than wall time on a shared machine
 RIG = {"format": "shakestill-rig", "version": 1, "title": "Bench: one link at 50 Hz",
@@ -110,9 +110,9 @@ def bench_simulate(repeat):
 def bench_map(size):
     print(f"== basin map {size} x {size}, demo rig (CPU seconds on CPython)")
     rig = ss.demo_rig()
-    for validate in (0, tl.MAP_VALIDATE):
+    for validate in (0, bs.MAP_VALIDATE):
         t0 = clock()
-        last = tl.basin_map(rig, size=size, validate=validate)
+        last = bs.basin_map(rig, size=size, validate=validate)
         dt = clock() - t0
         v = last.validation or {}
         words = f", {v.get('summary', '')}" if validate else ""
@@ -135,12 +135,12 @@ py.runPython(`
 import sys, time
 sys.path.insert(0, "/bench")
 import shakestill as ss
-from shakestill import tolerance as tl
+from shakestill import basin as bs
 print("  Pyodide", sys.version.split()[0], "booted in BOOT s")
-for validate in (0, tl.MAP_VALIDATE):
+for validate in (0, bs.MAP_VALIDATE):
     t0 = time.perf_counter()
     shown = 0.0
-    for fraction, last in tl.basin_steps(ss.demo_rig(), size=SIZE, validate=validate):
+    for fraction, last in bs.basin_steps(ss.demo_rig(), size=SIZE, validate=validate):
         if fraction >= shown:
             print(f"    progress {fraction * 100:5.1f}% at {time.perf_counter() - t0:6.2f} s")
             shown += 0.25

@@ -21,7 +21,7 @@ import numpy as np
 import refsolvers as ref
 import shakestill as ss
 from shakestill.loads import loads
-from test_motion import ONE, TWO, elements, lagrange_rhs
+from test_motion import TWO, elements, lagrange_rhs
 
 G = ref.G_STANDARD
 

@@ -22,6 +22,7 @@ from scipy.integrate import solve_ivp
 
 import refsolvers as ref
 import shakestill as ss
+from shakestill import basin as bs
 from shakestill import tolerance as tl
 
 G = ref.G_STANDARD
@@ -97,8 +98,8 @@ def test_release_edge_approaches_the_effective_potential_crest():
     rig, slow = kapitza_rig(eps)
     crest = math.acos(G / 0.2 / (2 * slow))
     run = tl.run_seconds(rig)
-    edge = tl._finish(tl.edge_steps(lambda x: tl.fall_steps(rig, x, 0.0, run), crest / 6,
-                                    math.pi / 2))
+    edge = tl.run_to_end(tl.edge_steps(lambda x: tl.fall_steps(rig, x, 0.0, run), crest / 6,
+                                       math.pi / 2))
     assert abs(edge.value / crest - 1) < 2 * eps, (edge.value, crest)  # first order in A / l
 
 
@@ -115,7 +116,7 @@ def test_basin_map_matches_the_effective_separatrix():
 
     top = energy(crest, 0.0)
     fractions, last = [], None
-    for fraction, last in tl.basin_steps(rig, size=21, validate=0):
+    for fraction, last in bs.basin_steps(rig, size=21, validate=0):
         fractions.append(fraction)
     assert fractions == sorted(fractions) and fractions[-1] == 1.0 and last.complete
     compared = wrong = 0
@@ -133,7 +134,7 @@ def test_demo_map_agrees_with_full_simulations():
     # Direct simulation of each sampled start is the reference of the cell map; away from
     # the edge they must agree, at the edge (a grid neighbour disagrees) most of the time.
     rig = ss.demo_rig()
-    steps = tl.basin_steps(rig, size=25, validate=24)
+    steps = bs.basin_steps(rig, size=25, validate=24)
     fraction, first = next(steps)
     assert not first.complete and any(v is None for row in first.recovered for v in row)
     last = None
@@ -196,7 +197,7 @@ def test_bridge_basin_job_steps_and_cancels(monkeypatch):
     assert reply["svg"].startswith("<svg") and reply["basin"]["complete"]
     assert len(reply["basin"]["validation"]["points"]) == 4
     # the same map as the API gives in one go (the job only adds pauses)
-    direct = tl.basin_map(ss.demo_rig(), size=9, validate=4)
+    direct = bs.basin_map(ss.demo_rig(), size=9, validate=4)
     assert reply["basin"]["recovered"] == [list(r) for r in direct.recovered]
     job = bridge.call({"op": "motion_job_start", "kind": "tolerance", "rig": rig})["job"]
     step = bridge.call({"op": "motion_job_step", "job": job, "budget_ms": 1})

@@ -246,11 +246,6 @@ def _extension(n: int):
     return scope["extend"]
 
 
-def last_step_size(step: Step) -> float:
-    """A good first step for a restart just after ``step`` (its own size)."""
-    return step.t1 - step.t0
-
-
 def locate(g: Callable[[float], float], t0: float, t1: float, g0: float, g1: float, *,
            xtol: float = 1e-12) -> float:
     """The time in [t0, t1] where g changes sign, g usually built on ``Step.__call__``."""

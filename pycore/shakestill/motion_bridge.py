@@ -25,7 +25,8 @@ from .plots import basin_svg, loads_svg, motion_svg
 from .report import CAUTIONS
 from .rig import Problem, RigError
 from .speed import ramp_profile, table_profile
-from .tolerance import basin_steps, tolerance_steps
+from .basin import basin_steps
+from .tolerance import tolerance_steps
 from .units import UnitError, allowed_units, parse_quantity
 
 MAX_BUDGET_MS = 5000.0  # one job step never works longer than this on purpose

@@ -243,7 +243,8 @@ def _cmd_tolerance(args) -> int:
     from .motion_report import tolerance_text
     from .plots import basin_svg
     from .report import jsonable
-    from .tolerance import basin_steps, tolerance_steps
+    from .basin import basin_steps
+    from .tolerance import tolerance_steps
     rig, _ = _rig(args)
     show = _progress(not args.json and sys.stderr.isatty())
     size = args.size
