@@ -419,3 +419,24 @@ def test_bridge_simulate_frames(monkeypatch):
     bad = bridge.call({"op": "simulate", "rig": data, "knocks": [{"t_s": "1 furlong"}]})
     paths = {p["path"] for p in bad["problems"]}
     assert not bad["ok"] and {"knocks[0].t_s", "knocks[0].rate_rad_s"} <= paths
+
+
+def test_bridge_simulate_job_gives_the_one_call_reply(monkeypatch):
+    # The job runs the same simulation in pieces: its final frames equal the one-call op's.
+    from shakestill import bridge, motion_bridge
+    for op, fn in motion_bridge.OPS.items():
+        monkeypatch.setitem(bridge.OPS, op, fn)
+    request = {"rig": ss.demo_rig_dict(), "duration_s": 4, "knocks": [{"t_s": 0, "rate_rad_s": 3}]}
+    whole = bridge.call({"op": "simulate", **request})
+    job = bridge.call({"op": "motion_job_start", "kind": "simulate", **request})["job"]
+    fractions = []
+    while True:
+        step = bridge.call({"op": "motion_job_step", "job": job, "budget_ms": 20})
+        fractions.append(step["fraction"])
+        if step["done"]:
+            break
+    assert len(fractions) > 2 and fractions == sorted(fractions)
+    assert step["frames"] == whole["frames"] and step["events"] == whole["events"]
+    # and the motion is the API's, which matches solve_ivp above: 4 s, the knock at 0
+    direct = mo.simulate(ss.demo_rig(), mo.Scenario(duration_s=4, rates_rad_s=(3.0,)))
+    assert np.allclose(whole["frames"]["angles_rad"], direct.angles_rad, rtol=0, atol=1e-15)

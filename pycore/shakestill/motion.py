@@ -28,6 +28,7 @@ REFERENCES = {"inverted": 0.0, "hanging": math.pi}
 MAX_DURATION_S = 3600.0  # an hour of rig time is far past any settling question
 MAX_FRAMES = 500_000  # frames kept in memory
 MAX_SWITCHES = 200_000  # stick/slip switches in one run before it is called chattering
+PIECE_STEPS = 500  # steps between the progress reports of simulate_steps
 RATE_ZERO = 1e-12  # rad/s: a relative rate this small counts as at rest (for the start)
 TWO_PI = 2.0 * math.pi
 
@@ -457,6 +458,18 @@ def simulate(rig: Rig, scenario: Scenario | None = None, *, chain_model: Model |
     (step size underflow, chattering friction) ends the run early and is reported
     in ``success`` / ``message``. ``chain_model`` reuses a prepared ``dynamics.model``.
     """
+    run = simulate_steps(rig, scenario, chain_model=chain_model)
+    while True:
+        try:
+            next(run)
+        except StopIteration as stop:
+            return stop.value
+
+
+def simulate_steps(rig: Rig, scenario: Scenario | None = None, *,
+                   chain_model: Model | None = None):
+    """``simulate`` as a generator: yields the fraction of the run done every
+    ``PIECE_STEPS`` steps (so a page can pause or cancel), returns the Motion."""
     sc = scenario or Scenario()
     _check(rig, sc)
     m = chain_model or model(rig)
@@ -481,6 +494,7 @@ def simulate(rig: Rig, scenario: Scenario | None = None, *, chain_model: Model |
             t = seg.t0
             while t < t_end and not watch.stop:
                 t, y, h, mode = _advance(m, seg, mode, t, y, t_end, h, sc, watch, work)
+                yield t / sc.duration_s
             if watch.stop:
                 break
         if not watch.stop:
@@ -497,10 +511,13 @@ def simulate(rig: Rig, scenario: Scenario | None = None, *, chain_model: Model |
 
 
 def _advance(m, seg, mode, t, y, t_end, h, sc, watch, work):
-    """Integrate from t until t_end, a friction switch or a stop; returns the new (t, y, h, mode)."""
+    """Integrate from t until t_end, a friction switch, a stop or PIECE_STEPS steps.
+
+    Returns the new (t, y, h, mode).
+    """
     fun = rhs(m, seg, mode)
-    for step in steps(fun, t, y, t_end, rtol=sc.rtol, atol=sc.atol, first_step=h,
-                      counters=work):
+    for count, step in enumerate(steps(fun, t, y, t_end, rtol=sc.rtol, atol=sc.atol,
+                                       first_step=h, counters=work), 1):
         if step.t1 < t_end or h is None:
             h = step.t1 - step.t0
         switch = _switch(m, seg, mode, step) if any(m.friction) else None
@@ -516,4 +533,6 @@ def _advance(m, seg, mode, t, y, t_end, h, sc, watch, work):
             mode, y_new, events = _after_switch(m, seg, mode, cut, step(cut), switch[1])
             watch.events.extend(events)
             return cut, y_new, h, mode
+        if count == PIECE_STEPS and step.t1 < t_end:
+            return step.t1, list(step.y1), h, mode
     return t_end, list(step.y1), h, mode

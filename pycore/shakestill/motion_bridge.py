@@ -19,7 +19,7 @@ from dataclasses import replace
 
 from . import bridge
 from .dynamics import model, points_m
-from .motion import Jump, Knock, Scenario, simulate
+from .motion import Jump, Knock, Scenario, simulate_steps
 from .motion_report import loads_text, motion_text, tolerance_text
 from .plots import basin_svg, loads_svg, motion_svg
 from .report import CAUTIONS
@@ -141,14 +141,32 @@ def scenario_from_request(request: dict, rig) -> Scenario:
     return replace(sc, profile=profile)
 
 
+def _last(job) -> dict:
+    """A job's final reply, without its stage."""
+    reply = {}
+    for _, reply in job:
+        pass
+    return {k: v for k, v in reply.items() if k != "stage"}
+
+
 def _op_simulate(request: dict) -> dict:
-    rig, warnings = bridge._rig(request)
+    return _last(_simulate_job(*bridge._rig(request), request))
+
+
+def _simulate_job(rig, warnings, request):
+    """Yields (fraction, partial reply); the last reply carries the frames."""
     sc = scenario_from_request(request, rig)
     m = model(rig)
-    motion = simulate(rig, sc, chain_model=m)
+    run = simulate_steps(rig, sc, chain_model=m)
+    try:
+        while True:
+            yield 0.999 * next(run), {"stage": "simulate"}
+    except StopIteration as stop:
+        motion = stop.value
     points = [points_m(m, q, y) for q, y in zip(motion.angles_rad, motion.pivot_y_m)]
     svg, axes = motion_svg(motion, rig.title or "Link angles") if motion.t_s else (None, None)
-    return {
+    yield 1.0, {
+        "stage": "done",
         "frames": {"t_s": list(motion.t_s), "pivot_y_m": list(motion.pivot_y_m),
                    "speed_rpm": list(motion.speed_rpm), "energy_J": list(motion.energy_J),
                    "angles_rad": [list(q) for q in motion.angles_rad],
@@ -188,7 +206,7 @@ def _op_loads(request: dict) -> dict:
 # ----------------------------------------------------------------------------- jobs
 
 
-def _tolerance_job(rig, request):
+def _tolerance_job(rig, warnings, request):
     """Yields (fraction, partial reply); the last reply carries the result."""
     steps = tolerance_steps(rig)
     try:
@@ -199,7 +217,7 @@ def _tolerance_job(rig, request):
     yield 1.0, {"stage": "done", "result": result, "report_text": tolerance_text(result)}
 
 
-def _basin_job(rig, request):
+def _basin_job(rig, warnings, request):
     r = _Reader(request)
     size = request.get("size", 41)
     if isinstance(size, bool) or not isinstance(size, int) or not 3 <= size <= 401:
@@ -217,7 +235,7 @@ def _basin_job(rig, request):
         yield fraction, {"stage": "basin", "basin": basin.as_dict(), "svg": svg, "axes": axes}
 
 
-JOB_KINDS = {"tolerance": _tolerance_job, "basin": _basin_job}
+JOB_KINDS = {"simulate": _simulate_job, "tolerance": _tolerance_job, "basin": _basin_job}
 _JOBS: dict[int, dict] = {}
 _IDS = itertools.count(1)
 
@@ -227,8 +245,7 @@ def _op_job_start(request: dict) -> dict:
     if kind not in JOB_KINDS:
         raise RigError([Problem("kind", f"{kind!r} is not allowed: use one of "
                                         + ", ".join(sorted(JOB_KINDS)))])
-    rig, _ = bridge._rig(request)
-    steps = JOB_KINDS[kind](rig, request)
+    steps = JOB_KINDS[kind](*bridge._rig(request), request)
     job = next(_IDS)
     _JOBS[job] = {"kind": kind, "steps": steps, "last": {}, "fraction": 0.0}
     return {"job": job, "kind": kind}
@@ -266,16 +283,13 @@ def _op_job_cancel(request: dict) -> dict:
 def _op_tolerance(request: dict) -> dict:
     """The whole tolerance search (and the map with "map": true) in one call."""
     rig, warnings = bridge._rig(request)
-    reply = {}
-    for _, reply in _tolerance_job(rig, request):
-        pass
+    reply = _last(_tolerance_job(rig, warnings, request))
     if request.get("map"):
-        for _, last in _basin_job(rig, {**request, "knock_rad_s": reply["result"]
-                                        ["max_knock_rad_s"], "release_rad": reply["result"]
-                                        ["max_release_angle_rad"]}):
-            pass
-        reply = {**reply, **last, "report_text": tolerance_text(reply["result"], last["basin"])}
-    reply.pop("stage", None)
+        result = reply["result"]
+        marks = {"knock_rad_s": result["max_knock_rad_s"],
+                 "release_rad": result["max_release_angle_rad"]}
+        basin = _last(_basin_job(rig, warnings, {**request, **marks}))
+        reply = {**reply, **basin, "report_text": tolerance_text(result, basin["basin"])}
     return {**reply, "warnings": bridge._problems(warnings), "cautions": list(CAUTIONS)}
 
 
