@@ -17,7 +17,6 @@ import math
 import time
 from dataclasses import replace
 
-from . import bridge
 from .dynamics import model, points_m
 from .motion import Jump, Knock, Scenario, simulate_steps
 from .motion_report import loads_text, motion_text, tolerance_text
@@ -28,6 +27,11 @@ from .speed import ramp_profile, table_profile
 from .basin import basin_steps
 from .tolerance import tolerance_steps
 from .units import UnitError, allowed_units, parse_quantity
+
+def _bridge():
+    from . import bridge  # late: bridge.py merges OPS from this module when it loads
+    return bridge
+
 
 MAX_BUDGET_MS = 5000.0  # one job step never works longer than this on purpose
 DEFAULT_BUDGET_MS = 150.0
@@ -150,7 +154,7 @@ def _last(job) -> dict:
 
 
 def _op_simulate(request: dict) -> dict:
-    return _last(_simulate_job(*bridge._rig(request), request))
+    return _last(_simulate_job(*_bridge()._rig(request), request))
 
 
 def _simulate_job(rig, warnings, request):
@@ -181,12 +185,12 @@ def _simulate_job(rig, warnings, request):
         "summary": {"end_t_s": motion.end_t_s, "fell": motion.fell, "turns": list(motion.turns),
                     "success": motion.success, "message": motion.message, "work": motion.work},
         "svg": svg, "axes": axes, "report_text": motion_text(motion, rig.title),
-        "warnings": bridge._problems(warnings), "cautions": list(CAUTIONS)}
+        "warnings": _bridge()._problems(warnings), "cautions": list(CAUTIONS)}
 
 
 def _op_loads(request: dict) -> dict:
     from .loads import loads
-    rig, warnings = bridge._rig(request)
+    rig, warnings = _bridge()._rig(request)
     r = _Reader(request)
     knock = r.field("knock_rad_s", "angular_rate", 0.0)
     cycles = request.get("cycles", 1)
@@ -200,7 +204,7 @@ def _op_loads(request: dict) -> dict:
     result = loads(rig, equilibrium=equilibrium, knock_rad_s=knock, cycles=cycles)
     svg, axes = loads_svg(result)
     return {"result": result, "svg": svg, "axes": axes, "report_text": loads_text(result),
-            "warnings": bridge._problems(warnings)}
+            "warnings": _bridge()._problems(warnings)}
 
 
 # ----------------------------------------------------------------------------- jobs
@@ -245,7 +249,7 @@ def _op_job_start(request: dict) -> dict:
     if kind not in JOB_KINDS:
         raise RigError([Problem("kind", f"{kind!r} is not allowed: use one of "
                                         + ", ".join(sorted(JOB_KINDS)))])
-    steps = JOB_KINDS[kind](*bridge._rig(request), request)
+    steps = JOB_KINDS[kind](*_bridge()._rig(request), request)
     job = next(_IDS)
     _JOBS[job] = {"kind": kind, "steps": steps, "last": {}, "fraction": 0.0}
     return {"job": job, "kind": kind}
@@ -282,7 +286,7 @@ def _op_job_cancel(request: dict) -> dict:
 
 def _op_tolerance(request: dict) -> dict:
     """The whole tolerance search (and the map with "map": true) in one call."""
-    rig, warnings = bridge._rig(request)
+    rig, warnings = _bridge()._rig(request)
     reply = _last(_tolerance_job(rig, warnings, request))
     if request.get("map"):
         result = reply["result"]
@@ -290,7 +294,7 @@ def _op_tolerance(request: dict) -> dict:
                  "release_rad": result["max_release_angle_rad"]}
         basin = _last(_basin_job(rig, warnings, {**request, **marks}))
         reply = {**reply, **basin, "report_text": tolerance_text(result, basin["basin"])}
-    return {**reply, "warnings": bridge._problems(warnings), "cautions": list(CAUTIONS)}
+    return {**reply, "warnings": _bridge()._problems(warnings), "cautions": list(CAUTIONS)}
 
 
 OPS = {
