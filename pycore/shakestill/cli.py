@@ -186,8 +186,7 @@ def main(argv=None) -> int:
     try:
         return args.func(args)
     except RigError as exc:
-        where = getattr(args, "rig", None) or "the demo rig"
-        print(f"shakestill: cannot use {where}:", file=sys.stderr)
+        print(f"shakestill {args.command}: cannot go on:", file=sys.stderr)
         for problem in exc.problems:
             print(f"  {problem.path}: {problem.message}", file=sys.stderr)
         return 2
