@@ -16,10 +16,10 @@ from .properties import properties
 from .rig import (Drive, Limits, Link, PointMass, Problem, Rig, RigError, dumps_rig, load_rig,
                   loads_rig, rig_from_dict, rig_to_dict, save_rig, with_operating_point)
 from .windows import window
+# loads() and tolerance() stay in their modules: a package attribute of the same name would
+# hide the submodules shakestill.loads and shakestill.tolerance.
 from .basin import basin_map
-from .loads import loads
 from .motion import Jump, Knock, Scenario, simulate
-from .tolerance import tolerance
 
 __all__ = [
     "__version__", "check", "demo_rig", "demo_rig_dict", "PivotState", "harmonics",
@@ -27,5 +27,5 @@ __all__ = [
     "monodromy", "stability", "chain", "linearise", "properties", "Drive", "Limits", "Link",
     "PointMass", "Problem", "Rig", "RigError", "dumps_rig", "load_rig", "loads_rig",
     "rig_from_dict", "rig_to_dict", "save_rig", "with_operating_point", "window",
-    "basin_map", "loads", "Jump", "Knock", "Scenario", "simulate", "tolerance",
+    "basin_map", "Jump", "Knock", "Scenario", "simulate",
 ]
