@@ -93,6 +93,12 @@ REGION_FILL = {  # verdict classes of the chart, with their legend words
     "neither": ("#efe9df", "neither stable"),
 }
 EDGE_INK = {"inverted": "#123a5a", "hanging": "#7a4f00"}
+# Acceleration view: speeds at which that peak acceleration needs more than the
+# mechanism's stroke are hatched, not painted as "neither stable".
+OUT_OF_REACH = ('<pattern id="out-of-reach" width="6" height="6" patternUnits="userSpaceOnUse" '
+                'patternTransform="rotate(45)"><rect width="6" height="6" fill="#ffffff"/>'
+                '<line x1="0" y1="0" x2="0" y2="6" stroke="#9a9a9a" stroke-width="1.5"/></pattern>',
+                "needs more stroke")
 PLOT_BOX = (64, 24, 150, 52)  # left, top, right (legend room), bottom margins in px
 
 
@@ -130,6 +136,53 @@ def _classes(row) -> list[tuple[float, float, str]]:
     return spans
 
 
+def _row_spans(row, x0: float) -> list[tuple[float, float, str]]:
+    spans = _classes(row)
+    if row.speed_min > x0:  # acceleration rows start where the stroke fits
+        spans.insert(0, (x0, row.speed_min, "out-of-reach"))
+    return spans
+
+
+def _region_paths(chart, px, py) -> dict[str, str]:
+    """SVG path data per verdict class (background "neither" left out).
+
+    Between two rows whose spans have the same classes in the same order, each
+    span is a trapezoid joining its ends on both rows, so the fill follows the
+    refined edges instead of stepping; elsewhere each row paints half-way to
+    its neighbours. One path per class keeps anti-aliasing seams away.
+    """
+    rows = chart.rows
+    x0 = chart.speed_range[0]
+    y0, y1 = chart.y_range
+    spans = [_row_spans(r, x0) for r in rows]
+    parts: dict[str, list[str]] = {}
+
+    def poly(cls, pts):
+        if cls != "neither":
+            parts.setdefault(cls, []).append(
+                "M" + "L".join(f"{_f(px(x))},{_f(py(y))}" for x, y in pts) + "Z")
+
+    def band(i, lo_y, hi_y):
+        for a, b, cls in spans[i]:
+            poly(cls, [(a, lo_y), (b, lo_y), (b, hi_y), (a, hi_y)])
+
+    if rows:
+        band(0, max(y0, rows[0].y - 0.5 * (rows[1].y - rows[0].y) if len(rows) > 1 else y0),
+             rows[0].y)
+        band(-1, rows[-1].y, min(y1, rows[-1].y + 0.5 * (rows[-1].y - rows[-2].y)
+                                  if len(rows) > 1 else y1))
+    for i in range(len(rows) - 1):
+        lo, hi = rows[i], rows[i + 1]
+        if [c for *_, c in spans[i]] == [c for *_, c in spans[i + 1]]:
+            for (a, b, cls), (c, d, _) in zip(spans[i], spans[i + 1]):
+                poly(cls, [(a, lo.y), (b, lo.y), (d, hi.y), (c, hi.y)])
+        else:
+            mid = 0.5 * (lo.y + hi.y)
+            band(i, lo.y, mid)
+            band(i + 1, mid, hi.y)
+    return {cls: "".join(p) for cls, p in parts.items()}
+
+
 def chart_svg(chart, rig: Rig, *, width_px: int = 760, height_px: int = 470,
               boundaries: list[dict] | None = None, accel_lines: list[tuple] = ()) -> tuple[str, dict]:
     """The stability chart as SVG, and its axis mapping {x: {...}, y: {...}}.
@@ -163,20 +216,11 @@ def chart_svg(chart, rig: Rig, *, width_px: int = 760, height_px: int = 470,
            'font-family="system-ui, sans-serif">', f"<title>{esc(title)}</title>",
            f'<rect x="{left}" y="{top}" width="{width_px - left - right}" '
            f'height="{height_px - top - bottom}" fill="{REGION_FILL["neither"][0]}"/>']
-    rows = chart.rows
-    ys = [r.y for r in rows]
-    for i, row in enumerate(rows):
-        lo_y = 0.5 * (ys[i - 1] + row.y) if i else row.y
-        hi_y = 0.5 * (row.y + ys[i + 1]) if i + 1 < len(rows) else row.y
-        if i == 0:
-            lo_y = max(y0, row.y - (hi_y - row.y))
-        if i + 1 == len(rows):
-            hi_y = min(y1, row.y + (row.y - lo_y))
-        for a, b, cls in _classes(row):
-            if cls == "neither":
-                continue
-            out.append(f'<rect x="{_f(px(a))}" y="{_f(py(hi_y))}" width="{_f(px(b) - px(a))}" '
-                       f'height="{_f(py(lo_y) - py(hi_y) + 0.3)}" fill="{REGION_FILL[cls][0]}"/>')
+    if not stroke_axis:
+        out.append(f"<defs>{OUT_OF_REACH[0]}</defs>")
+    for cls, d in _region_paths(chart, px, py).items():
+        fill = "url(#out-of-reach)" if cls == "out-of-reach" else REGION_FILL[cls][0]
+        out.append(f'<path d="{d}" fill="{fill}"/>')
     for line in boundaries or []:
         pts = " ".join(f"{_f(px(x))},{_f(py(y))}" for x, y in line["points"])
         out.append(f'<polyline points="{pts}" fill="none" stroke="{EDGE_INK[line["equilibrium"]]}" '
@@ -232,6 +276,11 @@ def chart_svg(chart, rig: Rig, *, width_px: int = 760, height_px: int = 470,
                    f'stroke-width="0.5"/><text x="{lx + 20}" y="{y + 11}" font-size="11" '
                    f'fill="{INK}">{words}</text>')
     y = top + 8 + 4 * 20 + 6
+    if not stroke_axis:
+        out.append(f'<rect x="{lx}" y="{y - 4}" width="14" height="14" fill="url(#out-of-reach)" '
+                   f'stroke="{INK}" stroke-width="0.5"/><text x="{lx + 20}" y="{y + 7}" '
+                   f'font-size="11" fill="{INK}">{OUT_OF_REACH[1]}</text>')
+        y += 20
     out.append(f'<circle cx="{lx + 7}" cy="{y + 7}" r="5" fill="none" stroke="#b0122b" '
                f'stroke-width="2"/><text x="{lx + 20}" y="{y + 11}" font-size="11" '
                f'fill="{INK}">operating point</text>')

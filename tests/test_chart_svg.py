@@ -1,0 +1,113 @@
+"""The chart's painted regions against the Mathieu stability bands (scipy.special)."""
+
+import math
+import random
+import re
+import xml.etree.ElementTree as ET
+
+import pytest
+from scipy.special import mathieu_a, mathieu_b
+
+import shakestill as ss
+from shakestill.chart import chart, render
+
+G = 9.80665
+NS = "{http://www.w3.org/2000/svg}"
+
+
+def sine_rig():
+    return ss.rig_from_dict({
+        "format": "shakestill-rig", "version": 1,
+        "links": [{"length_m": 0.3, "rod_mass_kg": 0.1}],
+        "drive": {"waveform": "sine", "stroke_m": 0.02, "speed_rpm": 1500},
+        "limits": {"speed_rpm": [60, 3000], "stroke_m": [0.0, 0.05]}})
+
+
+def mathieu_stable(a: float, q: float) -> bool:
+    # DLMF 28.17: for q > 0, a0 < b1 < a1 < b2 < ...; y'' + (a - 2q cos 2z) y = 0 is
+    # stable for a in (a_n, b_{n+1}) and unstable in (b_n, a_n) and below a_0.
+    q = abs(q)
+    if a < mathieu_a(0, q):
+        return False
+    for n in range(0, 40):
+        if a < mathieu_b(n + 1, q):
+            return True
+        if a < mathieu_a(n + 1, q):
+            return False
+    raise ValueError("a beyond the bands this test looks at")
+
+
+def painted(svg: str) -> list[tuple[str, list[list[tuple[float, float]]]]]:
+    """(fill, polygons) of every region path of the chart."""
+    out = []
+    for el in ET.fromstring(svg).iter(f"{NS}path"):
+        polys = [[tuple(map(float, p.split(","))) for p in re.split("[ML]", sub) if p]
+                 for sub in el.get("d").split("Z") if sub]
+        out.append((el.get("fill"), polys))
+    return out
+
+
+def inside(poly, x, y) -> bool:  # even-odd ray casting
+    hit = False
+    for (x1, y1), (x2, y2) in zip(poly, poly[1:] + poly[:1]):
+        if (y1 > y) != (y2 > y) and x < x1 + (y - y1) * (x2 - x1) / (y2 - y1):
+            hit = not hit
+    return hit
+
+
+def fill_at(regions, x, y):
+    for fill, polys in regions:
+        if any(inside(p, x, y) for p in polys):
+            return fill
+    return None  # the background: neither stable
+
+
+def to_px(axes, speed, y):
+    ax, ay = axes["x"], axes["y"]
+    return (ax["px_min"] + (speed - ax["min"]) / (ax["max"] - ax["min"]) * (ax["px_max"] - ax["px_min"]),
+            ay["px_min"] + (y - ay["min"]) / (ay["max"] - ay["min"]) * (ay["px_max"] - ay["px_min"]))
+
+
+def verdicts(l_eq, speed, stroke):
+    w = 2 * math.pi * speed / 60
+    a = 4 * G / (l_eq * w * w)
+    q = stroke / l_eq  # sine pivot (stroke/2) cos(w t), z = w t / 2
+    return mathieu_stable(-a, q), mathieu_stable(a, q)
+
+
+@pytest.mark.parametrize("y_axis", ["stroke", "accel"])
+def test_painted_regions_match_mathieu_bands(y_axis):
+    # Undamped sine drive: away from the transition curves (3% in speed, one row in y), the
+    # colour under a random point is the class the Mathieu bands give (scipy.special),
+    # and in the acceleration view points needing more than the maximum stroke are hatched.
+    rig = sine_rig()
+    c = chart(rig, rows=30, y_axis=y_axis)
+    svg, axes = render(c, rig)
+    regions = painted(svg)
+    from shakestill.svg import REGION_FILL
+    fill_of = {v[0]: k for k, v in REGION_FILL.items()}
+    fill_of["url(#out-of-reach)"] = "out-of-reach"
+    l_eq = ss.properties(rig).l_eq_m
+    (x0, x1), (y0, y1) = c.speed_range, c.y_range
+    dy = (y1 - y0) / 30
+    rng = random.Random(3)
+    checked = 0
+    for _ in range(400):
+        speed, y = rng.uniform(x0, x1), rng.uniform(y0 + dy, y1 - dy)
+        stroke_of = (lambda s, v: v) if y_axis == "stroke" else (
+            lambda s, v: 2 * v / (2 * math.pi * s / 60) ** 2)  # sine: peak accel = (stroke/2) w^2
+        corners = [(s, v) for s in (speed * 0.97, speed, speed * 1.03) for v in (y - dy, y + dy)]
+        if any(stroke_of(s, v) > 0.05 for s, v in corners):
+            if all(stroke_of(s, v) > 0.05 for s, v in corners):
+                assert fill_of.get(fill_at(regions, *to_px(axes, speed, y))) == "out-of-reach"
+                checked += 1
+            continue
+        classes = {verdicts(l_eq, s, stroke_of(s, v)) for s, v in corners}
+        if len(classes) > 1:
+            continue  # too near an edge for a 30-row picture
+        inv, hang = classes.pop()
+        want = "both" if inv and hang else "inverted" if inv else "hanging" if hang else "neither"
+        got = fill_of.get(fill_at(regions, *to_px(axes, speed, y)), "neither")
+        assert got == want, (speed, y)
+        checked += 1
+    assert checked > 150
