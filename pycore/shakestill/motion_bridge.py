@@ -168,6 +168,10 @@ def _simulate_job(rig, warnings, request):
     except StopIteration as stop:
         motion = stop.value
     points = [points_m(m, q, y) for q, y in zip(motion.angles_rad, motion.pivot_y_m)]
+    # Every stroboscopic sample is at the same drive phase, so at the same pivot height;
+    # positions here let the page draw the samples without geometry of its own.
+    strobe_y = m.kinematics(sc.strobe_phase_rad)[0] if sc.strobe_phase_rad is not None else 0.0
+    strobe_points = [points_m(m, q, strobe_y) for q in motion.strobe_angles_rad]
     svg, axes = motion_svg(motion, rig.title or "Link angles") if motion.t_s else (None, None)
     yield 1.0, {
         "stage": "done",
@@ -179,7 +183,10 @@ def _simulate_job(rig, warnings, request):
         "frame_rate_hz": sc.frame_rate_hz, "links": rig.n_links,
         "strobe": {"t_s": list(motion.strobe_t_s), "phase_rad": sc.strobe_phase_rad,
                    "angles_rad": [list(q) for q in motion.strobe_angles_rad],
-                   "rates_rad_s": [list(w) for w in motion.strobe_rates_rad_s]},
+                   "rates_rad_s": [list(w) for w in motion.strobe_rates_rad_s],
+                   "pivot_y_m": strobe_y,
+                   "x_m": [[p[0] for p in pts] for pts in strobe_points],
+                   "y_m": [[p[1] for p in pts] for pts in strobe_points]},
         "events": [{**e.as_dict(), "link": None if e.link is None else e.link + 1}
                    for e in motion.events],
         "summary": {"end_t_s": motion.end_t_s, "fell": motion.fell, "turns": list(motion.turns),
