@@ -168,8 +168,9 @@ function receive(message) {
     refuse(message, failure);
     return;
   }
-  // A newer request of the same op makes an older one that has not started pointless.
-  for (const old of queue.filter((queued) => queued.op === message.op)) {
+  // A newer request of the same op makes an older one that has not started pointless
+  // (for the steps of a job: of the same job; two jobs may run side by side).
+  for (const old of queue.filter((queued) => queued.op === message.op && queued.job === message.job)) {
     drop(old, `Replaced by a newer ${message.op} request before it started.`);
   }
   queue.push(message);
