@@ -6,6 +6,8 @@ import { h, replaceChildren } from "./dom.js";
 import { draftFromRig, rigFromDraft } from "./draft.js";
 import { fileNameFor, download, readRigFile } from "./rig-file.js";
 import { createChartView } from "./chart-view.js";
+import { createLoadsView } from "./loads-view.js";
+import { createMotionView } from "./motion-view.js";
 import { createReport } from "./report-view.js";
 import { createRigForm } from "./rig-form.js";
 import { createRunupView } from "./runup-view.js";
@@ -13,6 +15,7 @@ import { showSchematic } from "./schematic-view.js";
 import { clearFragment, copyText, currentFragment, linkFor } from "./share.js";
 import { autosave } from "./storage.js";
 import { policy } from "./trusted.js";
+import { createToleranceView } from "./tolerance-view.js";
 import { Cancelled, EngineClient, startEngineWorker } from "./worker-client.js";
 
 // Long enough to cover a burst of typing, short enough to feel immediate.
@@ -177,6 +180,8 @@ const chart = createChartView({
   note: $("chart-note"),
 }, { engine, onPick: pickOperatingPoint });
 
+const currentRig = () => state.draft && rigFromDraft(state.draft);
+
 const runup = createRunupView({
   form: $("runup-form"),
   rate: $("runup-rate"),
@@ -184,7 +189,42 @@ const runup = createRunupView({
   factor: $("runup-factor"),
   messages: $("runup-messages"),
   out: $("runup-result"),
-}, { engine, getRig: () => state.draft && rigFromDraft(state.draft) });
+}, { engine, getRig: currentRig });
+
+const motion = createMotionView({
+  form: $("motion-form"),
+  start: $("motion-start"),
+  angle: $("motion-angle"),
+  duration: $("motion-duration"),
+  knock: $("motion-knock"),
+  knockGo: $("motion-knock-go"),
+  status: $("motion-status"),
+  progress: $("motion-progress"),
+  cancel: $("motion-cancel"),
+  anim: $("motion-anim"),
+  play: $("motion-play"),
+  time: $("motion-time"),
+  clock: $("motion-clock"),
+  slow: $("motion-slow"),
+  strobe: $("motion-strobe"),
+  events: $("motion-events"),
+  plot: $("motion-plot"),
+  msgs: { angle: $("motion-angle-msg"), duration: $("motion-duration-msg"), knock: $("motion-knock-msg") },
+}, { engine, getRig: currentRig });
+
+const tolerance = createToleranceView({
+  go: $("tolerance-go"),
+  basinGo: $("basin-go"),
+  size: $("basin-size"),
+  cancel: $("tolerance-cancel"),
+  progress: $("tolerance-progress"),
+  status: $("tolerance-status"),
+  out: $("tolerance-result"),
+  basin: $("basin-map"),
+}, { engine, getRig: currentRig });
+
+const loads = createLoadsView({ go: $("loads-go"), out: $("loads-result") },
+  { engine, getRig: currentRig, getEquilibrium: () => motion.reference });
 
 /** A point picked on the map becomes the operating point: typed into the sheet like an edit. */
 function pickOperatingPoint({ speed_rpm, stroke_m }) {
@@ -201,6 +241,9 @@ function pickOperatingPoint({ speed_rpm, stroke_m }) {
 /** The map follows the rig, a few seconds after the last edit that changes it. */
 function mapFollows(rig) {
   runup.rigChanged();
+  motion.rigChanged(rig);
+  tolerance.rigChanged(rig);
+  loads.rigChanged(rig);
   if (!chart.setRig(rig)) return;
   clearTimeout(state.chartTimer);
   chart.stop();
@@ -272,6 +315,7 @@ function compute() {
       form.showProblems([], reply.warnings || []);
       report.show(reply);
       chart.setOperatingPoint(reply.result);
+      motion.setOperatingPoint(reply.result);
     } else if (reply.problems) {
       form.showProblems(reply.problems, reply.warnings || []);
       report.stale(reply.problems);

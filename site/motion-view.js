@@ -1,0 +1,309 @@
+// The motion panel: the core's `simulate` run as a job (progress, cancel),
+// played back to scale (animation.js), slowed down or stroboscopic, knocked
+// while it plays, with the core's plot of the angles, its events and its words.
+// No physics here: a knock re-runs the simulation in the core with the knock
+// added at the time on show, and play continues from there.
+
+import { h, replaceChildren } from "./dom.js";
+import { createAnimation } from "./animation.js";
+import { Runner, num, withUnit } from "./motion-job.js";
+import { svgNode } from "./schematic-view.js";
+
+const FRAMES_PER_CYCLE = 24; // frames per drive cycle: slow motion shows each shake smoothly
+const MIN_FRAME_RATE_HZ = 60; // at least one frame per screen refresh in real time
+const MAX_FRAMES = 9000; // frames in one run: keeps a reply near 2 MB
+const MAX_RUN_S = 120; // the page's longest run (the command line runs longer)
+const KNOCK_TAIL_S = 3; // a knock near the end lengthens the run to this long after it
+const SVG_NS = "http://www.w3.org/2000/svg";
+const PLAIN = /^[-+]?(\d+\.?\d*|\.\d+)(e[-+]?\d+)?$/i;
+
+/**
+ * @param {object} els {form, start, angle, duration, knock, knockGo, status, progress, cancel,
+ *                      anim, play, time, clock, slow, strobe, events, plot, msgs: {angle, duration, knock}}
+ * @param {object} deps {engine, getRig()}
+ */
+export function createMotionView(els, { engine, getRig }) {
+  const runner = new Runner(engine);
+  const animation = createAnimation(els.anim, "The rig, drawn to scale, moving as simulated");
+  const state = {
+    frequencyHz: null, // drive frequency from the last check: sets the frame rate
+    shown: null, // {reply, request, rigKey} of the run on show
+    time: 0,
+    playing: false,
+    last: 0, // wall-clock ms of the last animation frame
+    raf: 0,
+    playhead: null, // the time line drawn on the core's plot
+  };
+  const fields = {
+    duration: { input: els.duration, msg: els.msgs.duration, label: "Run length" },
+    angle: { input: els.angle, msg: els.msgs.angle, label: "Initial angle" },
+    knock: { input: els.knock, msg: els.msgs.knock, label: "Knock size" },
+  };
+
+  // ------------------------------------------------------------ fields and problems
+
+  function fieldFor(path) {
+    if (path.startsWith("duration_s")) return fields.duration;
+    if (path.startsWith("angles_rad")) return fields.angle;
+    if (path.startsWith("knocks")) return fields.knock;
+    return null;
+  }
+
+  /** Messages beside the fields they name; anything else (the rig's own problems) in the status. */
+  function showProblems(problems) {
+    for (const f of Object.values(fields)) {
+      f.input.removeAttribute("aria-invalid");
+      f.msg.hidden = true;
+      f.msg.textContent = "";
+    }
+    const other = [];
+    for (const p of problems) {
+      const f = fieldFor(p.path);
+      if (!f) {
+        other.push(p);
+        continue;
+      }
+      f.input.setAttribute("aria-invalid", "true");
+      f.msg.textContent = `${f.msg.textContent ? `${f.msg.textContent} ` : ""}${f.label}: ${p.message}.`;
+      f.msg.hidden = false;
+    }
+    if (other.length) status("The motion waits for a rig without problems: fix the marked fields in the rig sheet.");
+    else if (problems.length) status("Nothing was run: see the message beside the field.");
+  }
+
+  /** The request's fields from the panel, or {problems} found before asking the core. */
+  function read() {
+    const rig = getRig();
+    const n = Array.isArray(rig?.links) ? Math.max(1, rig.links.length) : 1;
+    const reference = els.start.value;
+    const durationText = els.duration.value.trim();
+    const angleText = els.angle.value.trim().replace(/\s*(deg|°)$/i, "");
+    const problems = [];
+    const seconds = PLAIN.test(durationText) ? Number(durationText) : null;
+    if (seconds !== null && seconds > MAX_RUN_S) {
+      problems.push({ path: "duration_s", message: `"${els.duration.value}" is more than allowed: at most `
+        + `${MAX_RUN_S} s on this page (the command line runs longer)` });
+    }
+    let angle = withUnit(els.angle.value, "deg");
+    if (PLAIN.test(angleText)) {
+      // angles go to the core from the upward vertical; the field is from the start position
+      angle = `${Number(angleText) + (reference === "hanging" ? 180 : 0)} deg`;
+    } else if (reference === "hanging") {
+      problems.push({ path: "angles_rad", message: `"${els.angle.value}" is not allowed: type degrees `
+        + "from the hanging position, such as 10" });
+    }
+    const rate = frameRate(seconds ?? 5);
+    return { rig, problems, request: { reference, duration_s: withUnit(durationText, "s"),
+                                       angles_rad: Array(n).fill(angle), knocks: [], frame_rate_hz: rate } };
+  }
+
+  function frameRate(seconds) {
+    const perCycle = state.frequencyHz ? FRAMES_PER_CYCLE * state.frequencyHz : MIN_FRAME_RATE_HZ;
+    return Math.round(Math.max(MIN_FRAME_RATE_HZ, Math.min(perCycle, MAX_FRAMES / Math.max(seconds, 1e-3))));
+  }
+
+  // ------------------------------------------------------------ running
+
+  function status(words, fraction = null) {
+    els.status.textContent = words;
+    if (fraction !== null) els.progress.value = fraction;
+  }
+
+  function busy(on) {
+    els.cancel.hidden = !on;
+    els.anim.setAttribute("aria-busy", on ? "true" : "false");
+  }
+
+  /** Run the panel's scenario; with `knock`, the shown run again plus that knock. */
+  async function run(knock = null) {
+    const { rig, problems, request } = read();
+    if (!rig) return;
+    state.runKey = JSON.stringify(rig);
+    if (!knock) showProblems(problems);
+    if (problems.length && !knock) return;
+    let startAt = 0;
+    let req = request;
+    if (knock) {
+      const before = state.shown.request;
+      req = { ...before, knocks: [...before.knocks, knock] };
+      const end = state.shown.reply.summary.end_t_s;
+      if (knock.t_s + KNOCK_TAIL_S > end) {
+        req.duration_s = `${Number((knock.t_s + KNOCK_TAIL_S).toFixed(4))} s`;
+        req.frame_rate_hz = Math.min(req.frame_rate_hz, frameRate(knock.t_s + KNOCK_TAIL_S));
+      }
+      startAt = knock.t_s;
+    }
+    busy(true);
+    status(knock ? `Knock at ${num(knock.t_s, 5)} s: working out the motion from there…`
+      : "Simulating the motion…", 0);
+    const reply = await runner.start("simulate", { rig, ...req },
+      (step) => status(`${knock ? "Knocked run" : "Simulating"}: ${Math.round(step.fraction * 100)}%`, step.fraction));
+    if (reply === null) return; // stopped: a newer run, a cancel or a rig edit
+    busy(false);
+    if (!reply.ok) {
+      if (reply.problems) showProblems(reply.problems);
+      else status(`The motion could not be worked out: ${reply.error}`);
+      return;
+    }
+    showProblems([]);
+    show(reply, req, JSON.stringify(rig), startAt);
+    if (knock) play();
+  }
+
+  function knockNow() {
+    if (!state.shown) return;
+    const t = Number(state.time.toFixed(4));
+    pause();
+    seek(t);
+    run({ t_s: t, rate_rad_s: withUnit(els.knock.value, "rad/s"), link: 1 });
+  }
+
+  // ------------------------------------------------------------ showing a run
+
+  function show(reply, request, rigKey, startAt) {
+    state.shown = { reply, request, rigKey };
+    const end = reply.summary.end_t_s;
+    els.anim.dataset.request = JSON.stringify(request);
+    els.anim.dataset.summary = JSON.stringify(reply.summary);
+    els.anim.dataset.events = JSON.stringify(reply.events);
+    els.anim.dataset.endAngles = JSON.stringify(reply.frames.angles_rad.at(-1) ?? null);
+    els.anim.dataset.state = "fresh";
+    animation.build(reply);
+    els.anim.setAttribute("aria-label", `The rig drawn to scale, moving as simulated over ${num(end, 4)} s`);
+    els.time.max = String(end);
+    els.time.step = String(1 / reply.frame_rate_hz);
+    for (const c of [els.time, els.play, els.knockGo]) c.disabled = false;
+    showPlot(reply);
+    showEvents(reply);
+    status(`Run of ${num(end, 4)} s: ${reply.frames.t_s.length} frames (${num(reply.frame_rate_hz, 4)} per second), `
+      + `${reply.strobe.t_s.length} once-per-cycle samples.`, 1);
+    seek(startAt);
+  }
+
+  function showPlot(reply) {
+    state.playhead = null;
+    if (!reply.svg) {
+      replaceChildren(els.plot, h("p", { class: "empty" }, "No plot: the run has no frames."));
+      return;
+    }
+    const svg = svgNode(reply.svg, "Link angles against time");
+    if (reply.axes?.x?.unit === "s") {
+      const line = document.createElementNS(SVG_NS, "line");
+      line.setAttribute("class", "playhead");
+      line.setAttribute("y1", reply.axes.y.px_max);
+      line.setAttribute("y2", reply.axes.y.px_min);
+      svg.append(line);
+      state.playhead = { line, axis: reply.axes.x };
+    }
+    els.plot.replaceChildren(svg);
+    els.plot.dataset.state = "fresh";
+    els.plot.dataset.axes = JSON.stringify(reply.axes);
+  }
+
+  function showEvents(reply) {
+    const { summary, events } = reply;
+    const fell = summary.fell;
+    const where = state.shown.request.reference === "hanging" ? "hanging" : "upright";
+    const items = events.map((e) => h("li", { "data-kind": e.kind },
+      h("strong", {}, `${num(e.t_s, 5)} s`), ` ${e.kind}: ${e.message || ""}`));
+    replaceChildren(els.events,
+      h("p", { class: `runup-summary ${fell ? "is-not-met" : "is-met"}`, role: "status" },
+        fell ? "It fell: a link passed the horizontal, away from the start position."
+          : `It stayed within a quarter turn of the ${where} position for the whole run.`),
+      summary.success ? null : h("p", { class: "msg is-problem" }, `The run stopped early: ${summary.message}`),
+      items.length ? h("ol", { class: "event-list" }, items) : h("p", { class: "hint" }, "No events in this run."),
+      h("details", { class: "report-text" },
+        h("summary", {}, "The run in the command line's words"), h("pre", {}, reply.report_text)));
+  }
+
+  // ------------------------------------------------------------ playback
+
+  function seek(time) {
+    if (!state.shown) return;
+    const end = state.shown.reply.summary.end_t_s;
+    state.time = Math.min(end, Math.max(0, time));
+    const p = animation.at(state.time, els.strobe.checked);
+    els.time.value = String(state.time);
+    els.clock.textContent = els.strobe.checked && p
+      ? `${state.time.toFixed(3)} s (sample at ${p.t.toFixed(3)} s)` : `${state.time.toFixed(3)} s`;
+    els.anim.dataset.time = String(state.time);
+    if (state.playhead) {
+      const a = state.playhead.axis;
+      const x = a.px_min + ((state.time - a.min) / (a.max - a.min)) * (a.px_max - a.px_min);
+      state.playhead.line.setAttribute("x1", x);
+      state.playhead.line.setAttribute("x2", x);
+    }
+  }
+
+  function tick(now) {
+    if (!state.playing) return;
+    const slow = Number(els.slow.value) || 1;
+    const dt = Math.min(0.1, (now - state.last) / 1000); // a hidden tab does not leap ahead
+    state.last = now;
+    seek(state.time + dt / slow);
+    if (state.time >= state.shown.reply.summary.end_t_s) {
+      pause();
+      return;
+    }
+    state.raf = requestAnimationFrame(tick);
+  }
+
+  function play() {
+    if (!state.shown || state.playing) return;
+    if (state.time >= state.shown.reply.summary.end_t_s) seek(0);
+    state.playing = true;
+    state.last = performance.now();
+    els.play.textContent = "Pause";
+    els.play.setAttribute("aria-pressed", "true");
+    els.anim.dataset.playing = "true";
+    state.raf = requestAnimationFrame(tick);
+  }
+
+  function pause() {
+    state.playing = false;
+    cancelAnimationFrame(state.raf);
+    els.play.textContent = "Play";
+    els.play.setAttribute("aria-pressed", "false");
+    els.anim.dataset.playing = "false";
+  }
+
+  // ------------------------------------------------------------ controls
+
+  els.form.addEventListener("submit", (event) => {
+    event.preventDefault();
+    pause();
+    run();
+  });
+  els.play.addEventListener("click", () => (state.playing ? pause() : play()));
+  els.time.addEventListener("input", () => seek(Number(els.time.value)));
+  els.strobe.addEventListener("change", () => seek(state.time));
+  els.knockGo.addEventListener("click", knockNow);
+  els.cancel.addEventListener("click", async () => {
+    await runner.stop();
+    busy(false);
+    status(state.shown ? "Run cancelled: the run shown before is kept." : "Run cancelled.");
+  });
+
+  return {
+    /** The rig on the sheet changed: running work stops; a shown run is of the old rig. */
+    rigChanged(rig) {
+      const key = JSON.stringify(rig);
+      if (runner.running && state.runKey !== key) {
+        runner.stop();
+        busy(false);
+        status("The rig changed while the motion was worked out: run it again.");
+      }
+      if (state.shown && state.shown.rigKey !== key && els.anim.dataset.state === "fresh") {
+        els.anim.dataset.state = "stale";
+        status("This motion is of the rig before your last edit: run it again for the rig on the sheet.");
+      }
+    },
+    /** The last check's numbers (only the drive frequency is used, for the frame rate). */
+    setOperatingPoint(result) {
+      state.frequencyHz = Number.isFinite(result.frequency_hz) ? result.frequency_hz : null;
+    },
+    get reference() {
+      return els.start.value;
+    },
+  };
+}

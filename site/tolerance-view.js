@@ -1,0 +1,151 @@
+// Knock tolerance and the recovery map: the core's `tolerance` and `basin`
+// motion jobs, stepped with progress and Cancel. The simulated tolerance is
+// shown beside Kapitza's closed-form estimate, labelled as an estimate; the
+// map is the core's SVG, redrawn after every step as it fills in.
+
+import { h, replaceChildren } from "./dom.js";
+import { Runner, num } from "./motion-job.js";
+import { svgNode } from "./schematic-view.js";
+
+const DEG = 180 / Math.PI; // display only: the core gives radians and degrees alike
+
+/**
+ * @param {object} els {go, basinGo, size, cancel, progress, status, out, basin}
+ * @param {object} deps {engine, getRig()}
+ */
+export function createToleranceView(els, { engine, getRig }) {
+  const runner = new Runner(engine);
+  let result = null; // the last tolerance result, whose edges the map marks
+  let rigKey = "";
+
+  function status(words, fraction = null) {
+    els.status.textContent = words;
+    if (fraction !== null) els.progress.value = fraction;
+  }
+
+  function busy(on) {
+    els.cancel.hidden = !on;
+    els.out.setAttribute("aria-busy", on ? "true" : "false");
+  }
+
+  function failed(reply, what) {
+    status(reply.problems
+      ? `The ${what} waits for a rig without problems: fix the marked fields in the rig sheet.`
+      : `The ${what} could not be worked out: ${reply.error}`);
+  }
+
+  async function findTolerance() {
+    const rig = getRig();
+    if (!rig) return;
+    rigKey = JSON.stringify(rig);
+    busy(true);
+    status("Finding the knock tolerance: knocks and releases, larger each time, then halving the gap…", 0);
+    const reply = await runner.start("tolerance", { rig },
+      (step) => status(`Finding the knock tolerance: ${Math.round(step.fraction * 100)}%`, step.fraction));
+    if (reply === null) return;
+    busy(false);
+    if (!reply.ok) {
+      failed(reply, "knock tolerance");
+      return;
+    }
+    status("Knock tolerance found.", 1);
+    showTolerance(reply);
+  }
+
+  function showTolerance(reply) {
+    result = reply.result;
+    els.out.dataset.state = "fresh";
+    els.out.dataset.result = JSON.stringify(result);
+    const est = result.estimates || {};
+    const edgeNote = (name, part) => {
+      if (!part) return null;
+      const notes = [`found to within ${num(part.precision * 100, 2)}% by halving`];
+      if (part.fragmented) notes.push("the edge is fragmented (recoveries and falls interleave near it)");
+      if (part.message) notes.push(part.message);
+      return h("li", {}, `${name}: ${notes.join("; ")}.`);
+    };
+    replaceChildren(els.out,
+      result.stable ? null : h("p", { class: "runup-summary is-not-met", role: "status" },
+        `No knock is tolerated: ${result.message || "the upright position is unstable here"}.`),
+      h("table", { class: "est-table tolerance-table" },
+        h("thead", {}, h("tr", {}, h("th", { scope: "col" }, "Upright pendulum recovers from"),
+          h("th", { scope: "col" }, "Simulated"),
+          h("th", { scope: "col" }, "Estimate (Kapitza's averaged potential)"))),
+        h("tbody", {},
+          h("tr", { "data-key": "knock" }, h("th", { scope: "row" }, "a knock up to"),
+            h("td", { "data-value": result.max_knock_rad_s }, `${num(result.max_knock_rad_s)} rad/s`),
+            h("td", { "data-value": est.knock_rad_s }, `${num(est.knock_rad_s)} rad/s (estimate)`)),
+          h("tr", { "data-key": "release" }, h("th", { scope: "row" }, "a release from rest at an angle up to"),
+            h("td", { "data-value": result.max_release_angle_rad },
+              `${num(result.max_release_angle_rad * DEG)}° (${num(result.max_release_angle_rad)} rad)`),
+            h("td", { "data-value": est.release_angle_rad },
+              `${num(est.release_angle_rad * DEG)}° (${num(est.release_angle_rad)} rad) (estimate)`)))),
+      h("ul", { class: "eq-notes" }, edgeNote("Knock", result.knock), edgeNote("Release", result.release),
+        est.note ? h("li", {}, `Estimate: ${est.note}.`) : null,
+        h("li", {}, "A knock is a sudden turning rate given to the first link at drive phase 0; recovered "
+          + "means no link passes the horizontal in a run of at least 10 s.")),
+      h("details", { class: "report-text" }, h("summary", {}, "The same in the command line's words"),
+        h("pre", {}, reply.report_text)));
+  }
+
+  async function mapRecovery() {
+    const rig = getRig();
+    if (!rig) return;
+    rigKey = JSON.stringify(rig);
+    const size = Number(els.size.value);
+    const marks = result && result.stable
+      ? { knock_rad_s: result.max_knock_rad_s, release_rad: result.max_release_angle_rad } : {};
+    busy(true);
+    els.basin.hidden = false;
+    els.basin.dataset.state = "running";
+    status(`Mapping recovery over ${size} × ${size} starts: the first picture comes in a moment…`, 0);
+    const reply = await runner.start("basin", { rig, size, ...marks }, (step) => {
+      if (step.svg) showMap(step, "running");
+      status(`Mapping recovery: ${Math.round(step.fraction * 100)}% (the picture so far is shown)`, step.fraction);
+    });
+    if (reply === null) return;
+    busy(false);
+    if (!reply.ok) {
+      els.basin.dataset.state = "stale";
+      failed(reply, "recovery map");
+      return;
+    }
+    showMap(reply, "done");
+    status(`Recovery map complete: ${reply.basin.message || "done"}.`, 1);
+  }
+
+  function showMap(step, mapState) {
+    els.basin.replaceChildren(svgNode(step.svg, "Recovery map over start angle and rate"));
+    els.basin.dataset.state = mapState;
+    els.basin.dataset.axes = JSON.stringify(step.axes);
+    if (mapState === "done") {
+      els.basin.append(h("p", { class: "hint" }, `${step.basin.method}; ${step.basin.message}.`));
+    }
+  }
+
+  els.go.addEventListener("click", findTolerance);
+  els.basinGo.addEventListener("click", mapRecovery);
+  els.cancel.addEventListener("click", async () => {
+    await runner.stop();
+    busy(false);
+    if (els.basin.dataset.state === "running") els.basin.dataset.state = "cancelled";
+    status("Cancelled: what is shown is what was finished.");
+  });
+
+  return {
+    /** The rig changed: running work stops; shown numbers are of the old rig. */
+    rigChanged(rig) {
+      const key = JSON.stringify(rig);
+      if (key === rigKey) return;
+      if (runner.running) {
+        runner.stop();
+        busy(false);
+        status("The rig changed: the work in progress was stopped. Start it again for the new rig.");
+      } else if (els.out.dataset.state === "fresh" || els.basin.dataset.state === "done") {
+        status("These numbers are of the rig before your last edit: work them out again.");
+      }
+      if (els.out.dataset.state === "fresh") els.out.dataset.state = "stale";
+      if (els.basin.dataset.state === "done") els.basin.dataset.state = "stale";
+    },
+  };
+}
