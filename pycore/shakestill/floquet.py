@@ -12,6 +12,7 @@ from __future__ import annotations
 import cmath
 import math
 from dataclasses import dataclass, field
+from functools import lru_cache
 
 from . import drive as drv
 from .hill import default_truncation, hill_trace, multipliers_from_trace
@@ -166,11 +167,23 @@ def default_steps(rig: Rig, equilibrium: str) -> int:
 
 
 def _G_nodes(rig: Rig, steps: int) -> list[float]:
-    omega = 2 * math.pi * rig.drive.frequency_hz
+    d = rig.drive
+    omega = 2 * math.pi * d.frequency_hz
+    w2, g = omega * omega, rig.g_m_s2
+    nodes = _phase_accel_nodes(d.waveform, d.stroke_m, d.rod_length_m, d.samples_m,
+                               d.samples_stroke_m, steps)
+    return [g + w2 * a for a in nodes]
+
+
+@lru_cache(maxsize=256)
+def _phase_accel_nodes(waveform, stroke_m, rod_length_m, samples_m, samples_stroke_m,
+                       steps: int) -> tuple[float, ...]:
+    """d2y/dphi2 at every stage phase: the shape of the cycle, the same at every speed,
+    so a scan along speed at one stroke computes it once."""
+    shape = drv.Drive(waveform, 1.0, stroke_m, rod_length_m, samples_m, samples_stroke_m)
     dphi = 2 * math.pi / steps
-    g = rig.g_m_s2
-    return [g + omega * omega * drv.phase_accel_m(rig.drive, (s + c) * dphi)
-            for s in range(steps) for c in STAGE_NODES]
+    return tuple(drv.phase_accel_m(shape, (s + c) * dphi)
+                 for s in range(steps) for c in STAGE_NODES)
 
 
 def monodromy(rig: Rig, equilibrium: str, speed_rpm: float | None = None,

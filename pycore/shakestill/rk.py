@@ -9,6 +9,7 @@ smooth and the stage times then never change between evaluations.
 
 from __future__ import annotations
 
+from functools import lru_cache
 from typing import Sequence
 
 from .dop853_tableau import A as _A
@@ -17,6 +18,7 @@ from .dop853_tableau import C as _C
 from .dop853_tableau import N_STAGES
 
 STAGE_NODES = _C[:N_STAGES]  # stage times as fractions of a step
+_WEIGHTS = tuple((i, b) for i, b in enumerate(_B) if b != 0.0)
 
 
 def fundamental_matrix(B: Sequence[Sequence[float]], C: Sequence[Sequence[float]],
@@ -37,38 +39,63 @@ def fundamental_matrix(B: Sequence[Sequence[float]], C: Sequence[Sequence[float]
     """
     n = len(B)
     size = 2 * n
-    h = period / steps
-    # The state is the whole matrix, flattened row by row: rows 0..n-1 hold q, rows
-    # n..2n-1 hold q' (each row across the 2n columns), so one list operation does all.
-    X = [1.0 if i == j else 0.0 for i in range(size) for j in range(size)]
     damped = any(x != 0.0 for row in C for x in row)
-    B_rows = [[(j, float(b)) for j, b in enumerate(row) if b != 0.0] for row in B]
-    C_rows = [[(j, float(c)) for j, c in enumerate(row) if c != 0.0] for row in C]
-    weights = [(i, b * h) for i, b in enumerate(_B) if b != 0.0]
-    stage_rows = [[(j, a * h) for j, a in _A[i]] for i in range(N_STAGES)]
-    half = n * size  # where the q' rows start
-    zero = [0.0] * size
-    for s in range(steps):
-        base = s * N_STAGES
-        k = []
-        for i in range(N_STAGES):
-            y = X
-            for j, ah in stage_rows[i]:
-                y = [a + ah * b for a, b in zip(y, k[j])]
-            g = G_nodes[base + i]
-            deriv = y[half:]  # dq/dt = q'
-            for row in range(n):
-                acc = zero
-                for j, b in B_rows[row]:
-                    coef = -g * b
-                    qj = y[j * size:(j + 1) * size]
-                    acc = [a + coef * q for a, q in zip(acc, qj)]
-                if damped:
-                    for j, c in C_rows[row]:
-                        vj = y[half + j * size:half + (j + 1) * size]
-                        acc = [a - c * v for a, v in zip(acc, vj)]
-                deriv += acc
-            k.append(deriv)
-        for i, bh in weights:
-            X = [a + bh * b for a, b in zip(X, k[i])]
-    return [X[i * size:(i + 1) * size] for i in range(size)]
+    run = _column_propagator(n, damped)
+    coefficients = [float(x) for row in B for x in row]
+    if damped:
+        coefficients += [float(x) for row in C for x in row]
+    h = period / steps
+    columns = [run([1.0 if i == j else 0.0 for i in range(size)], G_nodes, h, steps,
+                   *coefficients) for j in range(size)]
+    return [[columns[j][i] for j in range(size)] for i in range(size)]
+
+
+@lru_cache(maxsize=None)
+def _column_propagator(n: int, damped: bool):
+    """One column of the fundamental matrix over all steps, written out as straight-line code.
+
+    Pure Python pays per list operation and per loop turn, so the 12 stages of a step
+    are unrolled over the 2n components into scalar locals, once per (n, damped): about
+    five times faster than combining lists. The velocity part of each stage derivative
+    is the stage's own velocity, so only the accelerations are computed.
+    Returns ``run(y, G, h, steps, b00, b01, ..., [c00, ...]) -> y_end``.
+    """
+    idx = range(n)
+    b = [f"b{i}{j}" for i in idx for j in idx]
+    c = [f"c{i}{j}" for i in idx for j in idx] if damped else []
+
+    def accel(s, i, q, v):
+        # dv_i/dt = -G sum_j b_ij q_j - sum_j c_ij v_j at stage s
+        term = f"-g{s} * (" + " + ".join(f"b{i}{j} * {q}{j}" for j in idx) + ")"
+        if damped:
+            term += " - (" + " + ".join(f"c{i}{j} * {v}{j}" for j in idx) + ")"
+        return term
+
+    def combo(row, kind, i):
+        return " + ".join(f"{a!r} * k{kind}{j}_{i}" for j, a in row)
+
+    lines = [f"def run(y, G, h, steps, {', '.join(b + c)}):",
+             f"    {', '.join([f'q{i}' for i in idx] + [f'v{i}' for i in idx])}, = y",
+             f"    for base in range(0, {N_STAGES} * steps, {N_STAGES}):"]
+    put = lines.append
+    for s in range(N_STAGES):
+        put(f"        g{s} = G[base + {s}]")
+        row = tuple((j, a) for j, a in _A[s] if a != 0.0)
+        if s == 0:
+            for i in idx:
+                put(f"        kq0_{i} = v{i}")
+            for i in idx:
+                put(f"        kv0_{i} = {accel(0, i, 'q', 'v')}")
+            continue
+        for i in idx:
+            put(f"        Q{i} = q{i} + h * ({combo(row, 'q', i)})")
+            put(f"        kq{s}_{i} = v{i} + h * ({combo(row, 'v', i)})")
+        for i in idx:
+            put(f"        kv{s}_{i} = {accel(s, i, 'Q', f'kq{s}_')}")
+    for i in idx:
+        put(f"        q{i} += h * ({combo(_WEIGHTS, 'q', i)})")
+        put(f"        v{i} += h * ({combo(_WEIGHTS, 'v', i)})")
+    lines.append(f"    return [{', '.join([f'q{i}' for i in idx] + [f'v{i}' for i in idx])}]")
+    scope: dict = {}
+    exec("\n".join(lines), scope)  # noqa: S102 - code built from the tableau above only
+    return scope["run"]
