@@ -14,7 +14,7 @@ import math
 from dataclasses import dataclass
 from typing import Callable, Iterator
 
-from .floquet import Settings, Stability, hill_form, stability
+from .floquet import Settings, Stability, default_steps, hill_form, stability
 from .hill import default_truncation, needed_harmonics
 from .properties import properties
 from .rig import Rig
@@ -25,6 +25,11 @@ PHASE_STEP = 0.08  # scan spacing in sqrt(|theta0|) ~ 2 f0 / f (tongue n sits ne
 SPEED_STEP = 0.04  # at most this relative change of speed between scan points
 STROKE_POINTS = 50  # scan points across a stroke range
 PEAK_FLOOR = 1e-12  # relative rise that counts as a peak (well above round-off)
+# Cost model of one link's two exact methods (microseconds, measured on CPython 3.11; only
+# the ratio matters): Hill's band LU with more than one harmonic per entry of its band, the
+# fixed RK cycle per step. A scan takes the cheaper one (a sine keeps Hill's tridiagonal form).
+HILL_BAND_US = 0.25
+RK_STEP_US = 12.0
 
 
 @dataclass(frozen=True)
@@ -47,6 +52,10 @@ def scan_settings(rig: Rig, equilibrium: str, corners: list[Rig]) -> Settings:
         keep = needed_harmonics(form.theta0, form.theta, full_rows)
         kept = max(kept, keep)
         rows = max(rows, default_truncation(form.theta0, form.theta[:keep]))
+    if kept > 1:
+        steps = max(default_steps(c, equilibrium) for c in corners)
+        if HILL_BAND_US * (2 * rows + 1) * (2 * kept + 1) ** 2 > RK_STEP_US * steps:
+            return Settings(steps=steps, method="monodromy")
     return Settings(truncation=rows, harmonics=kept)
 
 
