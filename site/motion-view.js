@@ -5,7 +5,7 @@
 // added at the time on show, and play continues from there.
 
 import { h, replaceChildren } from "./dom.js";
-import { createAnimation } from "./animation.js";
+import { createAnimation, frameIndex } from "./animation.js";
 import { Runner, num, withUnit } from "./motion-job.js";
 import { svgNode } from "./schematic-view.js";
 
@@ -68,7 +68,7 @@ export function createMotionView(els, { engine, getRig }) {
       f.msg.hidden = false;
     }
     if (other.length) status("The motion waits for a rig without problems: fix the marked fields in the rig sheet.");
-    else if (problems.length) status("Nothing was run: see the message beside the field.");
+    else if (problems.length) status(`Nothing was run: see the message beside the field${state.shown ? "; the run shown is kept" : ""}.`);
   }
 
   /** The request's fields from the panel, or {problems} found before asking the core. */
@@ -170,8 +170,7 @@ export function createMotionView(els, { engine, getRig }) {
     els.anim.dataset.state = "fresh";
     animation.build(reply);
     els.anim.setAttribute("aria-label", `The rig drawn to scale, moving as simulated over ${num(end, 4)} s`);
-    els.time.max = String(end);
-    els.time.step = String(1 / reply.frame_rate_hz);
+    els.time.max = String(Math.max(0, reply.frames.t_s.length - 1)); // the slider steps through the frames
     for (const c of [els.time, els.play, els.knockGo]) c.disabled = false;
     showPlot(reply);
     showEvents(reply);
@@ -223,7 +222,9 @@ export function createMotionView(els, { engine, getRig }) {
     const end = state.shown.reply.summary.end_t_s;
     state.time = Math.min(end, Math.max(0, time));
     const p = animation.at(state.time, els.strobe.checked);
-    els.time.value = String(state.time);
+    const frames = state.shown.reply.frames.t_s;
+    els.time.value = String(frameIndex(frames, state.time));
+    els.time.setAttribute("aria-valuetext", `${state.time.toFixed(3)} seconds`);
     els.clock.textContent = els.strobe.checked && p
       ? `${state.time.toFixed(3)} s (sample at ${p.t.toFixed(3)} s)` : `${state.time.toFixed(3)} s`;
     els.anim.dataset.time = String(state.time);
@@ -269,13 +270,27 @@ export function createMotionView(els, { engine, getRig }) {
 
   // ------------------------------------------------------------ controls
 
+  for (const f of Object.values(fields)) {
+    f.input.addEventListener("input", () => {
+      // a message about what was typed before goes once the text changes
+      f.input.removeAttribute("aria-invalid");
+      f.msg.hidden = true;
+    });
+  }
   els.form.addEventListener("submit", (event) => {
     event.preventDefault();
     pause();
     run();
   });
   els.play.addEventListener("click", () => (state.playing ? pause() : play()));
-  els.time.addEventListener("input", () => seek(Number(els.time.value)));
+  els.time.addEventListener("input", () => seek(state.shown.reply.frames.t_s[Number(els.time.value)] ?? 0));
+  els.time.addEventListener("keydown", (event) => {
+    // Page Up / Page Down: a twentieth of the run (arrow keys step one frame)
+    if (!state.shown || !["PageUp", "PageDown"].includes(event.key)) return;
+    event.preventDefault();
+    const end = state.shown.reply.summary.end_t_s;
+    seek(state.time + (event.key === "PageUp" ? 1 : -1) * end / 20);
+  });
   els.strobe.addEventListener("change", () => seek(state.time));
   els.knockGo.addEventListener("click", knockNow);
   els.cancel.addEventListener("click", async () => {

@@ -119,6 +119,7 @@ export function createToleranceView(els, { engine, getRig }) {
     els.basin.dataset.state = mapState;
     els.basin.dataset.axes = JSON.stringify(step.axes);
     if (mapState === "done") {
+      els.basin.dataset.recovered = JSON.stringify(step.basin.recovered);
       els.basin.append(h("p", { class: "hint" }, `${step.basin.method}; ${step.basin.message}.`));
     }
   }

@@ -1,0 +1,420 @@
+"""The motion panel in headless Chromium: the animation, slow motion, the
+stroboscopic view, the knock, bad input, knock tolerance, the recovery map,
+loads, a rig edit stopping the work, touch sizes, print and screenshots.
+
+One page of the demo rig is opened for the module and its first run made;
+the tests then run in file order on it. Independent values: the core on
+CPython (shakestill.bridge.call, the same request the page sent, read from the
+page's data attributes) and the command line (`shakestill simulate/tolerance/
+loads --json`) on the same rig, in a subprocess as pagekit does for `check`.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import shutil
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import pytest
+from shakestill import bridge
+from shakestill.units import allowed_units
+
+from pagekit import (ARTIFACTS, BOOT_TIMEOUT_MS, LAPTOP, RESULT_TIMEOUT_MS, TABLET_PORTRAIT, shot,
+                     wait_for_result, wait_for_rig)
+
+pytestmark = pytest.mark.browser
+
+ANIM = "#motion-anim"
+LONG_MS = 300_000  # the tolerance search and the map: tens of seconds of engine time in Pyodide
+PX_TOL = 1.0  # drawn positions: within one pixel (SVG user units, drawn at about 1:1)
+
+
+@pytest.fixture(scope="module")
+def motion_page(browser, server):
+    """The demo rig's page with its first motion run on show."""
+    context = browser.new_context(viewport=LAPTOP)
+    page = context.new_page()
+    errors = []
+    page.on("pageerror", lambda err: errors.append(str(err)))
+    page.goto(server.url)
+    wait_for_result(page, timeout=BOOT_TIMEOUT_MS)
+    page.click("#motion-run")
+    wait_for_run(page)
+    page.errors = errors
+    yield page
+    context.close()
+
+
+def wait_for_run(page, previous: str | None = None, timeout: int = RESULT_TIMEOUT_MS) -> dict:
+    """Wait for a fresh run whose request differs from `previous`; return that request."""
+    page.wait_for_function("""(previous) => {
+        const el = document.querySelector("#motion-anim");
+        return el.dataset.state === "fresh" && el.dataset.request !== previous
+            && document.getElementById("motion-cancel").hidden;
+    }""", arg=previous, timeout=timeout)
+    return json.loads(page.get_attribute(ANIM, "data-request"))
+
+
+def data(page, selector: str, name: str):
+    return json.loads(page.get_attribute(selector, f"data-{name}"))
+
+
+def rig_of(page) -> dict:
+    """The rig as the core read it (SI), from the verdict."""
+    return data(page, "#check-report", "rig")
+
+
+def core_run(page) -> dict:
+    """The page's last simulate request, run by the core on CPython."""
+    reply = bridge.call({"op": "simulate", "rig": rig_of(page), **data(page, ANIM, "request")})
+    assert reply["ok"], reply
+    return reply
+
+
+def set_frame(page, k: int) -> float:
+    """Move the time slider (it steps through the frames) as a user would; returns the time on show."""
+    page.evaluate("""(k) => { const el = document.getElementById("motion-time");
+        el.value = String(k); el.dispatchEvent(new Event("input", {bubbles: true})); }""", k)
+    return float(page.get_attribute(ANIM, "data-time"))
+
+
+def drawn(page) -> dict:
+    """The tip, pivot joint and carriage as drawn (SVG user units), and the scale the view reports."""
+    return page.evaluate("""() => {
+        const svg = document.querySelector("#motion-anim svg");
+        const num = (el, a) => Number(el.getAttribute(a));
+        const tip = svg.querySelector(".anim-tip"), joint = svg.querySelector(".anim-joint");
+        const car = svg.querySelector(".anim-carriage");
+        return {tip: [num(tip, "cx"), num(tip, "cy")], joint: [num(joint, "cx"), num(joint, "cy")],
+                carriage_cy: num(car, "y") + num(car, "height") / 2,
+                scale: JSON.parse(document.querySelector("#motion-anim").dataset.scale)};
+    }""")
+
+
+def to_px(scale: dict, x: float, y: float) -> tuple[float, float]:
+    return scale["x0_px"] + x * scale["px_per_m"], scale["y0_px"] - y * scale["px_per_m"]
+
+
+def cli(command: str, rig: dict, tmp_path: Path, *args: str) -> dict:
+    """`shakestill COMMAND rig.json --json ARGS` as the command line gives it."""
+    path = tmp_path / "rig.json"
+    path.write_text(json.dumps(rig))
+    exe = shutil.which("shakestill", path=str(Path(sys.executable).parent)) or shutil.which("shakestill")
+    base = [exe] if exe else [sys.executable, "-m", "shakestill.cli"]
+    done = subprocess.run([*base, command, str(path), "--json", *args], capture_output=True, text=True,
+                          timeout=600)
+    assert done.returncode in (0, 1), done.stderr
+    return json.loads(done.stdout)
+
+
+def fmt4(value: float) -> str:
+    """The page's number format (4 significant figures, no trailing zeros)."""
+    return f"{float(f'{value:.4g}'):.6g}"
+
+
+# ---------------------------------------------------------------- the animation
+
+
+def test_animation_draws_the_core_frames_to_scale(motion_page):
+    page = motion_page
+    assert page.errors == []
+    ref = core_run(page)  # the same request on CPython
+    frames = ref["frames"]
+    rig = rig_of(page)
+    length = rig["links"][0]["length_m"]
+    for k in (0, 137, len(frames["t_s"]) // 2, len(frames["t_s"]) - 1):
+        shown = set_frame(page, k)
+        assert shown == pytest.approx(frames["t_s"][k], abs=1e-12)
+        d = drawn(page)
+        s = d["scale"]
+        # the tip as drawn = the core's frame (x_m, y_m) through the scale the view reports, within 1 px
+        want = to_px(s, frames["x_m"][k][-1], frames["y_m"][k][-1])
+        assert abs(d["tip"][0] - want[0]) <= PX_TOL and abs(d["tip"][1] - want[1]) <= PX_TOL, (k, d, want)
+        # the pivot joint and the carriage ride at the core's pivot height
+        pivot = to_px(s, 0.0, frames["pivot_y_m"][k])
+        assert abs(d["joint"][1] - pivot[1]) <= PX_TOL and abs(d["carriage_cy"] - pivot[1]) <= PX_TOL
+        # to scale: the drawn link is the rig file's length (0.25 m) at the reported px per metre
+        drawn_len = math.dist(d["tip"], d["joint"])
+        assert abs(drawn_len - length * s["px_per_m"]) <= PX_TOL, (drawn_len, length * s["px_per_m"])
+    assert page.get_attribute(ANIM, "data-source") == "frames"
+
+
+def test_strobe_view_draws_the_once_per_cycle_samples(motion_page):
+    page = motion_page
+    ref = core_run(page)
+    strobe = ref["strobe"]
+    page.check("#motion-strobe")
+    try:
+        shown = set_frame(page, 1091)  # between two samples
+        k = max(i for i, t in enumerate(strobe["t_s"]) if t <= shown)
+        d = drawn(page)
+        want = to_px(d["scale"], strobe["x_m"][k][-1], strobe["y_m"][k][-1])
+        assert page.get_attribute(ANIM, "data-source") == "strobe"
+        assert float(page.get_attribute(ANIM, "data-frame")) == k
+        assert abs(d["tip"][0] - want[0]) <= PX_TOL and abs(d["tip"][1] - want[1]) <= PX_TOL
+        assert f"sample at {strobe['t_s'][k]:.3f} s" in page.inner_text("#motion-clock")
+    finally:
+        page.uncheck("#motion-strobe")
+    # The sample positions are the frames' positions at the same instants: a run whose frames
+    # fall once per drive cycle (frame rate = drive frequency, from the check) gives them again.
+    f_hz = data(page, "#check-report", "result")["frequency_hz"]
+    request = {**data(page, ANIM, "request"), "duration_s": "1 s", "frame_rate_hz": f_hz}
+    again = bridge.call({"op": "simulate", "rig": rig_of(page), **request})
+    n = min(len(again["frames"]["t_s"]), len(again["strobe"]["t_s"]))
+    assert n > 40
+    for i in range(n):
+        assert again["frames"]["t_s"][i] == pytest.approx(again["strobe"]["t_s"][i], abs=1e-12)
+        for key in ("x_m", "y_m"):  # dense output and the located sample: well within 1e-9 m
+            assert again["strobe"][key][i] == pytest.approx(again["frames"][key][i], abs=1e-9)
+        assert again["strobe"]["pivot_y_m"] == pytest.approx(again["frames"]["pivot_y_m"][i], abs=1e-12)
+
+
+def test_play_runs_slowed_by_the_chosen_factor_and_by_keyboard(motion_page):
+    page = motion_page
+    page.select_option("#motion-slow", "100")
+    set_frame(page, 0)
+    page.focus("#motion-play")
+    start = time.monotonic()
+    page.keyboard.press("Space")  # keyboard: the play button toggles
+    page.wait_for_function("() => document.querySelector('#motion-anim').dataset.playing === 'true'")
+    page.wait_for_timeout(1500)
+    page.keyboard.press("Space")
+    wall = time.monotonic() - start
+    assert page.get_attribute(ANIM, "data-playing") == "false"
+    shown = float(page.get_attribute(ANIM, "data-time"))
+    # Play can never run ahead of wall-clock time / 100 (the page's clock runs inside Python's
+    # interval); it advances by the wall time of each screen frame, so at least half of it shows
+    # even if some frames are skipped on a busy machine.
+    assert 0.5 * 1.5 / 100 <= shown <= wall / 100, (shown, wall)
+    assert page.get_attribute("#motion-play", "aria-pressed") == "false"
+
+
+def test_knock_reruns_from_the_time_on_show(motion_page, tmp_path):
+    page = motion_page
+    before = page.get_attribute(ANIM, "data-request")
+    page.fill("#motion-knock", "3")
+    shown = set_frame(page, 1080)
+    page.click("#motion-knock-go")
+    request = wait_for_run(page, before)
+    # the reply's run includes the knock at the time that was on show
+    assert request["knocks"] == [{"t_s": round(shown, 4), "rate_rad_s": "3 rad/s", "link": 1}]
+    events = data(page, ANIM, "events")
+    assert [(e["kind"], e["t_s"]) for e in events if e["kind"] == "knock"] == [("knock", round(shown, 4))]
+    # and play goes on from there, not from the start
+    page.wait_for_function("() => document.querySelector('#motion-anim').dataset.playing === 'true'")
+    page.click("#motion-play")
+    assert float(page.get_attribute(ANIM, "data-time")) >= round(shown, 4)
+    # The command line with the same knock: the same events and the same end state
+    # (the same adaptive DOP853 run at rtol 1e-8 on another libm: angles agree well under 1e-6 rad).
+    want = cli("simulate", rig_of(page), tmp_path, "--duration", "5s", "--angle", "10deg",
+               "--knock", f"{round(shown, 4)}s:3rad/s", "--fps", "10")
+    assert [(e["kind"], e["message"]) for e in events] == [(e["kind"], e["message"]) for e in want["events"]]
+    for got, ref in zip(events, want["events"]):
+        assert got["t_s"] == pytest.approx(ref["t_s"], abs=1e-6)
+    end = data(page, ANIM, "end-angles")
+    assert data(page, ANIM, "summary")["end_t_s"] == pytest.approx(want["end_t_s"], abs=1e-12)
+    assert end[0] == pytest.approx(want["end_state"][0], abs=1e-6)
+
+
+def test_bad_fields_are_named_with_the_value_and_kept(motion_page):
+    page = motion_page
+    request = page.get_attribute(ANIM, "data-request")
+    page.fill("#motion-duration", "abc")
+    page.click("#motion-run")
+    page.wait_for_selector("#motion-duration-msg:not([hidden])")
+    msg = page.inner_text("#motion-duration-msg")
+    # the field, the value and the allowed units (the core's own list for a time)
+    assert "Run length" in msg and "'abc'" in msg and allowed_units("time") in msg, msg
+    assert page.input_value("#motion-duration") == "abc"
+    assert page.get_attribute("#motion-duration", "aria-invalid") == "true"
+    assert page.get_attribute(ANIM, "data-request") == request  # the run on show is kept
+
+    page.fill("#motion-duration", "500")
+    page.click("#motion-run")
+    page.wait_for_function("() => document.getElementById('motion-duration-msg').textContent.includes('500')")
+    assert "at most 120 s" in page.inner_text("#motion-duration-msg")
+
+    page.select_option("#motion-start", "hanging")
+    page.fill("#motion-angle", "0.2 rad")
+    page.fill("#motion-duration", "5")
+    page.click("#motion-run")
+    page.wait_for_selector("#motion-angle-msg:not([hidden])")
+    assert "Initial angle" in page.inner_text("#motion-angle-msg") and "0.2 rad" in page.inner_text("#motion-angle-msg")
+    assert page.input_value("#motion-angle") == "0.2 rad"
+
+    page.fill("#motion-knock", "fast")
+    page.select_option("#motion-start", "inverted")
+    page.fill("#motion-angle", "10")
+    page.click("#motion-knock-go")
+    page.wait_for_selector("#motion-knock-msg:not([hidden])")
+    assert "Knock size" in page.inner_text("#motion-knock-msg") and "'fast'" in page.inner_text("#motion-knock-msg")
+    assert page.input_value("#motion-knock") == "fast"
+    page.fill("#motion-knock", "2")
+
+
+# ---------------------------------------------------------------- tolerance and the map
+
+
+def test_tolerance_numbers_equal_the_command_line(motion_page, tmp_path):
+    page = motion_page
+    page.click("#tolerance-go")
+    page.wait_for_function("() => document.getElementById('tolerance-result').dataset.state === 'fresh'",
+                           timeout=LONG_MS)
+    got = data(page, "#tolerance-result", "result")
+    want = cli("tolerance", rig_of(page), tmp_path)
+    for key in ("max_knock_rad_s", "max_release_angle_rad"):
+        assert got[key] == pytest.approx(want[key], rel=1e-9), key
+    for key in ("knock_rad_s", "release_angle_rad"):
+        assert got["estimates"][key] == pytest.approx(want["estimates"][key], rel=1e-9), key
+    # what the table shows: the simulated value and, labelled as such, the estimate
+    cells = page.locator("#tolerance-result tr[data-key='knock'] td").all_inner_texts()
+    assert cells[0] == f"{fmt4(want['max_knock_rad_s'])} rad/s"
+    assert cells[1] == f"{fmt4(want['estimates']['knock_rad_s'])} rad/s (estimate)"
+    release = page.locator("#tolerance-result tr[data-key='release'] td").all_inner_texts()
+    assert release[0] == f"{fmt4(want['max_release_angle_deg'])}° ({fmt4(want['max_release_angle_rad'])} rad)"
+    assert "Estimate (Kapitza" in page.inner_text("#tolerance-result thead")
+
+
+def test_recovery_map_shows_progress_cancels_and_equals_the_core(motion_page):
+    page = motion_page
+    page.select_option("#basin-size", "61")  # slow enough to cancel half-way
+    page.click("#basin-go")
+    page.wait_for_function("""() => document.getElementById('tolerance-progress').value > 0
+        && document.querySelector('#basin-map svg') !== null""", timeout=LONG_MS)
+    assert page.is_visible("#tolerance-cancel")
+    page.click("#tolerance-cancel")
+    page.wait_for_selector("#tolerance-cancel", state="hidden")
+    assert page.get_attribute("#basin-map", "data-state") == "cancelled"
+    assert page.inner_text("#tolerance-status").startswith("Cancelled")
+
+    page.select_option("#basin-size", "21")
+    page.click("#basin-go")
+    page.wait_for_function("() => document.getElementById('basin-map').dataset.state === 'done'",
+                           timeout=LONG_MS)
+    tol = data(page, "#tolerance-result", "result")
+    # the core on CPython, the same job: the same recovered cells
+    rig = rig_of(page)
+    job = bridge.call({"op": "motion_job_start", "kind": "basin", "rig": rig, "size": 21,
+                       "knock_rad_s": tol["max_knock_rad_s"], "release_rad": tol["max_release_angle_rad"]})
+    while not (step := bridge.call({"op": "motion_job_step", "job": job["job"], "budget_ms": 2000}))["done"]:
+        pass
+    assert data(page, "#basin-map", "recovered") == step["basin"]["recovered"]
+    assert data(page, "#basin-map", "axes") == step["axes"]
+
+
+# ---------------------------------------------------------------- loads
+
+
+def loads_shown(page) -> dict:
+    return page.evaluate("""() => Object.fromEntries([...document.querySelectorAll(
+        '#loads-result tr[data-key]')].map((tr) => [tr.dataset.key,
+        Number(tr.querySelector('td').dataset.value)]))""")
+
+
+def test_loads_table_equals_the_command_line(motion_page, tmp_path):
+    page = motion_page
+    page.click("#loads-go")
+    page.wait_for_function("() => document.getElementById('loads-result').dataset.state === 'fresh'")
+    want = cli("loads", rig_of(page), tmp_path)
+    got = loads_shown(page)
+    expected = {"drive_force_peak": want["drive_force_N"]["peak"], "drive_force_rms": want["drive_force_N"]["rms"],
+                "power_peak": want["power_W"]["peak"], "power_rms": want["power_W"]["rms"],
+                "accel_peak": want["peak_accel_m_s2"],
+                "link1_tension": want["links"][0]["max_tension_N"],
+                "link1_compression": want["links"][0]["max_compression_N"]}
+    assert set(got) == set(expected)
+    for key, value in expected.items():  # one cycle at rest: the same sums, rel 1e-9
+        assert got[key] == pytest.approx(value, rel=1e-9), key
+    assert page.locator("#loads-result .load-flags").inner_text().startswith("No limits are given")
+    assert page.locator("#loads-result .safety-pointer a[href='#safety-h']").count() == 1
+
+
+def test_rig_edit_stops_running_motion_work(motion_page):
+    page = motion_page
+    page.click("#tolerance-go")
+    page.wait_for_selector("#tolerance-cancel", state="visible")
+    speed = page.locator('#rig-sheet [data-path="drive.speed_rpm"]')
+    before = page.get_attribute("#check-report", "data-result")
+    speed.fill("2600 rpm")
+    page.wait_for_selector("#tolerance-cancel", state="hidden")
+    assert "rig changed" in page.inner_text("#tolerance-status")
+    stopped_at = page.eval_on_selector("#tolerance-progress", "el => el.value")
+    edited = json.dumps(wait_for_result(page, before))  # the check of the edited rig still comes
+    page.wait_for_timeout(1000)
+    assert page.eval_on_selector("#tolerance-progress", "el => el.value") == stopped_at
+    assert page.get_attribute(ANIM, "data-state") == "stale"
+    assert page.get_attribute("#loads-result", "data-state") == "stale"
+    speed.fill("2700 rpm")
+    page.wait_for_function("(edited) => document.getElementById('check-report').dataset.result !== edited"
+                           " && document.getElementById('check-report').dataset.state === 'fresh'",
+                           arg=page.get_attribute("#check-report", "data-result"))
+
+
+# ---------------------------------------------------------------- touch, labels, print, screenshots
+
+
+def check_targets_and_labels(page):
+    """Every control of the panel has a label and a touch target of at least 44 px."""
+    found = page.evaluate("""() => [...document.querySelectorAll(
+        'section.motion button, section.motion input, section.motion select')]
+        .filter((el) => el.offsetParent !== null)
+        .map((el) => { const target = el.type === "checkbox" ? el.closest("label") : el;
+            const r = target.getBoundingClientRect();
+            return {id: el.id, h: r.height, w: r.width,
+                    labelled: el.tagName === "BUTTON" ? el.textContent.trim() !== "" : el.labels.length > 0}; })""")
+    assert found
+    for c in found:
+        assert c["h"] >= 44 and c["w"] >= 44, c
+        assert c["labelled"], c
+
+
+def test_flags_lead_the_loads_when_a_limit_is_exceeded(new_context, server, tmp_path):
+    page = new_context(viewport=TABLET_PORTRAIT, has_touch=True).new_page()
+    page.goto(server.url)
+    wait_for_result(page, timeout=BOOT_TIMEOUT_MS)
+    rig = rig_of(page)
+    rig["title"] = "Demo with drive limits"
+    rig["limits"].update({"max_force_N": 50.0, "max_power_W": 200.0, "max_accel_m_s2": 900.0})
+    path = tmp_path / "limits.json"
+    path.write_text(json.dumps(rig))
+    page.set_input_files("#open-file", str(path))
+    wait_for_rig(page, "Demo with drive limits")
+    page.tap("#loads-go")
+    page.wait_for_function("() => document.getElementById('loads-result').dataset.state === 'fresh'")
+    want = cli("loads", rig, tmp_path)
+    exceeded = [f for f in want["flags"] if f["exceeded"]]
+    assert [f["limit"] for f in exceeded] == ["max_force_N", "max_accel_m_s2"]  # 71 N > 50 N, 1103 > 900
+    first = page.locator("#loads-result > *").first
+    assert first.get_attribute("role") == "alert" and "2 limits" in first.inner_text()
+    assert first.locator("li").all_inner_texts() == [f"{f['message']}." for f in exceeded]
+    page.tap("#motion-run")
+    wait_for_run(page)
+    check_targets_and_labels(page)
+    shot(page, "motion-tablet-portrait-page")
+    ARTIFACTS.mkdir(exist_ok=True)
+    page.locator("section.motion").screenshot(path=str(ARTIFACTS / "motion-tablet-portrait.png"))
+
+
+def test_print_keeps_the_results_and_drops_the_controls(motion_page):
+    page = motion_page
+    page.emulate_media(media="print")
+    try:
+        for hidden in (".player", "#motion-form", ".knock-row", ANIM):
+            assert not page.is_visible(hidden), hidden
+        assert page.is_visible("#motion-plot svg") and page.is_visible("#loads-result table")
+    finally:
+        page.emulate_media(media="screen")
+
+
+def test_laptop_screenshots(motion_page):
+    page = motion_page
+    check_targets_and_labels(page)
+    set_frame(page, 2700)
+    shot(page, "motion-laptop-page")
+    ARTIFACTS.mkdir(exist_ok=True)
+    page.locator("section.motion").screenshot(path=str(ARTIFACTS / "motion-laptop.png"))
+    assert page.errors == []
