@@ -26,6 +26,10 @@ CHART_SPEED_STEP = 0.1  # relative speed step of a whole-row walk (peaks are sti
 CHART_RTOL = 1e-8  # edges in a chart to this relative precision (the target is 1e-4)
 FOLLOW_SLACK = 0.002  # bracket half-width added to the neighbours' spread (relative)
 FOLLOW_CHECKS = 6  # verdicts spot-checked across a followed row (geometrically spaced)
+# RK steps of chart points: about half the check's, multipliers still to ~1e-8 relative
+# (measured against 4x the steps on crank drives), so edges stay far inside the 1e-4 target.
+CHART_STEP_PHASE = 0.4
+CHART_MIN_STEPS = 12
 DEFAULT_ROWS = 120
 DEFAULT_ROWS_SEVERAL_LINKS = 30  # each point costs an RK monodromy: a coarser map by default
 ACCEL_LINES_G = (1, 2, 5, 10, 20, 50, 100, 200, 500, 1000, 2000)  # candidate iso-lines
@@ -106,7 +110,8 @@ def _row_line(rig: Rig, y_axis: str, y: float):
 
 def _row_settings(rig: Rig, point, lo: float, hi: float, eq: str):
     corners = [with_operating_point(rig, speed_rpm=v, stroke_m=point(v)[1]) for v in (lo, hi)]
-    return scan_settings(rig, eq, corners)
+    return scan_settings(rig, eq, corners, step_phase=CHART_STEP_PHASE,
+                         min_steps=CHART_MIN_STEPS)
 
 
 def _scan_row(rig: Rig, y_axis: str, y: float, equilibria, guide=None) -> Row | None:

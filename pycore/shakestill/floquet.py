@@ -55,6 +55,8 @@ class Settings:
     harmonics: int | None = None  # leading drive harmonics kept in Hill's determinant
     steps: int | None = None  # RK steps per cycle (several links, or one link by monodromy)
     method: str | None = None  # one link: "hill" (default) or "monodromy"
+    step_phase: float = STEP_PHASE  # RK steps chosen per point: see default_steps
+    min_steps: int = MIN_STEPS
 
 
 def _check_equilibrium(equilibrium: str) -> None:
@@ -142,12 +144,12 @@ def _from_trace(rig: Rig, equilibrium: str, trace: float, gamma_T: float, method
     return _summarise(rig, equilibrium, rhos, margin, method, **extra)
 
 
-def _rk_trace_stability(rig: Rig, equilibrium: str, steps: int | None) -> Stability:
+def _rk_trace_stability(rig: Rig, equilibrium: str, settings: Settings) -> Stability:
     """One link by its 2 x 2 monodromy, judged like Hill's trace (same margin), for scans
     of drives with many harmonics, where the fixed RK cycle is cheaper than the band LU."""
     lin = linearise(rig, equilibrium)
     gamma_T = lin.D[0][0] / (2.0 * lin.M[0][0]) / rig.drive.frequency_hz
-    n = steps or default_steps(rig, equilibrium)
+    n = _steps(rig, equilibrium, settings)
     m = _monodromy(rig, equilibrium, n)
     trace = math.exp(gamma_T) * (m[0][0] + m[1][1])
     return _from_trace(rig, equilibrium, trace, gamma_T, "monodromy", work={"steps": n})
@@ -162,8 +164,10 @@ def _system(rig: Rig, equilibrium: str):
     return matmul(Minv, [list(r) for r in lin.K]), matmul(Minv, [list(r) for r in lin.D])
 
 
-def default_steps(rig: Rig, equilibrium: str) -> int:
-    """Steps per cycle from the fastest rate of the linear system over the cycle.
+def default_steps(rig: Rig, equilibrium: str, *, step_phase: float = STEP_PHASE,
+                  min_steps: int = MIN_STEPS) -> int:
+    """Steps per cycle from the fastest rate of the linear system over the cycle:
+    (rate) x (step) = ``step_phase``, at least ``min_steps`` and two per drive harmonic.
 
     The rate is sqrt(G_peak * |eig B|) + |eig C|; the crank's peak acceleration is taken
     at top dead centre, r omega^2 (1 + r/l), which is close enough to choose a step.
@@ -180,8 +184,13 @@ def default_steps(rig: Rig, equilibrium: str) -> int:
     damp = max(abs(ev) for ev in eigvals(C)) if _is_damped(rig) else 0.0
     rate = math.sqrt(stiff) + damp
     harmonics = drv.harmonics(d).count
-    steps = math.ceil(rate / d.frequency_hz / STEP_PHASE)
-    return min(MAX_STEPS, max(MIN_STEPS, 2 * harmonics, steps))
+    steps = math.ceil(rate / d.frequency_hz / step_phase)
+    return min(MAX_STEPS, max(min_steps, 2 * harmonics, steps))
+
+
+def _steps(rig: Rig, equilibrium: str, settings: Settings) -> int:
+    return settings.steps or default_steps(rig, equilibrium, step_phase=settings.step_phase,
+                                           min_steps=settings.min_steps)
 
 
 def _G_nodes(rig: Rig, steps: int) -> list[float]:
@@ -226,8 +235,8 @@ def _multi_margin(rig: Rig, rhos) -> float:
     return math.log(biggest) - tol
 
 
-def _rk_stability(rig: Rig, equilibrium: str, steps: int | None, verify: bool) -> Stability:
-    n = steps or default_steps(rig, equilibrium)
+def _rk_stability(rig: Rig, equilibrium: str, settings: Settings, verify: bool) -> Stability:
+    n = _steps(rig, equilibrium, settings)
     rhos = eigvals(_monodromy(rig, equilibrium, n))
     error, converged, message = 0.0, True, ""
     if verify:
@@ -273,7 +282,7 @@ def stability(rig: Rig, equilibrium: str, speed_rpm: float | None = None,
     if settings.method not in (None, "hill", "monodromy"):
         raise ValueError(f"settings.method: {settings.method!r} is not 'hill' or 'monodromy'")
     if rig.n_links == 1 and settings.method == "monodromy" and not verify:
-        return _rk_trace_stability(rig, equilibrium, settings.steps)
+        return _rk_trace_stability(rig, equilibrium, settings)
     if rig.n_links == 1:
         return _hill_stability(rig, equilibrium, settings, verify)
-    return _rk_stability(rig, equilibrium, settings.steps, verify)
+    return _rk_stability(rig, equilibrium, settings, verify)

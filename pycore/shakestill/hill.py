@@ -273,18 +273,27 @@ def default_truncation(theta0: float, theta: tuple) -> int:
 
 
 def needed_harmonics(theta0: float, theta: tuple, truncation: int, *,
-                     tol: float = 1e-12) -> int:
-    """The fewest leading harmonics whose trace is within ``tol`` of all of them.
+                     tol: float = 1e-12, most: int | None = None) -> int | None:
+    """The fewest leading harmonics whose trace is within ``tol`` of all of them, or None
+    if that takes more than ``most``.
 
     Higher harmonics of a crank fall geometrically and enter the determinant
     only through long cycles, so a scan can usually drop most of them.
     """
+    most = len(theta) if most is None else min(most, len(theta))
+    if most < len(theta):
+        # Cheap first: if one harmonic past ``most`` still moves the trace, more are needed.
+        over = hill_trace(theta0, theta[:most + 1], max(truncation, most + 1))
+        if abs(hill_trace(theta0, theta[:most], max(truncation, most)) - over) > \
+                tol * max(1.0, abs(over)):
+            return None
     full = hill_trace(theta0, theta, truncation)
-    for keep in range(1, len(theta)):
-        part = hill_trace(theta0, theta[:keep], max(truncation, keep))
+    for keep in range(1, most + 1):
+        part = full if keep == len(theta) else hill_trace(theta0, theta[:keep],
+                                                          max(truncation, keep))
         if abs(part - full) <= tol * max(1.0, abs(full)):
             return keep
-    return len(theta)
+    return None
 
 
 def multipliers_from_trace(trace: float, decay: float) -> tuple[complex, complex]:

@@ -14,7 +14,7 @@ import math
 from dataclasses import dataclass
 from typing import Callable, Iterator
 
-from .floquet import Settings, Stability, default_steps, hill_form, stability
+from .floquet import MIN_STEPS, STEP_PHASE, Settings, Stability, default_steps, hill_form, stability
 from .hill import default_truncation, needed_harmonics
 from .properties import properties
 from .rig import Rig
@@ -40,23 +40,40 @@ class Edge:
     gained: bool  # True if the equilibrium becomes stable moving up the line
 
 
-def scan_settings(rig: Rig, equilibrium: str, corners: list[Rig]) -> Settings:
+def scan_settings(rig: Rig, equilibrium: str, corners: list[Rig], *,
+                  step_phase: float = STEP_PHASE, min_steps: int = MIN_STEPS) -> Settings:
     """Numerical settings good enough at every corner of a scan (one link: Hill rows and
-    harmonics; several links: steps are chosen at each point from its own rates)."""
+    harmonics, or fixed RK steps; several links: steps are chosen at each point from its
+    own rates). ``step_phase`` and ``min_steps`` size the RK steps (see default_steps)."""
     if rig.n_links > 1:
-        return Settings()
+        return Settings(step_phase=step_phase, min_steps=min_steps)
+    forms = [hill_form(c, equilibrium) for c in corners]
+    steps = None
+    if any(len(f.theta) > 1 for f in forms):
+        steps = max(default_steps(c, equilibrium, step_phase=step_phase, min_steps=min_steps)
+                    for c in corners)
     rows, kept = 0, 1
-    for c in corners:
-        form = hill_form(c, equilibrium)
-        full_rows = default_truncation(form.theta0, form.theta)
-        keep = needed_harmonics(form.theta0, form.theta, full_rows)
+    for form in forms:
+        most = _affordable_harmonics(form, steps)
+        keep = needed_harmonics(form.theta0, form.theta,
+                                default_truncation(form.theta0, form.theta), most=most)
+        if keep is None:
+            return Settings(steps=steps, method="monodromy")
         kept = max(kept, keep)
         rows = max(rows, default_truncation(form.theta0, form.theta[:keep]))
-    if kept > 1:
-        steps = max(default_steps(c, equilibrium) for c in corners)
-        if HILL_BAND_US * (2 * rows + 1) * (2 * kept + 1) ** 2 > RK_STEP_US * steps:
-            return Settings(steps=steps, method="monodromy")
     return Settings(truncation=rows, harmonics=kept)
+
+
+def _affordable_harmonics(form, steps: int | None) -> int:
+    """The most harmonics for which Hill's band LU costs less than an RK cycle of ``steps``
+    (one harmonic always: Hill's tridiagonal form is the cheapest of all)."""
+    keep = 1
+    while steps is not None and keep < len(form.theta):
+        rows = default_truncation(form.theta0, form.theta[:keep + 1])
+        if HILL_BAND_US * (2 * rows + 1) * (2 * keep + 3) ** 2 > RK_STEP_US * steps:
+            break
+        keep += 1
+    return keep
 
 
 class Probe:
