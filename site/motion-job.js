@@ -71,6 +71,22 @@ export function withUnit(text, unit) {
   return /^[-+]?(\d+\.?\d*|\.\d+)(e[-+]?\d+)?$/i.test(t) ? `${t} ${unit}` : t;
 }
 
+/** The status words and progress bar of a view: status(words, fraction or null). */
+export function statusLine(words, bar) {
+  return (text, fraction = null) => {
+    words.textContent = text;
+    if (fraction !== null) bar.value = fraction;
+  };
+}
+
+/** While work runs: Cancel shows and the holder is marked busy for assistive technology. */
+export function busyMark(cancel, holder) {
+  return (on) => {
+    cancel.hidden = !on;
+    holder.setAttribute("aria-busy", on ? "true" : "false");
+  };
+}
+
 /** A number for display: at most `digits` significant figures, or a dash. */
 export function num(x, digits = 4) {
   if (x === null || x === undefined || !Number.isFinite(x)) return "—";

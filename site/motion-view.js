@@ -6,7 +6,7 @@
 
 import { h, replaceChildren } from "./dom.js";
 import { createAnimation, frameIndex } from "./animation.js";
-import { Runner, num, withUnit } from "./motion-job.js";
+import { Runner, busyMark, num, statusLine, withUnit } from "./motion-job.js";
 import { svgNode } from "./schematic-view.js";
 
 const FRAMES_PER_CYCLE = 24; // frames per drive cycle: slow motion shows each shake smoothly
@@ -104,15 +104,8 @@ export function createMotionView(els, { engine, getRig }) {
 
   // ------------------------------------------------------------ running
 
-  function status(words, fraction = null) {
-    els.status.textContent = words;
-    if (fraction !== null) els.progress.value = fraction;
-  }
-
-  function busy(on) {
-    els.cancel.hidden = !on;
-    els.anim.setAttribute("aria-busy", on ? "true" : "false");
-  }
+  const status = statusLine(els.status, els.progress);
+  const busy = busyMark(els.cancel, els.anim);
 
   /** Run the panel's scenario; with `knock`, the shown run again plus that knock. */
   async function run(knock = null) {

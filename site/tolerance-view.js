@@ -4,7 +4,7 @@
 // map is the core's SVG, redrawn after every step as it fills in.
 
 import { h, replaceChildren } from "./dom.js";
-import { Runner, num } from "./motion-job.js";
+import { Runner, busyMark, num, statusLine } from "./motion-job.js";
 import { svgNode } from "./schematic-view.js";
 
 const DEG = 180 / Math.PI; // display only: the core gives radians and degrees alike
@@ -18,15 +18,8 @@ export function createToleranceView(els, { engine, getRig }) {
   let result = null; // the last tolerance result, whose edges the map marks
   let rigKey = "";
 
-  function status(words, fraction = null) {
-    els.status.textContent = words;
-    if (fraction !== null) els.progress.value = fraction;
-  }
-
-  function busy(on) {
-    els.cancel.hidden = !on;
-    els.out.setAttribute("aria-busy", on ? "true" : "false");
-  }
+  const status = statusLine(els.status, els.progress);
+  const busy = busyMark(els.cancel, els.out);
 
   function failed(reply, what) {
     status(reply.problems

@@ -23,8 +23,8 @@ import pytest
 from shakestill import bridge
 from shakestill.units import allowed_units
 
-from pagekit import (ARTIFACTS, BOOT_TIMEOUT_MS, LAPTOP, RESULT_TIMEOUT_MS, TABLET_PORTRAIT, shot,
-                     wait_for_result, wait_for_rig)
+from pagekit import (ARTIFACTS, BOOT_TIMEOUT_MS, LAPTOP, RESULT_TIMEOUT_MS, TABLET_PORTRAIT, open_page,
+                     shot, wait_for_result, wait_for_rig)
 
 pytestmark = pytest.mark.browser
 
@@ -38,13 +38,11 @@ def motion_page(browser, server):
     """The demo rig's page with its first motion run on show."""
     context = browser.new_context(viewport=LAPTOP)
     page = context.new_page()
-    errors = []
-    page.on("pageerror", lambda err: errors.append(str(err)))
-    page.goto(server.url)
-    wait_for_result(page, timeout=BOOT_TIMEOUT_MS)
+    page.errors = []
+    page.on("pageerror", lambda err: page.errors.append(str(err)))
+    open_page(page, server.url)
     page.click("#motion-run")
     wait_for_run(page)
-    page.errors = errors
     yield page
     context.close()
 
@@ -220,38 +218,38 @@ def test_knock_reruns_from_the_time_on_show(motion_page, tmp_path):
     assert end[0] == pytest.approx(want["end_state"][0], abs=1e-6)
 
 
+def refused(page, button: str, msg: str, *words: str) -> None:
+    """Press `button`; the message beside the field must appear and hold every one of `words`."""
+    page.click(button)
+    page.wait_for_selector(f"{msg}:not([hidden])")
+    text = page.inner_text(msg)
+    for word in words:
+        assert word in text, (word, text)
+
+
 def test_bad_fields_are_named_with_the_value_and_kept(motion_page):
     page = motion_page
     request = page.get_attribute(ANIM, "data-request")
     page.fill("#motion-duration", "abc")
-    page.click("#motion-run")
-    page.wait_for_selector("#motion-duration-msg:not([hidden])")
-    msg = page.inner_text("#motion-duration-msg")
     # the field, the value and the allowed units (the core's own list for a time)
-    assert "Run length" in msg and "'abc'" in msg and allowed_units("time") in msg, msg
+    refused(page, "#motion-run", "#motion-duration-msg", "Run length", "'abc'", allowed_units("time"))
     assert page.input_value("#motion-duration") == "abc"
     assert page.get_attribute("#motion-duration", "aria-invalid") == "true"
     assert page.get_attribute(ANIM, "data-request") == request  # the run on show is kept
 
     page.fill("#motion-duration", "500")
-    page.click("#motion-run")
-    page.wait_for_function("() => document.getElementById('motion-duration-msg').textContent.includes('500')")
-    assert "at most 120 s" in page.inner_text("#motion-duration-msg")
+    refused(page, "#motion-run", "#motion-duration-msg", "Run length", '"500"', "at most 120 s")
 
     page.select_option("#motion-start", "hanging")
     page.fill("#motion-angle", "0.2 rad")
     page.fill("#motion-duration", "5")
-    page.click("#motion-run")
-    page.wait_for_selector("#motion-angle-msg:not([hidden])")
-    assert "Initial angle" in page.inner_text("#motion-angle-msg") and "0.2 rad" in page.inner_text("#motion-angle-msg")
+    refused(page, "#motion-run", "#motion-angle-msg", "Initial angle", '"0.2 rad"', "degrees")
     assert page.input_value("#motion-angle") == "0.2 rad"
 
     page.fill("#motion-knock", "fast")
     page.select_option("#motion-start", "inverted")
     page.fill("#motion-angle", "10")
-    page.click("#motion-knock-go")
-    page.wait_for_selector("#motion-knock-msg:not([hidden])")
-    assert "Knock size" in page.inner_text("#motion-knock-msg") and "'fast'" in page.inner_text("#motion-knock-msg")
+    refused(page, "#motion-knock-go", "#motion-knock-msg", "Knock size", "'fast'", allowed_units("angular_rate"))
     assert page.input_value("#motion-knock") == "fast"
     page.fill("#motion-knock", "2")
 
