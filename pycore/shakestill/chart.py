@@ -176,10 +176,19 @@ def _y_range(rig: Rig, y_axis: str) -> tuple[float, float]:
 
 
 def _row_order(n: int) -> list[int]:
-    coarse = list(range(0, n, COARSE_EVERY))
-    if n - 1 not in coarse:
-        coarse.append(n - 1)
-    return coarse + [i for i in range(n) if i not in set(coarse)]
+    """Coarse rows first, then the rows between by bisection (every gap's middle row, then
+    the middles of the halves, ...), so each row has computed neighbours close on both sides."""
+    coarse = sorted(set(range(0, n, COARSE_EVERY)) | {n - 1})
+    order, gaps = list(coarse), list(zip(coarse, coarse[1:]))
+    while gaps:
+        halves = []
+        for a, b in gaps:
+            if b - a > 1:
+                m = (a + b) // 2
+                order.append(m)
+                halves += [(a, m), (m, b)]
+        gaps = halves
+    return order
 
 
 def tongues(rig: Rig) -> tuple[dict, ...]:
@@ -219,7 +228,7 @@ def chart_steps(rig: Rig, *, rows: int | None = None, y_axis: str = "stroke",
     total = 0
     notes = ("coarse rows are walked whole (a scan every {:g}% of speed or {:g} of a tongue "
              "spacing, every local peak of the margin searched); the rows between follow the "
-             "edges of their coarse neighbours by bracketed root finding, and are walked whole "
+             "edges of their nearest computed neighbours (filled in by bisection) by bracketed root finding, and are walked whole "
              "where the neighbours disagree; edges are refined to {:g} relative in speed; a "
              "feature that starts and ends between two coarse rows ({:.3g} of the y range) "
              "is not seen".format(100 * CHART_SPEED_STEP, PHASE_STEP, CHART_RTOL,
@@ -228,8 +237,10 @@ def chart_steps(rig: Rig, *, rows: int | None = None, y_axis: str = "stroke",
     coarse = sorted(order[:len(set(range(0, rows, COARSE_EVERY)) | {rows - 1})])
 
     def guide(j):
-        below = max((i for i in coarse if i < j and i in done), default=None)
-        above = min((i for i in coarse if i > j and i in done), default=None)
+        # the nearest computed rows: a row walked whole where its neighbours disagreed
+        # guides the rows on either side of it
+        below = max((i for i in done if i < j), default=None)
+        above = min((i for i in done if i > j), default=None)
         if below is None or above is None:
             return None
         return lambda eq, y: _predict(done[below], done[above], eq, y)
