@@ -1,39 +1,65 @@
 """Benchmark of the stability chart: prints figures and ratios, never passes or fails.
 
-  python bench/bench_chart.py [--rows 120]
+  python bench/bench_chart.py [--rows 120] [--no-pyodide]
 
-For each case: the wall time of a chart over the rig's limits at the detail of a
+For each case: the CPU time of a chart over the rig's limits at the detail of a
 200 x 120 grid (rows of 120 strokes; edges are roots in speed, finer than 200 columns),
 and the time a straightforward per-cell chart would take with scipy.integrate.solve_ivp
 monodromies (DOP853, rtol 1e-10, the accuracy needed for edges to ~1e-4 when refined from
 cells): the per-cell time is measured on 40 cells and multiplied by 200 x 120 x 2
-equilibria. Targets: one link with damping, sine <= 0.3 s and crank <= 2 s on CPython;
-two links <= 15 s; ratio >= 100x.
+equilibria. Then the same charts in Pyodide under Node.js (wall time) and the ratio to
+CPython. Targets: one link with damping, sine <= 0.3 s and crank <= 2 s on CPython, at most
+3x those in Pyodide; two links <= 15 s; ratio to the per-cell chart >= 100x.
 """
 import argparse
+import json
 import math
 import pathlib
 import sys
 import time
 
-sys.path.insert(0, str(pathlib.Path(__file__).resolve().parents[1] / "pycore"))
+HERE = pathlib.Path(__file__).resolve().parent
+sys.path.insert(0, str(HERE.parent / "pycore"))
 
 import numpy as np  # noqa: E402
 from scipy.integrate import solve_ivp  # noqa: E402
+
+from pyodide_node import run_in_pyodide  # noqa: E402
 
 import shakestill as ss  # noqa: E402
 from shakestill.chart import chart  # noqa: E402
 
 CELLS = 200 * 120 * 2
+clock = time.process_time  # CPU time: steadier than wall time on a shared machine
+TWO_LINKS = [{"length_m": 0.15, "rod_mass_kg": 0.03, "joint_damping_N_m_s": 2e-4},
+             {"length_m": 0.12, "rod_mass_kg": 0.02,
+              "point_masses": [{"mass_kg": 0.01, "at_m": 0.12}], "joint_damping_N_m_s": 1e-4}]
 
 
-def rig(waveform, links=None):
+def rig_dict(waveform, links=None):
     d = ss.demo_rig_dict()
     d["drive"]["waveform"] = waveform
     if links:
         d["links"] = links
         d["drive"]["stroke_m"] = 0.016
-    return ss.rig_from_dict(d)
+    return d
+
+
+CASES = (("one link, sine", rig_dict("sine"), 0.3), ("one link, crank", rig_dict("crank"), 2.0),
+         ("two links, crank", rig_dict("crank", TWO_LINKS), 15.0))
+
+PYODIDE_CHARTS = """
+import json, time
+import shakestill as ss
+from shakestill.chart import chart
+print(f"  Pyodide {sys.version.split()[0]} booted in {boot_s:.1f} s")
+for name, data, target, cpython_s in json.loads(CASES_JSON):
+    t0 = time.perf_counter()
+    c = chart(ss.rig_from_dict(data), rows=ROWS)
+    took = time.perf_counter() - t0
+    print(f"  {name:18s} Pyodide {took:7.2f} s ({c.evaluations} evaluations); "
+          f"{took / cpython_s:4.2f}x CPython (target <= 3x); {took / (3 * target):4.2f} of 3x target")
+"""
 
 
 def solve_ivp_cell(r, eq, speed, stroke):
@@ -54,27 +80,33 @@ def solve_ivp_cell(r, eq, speed, stroke):
 
 
 def main():
-    p = argparse.ArgumentParser()
+    p = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     p.add_argument("--rows", type=int, default=120)
+    p.add_argument("--no-pyodide", action="store_true")
     args = p.parse_args()
-    two = [{"length_m": 0.15, "rod_mass_kg": 0.03, "joint_damping_N_m_s": 2e-4},
-           {"length_m": 0.12, "rod_mass_kg": 0.02, "point_masses": [{"mass_kg": 0.01, "at_m": 0.12}],
-            "joint_damping_N_m_s": 1e-4}]
-    for name, r, target in (("one link, sine", rig("sine"), 0.3), ("one link, crank", rig("crank"), 2.0),
-                            ("two links, crank", rig("crank", two), 15.0)):
-        t0 = time.perf_counter()
+    print(f"== charts of {args.rows} rows on CPython (CPU seconds)")
+    measured = []
+    for name, data, target in CASES:
+        r = ss.rig_from_dict(data)
+        t0 = clock()
         c = chart(r, rows=args.rows)
-        took = time.perf_counter() - t0
+        took = clock() - t0
         lo, hi = r.limits.speed_rpm
-        t0 = time.perf_counter()
+        t0 = clock()
         for k in range(20):
             for eq in ("inverted", "hanging"):
                 solve_ivp_cell(r, eq, lo + (hi - lo) * (k + 0.5) / 20, r.drive.stroke_m)
-        per_cell = (time.perf_counter() - t0) / 40
+        per_cell = (clock() - t0) / 40
         peer = per_cell * CELLS
-        print(f"{name:18s} chart {took:7.2f} s ({c.evaluations} evaluations, target <= {target} s, "
+        print(f"  {name:18s} chart {took:7.2f} s ({c.evaluations} evaluations, target <= {target} s, "
               f"{took / target:4.2f} of target); per-cell solve_ivp {per_cell * 1e3:6.2f} ms x "
               f"{CELLS} = {peer:8.0f} s; ratio {peer / took:7.0f}x (target >= 100x)")
+        measured.append([name, data, target, took])
+    if not args.no_pyodide:
+        print(f"== the same charts in Pyodide under Node.js (wall seconds)")
+        run_in_pyodide(PYODIDE_CHARTS.replace("CASES_JSON", repr(json.dumps(measured)))
+                       .replace("ROWS", str(args.rows)))
+    print(json.dumps({"note": "figures only; no pass/fail"}))
 
 
 if __name__ == "__main__":

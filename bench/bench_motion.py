@@ -19,11 +19,8 @@ import argparse
 import json
 import math
 import pathlib
-import shutil
 import statistics
-import subprocess
 import sys
-import tempfile
 import time
 
 HERE = pathlib.Path(__file__).resolve().parent
@@ -31,6 +28,8 @@ TOP = HERE.parent
 sys.path[:0] = [str(TOP / "pycore")]
 
 from scipy.integrate import solve_ivp  # noqa: E402
+
+from pyodide_node import run_in_pyodide  # noqa: E402
 
 import shakestill as ss  # noqa: E402
 from shakestill import basin as bs  # noqa: E402
@@ -120,23 +119,11 @@ def bench_map(size):
               f"   {last.work}{words}")
 
 
-NODE_SCRIPT = r"""
-import { loadPyodide } from "PYODIDE/pyodide.mjs";
-import { readFileSync, readdirSync } from "node:fs";
-const t0 = performance.now();
-const py = await loadPyodide({ indexURL: "PYODIDE/" });
-py.FS.mkdirTree("/bench/shakestill");
-for (const name of readdirSync("CORE")) {
-  if (name.endsWith(".py")) py.FS.writeFile(`/bench/shakestill/${name}`, readFileSync(`CORE/${name}`));
-}
-const boot = (performance.now() - t0) / 1000;
-py.setStdout({ batched: (line) => console.log(line) });
-py.runPython(`
-import sys, time
-sys.path.insert(0, "/bench")
+PYODIDE_MAP = """
+import time
 import shakestill as ss
 from shakestill import basin as bs
-print("  Pyodide", sys.version.split()[0], "booted in BOOT s")
+print(f"  Pyodide {sys.version.split()[0]} booted in {boot_s:.1f} s")
 for validate in (0, bs.MAP_VALIDATE):
     t0 = time.perf_counter()
     shown = 0.0
@@ -146,27 +133,12 @@ for validate in (0, bs.MAP_VALIDATE):
             shown += 0.25
     dt = time.perf_counter() - t0
     print(f"  Pyodide validate={validate:2d}: {dt:7.2f} s wall   target <= 20 s ({dt / 20:4.2f} of target)")
-`.replace("BOOT", boot.toFixed(1)));
 """
 
 
 def bench_pyodide(size):
     print(f"== basin map {size} x {size} in Pyodide under Node.js (wall seconds)")
-    node = shutil.which("node")
-    pyodide = TOP / "node_modules" / "pyodide"
-    if node is None or not (pyodide / "pyodide.mjs").exists():
-        print("  skipped: needs node on PATH and node_modules/pyodide (npm ci)")
-        return
-    script = (NODE_SCRIPT.replace("PYODIDE", str(pyodide)).replace("CORE", str(
-        TOP / "pycore" / "shakestill")).replace("SIZE", str(size)))
-    with tempfile.TemporaryDirectory() as tmp:
-        path = pathlib.Path(tmp) / "bench.mjs"
-        path.write_text(script)
-        done = subprocess.run([node, "--no-warnings", str(path)], capture_output=True, text=True,
-                              timeout=1800)
-    sys.stdout.write(done.stdout)
-    if done.returncode:
-        print(f"  failed ({done.returncode}): {done.stderr[-800:]}")
+    run_in_pyodide(PYODIDE_MAP.replace("SIZE", str(size)))
 
 
 def main():
