@@ -43,8 +43,8 @@ export function sceneScale(frames) {
   let reach = 0;
   for (let k = 1; k < xs.length; k += 1) reach += Math.hypot(xs[k] - xs[k - 1], ys[k] - ys[k - 1]);
   reach = reach || 0.1;
-  const low = Math.min(...frames.pivot_y_m);
-  const high = Math.max(...frames.pivot_y_m);
+  const low = frames.pivot_y_m.reduce((a, b) => Math.min(a, b), Infinity);
+  const high = frames.pivot_y_m.reduce((a, b) => Math.max(a, b), -Infinity);
   const span = Math.max(2 * reach, 2 * reach + (high - low));
   const k = (SIZE_PX - 2 * MARGIN_PX) / span;
   const mid = (low + high) / 2;

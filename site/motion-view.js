@@ -28,6 +28,8 @@ export function createMotionView(els, { engine, getRig }) {
   const state = {
     frequencyHz: null, // drive frequency from the last check: sets the frame rate
     shown: null, // {reply, request, rigKey} of the run on show
+    pending: null, // the request being worked out
+    runKey: "", // the rig of the run being worked out
     time: 0,
     playing: false,
     last: 0, // wall-clock ms of the last animation frame
@@ -92,7 +94,8 @@ export function createMotionView(els, { engine, getRig }) {
       problems.push({ path: "angles_rad", message: `"${els.angle.value}" is not allowed: type degrees `
         + "from the hanging position, such as 10" });
     }
-    const rate = frameRate(seconds ?? 5);
+    // a length typed with a unit is read by the core: frames at the plainest rate then
+    const rate = seconds === null ? MIN_FRAME_RATE_HZ : frameRate(seconds);
     return { rig, problems, request: { reference, duration_s: withUnit(durationText, "s"),
                                        angles_rad: Array(n).fill(angle), knocks: [], frame_rate_hz: rate } };
   }
@@ -117,7 +120,8 @@ export function createMotionView(els, { engine, getRig }) {
     let startAt = 0;
     let req = request;
     if (knock) {
-      const before = state.shown.request;
+      // a knock while an earlier knock is still worked out adds to that one
+      const before = runner.running && state.pending ? state.pending : state.shown.request;
       req = { ...before, knocks: [...before.knocks, knock] };
       const end = state.shown.reply.summary.end_t_s;
       if (knock.t_s + KNOCK_TAIL_S > end) {
@@ -126,6 +130,7 @@ export function createMotionView(els, { engine, getRig }) {
       }
       startAt = knock.t_s;
     }
+    state.pending = req;
     busy(true);
     status(knock ? `Knock at ${num(knock.t_s, 5)} s: working out the motion from there…`
       : "Simulating the motion…", 0);
