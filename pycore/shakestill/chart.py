@@ -24,7 +24,11 @@ from .rig import Rig, max_stroke_m, with_operating_point
 COARSE_EVERY = 8  # first pass walks every 8th row whole; the rest follow their edges
 CHART_SPEED_STEP = 0.1  # relative speed step of a whole-row walk (peaks are still searched)
 CHART_RTOL = 1e-8  # edges in a chart to this relative precision (the target is 1e-4)
-FOLLOW_SLACK = 0.002  # bracket half-width added to the neighbours' spread (relative)
+FOLLOW_SLACK = 0.002  # bracket half-width added to half the neighbours' spread (relative)
+# A first, tighter bracket (a fraction of the spread plus a smaller slack): interpolated
+# edges are usually much closer than that, and a narrow bracket saves Brent iterations.
+FOLLOW_TIGHT = 0.0625
+FOLLOW_TIGHT_SLACK = 5e-5
 FOLLOW_CHECKS = 6  # verdicts spot-checked across a followed row (geometrically spaced)
 # RK steps of chart points: about half the check's, multipliers still to ~1e-8 relative
 # (measured against 4x the steps on crank drives), so edges stay far inside the 1e-4 target.
@@ -145,12 +149,18 @@ def _follow(probe: Probe, lo: float, hi: float, s0, prediction):
     found = []
     state = s0.stable
     last = lo
-    for x_pred, half, gained in predicted:
-        a, b = max(last, x_pred - half), min(hi, x_pred + half)
-        if not a < b or gained == state:
+    for x_pred, spread, gained in predicted:
+        if gained == state:
             return None
-        sa, sb = probe(a), probe(b)
-        if sa.stable != state or sb.stable != gained:
+        for half in (spread * FOLLOW_TIGHT + FOLLOW_TIGHT_SLACK * x_pred,
+                     spread / 2 + FOLLOW_SLACK * x_pred):
+            a, b = max(last, x_pred - half), min(hi, x_pred + half)
+            if not a < b:
+                return None
+            sa, sb = probe(a), probe(b)
+            if sa.stable == state and sb.stable == gained:
+                break
+        else:
             return None
         found.append(edge_between(probe, (a, sa), (b, sb), rtol=CHART_RTOL))
         state, last = gained, found[-1].x
@@ -256,7 +266,7 @@ def chart_steps(rig: Rig, *, rows: int | None = None, y_axis: str = "stroke",
 
 
 def _predict(a: Row, b: Row, eq: str, y: float):
-    """(verdict at the row start, [(x, half-width, gained)]) if rows a and b agree, else None."""
+    """(verdict at the row start, [(x, spread, gained)]) if rows a and b agree, else None."""
     ea, eb = a.edges[eq], b.edges[eq]
     if a.stable_at_min[eq] != b.stable_at_min[eq] or len(ea) != len(eb):
         return None
@@ -266,7 +276,7 @@ def _predict(a: Row, b: Row, eq: str, y: float):
     out = []
     for p, q in zip(ea, eb):
         x = p.x + t * (q.x - p.x)
-        out.append((x, abs(q.x - p.x) / 2 + FOLLOW_SLACK * x, p.gained))
+        out.append((x, abs(q.x - p.x), p.gained))
     return a.stable_at_min[eq], out
 
 
