@@ -20,7 +20,7 @@ from dataclasses import replace
 from .dynamics import model, points_m
 from .motion import Jump, Knock, Scenario, simulate_steps
 from .motion_report import loads_text, motion_text, tolerance_text
-from .plots import basin_svg, loads_svg, motion_svg
+from .plots import basin_svg, line_plot, loads_svg, motion_svg
 from .report import CAUTIONS
 from .rig import Problem, RigError
 from .speed import ramp_profile, table_profile
@@ -173,6 +173,7 @@ def _simulate_job(rig, warnings, request):
     strobe_y = m.kinematics(sc.strobe_phase_rad)[0] if sc.strobe_phase_rad is not None else 0.0
     strobe_points = [points_m(m, q, strobe_y) for q in motion.strobe_angles_rad]
     svg, axes = motion_svg(motion, rig.title or "Link angles") if motion.t_s else (None, None)
+    strobe_svg, strobe_axes = _strobe_svg(motion) if len(motion.strobe_t_s) > 1 else (None, None)
     yield 1.0, {
         "stage": "done",
         "frames": {"t_s": list(motion.t_s), "pivot_y_m": list(motion.pivot_y_m),
@@ -191,8 +192,19 @@ def _simulate_job(rig, warnings, request):
                    for e in motion.events],
         "summary": {"end_t_s": motion.end_t_s, "fell": motion.fell, "turns": list(motion.turns),
                     "success": motion.success, "message": motion.message, "work": motion.work},
-        "svg": svg, "axes": axes, "report_text": motion_text(motion, rig.title),
+        "svg": svg, "axes": axes, "strobe_svg": strobe_svg, "strobe_axes": strobe_axes,
+        "report_text": motion_text(motion, rig.title),
         "warnings": _bridge()._problems(warnings), "cautions": list(CAUTIONS)}
+
+
+def _strobe_svg(motion) -> tuple[str, dict]:
+    """The once-per-cycle samples of each link's angle: the slow motion without the shake."""
+    n = len(motion.strobe_angles_rad[0])
+    series = [(f"link {i + 1}", motion.strobe_t_s,
+               [math.degrees(q[i]) for q in motion.strobe_angles_rad]) for i in range(n)]
+    return line_plot(series, title="Once per drive cycle", x_label="time (s)",
+                     y_label="angle once per cycle (deg)", x_unit="s", y_unit="deg",
+                     height_px=240, cls="strobe-plot")
 
 
 def _op_loads(request: dict) -> dict:
