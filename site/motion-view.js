@@ -34,7 +34,7 @@ export function createMotionView(els, { engine, getRig }) {
     playing: false,
     last: 0, // wall-clock ms of the last animation frame
     raf: 0,
-    playhead: null, // the time line drawn on the core's plot
+    playheads: [], // the time lines drawn on the core's plots
   };
   const fields = {
     duration: { input: els.duration, msg: els.msgs.duration, label: "Run length" },
@@ -177,22 +177,28 @@ export function createMotionView(els, { engine, getRig }) {
     seek(startAt);
   }
 
+  /** The core's plot with a line at the time on show, drawn from the plot's own time axis. */
+  function plot(svgText, axes, label) {
+    const svg = svgNode(svgText, label);
+    if (axes?.x?.unit === "s") {
+      const line = document.createElementNS(SVG_NS, "line");
+      line.setAttribute("class", "playhead");
+      line.setAttribute("y1", axes.y.px_max);
+      line.setAttribute("y2", axes.y.px_min);
+      svg.append(line);
+      state.playheads.push({ line, axis: axes.x });
+    }
+    return svg;
+  }
+
   function showPlot(reply) {
-    state.playhead = null;
+    state.playheads = [];
     if (!reply.svg) {
       replaceChildren(els.plot, h("p", { class: "empty" }, "No plot: the run has no frames."));
       return;
     }
-    const svg = svgNode(reply.svg, "Link angles against time");
-    if (reply.axes?.x?.unit === "s") {
-      const line = document.createElementNS(SVG_NS, "line");
-      line.setAttribute("class", "playhead");
-      line.setAttribute("y1", reply.axes.y.px_max);
-      line.setAttribute("y2", reply.axes.y.px_min);
-      svg.append(line);
-      state.playhead = { line, axis: reply.axes.x };
-    }
-    els.plot.replaceChildren(svg);
+    els.plot.replaceChildren(plot(reply.svg, reply.axes, "Link angles against time"),
+      reply.strobe_svg ? plot(reply.strobe_svg, reply.strobe_axes, "Link angles once per drive cycle") : "");
     els.plot.dataset.state = "fresh";
     els.plot.dataset.axes = JSON.stringify(reply.axes);
   }
@@ -226,11 +232,10 @@ export function createMotionView(els, { engine, getRig }) {
     els.clock.textContent = els.strobe.checked && p
       ? `${state.time.toFixed(3)} s (sample at ${p.t.toFixed(3)} s)` : `${state.time.toFixed(3)} s`;
     els.anim.dataset.time = String(state.time);
-    if (state.playhead) {
-      const a = state.playhead.axis;
-      const x = a.px_min + ((state.time - a.min) / (a.max - a.min)) * (a.px_max - a.px_min);
-      state.playhead.line.setAttribute("x1", x);
-      state.playhead.line.setAttribute("x2", x);
+    for (const { line, axis: a } of state.playheads) {
+      const x = a.px_min + ((Math.min(state.time, a.max) - a.min) / (a.max - a.min)) * (a.px_max - a.px_min);
+      line.setAttribute("x1", x);
+      line.setAttribute("x2", x);
     }
   }
 

@@ -157,6 +157,18 @@ def test_strobe_view_draws_the_once_per_cycle_samples(motion_page):
         assert f"sample at {strobe['t_s'][k]:.3f} s" in page.inner_text("#motion-clock")
     finally:
         page.uncheck("#motion-strobe")
+    # the once-per-cycle plot: its line goes through the core's samples, mapped by the plot's axes
+    points = page.evaluate("""() => document.querySelector('#motion-plot svg.strobe-plot polyline')
+        .getAttribute('points').trim().split(/\\s+/).map((p) => p.split(',').map(Number))""")
+    ax = ref["strobe_axes"]
+    assert len(points) == len(strobe["t_s"])
+    for i in (0, 50, len(points) - 1):
+        px = ax["x"]["px_min"] + (strobe["t_s"][i] - ax["x"]["min"]) / (ax["x"]["max"] - ax["x"]["min"]) * (
+            ax["x"]["px_max"] - ax["x"]["px_min"])
+        deg = math.degrees(strobe["angles_rad"][i][0])
+        py = ax["y"]["px_min"] + (deg - ax["y"]["min"]) / (ax["y"]["max"] - ax["y"]["min"]) * (
+            ax["y"]["px_max"] - ax["y"]["px_min"])
+        assert points[i] == pytest.approx([px, py], abs=0.01)  # the SVG rounds to 0.01 px
     # The sample positions are the frames' positions at the same instants: a run whose frames
     # fall once per drive cycle (frame rate = drive frequency, from the check) gives them again.
     f_hz = data(page, "#check-report", "result")["frequency_hz"]
