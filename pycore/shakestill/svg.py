@@ -176,11 +176,40 @@ def _region_paths(chart, px, py) -> dict[str, str]:
         if [c for *_, c in spans[i]] == [c for *_, c in spans[i + 1]]:
             for (a, b, cls), (c, d, _) in zip(spans[i], spans[i + 1]):
                 poly(cls, [(a, lo.y), (b, lo.y), (d, hi.y), (c, hi.y)])
-        else:
+        elif not _side_exit(spans, rows, i, poly):
             mid = 0.5 * (lo.y + hi.y)
             band(i, lo.y, mid)
             band(i + 1, mid, hi.y)
     return {cls: "".join(p) for cls, p in parts.items()}
+
+
+def _side_exit(spans, rows, i: int, poly) -> bool:
+    """Join rows i and i+1 when one of them has one span more at the right end of the range
+    (a boundary leaving the chart through its side between the rows): trapezoids for the
+    shared spans, the boundary carried on to the side where its line through the long row's
+    edge and that edge on the row beyond meets it (half-way when there is no such line)."""
+    for long_i, short_i in ((i, i + 1), (i + 1, i)):
+        long_s, short_s = spans[long_i], spans[short_i]
+        if len(long_s) < 2 or [c for *_, c in long_s[:-1]] != [c for *_, c in short_s]:
+            continue
+        y_long, y_short = rows[long_i].y, rows[short_i].y
+        edge, side = long_s[-1][0], long_s[-1][1]
+        y_side = 0.5 * (y_long + y_short)
+        beyond = 2 * long_i - short_i  # the row on the long row's other side
+        if 0 <= beyond < len(rows) and len(spans[beyond]) == len(long_s) and \
+                spans[beyond][-2][1] != edge:
+            e_beyond, y_beyond = spans[beyond][-2][1], rows[beyond].y
+            y_line = y_long + (side - edge) * (y_long - y_beyond) / (edge - e_beyond)
+            if min(y_long, y_short) < y_line < max(y_long, y_short):
+                y_side = y_line
+        for (a, b, cls), (c, d, _) in zip(long_s[:-2], short_s[:-1]):
+            poly(cls, [(a, y_long), (b, y_long), (d, y_short), (c, y_short)])
+        a, _, cls = long_s[-2]
+        c = short_s[-1][0]
+        poly(cls, [(a, y_long), (edge, y_long), (side, y_side), (side, y_short), (c, y_short)])
+        poly(long_s[-1][2], [(edge, y_long), (side, y_long), (side, y_side)])
+        return True
+    return False
 
 
 def chart_svg(chart, rig: Rig, *, width_px: int = 760, height_px: int = 470,
