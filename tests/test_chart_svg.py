@@ -111,3 +111,29 @@ def test_painted_regions_match_mathieu_bands(y_axis):
         assert got == want, (speed, y)
         checked += 1
     assert checked > 150
+
+
+def test_boundary_leaving_through_the_side_is_painted_to_the_side():
+    # The inverted position's lower edge leaves the stroke chart through its right side
+    # (top speed) between two rows. Where it crosses that side comes from the Mathieu
+    # bands (scipy.special, bisection on the stroke); the fill must change class there
+    # within 15% of the row spacing (painting half-way between the rows missed it by more).
+    rig = sine_rig()
+    rows = 12
+    c = chart(rig, rows=rows)
+    svg, axes = render(c, rig)
+    regions = painted(svg)
+    l_eq = ss.properties(rig).l_eq_m
+    (x0, x1), (y0, y1) = c.speed_range, c.y_range
+    lo, hi = y0, y1  # inverted: unstable at zero stroke, stable at the top of the chart
+    assert not verdicts(l_eq, x1, lo)[0] and verdicts(l_eq, x1, hi)[0]
+    for _ in range(60):
+        mid = 0.5 * (lo + hi)
+        lo, hi = (lo, mid) if verdicts(l_eq, x1, mid)[0] else (mid, hi)
+    y_true = 0.5 * (lo + hi)
+    dy = (y1 - y0) / (rows - 1)
+    below = fill_at(regions, *to_px(axes, x1 * (1 - 1e-4), y_true - 0.15 * dy))
+    above = fill_at(regions, *to_px(axes, x1 * (1 - 1e-4), y_true + 0.15 * dy))
+    from shakestill.svg import REGION_FILL
+    assert above == REGION_FILL["both"][0]
+    assert below == REGION_FILL["hanging"][0]
