@@ -49,6 +49,8 @@ export function createLoadsView(els, { engine, getRig, getEquilibrium }) {
       return;
     }
     show(reply);
+    // an edit made while the loads were worked out: they are of the rig before it
+    if (JSON.stringify(getRig()) !== rigKey) els.out.dataset.state = "stale";
   }
 
   function show(reply) {
