@@ -70,11 +70,18 @@ def cli_check(rig: dict, tmp_path: Path) -> dict:
     return json.loads(done.stdout)
 
 
+# Work counters are not results: the page's engine (Pyodide) and the command line (CPython)
+# may differ in the last bit of a libm function, which can change a root finder's iteration
+# count by one while every result still agrees (as in tests/test_pyodide.py).
+WORK_COUNTERS = {"evaluations"}
+
+
 def assert_same_numbers(got, want, rel=1e-9, abs_tol=1e-12, where="result"):
-    """Same structure, same strings and booleans; numbers equal to `rel` relative."""
+    """Same structure, same strings and booleans; numbers equal to `rel` relative
+    (work counters left out)."""
     if isinstance(want, dict):
         assert isinstance(got, dict) and set(got) == set(want), f"{where}: keys {sorted(got)} != {sorted(want)}"
-        for key in want:
+        for key in set(want) - WORK_COUNTERS:
             assert_same_numbers(got[key], want[key], rel, abs_tol, f"{where}.{key}")
     elif isinstance(want, list):
         assert isinstance(got, list) and len(got) == len(want), f"{where}: {got!r} != {want!r}"
