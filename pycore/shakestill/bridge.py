@@ -190,6 +190,9 @@ OPS = {
 from .motion_bridge import OPS as _MOTION_OPS  # noqa: E402  (it reads this module's helpers)
 
 OPS.update(_MOTION_OPS)
+from .fit_bridge import OPS as _FIT_OPS  # noqa: E402
+
+OPS.update(_FIT_OPS)
 
 
 def call(request: dict) -> dict:

@@ -111,10 +111,8 @@ def scenario_from_request(request: dict, rig) -> Scenario:
                                 n))
                   for i, j in enumerate(r.items("jumps")))
     profile = None
-    ramps = [(r.quantity(f"ramps[{i}].at_s", x.get("at_s"), "time", minimum=0.0),
-              r.quantity(f"ramps[{i}].over_s", x.get("over_s"), "time", above=0.0),
-              r.quantity(f"ramps[{i}].to_rpm", x.get("to_rpm"), "speed", minimum=0.0))
-             for i, x in enumerate(r.items("ramps"))]
+    start_rpm = r.field("start_rpm", "speed", None, minimum=0.0)
+    ramps = [_ramp(r, f"ramps[{i}]", x) for i, x in enumerate(r.items("ramps"))]
     table = request.get("speed_table")
     reference = request.get("reference", "inverted")
     angles = r.values("angles_rad", request.get("angles_rad"), "angle", n)
@@ -130,10 +128,12 @@ def scenario_from_request(request: dict, rig) -> Scenario:
         recover_band_rad=r.field("recover_band_rad", "angle", 0.2, above=0.0),
         settle_s=r.field("settle_s", "time", 1.0, minimum=0.0))
     r.done()
-    if ramps and table:
-        raise RigError([Problem("ramps", "give ramps or speed_table, not both")])
-    if ramps:
-        profile = ramp_profile(rig.drive.speed_rpm, ramps)
+    if table and (ramps or start_rpm is not None):
+        raise RigError([Problem("ramps" if ramps else "start_rpm",
+                                "give ramps (and start_rpm) or speed_table, not both")])
+    if ramps or start_rpm is not None:
+        start = rig.drive.speed_rpm if start_rpm is None else start_rpm  # held until a ramp
+        profile = ramp_profile(start, _ramp_times(ramps, start))
     elif table:
         if not isinstance(table, dict):
             raise RigError([Problem("speed_table", "must be {\"t_s\": [...], \"speed_rpm\": [...]}")])
@@ -143,6 +143,34 @@ def scenario_from_request(request: dict, rig) -> Scenario:
         r.done()
         profile = table_profile(ts or (), vs or ())
     return replace(sc, profile=profile)
+
+
+def _ramp(r: _Reader, where: str, x: dict) -> tuple:
+    """(at_s, over_s or None, to_rpm, rate_rpm_s or None): a ramp gives its time or its rate."""
+    if ("over_s" in x) == ("rate_rpm_s" in x):
+        r.problems.append(Problem(where, "give over_s (the ramp's time) or rate_rpm_s (its rate), "
+                                         "one of the two"))
+    return (r.quantity(f"{where}.at_s", x.get("at_s"), "time", minimum=0.0),
+            r.quantity(f"{where}.over_s", x["over_s"], "time", above=0.0) if "over_s" in x else None,
+            r.quantity(f"{where}.to_rpm", x.get("to_rpm"), "speed", minimum=0.0),
+            r.quantity(f"{where}.rate_rpm_s", x["rate_rpm_s"], "rate", above=0.0)
+            if "rate_rpm_s" in x else None)
+
+
+def _ramp_times(ramps, start_rpm: float) -> list:
+    """(at_s, over_s, to_rpm) for speed.ramp_profile: a rate lasts |to - speed before| / rate.
+
+    A ramp by rate to the speed it starts from changes nothing and is left out.
+    """
+    out, before = [], start_rpm
+    for at, over, to, rate in ramps:
+        if rate is not None:
+            if to == before:
+                continue
+            over = abs(to - before) / rate
+        out.append((at, over, to))
+        before = to
+    return out
 
 
 def _last(job) -> dict:
@@ -258,7 +286,13 @@ def _basin_job(rig, warnings, request):
         yield fraction, {"stage": "basin", "basin": basin.as_dict(), "svg": svg, "axes": axes}
 
 
-JOB_KINDS = {"simulate": _simulate_job, "tolerance": _tolerance_job, "basin": _basin_job}
+def _fit_job(rig, warnings, request):
+    from .fit_bridge import fit_job  # late: the fit is its own module, with its own op
+    return fit_job(rig, warnings, request)
+
+
+JOB_KINDS = {"simulate": _simulate_job, "tolerance": _tolerance_job, "basin": _basin_job,
+             "fit": _fit_job}
 _JOBS: dict[int, dict] = {}
 _IDS = itertools.count(1)
 

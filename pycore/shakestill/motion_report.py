@@ -104,3 +104,24 @@ def loads_text(result: dict) -> str:
     if not result["success"]:
         out.append(f"  note: {result['message']}")
     return "\n".join(out + _safety()) + "\n"
+
+
+def fit_text(result: dict) -> str:
+    """Words for a fit to a logged run (the dict of ``fit.fit_dict``)."""
+    out = [f"Fit to a logged run: {result['samples']} samples, {result['iterations']} "
+           f"iteration(s), {result['simulations']} simulations"]
+    if not result["converged"]:
+        out.append(f"NOT SETTLED: {result['message']}; the numbers below are the best so far")
+    out.append(f"Misfit (RMS angle): {math.degrees(result['rms_start_rad']):.4g} deg with the "
+               f"rig's own numbers, {math.degrees(result['rms_rad']):.4g} deg fitted")
+    out.append("Fitted numbers (start -> fitted +- standard error):")
+    for p in result["parameters"]:
+        err = p["std_error"]
+        spread = "not determined by this log" if not math.isfinite(err) else f"+- {err:.3g}"
+        out.append(f"  {p['path']}: {p['start']:.6g} -> {p['value']:.6g} {spread}")
+    out.append("Start of the run (fitted, from the upward vertical): angles "
+               + ", ".join(f"{math.degrees(q):.3f} deg" for q in result["initial_angles_rad"])
+               + "; rates " + ", ".join(f"{w:.4f} rad/s" for w in result["initial_rates_rad_s"]))
+    out.append("A fit describes this run: check the fitted rig against another logged run "
+               "before relying on it.")
+    return "\n".join(out + _safety()) + "\n"

@@ -188,3 +188,21 @@ def basin_svg(basin, *, knock_rad_s: float | None = None,
     out += _legend(ax, (("recovers", RECOVERS), ("falls", FALLS)), swatch=True)
     out.append("</svg>")
     return "".join(out), ax.mapping("deg", "rad/s")
+
+
+FIT_PLOT_POINTS = 1500  # samples per line in the fit plot (a long log is thinned to this)
+
+
+def fit_svg(result, title: str = "Logged and fitted angles") -> tuple[str, dict]:
+    """Each link's logged angle and the fitted model's, in degrees against time."""
+    every = max(1, math.ceil(len(result.t_s) / FIT_PLOT_POINTS))
+    ts = result.t_s[::every]
+    series = []
+    for i in range(len(result.measured_rad[0])):
+        series.append((f"link {i + 1} logged", ts,
+                       [math.degrees(q[i]) for q in result.measured_rad[::every]]))
+        series.append((f"link {i + 1} fitted model", ts,
+                       [math.degrees(q[i]) for q in result.model_rad[::every]]))
+    return line_plot(series, title=title, x_label="time (s)",
+                     y_label="angle from upward vertical (deg)", x_unit="s", y_unit="deg",
+                     cls="fit-plot")
