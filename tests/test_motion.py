@@ -440,3 +440,37 @@ def test_bridge_simulate_job_gives_the_one_call_reply(monkeypatch):
     # and the motion is the API's, which matches solve_ivp above: 4 s, the knock at 0
     direct = mo.simulate(ss.demo_rig(), mo.Scenario(duration_s=4, rates_rad_s=(3.0,)))
     assert np.allclose(whole["frames"]["angles_rad"], direct.angles_rad, rtol=0, atol=1e-15)
+
+
+def test_bridge_ramp_from_a_start_speed_by_rate(monkeypatch):
+    # start_rpm sets the speed until the first ramp; a ramp may give its rate instead of its time.
+    from shakestill import bridge, motion_bridge
+    for op, fn in motion_bridge.OPS.items():
+        monkeypatch.setitem(bridge.OPS, op, fn)
+    base = {"op": "simulate", "rig": ss.demo_rig_dict(), "duration_s": "0.6 s", "frame_rate_hz": 200,
+            "reference": "hanging", "angles_rad": ["170 deg"]}
+    by_rate = bridge.call({**base, "start_rpm": "0 rpm",
+                           "ramps": [{"at_s": "0.1 s", "rate_rpm_s": "6000 rpm/s", "to_rpm": 2700}]})
+    assert by_rate["ok"], by_rate
+    t, v = by_rate["frames"]["t_s"], by_rate["frames"]["speed_rpm"]
+    for ti, vi in zip(t, v):  # the ramp formula v = rate (t - delay), held at the ends (common practice)
+        assert vi == pytest.approx(min(2700.0, max(0.0, 6000.0 * (ti - 0.1))), rel=1e-12, abs=1e-9)
+    assert v[-1] == pytest.approx(2700.0, rel=1e-12)  # the rig's speed at the end (rad/s round trip)
+    # the same ramp by its time, (2700 - 0) / 6000 = 0.45 s: the same run
+    by_time = bridge.call({**base, "start_rpm": 0,
+                           "ramps": [{"at_s": 0.1, "over_s": 0.45, "to_rpm": "2700 rpm"}]})
+    assert np.abs(np.array(by_time["frames"]["angles_rad"])
+                  - np.array(by_rate["frames"]["angles_rad"])).max() < 1e-12
+    # start_rpm alone: that speed throughout
+    slow = bridge.call({**base, "start_rpm": "600 rpm"})
+    assert set(slow["frames"]["speed_rpm"]) == {600.0}
+    bad = bridge.call({**base, "start_rpm": "-5 rpm",
+                       "ramps": [{"at_s": "-1", "rate_rpm_s": "fast", "to_rpm": 0},
+                                 {"at_s": 1, "over_s": 1, "rate_rpm_s": 10, "to_rpm": 0}]})
+    problems = {p["path"]: p["message"] for p in bad["problems"]}
+    assert not bad["ok"] and set(problems) == {"start_rpm", "ramps[0].at_s", "ramps[0].rate_rpm_s",
+                                               "ramps[1]"}
+    assert "'fast'" in problems["ramps[0].rate_rpm_s"] and "rpm/s" in problems["ramps[0].rate_rpm_s"]
+    assert "at least 0" in problems["start_rpm"]
+    mixed = bridge.call({**base, "start_rpm": 0, "speed_table": {"t_s": [0], "speed_rpm": [100]}})
+    assert [p["path"] for p in mixed["problems"]] == ["start_rpm"]
