@@ -175,6 +175,8 @@ def parser() -> argparse.ArgumentParser:
     ru.set_defaults(func=_cmd_runup)
     from .motion_cli import add_commands
     add_commands(sub)  # simulate, tolerance, loads
+    from .fit_cli import add_commands as add_fit
+    add_fit(sub)
     link = sub.add_parser("link", help="print a share-link fragment for a rig")
     link.add_argument("rig", nargs="?", metavar="RIG")
     link.set_defaults(func=_cmd_link)

@@ -3,7 +3,9 @@
 Request fields: ``rig``; ``log`` (the log's text, see module ``logfile``);
 ``reference`` ("hanging", default, or "inverted": where the log's angles are
 zero); ``parameters`` (names for ``fit.parameter_paths``, default
-["damping"]); ``max_iterations`` (default 30). The reply carries the fit
+["damping"]); ``max_iterations`` (default 30); ``drive_stopped`` (true: a free
+decay with the drive standing still, when the log has no speed column; else
+the log's speed column or the rig's own speed). The reply carries the fit
 (``result``, as ``shakestill fit --json``), the fitted rig as a rig file
 (``fitted_rig``), its plot (``svg``, ``axes``) and the words.
 """
@@ -11,7 +13,7 @@ zero); ``parameters`` (names for ``fit.parameter_paths``, default
 from __future__ import annotations
 
 from .fit import MAX_ITERATIONS, fit_dict, fit_steps
-from .logfile import REFERENCE_ANGLE, read_angle_log
+from .logfile import REFERENCE_ANGLE, drive_stopped, read_angle_log
 from .motion_report import fit_text
 from .plots import fit_svg
 from .report import CAUTIONS
@@ -36,9 +38,13 @@ def _settings(rig, request: dict):
     if not isinstance(text, str) or not text.strip():
         problems.append(Problem("log", "is required: the logged run as CSV text with a header "
                                        "row (t_s, angle_deg, ...)"))
+    stopped = request.get("drive_stopped", False)
+    if not isinstance(stopped, bool):
+        problems.append(Problem("drive_stopped", f"{stopped!r} is not allowed: true or false"))
     if problems:
         raise RigError(problems)
-    return read_angle_log(text, rig.n_links, reference=reference), names, most
+    log = read_angle_log(text, rig.n_links, reference=reference)
+    return (drive_stopped(log, "drive_stopped") if stopped else log), names, most
 
 
 def fit_job(rig, warnings, request: dict):

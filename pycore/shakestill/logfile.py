@@ -20,7 +20,7 @@ from __future__ import annotations
 
 import math
 import re
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 from .rig import Problem, RigError
 
@@ -48,12 +48,21 @@ class AngleLog:
     step_s: float  # the even sampling step the times keep to
 
 
+def _is_number(text: str) -> bool:
+    try:
+        float(text)
+    except ValueError:
+        return False
+    return True
+
+
 def _column(cell: str, where: str, problems: list):
     """(kind, link index or None, factor) of a header cell, or None if not recognised."""
     m = _HEADER.match(cell)
     name = _NAMES.get(m.group(1).lower()) if m else None
     if name is None:
-        problems.append(Problem(where, f"{cell!r} is not a column this reads: use t_s (or ms), "
+        first = "the first row must name the columns; " if _is_number(cell) else ""
+        problems.append(Problem(where, f"{cell!r} is not a column this reads: {first}use t_s (or ms), "
                                        "angle_deg / angle1_deg, angle2_deg, ... (or rad), "
                                        "and optionally speed_rpm (or Hz)"))
         return None
@@ -165,3 +174,11 @@ def _from_table(table, t_col: int, a_cols: list[int], v_col, header, reference) 
     zero = REFERENCE_ANGLE[reference]
     angles = tuple(tuple(zero + row[j] for j in a_cols) for row in table)
     return AngleLog(tuple(ts), angles, speeds, reference, step)
+
+
+def drive_stopped(log: AngleLog, where: str) -> AngleLog:
+    """The log of a run with the drive standing still (a free decay): speed 0 throughout."""
+    if log.speed_rpm is not None and any(v != 0.0 for v in log.speed_rpm):
+        raise RigError([Problem(where, "the log has a speed column with a running drive: "
+                                       "leave out 'drive stopped' or the speed column")])
+    return replace(log, speed_rpm=(0.0,) * len(log.t_s))
