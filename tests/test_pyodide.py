@@ -87,7 +87,25 @@ def _requests() -> list[list[dict]]:
         [{"id": 11, "op": "check", "rig": TWO_LINK}],
         [{"id": 12, "op": "check", "rig": bad}],
         [{"id": 13, "op": "schematic", "rig": TWO_LINK}],
+        [{"id": 14, "op": "fit", "rig": demo, "log": _decay_log(demo), "drive_stopped": True,
+          "parameters": ["damping"]}],
     ]
+
+
+def _decay_log(demo: dict) -> str:
+    """A short free decay of the demo rig with twice its damping, made on CPython."""
+    import shakestill as ss
+    from shakestill.fit import with_values
+    from shakestill.motion import Scenario, simulate
+    from shakestill.speed import constant_speed
+    rig = ss.rig_from_dict(demo)
+    rig = with_values(rig, ["links[0].joint_damping_N_m_s"],
+                      [2 * rig.links[0].joint_damping_N_m_s])
+    run = simulate(rig, Scenario(duration_s=2.0, angles_rad=(math.pi + 0.3,), rates_rad_s=(0.0,),
+                                 profile=constant_speed(0.0), frame_rate_hz=25,
+                                 strobe_phase_rad=None, rtol=1e-11, atol=1e-11))
+    return "t_s,angle_rad\n" + "\n".join(f"{t!r},{q[0] - math.pi!r}"
+                                           for t, q in zip(run.t_s, run.angles_rad))
 
 
 @pytest.fixture(scope="module")
@@ -170,6 +188,21 @@ def test_other_replies_match_cpython(run, id_):
     _compare(final["reply"], _cpython(requests[id_]))
 
 
+def test_fit_matches_cpython(run):
+    # A fit stops once a step moves its scaled numbers by less than 1e-7 (fit.STEP_TOL), so
+    # the platforms agree to that, not to round-off: fitted numbers, start and misfit to 1e-6.
+    messages, requests = run
+    final = _final(messages, 14)
+    assert final["type"] == "result", final
+    got, want = final["reply"]["result"], _cpython(requests[14])["result"]
+    assert got["converged"] and want["converged"]
+    pairs = [(g["value"], w["value"]) for g, w in zip(got["parameters"], want["parameters"])]
+    pairs += list(zip(got["initial_angles_rad"], want["initial_angles_rad"]))
+    for g, w in pairs:
+        assert math.isclose(g, w, rel_tol=1e-6), (g, w)
+    assert math.isclose(got["rms_start_rad"], want["rms_start_rad"], rel_tol=1e-9)
+
+
 def test_bad_input_names_the_field(run):
     messages, _ = run
     reply = _final(messages, 12)["reply"]
@@ -185,4 +218,4 @@ def test_queued_requests_are_replaced_or_cancelled_before_they_start(run):
         started = [m for m in messages if m.get("id") == id_ and m["type"] == "progress"]
         assert started == [], f"request {id_} started although it was dropped"
     order = [m["id"] for m in messages if m.get("type") == "result"]
-    assert order == [1, 3, 5, 10, 11, 12, 13]  # the rest in the order sent
+    assert order == [1, 3, 5, 10, 11, 12, 13, 14]  # the rest in the order sent
