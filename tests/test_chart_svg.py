@@ -137,3 +137,12 @@ def test_boundary_leaving_through_the_side_is_painted_to_the_side():
     from shakestill.svg import REGION_FILL
     assert above == REGION_FILL["both"][0]
     assert below == REGION_FILL["hanging"][0]
+    # and the drawn edge is carried to the side as well, to the same crossing
+    side_x, true_y = to_px(axes, x1, y_true)
+    edges = [el for el in ET.fromstring(svg).iter(f"{NS}polyline")
+             if el.get("stroke-dasharray") is None]  # not the dashed acceleration lines
+    ends = [tuple(map(float, pt.split(","))) for el in edges
+            for pt in (el.get("points").split()[0], el.get("points").split()[-1])]
+    _, dy_px = to_px(axes, x1, y0 + 0.15 * dy)
+    _, y0_px = to_px(axes, x1, y0)
+    assert any(abs(x - side_x) < 1e-6 and abs(y - true_y) < abs(dy_px - y0_px) for x, y in ends)

@@ -143,8 +143,10 @@ def _row_spans(row, x0: float) -> list[tuple[float, float, str]]:
     return spans
 
 
-def _region_paths(chart, px, py) -> dict[str, str]:
-    """SVG path data per verdict class (background "neither" left out).
+def _region_paths(chart, px, py, exits: list | None = None) -> dict[str, str]:
+    """SVG path data per verdict class (background "neither" left out); boundaries that
+    leave through the side between two rows are appended to ``exits`` as
+    ((edge speed, row y), (side speed, crossing y)).
 
     Between two rows whose spans have the same classes in the same order, each
     span is a trapezoid joining its ends on both rows, so the fill follows the
@@ -176,14 +178,14 @@ def _region_paths(chart, px, py) -> dict[str, str]:
         if [c for *_, c in spans[i]] == [c for *_, c in spans[i + 1]]:
             for (a, b, cls), (c, d, _) in zip(spans[i], spans[i + 1]):
                 poly(cls, [(a, lo.y), (b, lo.y), (d, hi.y), (c, hi.y)])
-        elif not _side_exit(spans, rows, i, poly):
+        elif not _side_exit(spans, rows, i, poly, exits if exits is not None else []):
             mid = 0.5 * (lo.y + hi.y)
             band(i, lo.y, mid)
             band(i + 1, mid, hi.y)
     return {cls: "".join(p) for cls, p in parts.items()}
 
 
-def _side_exit(spans, rows, i: int, poly) -> bool:
+def _side_exit(spans, rows, i: int, poly, exits: list) -> bool:
     """Join rows i and i+1 when one of them has one span more at the right end of the range
     (a boundary leaving the chart through its side between the rows): trapezoids for the
     shared spans, the boundary carried on to the side where its line through the long row's
@@ -208,8 +210,20 @@ def _side_exit(spans, rows, i: int, poly) -> bool:
         c = short_s[-1][0]
         poly(cls, [(a, y_long), (edge, y_long), (side, y_side), (side, y_short), (c, y_short)])
         poly(long_s[-1][2], [(edge, y_long), (side, y_long), (side, y_side)])
+        exits.append(((edge, y_long), (side, y_side)))
         return True
     return False
+
+
+def _carried_to_side(points, exits) -> list:
+    """A boundary line with the side crossing of the fill added at an end that left."""
+    points = [tuple(p) for p in points]
+    for start, end in exits:
+        if points[-1] == start:
+            points.append(end)
+        elif points[0] == start:
+            points.insert(0, end)
+    return points
 
 
 def chart_svg(chart, rig: Rig, *, width_px: int = 760, height_px: int = 470,
@@ -247,11 +261,13 @@ def chart_svg(chart, rig: Rig, *, width_px: int = 760, height_px: int = 470,
            f'height="{height_px - top - bottom}" fill="{REGION_FILL["neither"][0]}"/>']
     if not stroke_axis:
         out.append(f"<defs>{OUT_OF_REACH[0]}</defs>")
-    for cls, d in _region_paths(chart, px, py).items():
+    exits: list = []
+    for cls, d in _region_paths(chart, px, py, exits).items():
         fill = "url(#out-of-reach)" if cls == "out-of-reach" else REGION_FILL[cls][0]
         out.append(f'<path d="{d}" fill="{fill}"/>')
     for line in boundaries or []:
-        pts = " ".join(f"{_f(px(x))},{_f(py(y))}" for x, y in line["points"])
+        points = _carried_to_side(line["points"], exits)
+        pts = " ".join(f"{_f(px(x))},{_f(py(y))}" for x, y in points)
         out.append(f'<polyline points="{pts}" fill="none" stroke="{EDGE_INK[line["equilibrium"]]}" '
                    f'stroke-width="1.4"><title>{esc(line["equilibrium"] + ": " + line["kind"])}'
                    "</title></polyline>")
