@@ -456,6 +456,13 @@ def test_bridge_ramp_from_a_start_speed_by_rate(monkeypatch):
     for ti, vi in zip(t, v):  # the ramp formula v = rate (t - delay), held at the ends (common practice)
         assert vi == pytest.approx(min(2700.0, max(0.0, 6000.0 * (ti - 0.1))), rel=1e-12, abs=1e-9)
     assert v[-1] == pytest.approx(2700.0, rel=1e-12)  # the rig's speed at the end (rad/s round trip)
+    # once per cycle on a ramp from rest: phase = alpha (t - 0.1)^2 / 2 = 2 pi k (common practice)
+    alpha = 6000.0 * 2 * math.pi / 60
+    strobe = [s for s in by_rate["strobe"]["t_s"] if s < 0.55]
+    want = [0.0] + [0.1 + math.sqrt(4 * math.pi * k / alpha)
+                    for k in range(1, 100) if 0.1 + math.sqrt(4 * math.pi * k / alpha) < 0.55]
+    assert len(strobe) == len(want) > 10
+    assert np.abs(np.array(strobe) - want).max() < 1e-12
     # the same ramp by its time, (2700 - 0) / 6000 = 0.45 s: the same run
     by_time = bridge.call({**base, "start_rpm": 0,
                            "ramps": [{"at_s": 0.1, "over_s": 0.45, "to_rpm": "2700 rpm"}]})

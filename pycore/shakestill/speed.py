@@ -132,9 +132,11 @@ def phase_times(seg: Segment, t_end: float, phase_rad: float) -> list[tuple[floa
         if disc < 0:
             break
         denom = seg.omega0 + math.sqrt(disc)
-        if denom <= 0:
+        if gap > 0 and denom <= 0:
             break
-        t = seg.t0 + 2.0 * gap / denom  # the root of phase(t) = target, cancellation-free
+        # the root of phase(t) = target, cancellation-free; a target at the start is the start,
+        # also when the drive starts from rest (denom 0)
+        t = seg.t0 + (2.0 * gap / denom if gap > 0 else 0.0)
         if t >= t_end:
             break
         out.append((t, k))
