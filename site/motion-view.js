@@ -23,6 +23,7 @@ const PLAIN = /^[-+]?(\d+\.?\d*|\.\d+)(e[-+]?\d+)?$/i;
  * @param {object} deps {engine, getRig()}
  */
 export function createMotionView(els, { engine, getRig }) {
+  const speedOut = document.getElementById("motion-drive-speed");
   const runner = new Runner(engine);
   const animation = createAnimation(els.anim, "The rig, drawn to scale, moving as simulated");
   const state = {
@@ -227,8 +228,12 @@ export function createMotionView(els, { engine, getRig }) {
     state.time = Math.min(end, Math.max(0, time));
     const p = animation.at(state.time, els.strobe.checked);
     const frames = state.shown.reply.frames.t_s;
-    els.time.value = String(frameIndex(frames, state.time));
-    els.time.setAttribute("aria-valuetext", `${state.time.toFixed(3)} seconds`);
+    const k = frameIndex(frames, state.time);
+    const rpm = state.shown.reply.frames.speed_rpm[k]; // the core's drive speed at the frame on show
+    els.time.value = String(k);
+    els.time.setAttribute("aria-valuetext", `${state.time.toFixed(3)} seconds, drive at ${num(rpm, 4)} rpm`);
+    speedOut.textContent = `${num(rpm, 4)} rpm`;
+    els.anim.dataset.speedRpm = String(rpm);
     els.clock.textContent = els.strobe.checked && p
       ? `${state.time.toFixed(3)} s (sample at ${p.t.toFixed(3)} s)` : `${state.time.toFixed(3)} s`;
     els.anim.dataset.time = String(state.time);
