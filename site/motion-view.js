@@ -1,8 +1,10 @@
 // The motion panel: the core's `simulate` run as a job (progress, cancel),
-// played back to scale (animation.js), slowed down or stroboscopic, knocked
-// while it plays, with the core's plot of the angles, its events and its words.
-// No physics here: a knock re-runs the simulation in the core with the knock
-// added at the time on show, and play continues from there.
+// at the rig's speed or on a speed ramp (run up, run down), played back to
+// scale (animation.js), slowed down or stroboscopic, knocked while it plays,
+// with the core's plot of the angles, its events and its words.
+// No physics here: a ramp goes to the core as typed (start_rpm, ramps), the
+// drive speed shown is the core's for the frame on show, and a knock re-runs
+// the simulation in the core with the knock added at the time on show.
 
 import { h, replaceChildren } from "./dom.js";
 import { createAnimation, frameIndex } from "./animation.js";
@@ -14,16 +16,22 @@ const MIN_FRAME_RATE_HZ = 60; // at least one frame per screen refresh in real t
 const MAX_FRAMES = 9000; // frames in one run: keeps a reply near 2 MB
 const MAX_RUN_S = 120; // the page's longest run (the command line runs longer)
 const KNOCK_TAIL_S = 3; // a knock near the end lengthens the run to this long after it
+const RAMP_TAIL_S = 3; // a ramp's run goes on this long after the ramp: the swing after it shows
 const SVG_NS = "http://www.w3.org/2000/svg";
 const PLAIN = /^[-+]?(\d+\.?\d*|\.\d+)(e[-+]?\d+)?$/i;
 
 /**
  * @param {object} els {form, start, angle, duration, knock, knockGo, status, progress, cancel,
  *                      anim, play, time, clock, slow, strobe, events, plot, msgs: {angle, duration, knock}}
+ *                      (the speed ramp's fields and the drive speed read-out are found by their ids)
  * @param {object} deps {engine, getRig()}
  */
 export function createMotionView(els, { engine, getRig }) {
-  const speedOut = document.getElementById("motion-drive-speed");
+  const $ = (id) => document.getElementById(id);
+  const ramp = { mode: $("motion-speed-mode"), box: $("motion-ramp"), from: $("motion-ramp-from"),
+                 by: $("motion-ramp-by"), time: $("motion-ramp-time"), rate: $("motion-ramp-rate"),
+                 delay: $("motion-ramp-delay") };
+  const speedOut = $("motion-drive-speed");
   const runner = new Runner(engine);
   const animation = createAnimation(els.anim, "The rig, drawn to scale, moving as simulated");
   const state = {
@@ -36,11 +44,18 @@ export function createMotionView(els, { engine, getRig }) {
     last: 0, // wall-clock ms of the last animation frame
     raf: 0,
     playheads: [], // the time lines drawn on the core's plots
+    operatingRpm: null, // the rig's speed from the last check: only for the run length's default
+    autoLength: els.duration.value, // the run length the page put in; typing over it keeps yours
   };
+  const rampField = (input, label) => ({ input, msg: $(`${input.id}-msg`), label });
   const fields = {
     duration: { input: els.duration, msg: els.msgs.duration, label: "Run length" },
     angle: { input: els.angle, msg: els.msgs.angle, label: "Initial angle" },
     knock: { input: els.knock, msg: els.msgs.knock, label: "Knock size" },
+    from: rampField(ramp.from, "Start speed"),
+    time: rampField(ramp.time, "Ramp time"),
+    rate: rampField(ramp.rate, "Ramp rate"),
+    delay: rampField(ramp.delay, "Delay before the ramp"),
   };
 
   // ------------------------------------------------------------ fields and problems
@@ -49,6 +64,9 @@ export function createMotionView(els, { engine, getRig }) {
     if (path.startsWith("duration_s")) return fields.duration;
     if (path.startsWith("angles_rad")) return fields.angle;
     if (path.startsWith("knocks")) return fields.knock;
+    if (path.startsWith("start_rpm")) return fields.from;
+    if (/^ramps\[\d+\]\.at_s/.test(path)) return fields.delay;
+    if (path.startsWith("ramps")) return ramp.by.value === "rate" ? fields.rate : fields.time;
     return null;
   }
 
@@ -98,7 +116,59 @@ export function createMotionView(els, { engine, getRig }) {
     // a length typed with a unit is read by the core: frames at the plainest rate then
     const rate = seconds === null ? MIN_FRAME_RATE_HZ : frameRate(seconds);
     return { rig, problems, request: { reference, duration_s: withUnit(durationText, "s"),
-                                       angles_rad: Array(n).fill(angle), knocks: [], frame_rate_hz: rate } };
+                                       angles_rad: Array(n).fill(angle), knocks: [], frame_rate_hz: rate,
+                                       ...speedFields(rig) } };
+  }
+
+  /** The drive speed fields of the request: none at the rig's speed, else the ramp as typed. */
+  function speedFields(rig) {
+    const mode = ramp.mode.value;
+    if (mode === "constant") return {};
+    const byRate = ramp.by.value === "rate";
+    const step = { at_s: withUnit(ramp.delay.value.trim() || "0", "s"),
+                   [byRate ? "rate_rpm_s" : "over_s"]: byRate ? withUnit(ramp.rate.value, "rpm/s")
+                     : withUnit(ramp.time.value, "s"),
+                   to_rpm: mode === "up" ? rig?.drive?.speed_rpm : 0 };
+    return mode === "up" ? { start_rpm: withUnit(ramp.from.value.trim() || "0", "rpm"), ramps: [step] }
+      : { ramps: [step] };
+  }
+
+  /** When the ramp ends (s) for the run length's default, from plain numbers; null if unknown. */
+  function rampEnd() {
+    const plain = (input, blank) => {
+      const text = input.value.trim().replace(/\s*(rpm\/s|rpm|s)$/i, "");
+      return text === "" && blank !== undefined ? blank : PLAIN.test(text) ? Number(text) : NaN;
+    };
+    const up = ramp.mode.value === "up";
+    const delay = plain(ramp.delay, 0);
+    let over = plain(ramp.time);
+    if (ramp.by.value === "rate") {
+      if (state.operatingRpm === null) return null;
+      const from = up ? plain(ramp.from, 0) : state.operatingRpm;
+      over = Math.abs((up ? state.operatingRpm : 0) - from) / plain(ramp.rate);
+    }
+    return delay >= 0 && over >= 0 && Number.isFinite(delay + over) ? delay + over : null;
+  }
+
+  /** The run length follows the ramp (its end plus RAMP_TAIL_S) while it holds the page's value. */
+  function followRamp() {
+    if (els.duration.value.trim() !== state.autoLength) return;
+    const constant = ramp.mode.value === "constant";
+    const end = constant ? null : rampEnd();
+    if (!constant && end === null) return;
+    state.autoLength = constant ? els.duration.defaultValue : String(Math.ceil((end + RAMP_TAIL_S) * 10 - 1e-9) / 10);
+    els.duration.value = state.autoLength;
+  }
+
+  function showRampFields() {
+    const mode = ramp.mode.value;
+    ramp.box.hidden = mode === "constant";
+    $("motion-ramp-what").textContent = mode === "up" ? "Run up from the start speed to the rig's speed"
+      : "Run down from the rig's speed to a stop";
+    ramp.from.closest(".field").hidden = mode !== "up";
+    ramp.time.closest(".field").hidden = ramp.by.value !== "time";
+    ramp.rate.closest(".field").hidden = ramp.by.value !== "rate";
+    followRamp();
   }
 
   function frameRate(seconds) {
@@ -285,6 +355,10 @@ export function createMotionView(els, { engine, getRig }) {
       f.msg.hidden = true;
     });
   }
+  ramp.mode.addEventListener("change", showRampFields);
+  ramp.by.addEventListener("change", showRampFields);
+  for (const input of [ramp.from, ramp.time, ramp.rate, ramp.delay]) input.addEventListener("input", followRamp);
+  showRampFields();
   els.form.addEventListener("submit", (event) => {
     event.preventDefault();
     pause();
@@ -321,9 +395,11 @@ export function createMotionView(els, { engine, getRig }) {
         status("This motion is of the rig before your last edit: run it again for the rig on the sheet.");
       }
     },
-    /** The last check's numbers (only the drive frequency is used, for the frame rate). */
+    /** The last check's numbers: the drive frequency sets the frame rate, the speed a ramp's run length. */
     setOperatingPoint(result) {
       state.frequencyHz = Number.isFinite(result.frequency_hz) ? result.frequency_hz : null;
+      state.operatingRpm = Number.isFinite(result.speed_rpm) ? result.speed_rpm : null;
+      followRamp();
     },
     get reference() {
       return els.start.value;

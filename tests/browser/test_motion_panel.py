@@ -239,15 +239,20 @@ def refused(page, button: str, msg: str, *words: str) -> None:
         assert word in text, (word, text)
 
 
+def refused_and_kept(page, field: str, typed: str, *words: str) -> None:
+    """Type into `field` and press Run: its message holds `words`; the text and the run on show stay."""
+    request = page.get_attribute(ANIM, "data-request")
+    page.fill(field, typed)
+    refused(page, "#motion-run", f"{field}-msg", *words)
+    assert page.input_value(field) == typed
+    assert page.get_attribute(field, "aria-invalid") == "true"
+    assert page.get_attribute(ANIM, "data-request") == request
+
+
 def test_bad_fields_are_named_with_the_value_and_kept(motion_page):
     page = motion_page
-    request = page.get_attribute(ANIM, "data-request")
-    page.fill("#motion-duration", "abc")
     # the field, the value and the allowed units (the core's own list for a time)
-    refused(page, "#motion-run", "#motion-duration-msg", "Run length", "'abc'", allowed_units("time"))
-    assert page.input_value("#motion-duration") == "abc"
-    assert page.get_attribute("#motion-duration", "aria-invalid") == "true"
-    assert page.get_attribute(ANIM, "data-request") == request  # the run on show is kept
+    refused_and_kept(page, "#motion-duration", "abc", "Run length", "'abc'", allowed_units("time"))
 
     page.fill("#motion-duration", "500")
     refused(page, "#motion-run", "#motion-duration-msg", "Run length", '"500"', "at most 120 s")
@@ -264,6 +269,112 @@ def test_bad_fields_are_named_with_the_value_and_kept(motion_page):
     refused(page, "#motion-knock-go", "#motion-knock-msg", "Knock size", "'fast'", allowed_units("angular_rate"))
     assert page.input_value("#motion-knock") == "fast"
     page.fill("#motion-knock", "2")
+
+
+# ---------------------------------------------------------------- speed ramps
+
+
+def ramp_speed(t: float, delay: float, rate: float, start: float, end: float) -> float:
+    """A linear ramp from `start` after `delay` at `rate` rpm/s, held at `end` (common practice, no source)."""
+    return min(end, max(start, start + rate * (t - delay)))
+
+
+def set_fields(page, *steps: tuple[str, str]) -> None:
+    """Set the panel's fields in this order, as a user would: a select is chosen, a text field typed."""
+    for selector, value in steps:
+        if page.eval_on_selector(selector, "el => el.tagName") == "SELECT":
+            page.select_option(selector, value)
+        else:
+            page.fill(selector, value)
+
+
+def test_run_up_from_rest_shows_the_core_speeds(motion_page):
+    page = motion_page
+    before = page.get_attribute(ANIM, "data-request")
+    set_fields(page, ("#motion-start", "hanging"), ("#motion-angle", "10"), ("#motion-speed-mode", "up"),
+               ("#motion-ramp-by", "rate"), ("#motion-ramp-from", "0"), ("#motion-ramp-delay", "0.5"),
+               ("#motion-ramp-rate", "1000"))
+    check_targets_and_labels(page)  # the ramp's fields too: labelled, 44 px
+    op = rig_of(page)["drive"]["speed_rpm"]  # 2700 rpm: the rig as the core read it
+    ramp_end = 0.5 + op / 1000.0
+    # the run length follows the ramp: its end plus 3 s, rounded up to 0.1 s
+    length = float(page.input_value("#motion-duration"))
+    assert ramp_end + 3 <= length < ramp_end + 3 + 0.1 + 1e-9, length
+    page.click("#motion-run")
+    request = wait_for_run(page, before)
+    assert request["start_rpm"] == "0 rpm" and request["duration_s"] == f"{length:g} s"
+    assert [{k: v for k, v in r.items() if k != "to_rpm"} for r in request["ramps"]] == [
+        {"at_s": "0.5 s", "rate_rpm_s": "1000 rpm/s"}]
+    ref = core_run(page)  # the same request on CPython
+    frames = ref["frames"]
+    mid = max(i for i, t in enumerate(frames["t_s"]) if t <= (0.5 + ramp_end) / 2)  # half-way up
+    for k in (0, 300, mid, len(frames["t_s"]) - 1):
+        t = set_frame(page, k)
+        shown = float(page.get_attribute(ANIM, "data-speed-rpm"))
+        # the speed of the frame on show is the core's (CPython, same request), rel 1e-9
+        assert shown == pytest.approx(frames["speed_rpm"][k], rel=1e-9, abs=1e-9), k
+        assert page.inner_text("#motion-drive-speed") == f"{fmt4(frames['speed_rpm'][k])} rpm"
+        # and the ramp's: 0 rpm until 0.5 s, then 1000 rpm/s up to the rig's speed (rel 1e-9)
+        assert shown == pytest.approx(ramp_speed(t, 0.5, 1000.0, 0.0, op), rel=1e-9, abs=1e-9), (k, t)
+    # at the end the drive runs at the rig's operating speed (the rig file's 2700 rpm), rel 1e-9
+    assert shown == pytest.approx(op, rel=1e-9)
+    assert 0 < ramp_speed(frames["t_s"][mid], 0.5, 1000.0, 0.0, op) < op  # mid really is on the ramp
+
+    # the stroboscopic view on the ramp: the sample at or before the time, the speed of the frame on show
+    page.check("#motion-strobe")
+    try:
+        t = set_frame(page, mid)
+        samples = ref["strobe"]["t_s"]
+        assert page.get_attribute(ANIM, "data-source") == "strobe"
+        assert float(page.get_attribute(ANIM, "data-frame")) == max(i for i, s in enumerate(samples) if s <= t)
+        assert float(page.get_attribute(ANIM, "data-speed-rpm")) == pytest.approx(frames["speed_rpm"][mid], rel=1e-9)
+    finally:
+        page.uncheck("#motion-strobe")
+    shot(page, "motion-run-up-page")
+    ARTIFACTS.mkdir(exist_ok=True)
+    page.locator("section.motion").screenshot(path=str(ARTIFACTS / "motion-run-up.png"))
+
+    # a knock on the ramp: the same ramp again with the knock, speeds still the core's
+    knocked_at = round(set_frame(page, mid), 4)
+    shown_request = page.get_attribute(ANIM, "data-request")
+    page.click("#motion-knock-go")
+    again = wait_for_run(page, shown_request)
+    assert again["ramps"] == request["ramps"] and again["start_rpm"] == "0 rpm"
+    assert [k["t_s"] for k in again["knocks"]] == [knocked_at]
+    page.wait_for_function("() => document.querySelector('#motion-anim').dataset.playing === 'true'")
+    page.click("#motion-play")
+    ref = core_run(page)
+    k = len(ref["frames"]["t_s"]) * 3 // 4
+    t = set_frame(page, k)
+    assert t > knocked_at
+    shown = float(page.get_attribute(ANIM, "data-speed-rpm"))
+    assert shown == pytest.approx(ref["frames"]["speed_rpm"][k], rel=1e-9, abs=1e-9)  # CPython, same request
+    assert shown == pytest.approx(ramp_speed(t, 0.5, 1000.0, 0.0, op), rel=1e-9, abs=1e-9)  # the ramp formula
+    assert page.errors == []
+
+
+def test_bad_ramp_fields_are_named_with_the_value_and_kept(motion_page):
+    page = motion_page
+    request = page.get_attribute(ANIM, "data-request")
+    # the field, the value and the allowed units (the core's own list for a rate)
+    refused_and_kept(page, "#motion-ramp-rate", "fast", "Ramp rate", "'fast'", allowed_units("rate"))
+
+    page.select_option("#motion-ramp-by", "time")
+    page.fill("#motion-ramp-time", "-2")
+    page.fill("#motion-ramp-delay", "-1")
+    refused(page, "#motion-run", "#motion-ramp-time-msg", "Ramp time", "'-2 s'", "above 0")
+    assert "at least 0" in page.inner_text("#motion-ramp-delay-msg")
+    assert "Delay before the ramp: '-1 s'" in page.inner_text("#motion-ramp-delay-msg")
+    assert page.input_value("#motion-ramp-time") == "-2" and page.input_value("#motion-ramp-delay") == "-1"
+    page.select_option("#motion-ramp-by", "rate")
+    assert page.input_value("#motion-ramp-rate") == "fast"  # switching how the ramp is set loses nothing
+    assert page.get_attribute(ANIM, "data-request") == request
+
+    # back to the rig's own speed for the tests after: the run length goes back to its default
+    set_fields(page, ("#motion-ramp-rate", "500"), ("#motion-ramp-by", "time"), ("#motion-ramp-time", "5"),
+               ("#motion-ramp-delay", "0"), ("#motion-speed-mode", "constant"), ("#motion-start", "inverted"))
+    assert page.input_value("#motion-duration") == "5"
+    assert not page.is_visible("#motion-ramp")
 
 
 # ---------------------------------------------------------------- tolerance and the map
