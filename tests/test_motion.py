@@ -391,6 +391,18 @@ def test_cli_speed_table_is_the_ramp(tmp_path, monkeypatch, capsys):
     assert np.abs(ra - rb).max() < 1e-12 and abs(ra[-1, 1] - 1800) < 1e-9
 
 
+def test_cli_run_up_from_rest_follows_the_ramp_formula(tmp_path, monkeypatch):
+    # --start-speed 0 with a ramp over 0.5 s to 1800 rpm: the written speed is 3600 t rpm on
+    # the ramp (linear ramp: common practice, no source) and 1800 rpm after it, to 1e-9.
+    out = tmp_path / "up.csv"
+    assert run_cli(monkeypatch, ["simulate", "--hanging", "--duration", "1s", "--start-speed",
+                                 "0rpm", "--ramp", "0s:0.5s:1800rpm", "-o", str(out)]) == 0
+    rows = np.loadtxt(out, delimiter=",", skiprows=1)
+    t, rpm = rows[:, 0], rows[:, 1]
+    want = np.where(t < 0.5, 3600.0 * t, 1800.0)
+    assert np.abs(rpm - want).max() < 1e-9 * 1800
+
+
 def test_bridge_simulate_frames(monkeypatch):
     from shakestill import bridge, motion_bridge
     for op, fn in motion_bridge.OPS.items():

@@ -92,7 +92,12 @@ def _profile(args, rig):
     if args.speed_table:
         return _read_table(args.speed_table, table_profile)
     if not args.ramp:
+        if args.start_speed is not None:
+            raise _bad("--start-speed", args.start_speed, "it sets where the first --ramp "
+                       "starts: give a --ramp too")
         return None
+    start = (rig.drive.speed_rpm if args.start_speed is None else
+             _value(args.start_speed, "speed", "--start-speed", minimum=0.0))
     ramps = []
     for text in args.ramp:
         parts = text.split(":")
@@ -102,7 +107,7 @@ def _profile(args, rig):
                                                                    minimum=0.0)
         ramps.append((_value(parts[0], "time", "--ramp", minimum=0.0),
                       _value(parts[1], "time", "--ramp", above=0.0), to))
-    return ramp_profile(rig.drive.speed_rpm, ramps, where="--ramp")
+    return ramp_profile(start, ramps, where="--ramp")
 
 
 def _read_table(path: str, table_profile):
@@ -320,6 +325,8 @@ def add_commands(sub) -> None:
                    help="set the state at a time, e.g. 3s:10deg,0deg or 3s::0,0")
     s.add_argument("--ramp", action="append", metavar="AT:OVER:TO",
                    help="speed ramp, e.g. 1s:2s:3000rpm; a stop: 6s:1s:stop")
+    s.add_argument("--start-speed", help="the speed until the first ramp, e.g. 0rpm for a "
+                   "run-up from rest (default: the rig's)")
     s.add_argument("--speed-table", metavar="CSV", help="measured speed: rows TIME,SPEED")
     s.add_argument("--fps", default="60", help="frames per second written (60)")
     s.add_argument("--strobe-phase", default="0", help="drive phase of the once-per-cycle "
