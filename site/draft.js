@@ -4,7 +4,7 @@
 // only moves text between the draft and the rig object sent to the core.
 
 /** SI unit of each quantity field, shown after numbers that arrive without one. */
-const LINK_UNITS = {
+export const LINK_UNITS = {
   length_m: "m", rod_mass_kg: "kg", extra_inertia_kg_m2: "kg m2",
   joint_damping_N_m_s: "N m s", joint_friction_N_m: "N m",
 };

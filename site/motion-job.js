@@ -87,6 +87,13 @@ export function busyMark(cancel, holder) {
   };
 }
 
+/** Why a job gave no result: the rig sheet's problems (marked there), or the engine's reason. */
+export function failedWords(reply, what) {
+  return reply.problems
+    ? `The ${what} waits for a rig without problems: fix the marked fields in the rig sheet.`
+    : `The ${what} could not be worked out: ${reply.error}`;
+}
+
 /** A number for display: at most `digits` significant figures, or a dash. */
 export function num(x, digits = 4) {
   if (x === null || x === undefined || !Number.isFinite(x)) return "—";

@@ -4,7 +4,7 @@
 // map is the core's SVG, redrawn after every step as it fills in.
 
 import { h, replaceChildren } from "./dom.js";
-import { Runner, busyMark, num, statusLine } from "./motion-job.js";
+import { Runner, busyMark, failedWords, num, statusLine } from "./motion-job.js";
 import { svgNode } from "./schematic-view.js";
 
 const DEG = 180 / Math.PI; // display only: the core gives radians and degrees alike
@@ -21,11 +21,7 @@ export function createToleranceView(els, { engine, getRig }) {
   const status = statusLine(els.status, els.progress);
   const busy = busyMark(els.cancel, els.out);
 
-  function failed(reply, what) {
-    status(reply.problems
-      ? `The ${what} waits for a rig without problems: fix the marked fields in the rig sheet.`
-      : `The ${what} could not be worked out: ${reply.error}`);
-  }
+  const failed = (reply, what) => status(failedWords(reply, what));
 
   async function findTolerance() {
     const rig = getRig();
