@@ -6,6 +6,7 @@ import { h, replaceChildren } from "./dom.js";
 import { draftFromRig, rigFromDraft } from "./draft.js";
 import { fileNameFor, download, readRigFile } from "./rig-file.js";
 import { createChartView } from "./chart-view.js";
+import { createFitView } from "./fit-view.js";
 import { createLoadsView } from "./loads-view.js";
 import { createMotionView } from "./motion-view.js";
 import { createReport } from "./report-view.js";
@@ -223,6 +224,23 @@ const tolerance = createToleranceView({
   basin: $("basin-map"),
 }, { engine, getRig: currentRig });
 
+const fit = createFitView({
+  form: $("fit-form"),
+  file: $("fit-file"),
+  sample: $("fit-sample"),
+  log: $("fit-log"),
+  source: $("fit-log-source"),
+  msgs: $("fit-log-msgs"),
+  go: $("fit-go"),
+  cancel: $("fit-cancel"),
+  progress: $("fit-progress"),
+  status: $("fit-status"),
+  out: $("fit-result"),
+  plot: $("fit-plot"),
+  apply: $("fit-apply"),
+  applyNote: $("fit-apply-note"),
+}, { engine, getRig: currentRig, useRig: (rig) => replaceRig(rig, null, "The fitted numbers are in the rig sheet") });
+
 const loads = createLoadsView({ go: $("loads-go"), out: $("loads-result") },
   { engine, getRig: currentRig, getEquilibrium: () => motion.reference });
 
@@ -244,6 +262,7 @@ function mapFollows(rig) {
   motion.rigChanged(rig);
   tolerance.rigChanged(rig);
   loads.rigChanged(rig);
+  fit.rigChanged(rig);
   if (!chart.setRig(rig)) return;
   clearTimeout(state.chartTimer);
   chart.stop();

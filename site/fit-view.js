@@ -1,0 +1,252 @@
+// Check the model against the real rig: a log of angles from the rig (a file,
+// pasted text or the invented sample) goes to the core as text in a `fit` motion
+// job, stepped with progress and Cancel. The core reads the log and fits; this
+// file only words its reply: the fitted numbers, the misfit before and after,
+// whether it settled, its plot and its words. "Use the fitted numbers" hands the
+// core's fitted rig to the page's replace-with-undo path.
+
+import { h, replaceChildren } from "./dom.js";
+import { LINK_UNITS } from "./draft.js";
+import { Runner, busyMark, failedWords, num, statusLine } from "./motion-job.js";
+import { LINK_FIELDS } from "./rig-fields.js";
+import { svgNode } from "./schematic-view.js";
+
+const DEG = 180 / Math.PI; // display only: the core's misfit is in radians
+const SAMPLE_URL = "sample-decay.csv";
+const MAX_FILE_BYTES = 16 * 1024 * 1024; // a larger file would stall the page; the core reads 200,000 rows at most
+// Request fields that are the fit's own: problems there belong beside the log, not the rig sheet.
+const FIT_FIELDS = /^(log|reference|parameters|max_iterations|drive_stopped)(\b|$)/;
+const PATH = /^links\[(\d+)\]\.(\w+)$/;
+
+/** "links[0].joint_damping_N_m_s" -> {name: "Link 1: joint damping", unit: "N m s"}. */
+function describe(path) {
+  const m = PATH.exec(path);
+  if (!m || !LINK_FIELDS[m[2]]) return { name: path, unit: "" };
+  return { name: `Link ${Number(m[1]) + 1}: ${LINK_FIELDS[m[2]].label.toLowerCase()}`, unit: LINK_UNITS[m[2]] };
+}
+
+/** Where a problem is, in words: "Data row 12, column angle_deg". */
+function where(path) {
+  let m = /^log\.header\[(\d+)\]$/.exec(path);
+  if (m) return `Header row, column ${Number(m[1]) + 1}`;
+  m = /^log\[(\d+)\](?:\.(.+))?$/.exec(path);
+  if (m) return m[2] ? `Data row ${m[1]}, column ${m[2]}` : `Data row ${m[1]}`;
+  return { "log.header": "Header row", log: "The log", reference: "Where the angles are zero",
+    parameters: "Numbers to fit" }[path] || "The fit";
+}
+
+/**
+ * @param {object} els {form, file, sample, log, source, msgs, go, cancel, progress, status,
+ *                      out, plot, apply, applyNote}
+ * @param {object} deps {engine, getRig(), useRig(rig)} (useRig: replace the rig, keeping the old one)
+ */
+export function createFitView(els, { engine, getRig, useRig }) {
+  const runner = new Runner(engine);
+  const status = statusLine(els.status, els.progress);
+  const busy = busyMark(els.cancel, els.out);
+  const state = {
+    runKey: "", // the rig being fitted
+    fitKey: "", // the rig of the fit on show
+    appliedKey: "", // the rig sheet once the fitted numbers went in
+    reply: null, // the fit on show
+    previousLog: null, // log text replaced by a file or the sample, to bring back
+  };
+
+  // ------------------------------------------------------------ the log
+
+  function showProblems(problems) {
+    els.log.setAttribute("aria-invalid", problems.length ? "true" : "false");
+    replaceChildren(els.msgs, problems.length ? [
+      h("p", { class: "msg is-problem" }, problems.length === 1 ? "The log has a problem (your text is kept as it is):"
+        : `The log has ${problems.length} problems (your text is kept as it is):`),
+      h("ul", {}, problems.map((p) => h("li", { "data-path": p.path },
+        h("strong", {}, `${where(p.path)}`), " ", h("code", {}, p.path), `: ${p.message}`))),
+    ] : []);
+  }
+
+  /** New log text from a file or the sample; what was there can be brought back. */
+  function putLog(text, source) {
+    const before = els.log.value;
+    state.previousLog = before.trim() && before !== text ? before : null;
+    els.log.value = text;
+    showProblems([]);
+    replaceChildren(els.source, h("span", {}, source), state.previousLog === null ? null : [
+      h("button", { type: "button", class: "quiet", id: "fit-log-back", on: { click: bringBackLog } },
+        "Bring back the log text you had")]);
+  }
+
+  function bringBackLog() {
+    if (state.previousLog === null) return;
+    putLog(state.previousLog, "Your earlier log text is back.");
+    els.log.focus();
+  }
+
+  async function openFile() {
+    const file = els.file.files[0];
+    els.file.value = "";
+    if (!file) return;
+    if (file.size > MAX_FILE_BYTES) {
+      replaceChildren(els.source, `${file.name} is ${num(file.size / 1e6, 3)} MB: too large to read here. `
+        + "Keep every few rows (the fit reads at most 200,000), or use the command line.");
+      return;
+    }
+    try {
+      putLog(await file.text(), `Loaded ${file.name}.`);
+    } catch (err) {
+      replaceChildren(els.source, `${file.name} could not be read: ${err.message || err}`);
+    }
+  }
+
+  async function loadSample() {
+    let text;
+    try {
+      const response = await fetch(SAMPLE_URL);
+      if (!response.ok) throw new Error(`HTTP ${response.status}`);
+      text = await response.text();
+    } catch (err) {
+      replaceChildren(els.source, `The sample log could not be loaded: ${err.message || err}`);
+      return;
+    }
+    putLog(text, "Invented sample log, not a measurement: made up with the engine for trying the fit "
+      + "(the demo rig hanging, let go from 25° with the drive stopped, its joint damping three times "
+      + "the demo's, a little noise added). Its angles are zero hanging; fit the joint damping.");
+    for (const input of els.form.querySelectorAll('input[name="fit-zero"]')) input.checked = input.value === "hanging";
+  }
+
+  // ------------------------------------------------------------ fitting
+
+  function request() {
+    const parameters = [...els.form.querySelectorAll('input[name="fit-what"]:checked')].map((c) => c.value);
+    const zero = els.form.querySelector('input[name="fit-zero"]:checked');
+    return { log: els.log.value, reference: zero ? zero.value : "hanging", parameters };
+  }
+
+  async function fit() {
+    const rig = getRig();
+    if (!rig) return;
+    const fields = request();
+    if (!fields.log.trim()) {
+      showProblems([{ path: "log", message: "is empty: open a log file, paste one in, or try the sample" }]);
+      els.log.focus();
+      return;
+    }
+    if (!fields.parameters.length) {
+      status("Tick at least one number to fit.");
+      return;
+    }
+    state.runKey = JSON.stringify(rig);
+    busy(true);
+    els.go.disabled = true;
+    status("Fitting: reading the log…", 0);
+    const reply = await runner.start("fit", { rig, ...fields },
+      (step) => status(`Fitting (${Math.round(step.fraction * 100)}%), ${step.stage || "working"}`, step.fraction));
+    if (reply === null) return; // stopped: Cancel or a rig edit
+    busy(false);
+    els.go.disabled = false;
+    if (!reply.ok) {
+      const own = (reply.problems || []).filter((p) => FIT_FIELDS.test(p.path));
+      showProblems(own);
+      status(own.length ? "The fit could not start: see the problems beside the log."
+        : failedWords(reply, "fit"), 0);
+      if (own.length) els.log.focus();
+      return;
+    }
+    showProblems([]);
+    show(reply, state.runKey);
+    status(reply.result.converged ? "Fit done." : "Fit done, but it did not settle: see below.", 1);
+  }
+
+  // ------------------------------------------------------------ the result
+
+  function show(reply, rigKey) {
+    const res = reply.result;
+    state.reply = reply;
+    state.fitKey = rigKey;
+    state.appliedKey = "";
+    els.out.dataset.result = JSON.stringify(res);
+    replaceChildren(els.out,
+      h("table", { class: "est-table fit-table" },
+        h("caption", { class: "visually-hidden" }, "Fitted numbers"),
+        h("thead", {}, h("tr", {}, h("th", { scope: "col" }, "Number"),
+          h("th", { scope: "col" }, "Before the fit"), h("th", { scope: "col" }, "Fitted ± standard error"))),
+        h("tbody", {}, res.parameters.map((p) => {
+          const { name, unit } = describe(p.path);
+          const known = p.std_error !== null && Number.isFinite(p.std_error);
+          return h("tr", { "data-path": p.path }, h("th", { scope: "row" }, name),
+            h("td", { "data-start": p.start }, `${num(p.start)} ${unit}`),
+            h("td", { "data-value": p.value, "data-std-error": known ? p.std_error : "" },
+              `${num(p.value)} ${unit} `,
+              known ? `± ${num(p.std_error, 2)} ${unit}` : h("span", { class: "fit-unknown" }, "(not determined by this log)")));
+        }))),
+      h("dl", { class: "facts fit-facts" },
+        h("div", { class: "row", "data-key": "rms" }, h("dt", {}, "Misfit (RMS angle)"),
+          h("dd", { "data-start": res.rms_start_rad, "data-value": res.rms_rad },
+            `${num(res.rms_start_rad * DEG, 3)}° with the rig sheet's numbers, ${num(res.rms_rad * DEG, 3)}° fitted`)),
+        h("div", { class: "row", "data-key": "settled" }, h("dt", {}, "Settled"),
+          h("dd", { "data-value": String(res.converged) }, res.converged
+            ? `Yes, after ${res.iterations} iteration(s): ${res.message}.`
+            : `No: ${res.message}. Treat these numbers with care.`,
+          h("span", { class: "sub" }, `${res.samples} samples, ${res.simulations} simulations.`)))),
+      h("details", { class: "report-text" }, h("summary", {}, "The same in the command line's words"),
+        h("pre", {}, reply.report_text)));
+    els.plot.hidden = false;
+    els.plot.replaceChildren(svgNode(reply.svg, "Logged and fitted angles against time"));
+    els.plot.dataset.axes = JSON.stringify(reply.axes);
+    els.apply.hidden = false;
+    mark("fresh");
+  }
+
+  /** fresh: of the rig on the sheet; applied: its numbers are on the sheet; stale: of another rig. */
+  function mark(shown) {
+    els.out.dataset.state = shown;
+    els.plot.dataset.state = shown;
+    els.apply.disabled = shown !== "fresh";
+    els.applyNote.textContent = {
+      fresh: "Puts the fitted rig in the rig sheet; “Bring back my previous rig” undoes it.",
+      applied: "The fitted numbers are in the rig sheet; the check, map and motion follow them.",
+      stale: "The rig sheet has changed since this fit: fit again before using its numbers.",
+    }[shown];
+  }
+
+  function apply() {
+    if (!state.reply || els.apply.disabled) return;
+    useRig(state.reply.fitted_rig);
+    state.appliedKey = JSON.stringify(getRig());
+    mark("applied");
+    status("The fitted numbers are in the rig sheet.", 1);
+  }
+
+  els.form.addEventListener("submit", (event) => {
+    event.preventDefault();
+    fit();
+  });
+  els.file.addEventListener("change", openFile);
+  els.sample.addEventListener("click", loadSample);
+  els.apply.addEventListener("click", apply);
+  els.cancel.addEventListener("click", async () => {
+    await runner.stop();
+    busy(false);
+    els.go.disabled = false;
+    status("Fit cancelled: nothing was changed.", 0);
+  });
+
+  return {
+    /** The rig changed: a running fit stops; a fit on show is marked as of its own rig. */
+    rigChanged(rig) {
+      const key = JSON.stringify(rig);
+      const stopped = runner.running && key !== state.runKey;
+      if (stopped) {
+        runner.stop();
+        busy(false);
+        els.go.disabled = false;
+        status("The rig changed: the fit was stopped. Start it again for the new rig.", 0);
+      }
+      if (!state.reply) return;
+      const now = key === state.fitKey ? "fresh" : key === state.appliedKey ? "applied" : "stale";
+      if (now === "stale" && els.out.dataset.state !== "stale" && !stopped && !runner.running) {
+        status("The fit shown is of the rig before your last edit.");
+      }
+      mark(now);
+    },
+  };
+}
