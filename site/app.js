@@ -231,6 +231,7 @@ const fit = createFitView({
   log: $("fit-log"),
   source: $("fit-log-source"),
   msgs: $("fit-log-msgs"),
+  stopped: $("fit-stopped"),
   go: $("fit-go"),
   cancel: $("fit-cancel"),
   progress: $("fit-progress"),

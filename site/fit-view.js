@@ -32,11 +32,11 @@ function where(path) {
   m = /^log\[(\d+)\](?:\.(.+))?$/.exec(path);
   if (m) return m[2] ? `Data row ${m[1]}, column ${m[2]}` : `Data row ${m[1]}`;
   return { "log.header": "Header row", log: "The log", reference: "Where the angles are zero",
-    parameters: "Numbers to fit" }[path] || "The fit";
+    parameters: "Numbers to fit", drive_stopped: "The drive stood still" }[path] || "The fit";
 }
 
 /**
- * @param {object} els {form, file, sample, log, source, msgs, go, cancel, progress, status,
+ * @param {object} els {form, file, sample, log, source, msgs, stopped, go, cancel, progress, status,
  *                      out, plot, apply, applyNote}
  * @param {object} deps {engine, getRig(), useRig(rig)} (useRig: replace the rig, keeping the old one)
  */
@@ -118,7 +118,8 @@ export function createFitView(els, { engine, getRig, useRig }) {
   function request() {
     const parameters = [...els.form.querySelectorAll('input[name="fit-what"]:checked')].map((c) => c.value);
     const zero = els.form.querySelector('input[name="fit-zero"]:checked');
-    return { log: els.log.value, reference: zero ? zero.value : "hanging", parameters };
+    return { log: els.log.value, reference: zero ? zero.value : "hanging", parameters,
+      drive_stopped: els.stopped.checked };
   }
 
   async function fit() {

@@ -49,14 +49,14 @@ def rig_of(page) -> dict:
     return json.loads(page.get_attribute("#check-report", "data-rig"))
 
 
-def cli_fit(rig: dict, log: str, tmp_path: Path) -> dict:
-    """`shakestill fit rig.json --log log.csv --fit damping --json`, as the command line gives it."""
+def cli_fit(rig: dict, log: str, tmp_path: Path, *args: str) -> dict:
+    """`shakestill fit rig.json --log log.csv --fit damping --json ARGS`, as the command line gives it."""
     (tmp_path / "rig.json").write_text(json.dumps(rig))
     (tmp_path / "log.csv").write_text(log)
     exe = shutil.which("shakestill", path=str(Path(sys.executable).parent)) or shutil.which("shakestill")
     base = [exe] if exe else [sys.executable, "-m", "shakestill.cli"]
     done = subprocess.run([*base, "fit", str(tmp_path / "rig.json"), "--log", str(tmp_path / "log.csv"),
-                           "--fit", "damping", "--zero", "hanging", "--json"],
+                           "--fit", "damping", "--zero", "hanging", "--json", *args],
                           capture_output=True, text=True, timeout=600)
     assert done.returncode in (0, 1), done.stderr
     return json.loads(done.stdout)
@@ -218,6 +218,25 @@ def test_cancel_stops_the_fit_and_keeps_the_log(fit_page):
     start_fit(page)
     wait_for_fit(page)
     assert page.errors == []
+
+
+def test_a_log_without_speeds_with_the_drive_stopped(fit_page, tmp_path):
+    """No speed column: ticking 'the drive stood still' fits a free swing, as `--stopped` does."""
+    page = fit_page
+    rows = [line for line in SAMPLE.read_text().splitlines() if not line.startswith("#")]
+    log = "\n".join(",".join(line.split(",")[:2]) for line in rows) + "\n"  # t_s,angle_deg only
+    page.fill("#fit-log", log)
+    page.check("#fit-stopped")
+    start_fit(page)
+    page.wait_for_selector("#fit-cancel:not([hidden])")
+    result = wait_for_fit(page)
+    want = cli_fit(rig_of(page), log, tmp_path, "--stopped")
+    # shakestill fit --stopped --json on CPython: the same damping within 1e-6 relative
+    assert math.isclose(result["parameters"][0]["value"], want["parameters"][0]["value"], rel_tol=FIT_REL)
+    assert math.isclose(shown_parameter(page, DAMPING)["value"], want["parameters"][0]["value"],
+                        rel_tol=FIT_REL)
+    page.uncheck("#fit-stopped")
+    page.fill("#fit-log", SAMPLE.read_text())
 
 
 # ---------------------------------------------------------------- touch, print, tablet
