@@ -58,6 +58,16 @@ def open_page(page, url: str) -> dict:
     return wait_for_result(page, timeout=BOOT_TIMEOUT_MS)
 
 
+def open_watched(browser, url: str, viewport=LAPTOP, **options):
+    """A page in a browser context of its own, opened at `url` with its first check done; its
+    script errors are collected in page.errors. Close it with page.context.close()."""
+    page = browser.new_context(viewport=viewport, **options).new_page()
+    page.errors = []
+    page.on("pageerror", lambda err: page.errors.append(str(err)))
+    open_page(page, url)
+    return page
+
+
 def cli_check(rig: dict, tmp_path: Path) -> dict:
     """`shakestill check RIG --json` on a rig file, as the command line gives it."""
     path = tmp_path / "rig.json"

@@ -22,7 +22,7 @@ from pathlib import Path
 import pytest
 from shakestill import bridge
 
-from pagekit import LAPTOP, RESULT_TIMEOUT_MS, TABLET_PORTRAIT, TOP, open_page, shot, wait_for_rig
+from pagekit import RESULT_TIMEOUT_MS, TABLET_PORTRAIT, TOP, open_page, open_watched, shot, wait_for_rig
 
 pytestmark = pytest.mark.browser
 
@@ -35,13 +35,9 @@ BAD_LOG = "t_s,angle_xx\n0.00,25.0\n0.01,24.9\n0.02,24.6\n"
 
 @pytest.fixture(scope="module")
 def fit_page(browser, server):
-    context = browser.new_context(viewport=LAPTOP)
-    page = context.new_page()
-    page.errors = []
-    page.on("pageerror", lambda err: page.errors.append(str(err)))
-    open_page(page, server.url)
+    page = open_watched(browser, server.url)
     yield page
-    context.close()
+    page.context.close()
 
 
 def rig_of(page) -> dict:
@@ -260,10 +256,8 @@ def test_print_keeps_the_fit_without_its_controls(fit_page):
 
 
 def test_tablet_touch_targets_and_screenshot(browser, server):
-    context = browser.new_context(viewport=TABLET_PORTRAIT, has_touch=True, is_mobile=True)
+    page = open_watched(browser, server.url, TABLET_PORTRAIT, has_touch=True, is_mobile=True)
     try:
-        page = context.new_page()
-        open_page(page, server.url)
         page.click("#fit-sample")
         page.wait_for_function("() => document.getElementById('fit-log').value.length > 0")
         start_fit(page)
@@ -272,8 +266,9 @@ def test_tablet_touch_targets_and_screenshot(browser, server):
         assert page.evaluate(TOO_SMALL) == []
         page.locator("section.fit").scroll_into_view_if_needed()
         shot(page, "tablet-fit-result")
+        assert page.errors == []
     finally:
-        context.close()
+        page.context.close()
 
 
 def test_sample_loads_in_the_single_file(new_context, offline_file):
