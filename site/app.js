@@ -240,7 +240,13 @@ const fit = createFitView({
   plot: $("fit-plot"),
   apply: $("fit-apply"),
   applyNote: $("fit-apply-note"),
-}, { engine, getRig: currentRig, useRig: (rig) => replaceRig(rig, null, "The fitted numbers are in the rig sheet") });
+  undo: $("fit-undo"),
+}, {
+  engine,
+  getRig: currentRig,
+  useRig: (rig) => replaceRig(rig, null, "The fitted numbers are in the rig sheet"),
+  restoreRig: () => { hideNotice(); restorePrevious(); },
+});
 
 const loads = createLoadsView({ go: $("loads-go"), out: $("loads-result") },
   { engine, getRig: currentRig, getEquilibrium: () => motion.reference });

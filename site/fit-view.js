@@ -37,10 +37,11 @@ function where(path) {
 
 /**
  * @param {object} els {form, file, sample, log, source, msgs, stopped, go, cancel, progress, status,
- *                      out, plot, apply, applyNote}
- * @param {object} deps {engine, getRig(), useRig(rig)} (useRig: replace the rig, keeping the old one)
+ *                      out, plot, apply, applyNote, undo}
+ * @param {object} deps {engine, getRig(), useRig(rig), restoreRig()} (useRig: replace the rig,
+ *                      keeping the old one; restoreRig: bring the old one back)
  */
-export function createFitView(els, { engine, getRig, useRig }) {
+export function createFitView(els, { engine, getRig, useRig, restoreRig }) {
   const runner = new Runner(engine);
   const status = statusLine(els.status, els.progress);
   const busy = busyMark(els.cancel, els.out);
@@ -197,11 +198,16 @@ export function createFitView(els, { engine, getRig, useRig }) {
     mark("fresh");
   }
 
+  function stateFor(rigKey) {
+    return rigKey === state.fitKey ? "fresh" : rigKey === state.appliedKey ? "applied" : "stale";
+  }
+
   /** fresh: of the rig on the sheet; applied: its numbers are on the sheet; stale: of another rig. */
   function mark(shown) {
     els.out.dataset.state = shown;
     els.plot.dataset.state = shown;
     els.apply.disabled = shown !== "fresh";
+    els.undo.hidden = shown !== "applied";
     els.applyNote.textContent = {
       fresh: "Puts the fitted rig in the rig sheet; “Bring back my previous rig” undoes it.",
       applied: "The fitted numbers are in the rig sheet; the check, map and motion follow them.",
@@ -214,6 +220,7 @@ export function createFitView(els, { engine, getRig, useRig }) {
     useRig(state.reply.fitted_rig);
     state.appliedKey = JSON.stringify(getRig());
     mark("applied");
+    els.undo.focus(); // the pressed button is disabled now: keyboard focus stays beside it
     status("The fitted numbers are in the rig sheet.", 1);
   }
 
@@ -224,6 +231,12 @@ export function createFitView(els, { engine, getRig, useRig }) {
   els.file.addEventListener("change", openFile);
   els.sample.addEventListener("click", loadSample);
   els.apply.addEventListener("click", apply);
+  els.undo.addEventListener("click", () => {
+    restoreRig();
+    mark(stateFor(JSON.stringify(getRig())));
+    status("Your previous rig is back in the rig sheet.");
+    (els.apply.disabled ? els.go : els.apply).focus();
+  });
   els.cancel.addEventListener("click", async () => {
     await runner.stop();
     busy(false);
@@ -243,7 +256,7 @@ export function createFitView(els, { engine, getRig, useRig }) {
         status("The rig changed: the fit was stopped. Start it again for the new rig.", 0);
       }
       if (!state.reply) return;
-      const now = key === state.fitKey ? "fresh" : key === state.appliedKey ? "applied" : "stale";
+      const now = stateFor(key);
       if (now === "stale" && els.out.dataset.state !== "stale" && !stopped && !runner.running) {
         status("The fit shown is of the rig before your last edit.");
       }

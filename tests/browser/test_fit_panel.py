@@ -75,6 +75,14 @@ def shown_parameter(page, path: str) -> dict:
             "text": cell.inner_text()}
 
 
+def checked_with_damping(page, value: float) -> None:
+    """Wait for a fresh check of a rig whose first joint damping the core read as `value`."""
+    page.wait_for_function("""(v) => {
+        const el = document.getElementById("check-report");
+        return el.dataset.state === "fresh" && JSON.parse(el.dataset.rig).links[0].joint_damping_N_m_s === v;
+    }""", arg=value, timeout=RESULT_TIMEOUT_MS)
+
+
 def fmt(value: float, digits: int) -> str:
     """The page's number format (`digits` significant figures, no trailing zeros)."""
     return f"{float(f'{value:.{digits}g}'):.6g}"
@@ -168,10 +176,7 @@ def test_use_the_fitted_numbers_with_undo(fit_page):
         return el && parseFloat(el.value) === v; }""", arg=fitted)
     assert sheet_number(page, DAMPING) == fitted
     # and a fresh check follows for that rig (verdict's data-rig, as the core read it)
-    page.wait_for_function("""(v) => {
-        const el = document.getElementById("check-report");
-        return el.dataset.state === "fresh" && JSON.parse(el.dataset.rig).links[0].joint_damping_N_m_s === v;
-    }""", arg=fitted, timeout=RESULT_TIMEOUT_MS)
+    checked_with_damping(page, fitted)
     assert page.get_attribute("#fit-result", "data-state") == "applied"
     assert not page.is_enabled("#fit-apply")
     # the page's undo brings the rig before the fit back; the fit is then of the rig on the sheet again
@@ -181,6 +186,16 @@ def test_use_the_fitted_numbers_with_undo(fit_page):
     page.wait_for_function("() => document.getElementById('fit-result').dataset.state === 'fresh'",
                            timeout=RESULT_TIMEOUT_MS)
     assert page.is_enabled("#fit-apply")
+    # the same undo beside the button, for someone who is down at the fit (keyboard focus follows)
+    page.click("#fit-apply")
+    assert page.evaluate("document.activeElement.id") == "fit-undo"
+    assert sheet_number(page, DAMPING) == fitted
+    page.keyboard.press("Enter")
+    page.wait_for_function("""(v) => parseFloat(document.querySelector(
+        '#rig-sheet [data-path="links[0].joint_damping_N_m_s"]').value) === v""", arg=before)
+    assert page.get_attribute("#fit-result", "data-state") == "fresh"
+    assert page.evaluate("document.activeElement.id") == "fit-apply"
+    checked_with_damping(page, before)
 
 
 # ---------------------------------------------------------------- stopping
