@@ -183,7 +183,7 @@ export function createFitView(els, { engine, getRig, useRig, restoreRig }) {
       h("dl", { class: "facts fit-facts" },
         h("div", { class: "row", "data-key": "rms" }, h("dt", {}, "Misfit (RMS angle)"),
           h("dd", { "data-start": res.rms_start_rad, "data-value": res.rms_rad },
-            `${num(res.rms_start_rad * DEG, 3)}° with the rig sheet's numbers, ${num(res.rms_rad * DEG, 3)}° fitted`)),
+            `${num(res.rms_start_rad * DEG, 3)}° before the fit, ${num(res.rms_rad * DEG, 3)}° fitted`)),
         h("div", { class: "row", "data-key": "settled" }, h("dt", {}, "Settled"),
           h("dd", { "data-value": String(res.converged) }, res.converged
             ? `Yes, after ${res.iterations} iteration(s): ${res.message}.`
