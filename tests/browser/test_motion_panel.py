@@ -456,6 +456,9 @@ def test_loads_table_equals_the_command_line(motion_page, tmp_path):
 
 def test_rig_edit_stops_running_motion_work(motion_page):
     page = motion_page
+    if page.get_attribute("#loads-result", "data-state") != "fresh":  # run alone: loads first
+        page.click("#loads-go")
+        page.wait_for_function("() => document.getElementById('loads-result').dataset.state === 'fresh'")
     page.click("#tolerance-go")
     page.wait_for_selector("#tolerance-cancel", state="visible")
     speed = page.locator('#rig-sheet [data-path="drive.speed_rpm"]')
