@@ -11,6 +11,7 @@ from __future__ import annotations
 import base64
 import gzip
 import hashlib
+import io
 import json
 import re
 import shutil
@@ -253,8 +254,15 @@ def test_single_file_carries_the_sites_files_byte_for_byte(dist):
         offset += entry["size"]
     site = dist / "site"
     for name in ["build-info.json", "pyodide/pyodide-lock.json", "pyodide/pyodide.asm.wasm",
-                 "pyodide/python_stdlib.zip", *(f"pyodide/{p.name}" for p in (site / "pyodide").glob("*.whl"))]:
+                 *(f"pyodide/{p.name}" for p in (site / "pyodide").glob("*.whl"))]:
         assert by_path[name] == (site / name).read_bytes(), name
+    # the standard library's zip is repacked with stored entries: the same files, byte for byte
+    packed = zipfile.ZipFile(io.BytesIO(by_path["pyodide/python_stdlib.zip"]))
+    served = zipfile.ZipFile(site / "pyodide/python_stdlib.zip")
+    assert [i.filename for i in packed.infolist()] == [i.filename for i in served.infolist()]
+    assert all(i.compress_type == zipfile.ZIP_STORED for i in packed.infolist())
+    for info in served.infolist():
+        assert packed.read(info.filename) == served.read(info), info.filename
     assert by_path["pyodide/pyodide.asm.wasm"][:4] == b"\0asm"  # WebAssembly binary magic (WebAssembly Core spec 5.5.16)
     bundle = by_path[offline.WORKER_BUNDLE].decode("ascii")
     assert "shakestill.bridge" in bundle  # site/worker.js is in the bundle
