@@ -124,6 +124,8 @@ def test_a_bad_log_is_named_by_column_and_kept(fit_page):
 
 def test_sample_fit_matches_the_command_line(fit_page, tmp_path):
     page = fit_page
+    if not page.input_value("#fit-log"):  # run alone: something typed for the sample to replace
+        page.fill("#fit-log", "t_s,angle_deg\n0,1")
     page.click("#fit-sample")
     page.wait_for_function("() => document.getElementById('fit-log').value.startsWith('# Invented')")
     log = page.input_value("#fit-log")
