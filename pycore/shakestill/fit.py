@@ -154,7 +154,7 @@ class _Model:
         if not run.success or len(run.t_s) < len(log.t_s):
             return None
         out = []
-        for t, row in zip(log.t_s, range(len(log.t_s))):
+        for t in log.t_s:
             # frames are at k * step; a sample a little off the grid is read between two
             k = min(int(t / log.step_s), len(run.t_s) - 2)
             f = (t - run.t_s[k]) / (run.t_s[k + 1] - run.t_s[k])
