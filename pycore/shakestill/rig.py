@@ -111,12 +111,12 @@ class Rig:
 def with_operating_point(rig: Rig, *, speed_rpm: float | None = None,
                          stroke_m: float | None = None) -> Rig:
     """The same rig at another speed and/or stroke."""
-    drive = rig.drive
+    changes = {}
     if speed_rpm is not None:
-        drive = replace(drive, speed_rpm=float(speed_rpm))
+        changes["speed_rpm"] = float(speed_rpm)
     if stroke_m is not None:
-        drive = replace(drive, stroke_m=float(stroke_m))
-    return replace(rig, drive=drive)
+        changes["stroke_m"] = float(stroke_m)
+    return replace(rig, drive=replace(rig.drive, **changes)) if changes else rig
 
 
 def max_stroke_m(rig: Rig) -> float:
