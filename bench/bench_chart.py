@@ -103,7 +103,7 @@ def main():
               f"{CELLS} = {peer:8.0f} s; ratio {peer / took:7.0f}x (target >= 100x)")
         measured.append([name, data, target, took])
     if not args.no_pyodide:
-        print(f"== the same charts in Pyodide under Node.js (wall seconds)")
+        print("== the same charts in Pyodide under Node.js (wall seconds)")
         run_in_pyodide(PYODIDE_CHARTS.replace("CASES_JSON", repr(json.dumps(measured)))
                        .replace("ROWS", str(args.rows)))
     print(json.dumps({"note": "figures only; no pass/fail"}))

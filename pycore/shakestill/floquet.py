@@ -54,7 +54,8 @@ class Settings:
     truncation: int | None = None  # Hill rows -R..R (one link)
     harmonics: int | None = None  # leading drive harmonics kept in Hill's determinant
     steps: int | None = None  # RK steps per cycle (several links, or one link by monodromy)
-    method: str | None = None  # one link: "hill" (default) or "monodromy"
+    method: str | None = None  # one link, unverified scan points: "hill" (default) or
+    # "monodromy"; a verified point (verify=True) is always Hill's, which checks its truncation
     step_phase: float = STEP_PHASE  # RK steps chosen per point: see default_steps
     min_steps: int = MIN_STEPS
 
