@@ -27,7 +27,7 @@ from scipy.integrate import solve_ivp  # noqa: E402
 from pyodide_node import run_in_pyodide  # noqa: E402
 
 import shakestill as ss  # noqa: E402
-from shakestill.chart import chart  # noqa: E402
+from shakestill.equilibria.chart import chart  # noqa: E402
 
 CELLS = 200 * 120 * 2
 clock = time.process_time  # CPU time: steadier than wall time on a shared machine
@@ -51,7 +51,7 @@ CASES = (("one link, sine", rig_dict("sine"), 0.3), ("one link, crank", rig_dict
 PYODIDE_CHARTS = """
 import json, time
 import shakestill as ss
-from shakestill.chart import chart
+from shakestill.equilibria.chart import chart
 print(f"  Pyodide {sys.version.split()[0]} booted in {boot_s:.1f} s")
 for name, data, target, cpython_s in json.loads(CASES_JSON):
     t0 = time.perf_counter()

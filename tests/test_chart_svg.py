@@ -9,7 +9,8 @@ import pytest
 from scipy.special import mathieu_a, mathieu_b
 
 import shakestill as ss
-from shakestill.chart import chart, render
+from shakestill.equilibria.chart import chart
+from shakestill.render.chart_svg import render
 
 G = 9.80665
 NS = "{http://www.w3.org/2000/svg}"
@@ -84,7 +85,7 @@ def test_painted_regions_match_mathieu_bands(y_axis):
     c = chart(rig, rows=30, y_axis=y_axis)
     svg, axes = render(c, rig)
     regions = painted(svg)
-    from shakestill.svg import REGION_FILL
+    from shakestill.render.chart_svg import REGION_FILL
     fill_of = {v[0]: k for k, v in REGION_FILL.items()}
     fill_of["url(#out-of-reach)"] = "out-of-reach"
     l_eq = ss.properties(rig).l_eq_m
@@ -134,7 +135,7 @@ def test_boundary_leaving_through_the_side_is_painted_to_the_side():
     dy = (y1 - y0) / (rows - 1)
     below = fill_at(regions, *to_px(axes, x1 * (1 - 1e-4), y_true - 0.15 * dy))
     above = fill_at(regions, *to_px(axes, x1 * (1 - 1e-4), y_true + 0.15 * dy))
-    from shakestill.svg import REGION_FILL
+    from shakestill.render.chart_svg import REGION_FILL
     assert above == REGION_FILL["both"][0]
     assert below == REGION_FILL["hanging"][0]
     # and the drawn edge is carried to the side as well, to the same crossing

@@ -23,9 +23,9 @@ from scipy.signal import find_peaks
 import refsolvers as ref
 import shakestill as ss
 from shakestill import bridge
-from shakestill.fit import _Model, _scales, fit, parameter_paths, with_values
-from shakestill.logfile import drive_stopped, read_angle_log
-from shakestill.rig import RigError
+from shakestill.fit.fitting import _Model, _scales, fit, parameter_paths, with_values
+from shakestill.fit.logfile import drive_stopped, read_angle_log
+from shakestill.model.rig import RigError
 from test_motion import lagrange_rhs, scipy_states
 
 G = ref.G_STANDARD
@@ -97,8 +97,8 @@ def test_levenberg_marquardt_agrees_with_scipy_least_squares():
     # start: both minima agree to 1e-5 relative in the physical numbers.
     rig = ss.rig_from_dict(rig_data(1e-4))
     truth = with_values(rig, parameter_paths(rig, ["damping", "friction"]), [TRUE_DAMPING, 3e-4])
-    from shakestill.motion import Scenario, simulate
-    from shakestill.speed import constant_speed
+    from shakestill import Scenario, simulate
+    from shakestill.motion.speed import constant_speed
     run = simulate(truth, Scenario(duration_s=4.0, angles_rad=(math.pi + 0.4,),
                                    rates_rad_s=(0.0,), profile=constant_speed(0.0),
                                    frame_rate_hz=50, strobe_phase_rad=None, rtol=1e-11,

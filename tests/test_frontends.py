@@ -9,8 +9,9 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 import shakestill as ss
-from shakestill import bridge, share
-from shakestill.units import UnitError, parse_quantity
+from shakestill import bridge
+from shakestill.model import share
+from shakestill.model.units import UnitError, parse_quantity
 
 
 def run_cli(*args, stdin=None):

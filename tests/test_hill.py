@@ -7,7 +7,7 @@ import pytest
 from scipy.integrate import solve_ivp
 from scipy.special import mathieu_a, mathieu_b
 
-from shakestill.hill import default_truncation, hill_trace, needed_harmonics
+from shakestill.numerics.hill import default_truncation, hill_trace, needed_harmonics
 
 
 def trace_by_integration(theta0, theta):

@@ -21,9 +21,9 @@ from scipy.integrate import solve_ivp
 
 import refsolvers as ref
 import shakestill as ss
-from shakestill import motion as mo
-from shakestill.dynamics import phase_kinematics
-from shakestill.speed import ramp_profile
+import shakestill as mo
+from shakestill.motion.dynamics import phase_kinematics
+from shakestill.motion.speed import ramp_profile
 
 G = ref.G_STANDARD
 GAUSS = ((0.5 - 0.5 / math.sqrt(3.0), 0.5), (0.5 + 0.5 / math.sqrt(3.0), 0.5))  # on [0, 1]
@@ -330,8 +330,7 @@ def test_slow_motion_follows_kapitza_effective_potential():
 
 def run_cli(monkeypatch, argv):
     """cli.main with a parser holding only the motion commands (as cli.py will add them)."""
-    from shakestill import cli, motion_cli
-    monkeypatch.setattr(cli, "parser", motion_cli.parser)
+    from shakestill import cli
     return cli.main(argv)
 
 
@@ -404,9 +403,7 @@ def test_cli_run_up_from_rest_follows_the_ramp_formula(tmp_path, monkeypatch):
 
 
 def test_bridge_simulate_frames(monkeypatch):
-    from shakestill import bridge, motion_bridge
-    for op, fn in motion_bridge.OPS.items():
-        monkeypatch.setitem(bridge.OPS, op, fn)
+    from shakestill import bridge
     data = ref.rig(TWO, DRIVES["crank"])
     reply = bridge.call({"op": "simulate", "rig": data, "duration_s": "0.3 s",
                          "angles_rad": [math.pi - 0.2, math.pi], "reference": "hanging",
@@ -435,9 +432,7 @@ def test_bridge_simulate_frames(monkeypatch):
 
 def test_bridge_simulate_job_gives_the_one_call_reply(monkeypatch):
     # The job runs the same simulation in pieces: its final frames equal the one-call op's.
-    from shakestill import bridge, motion_bridge
-    for op, fn in motion_bridge.OPS.items():
-        monkeypatch.setitem(bridge.OPS, op, fn)
+    from shakestill import bridge
     request = {"rig": ss.demo_rig_dict(), "duration_s": 4, "knocks": [{"t_s": 0, "rate_rad_s": 3}]}
     whole = bridge.call({"op": "simulate", **request})
     job = bridge.call({"op": "motion_job_start", "kind": "simulate", **request})["job"]
@@ -456,9 +451,7 @@ def test_bridge_simulate_job_gives_the_one_call_reply(monkeypatch):
 
 def test_bridge_ramp_from_a_start_speed_by_rate(monkeypatch):
     # start_rpm sets the speed until the first ramp; a ramp may give its rate instead of its time.
-    from shakestill import bridge, motion_bridge
-    for op, fn in motion_bridge.OPS.items():
-        monkeypatch.setitem(bridge.OPS, op, fn)
+    from shakestill import bridge
     base = {"op": "simulate", "rig": ss.demo_rig_dict(), "duration_s": "0.6 s", "frame_rate_hz": 200,
             "reference": "hanging", "angles_rad": ["170 deg"]}
     by_rate = bridge.call({**base, "start_rpm": "0 rpm",

@@ -95,9 +95,9 @@ def _requests() -> list[list[dict]]:
 def _decay_log(demo: dict) -> str:
     """A short free decay of the demo rig with twice its damping, made on CPython."""
     import shakestill as ss
-    from shakestill.fit import with_values
-    from shakestill.motion import Scenario, simulate
-    from shakestill.speed import constant_speed
+    from shakestill.fit.fitting import with_values
+    from shakestill import Scenario, simulate
+    from shakestill.motion.speed import constant_speed
     rig = ss.rig_from_dict(demo)
     rig = with_values(rig, ["links[0].joint_damping_N_m_s"],
                       [2 * rig.links[0].joint_damping_N_m_s])

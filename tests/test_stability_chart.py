@@ -11,7 +11,8 @@ from scipy.optimize import brentq
 from scipy.special import mathieu_a, mathieu_b
 
 import shakestill as ss
-from shakestill.chart import chart, chart_dict, render
+from shakestill.equilibria.chart import chart, chart_dict
+from shakestill.render.chart_svg import render
 
 G = 9.80665
 
@@ -153,7 +154,7 @@ def test_runup_simulation_matches_solve_ivp():
     # The ramp's growth through the demo rig's first hanging tongue, integrated by the engine,
     # against scipy.integrate.solve_ivp (DOP853, rtol 1e-11) of the same linear equation with
     # G = g + omega^2 y_pp(phi) + omega' y_p(phi); tolerance 5% (the issue's), met to ~1e-9.
-    from shakestill.runup import runup
+    from shakestill.equilibria.runup import runup
     rig = ss.demo_rig()
     rate = 2.0
     result = runup(rig, rate_rpm_s=rate)

@@ -22,8 +22,8 @@ from scipy.integrate import solve_ivp
 
 import refsolvers as ref
 import shakestill as ss
-from shakestill import basin as bs
-from shakestill import tolerance as tl
+from shakestill.motion import basin as bs
+from shakestill.motion import tolerance as tl
 
 G = ref.G_STANDARD
 
@@ -179,9 +179,7 @@ def test_cli_tolerance_json_with_map(demo_tolerance, monkeypatch, capsys):
 
 
 def test_bridge_basin_job_steps_and_cancels(monkeypatch):
-    from shakestill import bridge, motion_bridge
-    for op, fn in motion_bridge.OPS.items():
-        monkeypatch.setitem(bridge.OPS, op, fn)
+    from shakestill import bridge
     rig = ss.demo_rig_dict()
     start = bridge.call({"op": "motion_job_start", "kind": "basin", "rig": rig, "size": 9,
                          "validate": 4})

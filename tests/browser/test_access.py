@@ -6,7 +6,7 @@ from __future__ import annotations
 
 import pytest
 
-from shakestill.report import CAUTIONS
+from shakestill.model.safety import CAUTIONS
 
 from pagekit import TABLET_PORTRAIT, open_page, shot, wait_for_stale
 

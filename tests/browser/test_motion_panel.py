@@ -21,7 +21,7 @@ from pathlib import Path
 
 import pytest
 from shakestill import bridge
-from shakestill.units import allowed_units
+from shakestill.model.units import allowed_units
 
 from pagekit import (ARTIFACTS, BOOT_TIMEOUT_MS, LAPTOP, RESULT_TIMEOUT_MS, TABLET_PORTRAIT, open_page,
                      shot, wait_for_result, wait_for_rig)

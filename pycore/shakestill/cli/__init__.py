@@ -1,0 +1,48 @@
+"""The ``shakestill`` command line: a parser built from the commands' table.
+
+Every subcommand is registered by its subject in ``commands``; bad input is
+a ``RigError`` that ``main`` prints with each field or option named, exit 2.
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import sys
+
+from ..model.version import VERSION as __version__
+from ..commands import COMMANDS
+from ..model.rig import RigError
+
+
+def parser() -> argparse.ArgumentParser:
+    p = argparse.ArgumentParser(prog="shakestill", description=(
+        "Plan and check rigs with a pendulum on a vertically driven pivot. "
+        "RIG is a rig file, '-' for standard input, a share link, or omitted for the demo rig."))
+    p.add_argument("--version", action="version", version=f"shakestill {__version__}")
+    sub = p.add_subparsers(dest="command", required=True)
+    for cmd in COMMANDS.values():
+        c = sub.add_parser(cmd.name, help=cmd.help)
+        cmd.arguments(c)
+        c.set_defaults(func=cmd.run)
+    return p
+
+
+def main(argv=None) -> int:
+    args = parser().parse_args(argv)
+    try:
+        return args.func(args)
+    except RigError as exc:
+        print(f"shakestill {args.command}: cannot go on:", file=sys.stderr)
+        for problem in exc.problems:
+            print(f"  {problem.path}: {problem.message}", file=sys.stderr)
+        return 2
+    except KeyboardInterrupt:
+        return 130
+    except BrokenPipeError:  # output piped into a reader that stopped early (| head)
+        sys.stdout = open(os.devnull, "w")
+        return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())

@@ -1,0 +1,289 @@
+"""Floquet stability of the inverted and hanging equilibria at one operating point.
+
+One link: Hill's determinant (module ``hill``) after removing the viscous
+damping by q = exp(-gamma t) u, gamma = c / (2 J). Several links: the
+one-cycle fundamental matrix by fixed-step 8th-order Runge-Kutta (``rk``),
+then its eigenvalues. Both check their own truncation at run time and say
+in the result when it was not met.
+"""
+
+from __future__ import annotations
+
+import cmath
+import math
+from dataclasses import dataclass, field
+from functools import lru_cache
+
+from ..model import drive as drv
+from ..numerics.hill import default_truncation, hill_trace, multipliers_from_trace
+from ..numerics.linalg import eigvals, inverse, matmul
+from ..model.linear import EQUILIBRIA, linearise
+from ..model.rig import Rig, with_operating_point
+from ..numerics.rk import N_STAGES, STAGE_NODES, fundamental_matrix
+
+UNDAMPED_TOLERANCE = 1e-9  # |rho| <= 1 + this counts as on the unit circle (undamped)
+CONVERGENCE_TOLERANCE = 1e-8  # accepted change of the multipliers under refinement
+MIN_STEPS = 24  # RK steps per cycle, never fewer
+STEP_PHASE = 0.2  # target of (fastest linear rate) x (step) for the 8th-order step
+MAX_STEPS = 4000  # a cycle finer than this is not worth it: report non-convergence
+
+
+@dataclass(frozen=True)
+class Stability:
+    """Floquet stability of one equilibrium at one operating point."""
+
+    equilibrium: str
+    speed_rpm: float
+    stroke_m: float
+    multipliers: tuple[complex, ...]
+    max_multiplier: float
+    stable: bool
+    slow_frequency_hz: float
+    margin: float  # < 0 stable, > 0 unstable; continuous, for root finding
+    method: str  # "hill" or "monodromy"
+    converged: bool = True
+    error_estimate: float = 0.0
+    message: str = ""
+    work: dict = field(default_factory=dict, compare=False)
+
+
+@dataclass(frozen=True)
+class Settings:
+    """Numerical settings fixed for a scan, so every point is computed alike."""
+
+    truncation: int | None = None  # Hill rows -R..R (one link)
+    harmonics: int | None = None  # leading drive harmonics kept in Hill's determinant
+    steps: int | None = None  # RK steps per cycle (several links, or one link by monodromy)
+    method: str | None = None  # one link, unverified scan points: "hill" (default) or
+    # "monodromy"; a verified point (verify=True) is always Hill's, which checks its truncation
+    step_phase: float = STEP_PHASE  # RK steps chosen per point: see default_steps
+    min_steps: int = MIN_STEPS
+
+
+def _check_equilibrium(equilibrium: str) -> None:
+    if equilibrium not in EQUILIBRIA:
+        raise ValueError(f"equilibrium: {equilibrium!r} is not one of {EQUILIBRIA}")
+
+
+def _operating(rig: Rig, speed_rpm, stroke_m) -> Rig:
+    if speed_rpm is not None and not (speed_rpm > 0 and math.isfinite(speed_rpm)):
+        raise ValueError(f"speed_rpm: {speed_rpm!r} must be a finite number above 0")
+    if stroke_m is not None and not (stroke_m >= 0 and math.isfinite(stroke_m)):
+        raise ValueError(f"stroke_m: {stroke_m!r} must be a finite number of at least 0")
+    return with_operating_point(rig, speed_rpm=speed_rpm, stroke_m=stroke_m)
+
+
+def _is_damped(rig: Rig) -> bool:
+    return any(link.joint_damping_N_m_s > 0 for link in rig.links)
+
+
+def _summarise(rig: Rig, equilibrium: str, rhos, margin: float, method: str, **extra):
+    biggest = max(rhos, key=abs)
+    max_mult = abs(biggest)
+    if _is_damped(rig):
+        stable = margin < 0
+    else:
+        stable = margin < 0 or max_mult <= 1.0 + UNDAMPED_TOLERANCE
+    nu = abs(cmath.phase(biggest)) / (2 * math.pi) if math.isfinite(max_mult) else 0.0
+    return Stability(equilibrium, rig.drive.speed_rpm, rig.drive.stroke_m, tuple(rhos),
+                     max_mult, stable, nu * rig.drive.frequency_hz, margin, method, **extra)
+
+
+# ----------------------------------------------------------------------------- one link
+
+
+@dataclass(frozen=True)
+class HillForm:
+    """u'' + (theta0 + sum theta_n e^{2inz}) u = 0, z = omega t / 2, and q = e^{-gamma t} u."""
+
+    theta0: float
+    theta: tuple[complex, ...]
+    decay: float  # exp(-gamma T) over one cycle
+    gamma_T: float
+
+
+def hill_form(rig: Rig, equilibrium: str, harmonics: int | None = None) -> HillForm:
+    """Map the single link's linear equation to Hill's form at the rig's operating point."""
+    lin = linearise(rig, equilibrium)
+    J, c, k = lin.M[0][0], lin.D[0][0], lin.K[0][0]
+    omega = 2 * math.pi * rig.drive.frequency_hz
+    gamma = c / (2 * J)
+    h = drv.harmonics(rig.drive)
+    theta0 = 4.0 / omega ** 2 * (k / J * rig.g_m_s2 - gamma * gamma)
+    theta = tuple(2.0 * k / J * complex(a, -b) for a, b in zip(h.cos_m, h.sin_m))[:harmonics]
+    if all(t.imag == 0.0 for t in theta):
+        theta = tuple(t.real for t in theta)
+    gamma_T = gamma / rig.drive.frequency_hz
+    return HillForm(theta0, theta, math.exp(-gamma_T), gamma_T)
+
+
+def _hill_stability(rig: Rig, equilibrium: str, settings: Settings,
+                    verify: bool) -> Stability:
+    form = hill_form(rig, equilibrium, settings.harmonics)
+    R = max(settings.truncation or default_truncation(form.theta0, form.theta),
+            len(form.theta))
+    trace = hill_trace(form.theta0, form.theta, R)
+    error, converged, message = 0.0, True, ""
+    if verify:
+        finer = hill_trace(form.theta0, form.theta, R + max(4, R // 2))
+        error = abs(finer - trace)
+        converged = error <= CONVERGENCE_TOLERANCE * max(1.0, abs(trace))
+        if not converged:
+            message = (f"Hill determinant not converged at {R} rows: the trace changed by "
+                       f"{error:.2g} when refined")
+        trace = finer
+    return _from_trace(rig, equilibrium, trace, form.gamma_T, "hill", converged=converged,
+                       error_estimate=error, message=message,
+                       work={"truncation": R, "harmonics": len(form.theta)})
+
+
+def _from_trace(rig: Rig, equilibrium: str, trace: float, gamma_T: float, method: str,
+                **extra) -> Stability:
+    """One link's verdict from the trace of its undamped form u = exp(gamma t) q."""
+    margin = abs(trace) - 2.0 * math.cosh(gamma_T)
+    rhos = multipliers_from_trace(trace, math.exp(-gamma_T))
+    return _summarise(rig, equilibrium, rhos, margin, method, **extra)
+
+
+def _rk_trace_stability(rig: Rig, equilibrium: str, settings: Settings) -> Stability:
+    """One link by its 2 x 2 monodromy, judged like Hill's trace (same margin), for scans
+    of drives with many harmonics, where the fixed RK cycle is cheaper than the band LU."""
+    lin = linearise(rig, equilibrium)
+    gamma_T = lin.D[0][0] / (2.0 * lin.M[0][0]) / rig.drive.frequency_hz
+    n = _steps(rig, equilibrium, settings)
+    m = _monodromy(rig, equilibrium, n)
+    trace = math.exp(gamma_T) * (m[0][0] + m[1][1])
+    return _from_trace(rig, equilibrium, trace, gamma_T, "monodromy", work={"steps": n})
+
+
+# ----------------------------------------------------------------------------- several links
+
+
+def _system(rig: Rig, equilibrium: str):
+    lin = linearise(rig, equilibrium)
+    Minv = inverse([list(r) for r in lin.M])
+    return matmul(Minv, [list(r) for r in lin.K]), matmul(Minv, [list(r) for r in lin.D])
+
+
+def default_steps(rig: Rig, equilibrium: str, *, step_phase: float = STEP_PHASE,
+                  min_steps: int = MIN_STEPS) -> int:
+    """Steps per cycle from the fastest rate of the linear system over the cycle:
+    (rate) x (step) = ``step_phase``, at least ``min_steps`` and two per drive harmonic.
+
+    The rate is sqrt(G_peak * |eig B|) + |eig C|; the crank's peak acceleration is taken
+    at top dead centre, r omega^2 (1 + r/l), which is close enough to choose a step.
+    """
+    B, C = _system(rig, equilibrium)
+    d = rig.drive
+    omega = 2 * math.pi * d.frequency_hz
+    if d.waveform == "crank":
+        r = d.stroke_m / 2
+        peak = r * (1 + r / d.rod_length_m) * omega ** 2
+    else:
+        peak = drv.peak_accel_m_s2(d)
+    stiff = max(abs(ev) for ev in eigvals([[(rig.g_m_s2 + peak) * x for x in row] for row in B]))
+    damp = max(abs(ev) for ev in eigvals(C)) if _is_damped(rig) else 0.0
+    rate = math.sqrt(stiff) + damp
+    harmonics = drv.harmonics(d).count
+    steps = math.ceil(rate / d.frequency_hz / step_phase)
+    return min(MAX_STEPS, max(min_steps, 2 * harmonics, steps))
+
+
+def _steps(rig: Rig, equilibrium: str, settings: Settings) -> int:
+    return settings.steps or default_steps(rig, equilibrium, step_phase=settings.step_phase,
+                                           min_steps=settings.min_steps)
+
+
+def _G_nodes(rig: Rig, steps: int) -> list[float]:
+    d = rig.drive
+    omega = 2 * math.pi * d.frequency_hz
+    w2, g = omega * omega, rig.g_m_s2
+    nodes = _phase_accel_nodes(d.waveform, d.stroke_m, d.rod_length_m, d.samples_m,
+                               d.samples_stroke_m, steps)
+    return [g + w2 * a for a in nodes]
+
+
+@lru_cache(maxsize=256)
+def _phase_accel_nodes(waveform, stroke_m, rod_length_m, samples_m, samples_stroke_m,
+                       steps: int) -> tuple[float, ...]:
+    """d2y/dphi2 at every stage phase: the shape of the cycle, the same at every speed,
+    so a scan along speed at one stroke computes it once."""
+    shape = drv.Drive(waveform, 1.0, stroke_m, rod_length_m, samples_m, samples_stroke_m)
+    dphi = 2 * math.pi / steps
+    return tuple(drv.phase_accel_m(shape, (s + c) * dphi)
+                 for s in range(steps) for c in STAGE_NODES)
+
+
+def monodromy(rig: Rig, equilibrium: str, speed_rpm: float | None = None,
+              stroke_m: float | None = None, *, steps: int | None = None):
+    """The one-cycle monodromy matrix (2N x 2N) for the state (q, q'), as tuples."""
+    _check_equilibrium(equilibrium)
+    rig = _operating(rig, speed_rpm, stroke_m)
+    return tuple(tuple(row) for row in _monodromy(rig, equilibrium, steps or
+                                                  default_steps(rig, equilibrium)))
+
+
+def _monodromy(rig: Rig, equilibrium: str, steps: int):
+    B, C = _system(rig, equilibrium)
+    return fundamental_matrix(B, C, _G_nodes(rig, steps), 1.0 / rig.drive.frequency_hz, steps)
+
+
+def _multi_margin(rig: Rig, rhos) -> float:
+    biggest = max(abs(r) for r in rhos)
+    if not math.isfinite(biggest) or biggest == 0:
+        return math.inf if not math.isfinite(biggest) else -math.inf
+    tol = 0.0 if _is_damped(rig) else UNDAMPED_TOLERANCE
+    return math.log(biggest) - tol
+
+
+def _rk_stability(rig: Rig, equilibrium: str, settings: Settings, verify: bool) -> Stability:
+    n = _steps(rig, equilibrium, settings)
+    rhos = eigvals(_monodromy(rig, equilibrium, n))
+    error, converged, message = 0.0, True, ""
+    if verify:
+        finer_n = min(MAX_STEPS * 2, n + max(8, n // 2))
+        finer = eigvals(_monodromy(rig, equilibrium, finer_n))
+        error = _set_distance(rhos, finer)
+        scale = max(1.0, max(abs(r) for r in finer))
+        converged = error <= CONVERGENCE_TOLERANCE * scale
+        if not converged:
+            message = (f"monodromy not converged at {n} steps per cycle: the multipliers "
+                       f"moved by {error:.2g} when refined")
+        rhos, n = finer, finer_n
+    return _summarise(rig, equilibrium, rhos, _multi_margin(rig, rhos), "monodromy",
+                      converged=converged, error_estimate=error, message=message,
+                      work={"steps": n})
+
+
+def _set_distance(a, b) -> float:
+    """Largest distance from a multiplier in ``a`` to its nearest in ``b``."""
+    return max(min(abs(x - y) for y in b) for x in a)
+
+
+# ----------------------------------------------------------------------------- entry point
+
+
+def stability(rig: Rig, equilibrium: str, speed_rpm: float | None = None,
+              stroke_m: float | None = None, *, settings: Settings | None = None,
+              verify: bool = True) -> Stability:
+    """Floquet multipliers and verdict for ``equilibrium`` ("inverted" or "hanging").
+
+    Parameters
+    ----------
+    speed_rpm, stroke_m : float, optional
+        Evaluate at another operating point than the rig's own.
+    settings : Settings, optional
+        Fixed truncation / steps (scans fix them once for every point).
+    verify : bool
+        Refine once and report the change as ``error_estimate`` / ``converged``.
+    """
+    _check_equilibrium(equilibrium)
+    rig = _operating(rig, speed_rpm, stroke_m)
+    settings = settings or Settings()
+    if settings.method not in (None, "hill", "monodromy"):
+        raise ValueError(f"settings.method: {settings.method!r} is not 'hill' or 'monodromy'")
+    if rig.n_links == 1 and settings.method == "monodromy" and not verify:
+        return _rk_trace_stability(rig, equilibrium, settings)
+    if rig.n_links == 1:
+        return _hill_stability(rig, equilibrium, settings, verify)
+    return _rk_stability(rig, equilibrium, settings, verify)

@@ -1,0 +1,190 @@
+"""Stability edges along a line in the (speed, stroke) plane: the shared engine of windows,
+charts and run-ups.
+
+A line is walked through scan points. Where the verdict flips between two
+points, Brent's method on the stability margin finds the edge. A tongue (or
+a stable island) narrower than the scan spacing makes the margin (and, for
+several links, the closeness of two multipliers) peak between the points,
+so every local peak is searched with Brent's maximiser before moving on.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from typing import Callable, Iterator
+
+from .floquet import MIN_STEPS, STEP_PHASE, Settings, Stability, default_steps, hill_form, stability
+from ..numerics.hill import default_truncation, needed_harmonics
+from ..model.properties import properties
+from ..model.rig import Rig
+from ..numerics.roots import brentq, golden_max
+
+EDGE_RTOL = 1e-10  # edges to this relative precision
+PHASE_STEP = 0.08  # scan spacing in sqrt(|theta0|) ~ 2 f0 / f (tongue n sits near n)
+SPEED_STEP = 0.04  # at most this relative change of speed between scan points
+STROKE_POINTS = 50  # scan points across a stroke range
+PEAK_FLOOR = 1e-12  # relative rise that counts as a peak (well above round-off)
+# Cost model of one link's two exact methods (microseconds, measured on CPython 3.11; only
+# the ratio matters): Hill's band LU with more than one harmonic per entry of its band, the
+# fixed RK cycle per step. A scan takes the cheaper one (a sine keeps Hill's tridiagonal form).
+HILL_BAND_US = 0.25
+RK_STEP_US = 12.0
+
+
+@dataclass(frozen=True)
+class Edge:
+    """Where a line crosses a stability boundary."""
+
+    x: float
+    gained: bool  # True if the equilibrium becomes stable moving up the line
+
+
+def scan_settings(rig: Rig, equilibrium: str, corners: list[Rig], *,
+                  step_phase: float = STEP_PHASE, min_steps: int = MIN_STEPS) -> Settings:
+    """Numerical settings good enough at every corner of a scan (one link: Hill rows and
+    harmonics, or fixed RK steps; several links: steps are chosen at each point from its
+    own rates). ``step_phase`` and ``min_steps`` size the RK steps (see default_steps)."""
+    if rig.n_links > 1:
+        return Settings(step_phase=step_phase, min_steps=min_steps)
+    forms = [hill_form(c, equilibrium) for c in corners]
+    steps = None
+    if any(len(f.theta) > 1 for f in forms):
+        steps = max(default_steps(c, equilibrium, step_phase=step_phase, min_steps=min_steps)
+                    for c in corners)
+    rows, kept = 0, 1
+    for form in forms:
+        most = _affordable_harmonics(form, steps)
+        keep = needed_harmonics(form.theta0, form.theta,
+                                default_truncation(form.theta0, form.theta), most=most)
+        if keep is None:
+            return Settings(steps=steps, method="monodromy")
+        kept = max(kept, keep)
+        rows = max(rows, default_truncation(form.theta0, form.theta[:keep]))
+    return Settings(truncation=rows, harmonics=kept)
+
+
+def _affordable_harmonics(form, steps: int | None) -> int:
+    """The most harmonics for which Hill's band LU costs less than an RK cycle of ``steps``
+    (one harmonic always: Hill's tridiagonal form is the cheapest of all)."""
+    keep = 1
+    while steps is not None and keep < len(form.theta):
+        rows = default_truncation(form.theta0, form.theta[:keep + 1])
+        if HILL_BAND_US * (2 * rows + 1) * (2 * keep + 3) ** 2 > RK_STEP_US * steps:
+            break
+        keep += 1
+    return keep
+
+
+class Probe:
+    """Stability at points x of a line x -> (speed_rpm, stroke_m); counts evaluations."""
+
+    def __init__(self, rig: Rig, equilibrium: str, point: Callable[[float], tuple],
+                 settings: Settings):
+        self.rig, self.equilibrium, self.point, self.settings = rig, equilibrium, point, settings
+        self.count = 0
+
+    def __call__(self, x: float) -> Stability:
+        self.count += 1
+        speed, stroke = self.point(x)
+        return stability(self.rig, self.equilibrium, speed_rpm=speed, stroke_m=stroke,
+                         settings=self.settings, verify=False)
+
+
+def speed_points(rig: Rig, start: float, stop: float, *, step: float = SPEED_STEP) -> list[float]:
+    """Speeds from ``start`` towards ``stop`` (start excluded, stop included): tongues are
+    evenly spaced in 1/speed, and the relative step is bounded as well."""
+    points = []
+    direction = 1.0 if stop > start else -1.0
+    f0 = max(properties(rig).hanging_frequencies_hz)
+    inv_step = PHASE_STEP / (2.0 * f0 * 60.0)  # d(1/rpm) giving a PHASE_STEP change
+    v = start
+    while (stop - v) * direction > 0:
+        inv = 1.0 / v - direction * inv_step
+        by_phase = abs(1.0 / inv - v) if inv > 0 else math.inf
+        v = v + direction * min(by_phase, step * v)
+        points.append(min(v, stop) if direction > 0 else max(v, stop))
+    return points
+
+
+def stroke_points(lo: float, hi: float, start: float, stop: float) -> list[float]:
+    step = (hi - lo) / STROKE_POINTS
+    direction = 1.0 if stop > start else -1.0
+    points, v = [], start
+    while (stop - v) * direction > 0:
+        v += direction * step
+        points.append(min(v, stop) if direction > 0 else max(v, stop))
+    return points
+
+
+class _Found(Exception):
+    """Raised inside a peak search as soon as a point of the other verdict turns up."""
+
+    def __init__(self, x: float, s: Stability):
+        super().__init__(x)
+        self.x, self.s = x, s
+
+
+def _closeness(s: Stability) -> float:
+    """Minus the smallest gap between two multipliers: collisions precede instability."""
+    rhos = s.multipliers
+    if len(rhos) < 3:
+        return -math.inf  # one link: the margin is smooth and sufficient
+    return -min(abs(a - b) for i, a in enumerate(rhos) for b in rhos[i + 1:])
+
+
+def _hidden_point(probe: Probe, a, b, c, rtol: float):
+    """If a, b, c share a verdict and the margin peaks towards the other verdict at b,
+    search [a, c] for a point of the other verdict; return it or None."""
+    stable = b[1].stable
+    keys = ((lambda s: s.margin), _closeness) if stable else ((lambda s: -s.margin),)
+    for key in keys:
+        ka, kb, kc = key(a[1]), key(b[1]), key(c[1])
+        # a peak must stand above round-off, or two platforms (CPython, Pyodide) could
+        # disagree on whether to search
+        if not (math.isfinite(kb) and kb - max(ka, kc) > PEAK_FLOOR * (1.0 + abs(kb))):
+            continue
+        lo, hi = sorted((a[0], c[0]))
+
+        def f(x: float) -> float:
+            s = probe(x)
+            if s.stable != stable:
+                raise _Found(x, s)
+            return key(s)
+
+        try:
+            golden_max(f, lo, hi, xtol=rtol * max(abs(lo), abs(hi)) * 100)
+        except _Found as found:
+            return found.x, found.s
+    return None
+
+
+def edge_between(probe: Probe, a, b, *, rtol: float = EDGE_RTOL) -> Edge:
+    """The edge between points a and b (each (x, Stability)) of different verdicts."""
+    fa = min(a[1].margin, -1e-300) if a[1].stable else max(a[1].margin, 1e-300)
+    fb = min(b[1].margin, -1e-300) if b[1].stable else max(b[1].margin, 1e-300)
+    x = brentq(lambda v: probe(v).margin, a[0], b[0], fa=fa, fb=fb,
+               xtol=rtol * max(abs(a[0]), abs(b[0])), rtol=rtol)
+    gained = b[1].stable if b[0] > a[0] else a[1].stable
+    return Edge(x, gained)
+
+
+def walk(probe: Probe, start: float, s0: Stability, points: list[float], *,
+         rtol: float = EDGE_RTOL) -> Iterator[Edge]:
+    """Every edge met walking from ``start`` through ``points``, in walking order."""
+    prev2, prev = None, (start, s0)
+    for x in points:
+        cur = (x, probe(x))
+        if cur[1].stable != prev[1].stable:
+            yield edge_between(probe, prev, cur, rtol=rtol)
+            prev2 = None
+        else:
+            hidden = _hidden_point(probe, prev2, prev, cur, rtol) if prev2 is not None else None
+            if hidden is not None:
+                edges = (edge_between(probe, prev2, hidden, rtol=rtol),
+                         edge_between(probe, hidden, cur, rtol=rtol))
+                yield from sorted(edges, key=lambda e: abs(e.x - prev2[0]))
+                prev2 = None
+            else:
+                prev2 = prev
+        prev = cur

@@ -1,0 +1,76 @@
+"""Speed and stroke windows: how far the operating point may move before stability is lost.
+
+Each side walks away from the operating point (module ``lines``) and stops
+at the first edge (a tongue is never bridged) or at the rig's limit.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from .floquet import Stability
+from .lines import (PHASE_STEP, SPEED_STEP, STROKE_POINTS, Probe, scan_settings, speed_points,
+                    stroke_points, walk)
+from ..model.rig import Rig, max_stroke_m, with_operating_point
+
+
+@dataclass(frozen=True)
+class Window:
+    """An interval of speed (rpm) or stroke (m) around the operating point."""
+
+    axis: str  # "speed" or "stroke"
+    low: float | None
+    high: float | None
+    low_is_edge: bool = False  # True: a stability edge; False: the rig's limit
+    high_is_edge: bool = False
+    evaluations: int = 0
+    resolution: str = ""
+    message: str = ""
+
+    @property
+    def interval(self) -> list[float] | None:
+        return None if self.low is None else [self.low, self.high]
+
+
+def _first_edge(probe: Probe, start: float, s0: Stability, stop: float, points):
+    for edge in walk(probe, start, s0, points):
+        return edge.x, True
+    return stop, False
+
+
+def window(rig: Rig, equilibrium: str, axis: str, s0: Stability | None = None) -> Window:
+    """The speed (rpm) or stroke (m) window of ``equilibrium`` around the operating point."""
+    if axis not in ("speed", "stroke"):
+        raise ValueError(f"axis: {axis!r} is not 'speed' or 'stroke'")
+    speed, stroke = rig.drive.speed_rpm, rig.drive.stroke_m
+    if axis == "speed":
+        lo, hi = max(rig.limits.speed_rpm[0], 1e-6), rig.limits.speed_rpm[1]
+        here = speed
+        corners = [with_operating_point(rig, speed_rpm=v) for v in (lo, hi)]
+
+        def point(x):
+            return x, stroke
+
+        low_points, high_points = speed_points(rig, here, lo), speed_points(rig, here, hi)
+    else:
+        lo, hi = rig.limits.stroke_m[0], max_stroke_m(rig)
+        here = stroke
+        corners = [with_operating_point(rig, stroke_m=v) for v in (lo, hi)]
+
+        def point(x):
+            return speed, x
+
+        low_points, high_points = stroke_points(lo, hi, here, lo), stroke_points(lo, hi, here, hi)
+    if not lo <= here <= hi:
+        return Window(axis, None, None, message="the operating point is outside the limits")
+    probe = Probe(rig, equilibrium, point, scan_settings(rig, equilibrium, corners + [rig]))
+    s0 = probe(here)
+    if not s0.stable:
+        return Window(axis, None, None, evaluations=probe.count,
+                      message="unstable at the operating point")
+    low, low_edge = _first_edge(probe, here, s0, lo, low_points)
+    high, high_edge = _first_edge(probe, here, s0, hi, high_points)
+    resolution = (f"scanned every {100 * SPEED_STEP:g}% of speed or {PHASE_STEP:g} of a tongue "
+                  "spacing, each local peak searched" if axis == "speed" else
+                  f"scanned {STROKE_POINTS} strokes across the range, each local peak searched")
+    return Window(axis, low, high, low_edge, high_edge, probe.count, resolution)

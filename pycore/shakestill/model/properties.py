@@ -1,0 +1,49 @@
+"""Derived properties of a rig, with all links aligned (as in either equilibrium)."""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+from ..numerics.linalg import eigvals, inverse, matmul
+from .linear import chain
+from .rig import Rig
+
+
+@dataclass(frozen=True)
+class RigProperties:
+    total_mass_kg: float
+    link_mass_kg: tuple[float, ...]
+    link_inertia_about_joint_kg_m2: tuple[float, ...]
+    first_moment_kg_m: float  # of the whole pendulum about the pivot
+    inertia_about_pivot_kg_m2: float
+    centre_of_mass_m: float  # distance from the pivot
+    l_eq_m: float  # equivalent simple-pendulum length I_p / (m d)
+    hanging_frequencies_hz: tuple[float, ...]  # small oscillations, fixed pivot, lowest first
+
+    @property
+    def hanging_frequency_hz(self) -> float:
+        return self.hanging_frequencies_hz[0]
+
+
+def properties(rig: Rig) -> RigProperties:
+    ch = chain(rig)
+    n = rig.n_links
+    offsets = [sum(ch.length_m[:i]) for i in range(n)]  # each joint's distance from the pivot
+    moment = sum(ch.first_moment_kg_m[i] + ch.mass_kg[i] * offsets[i] for i in range(n))
+    inertia = sum(ch.inertia_kg_m2[i] + 2 * offsets[i] * ch.first_moment_kg_m[i]
+                  + ch.mass_kg[i] * offsets[i] ** 2 for i in range(n))
+    total = sum(ch.mass_kg)
+    # Hanging: M q'' + g diag(a) q = 0, so omega^2 are the eigenvalues of g M^-1 diag(a).
+    stiff = [[rig.g_m_s2 * ch.a_kg_m[i] if i == j else 0.0 for j in range(n)] for i in range(n)]
+    w2 = sorted(max(ev.real, 0.0) for ev in eigvals(matmul(inverse(ch.coupling), stiff)))
+    return RigProperties(
+        total_mass_kg=total,
+        link_mass_kg=ch.mass_kg,
+        link_inertia_about_joint_kg_m2=ch.inertia_kg_m2,
+        first_moment_kg_m=moment,
+        inertia_about_pivot_kg_m2=inertia,
+        centre_of_mass_m=moment / total,
+        l_eq_m=inertia / moment,
+        hanging_frequencies_hz=tuple(math.sqrt(w) / (2 * math.pi) for w in w2),
+    )

@@ -1,0 +1,120 @@
+"""The rig as frozen dataclasses (SI inside), its problems, and the rig file's constants.
+
+Reading and writing the file (format "shakestill-rig", version 1) is ``rigfile``.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, replace
+
+FORMAT = "shakestill-rig"
+VERSION = 1
+STANDARD_GRAVITY = 9.80665  # m/s^2, the conventional standard value (CGPM 1901)
+AIR_DENSITY = 1.204  # kg/m^3, dry air at 20 C and 101.325 kPa (handbook value)
+MAX_LINKS = 3
+MIN_SAMPLES = 8  # fewer cannot describe a waveform's first harmonics usefully
+WAVEFORMS = ("sine", "crank", "samples")
+
+
+@dataclass(frozen=True)
+class Problem:
+    """One thing wrong (or worth a warning) in a rig, at a JSON path."""
+
+    path: str
+    message: str
+
+    def __str__(self) -> str:
+        return f"{self.path}: {self.message}"
+
+
+class RigError(ValueError):
+    """The rig could not be read; ``problems`` lists every reason."""
+
+    def __init__(self, problems: list[Problem]):
+        self.problems = list(problems)
+        super().__init__("; ".join(str(p) for p in self.problems))
+
+
+@dataclass(frozen=True)
+class PointMass:
+    mass_kg: float
+    at_m: float  # from the link's own joint
+    drag_coefficient: float = 0.0  # quadratic air drag C_d (0: off)
+    frontal_area_m2: float = 0.0
+    given: frozenset = frozenset()
+    extra: tuple = ()
+
+
+@dataclass(frozen=True)
+class Link:
+    length_m: float
+    rod_mass_kg: float = 0.0
+    point_masses: tuple[PointMass, ...] = ()
+    extra_inertia_kg_m2: float = 0.0  # about the link's own centre of mass
+    joint_damping_N_m_s: float = 0.0  # on the relative angular rate at the joint
+    joint_friction_N_m: float = 0.0  # Coulomb torque at the joint
+    given: frozenset = frozenset()
+    extra: tuple = ()
+
+
+@dataclass(frozen=True)
+class Drive:
+    waveform: str
+    speed_rpm: float
+    stroke_m: float  # operating stroke; for samples, the stroke they are scaled to
+    rod_length_m: float = 0.0  # crank only
+    samples_m: tuple[float, ...] = ()  # samples only: one cycle at equal phases
+    samples_stroke_m: float = 0.0  # samples only: the stroke the samples have as given
+    carriage_mass_kg: float = 0.0  # moving mass of the carriage, for drive loads
+    given: frozenset = frozenset()
+    extra: tuple = ()
+
+    @property
+    def frequency_hz(self) -> float:
+        return self.speed_rpm / 60.0
+
+
+@dataclass(frozen=True)
+class Limits:
+    speed_rpm: tuple[float, float]
+    stroke_m: tuple[float, float]
+    max_force_N: float | None = None  # on the drive (pivot reaction plus carriage)
+    max_power_W: float | None = None
+    max_accel_m_s2: float | None = None  # of the pivot
+    given: frozenset = frozenset()
+    extra: tuple = ()
+
+
+@dataclass(frozen=True)
+class Rig:
+    links: tuple[Link, ...]
+    drive: Drive
+    limits: Limits
+    title: str = ""
+    g_m_s2: float = STANDARD_GRAVITY
+    air_density_kg_m3: float = AIR_DENSITY
+    given: frozenset = frozenset()
+    extra: tuple = ()
+
+    @property
+    def n_links(self) -> int:
+        return len(self.links)
+
+
+def with_operating_point(rig: Rig, *, speed_rpm: float | None = None,
+                         stroke_m: float | None = None) -> Rig:
+    """The same rig at another speed and/or stroke."""
+    changes = {}
+    if speed_rpm is not None:
+        changes["speed_rpm"] = float(speed_rpm)
+    if stroke_m is not None:
+        changes["stroke_m"] = float(stroke_m)
+    return replace(rig, drive=replace(rig.drive, **changes)) if changes else rig
+
+
+def max_stroke_m(rig: Rig) -> float:
+    """The largest stroke the mechanism allows (a crank needs r < rod length)."""
+    hi = rig.limits.stroke_m[1]
+    if rig.drive.waveform == "crank":
+        hi = min(hi, 2.0 * rig.drive.rod_length_m * (1.0 - 1e-9))
+    return hi

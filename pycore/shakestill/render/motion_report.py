@@ -1,0 +1,127 @@
+"""Plain words for motion, tolerance and loads results, with the cautions.
+
+Shared by the command line and the bridge (the page shows the same words).
+"""
+
+from __future__ import annotations
+
+import math
+
+from ..model.safety import CAUTIONS
+
+
+def _safety() -> list[str]:
+    return ["", "Safety:"] + [f"  - {c}" for c in CAUTIONS]
+
+
+def motion_text(motion, title: str = "") -> str:
+    out = [title, "=" * len(title)] if title else []
+    n = len(motion.end_state) // 2
+    out.append(f"Simulated {motion.end_t_s:.3f} s: {motion.work.get('steps', 0)} steps "
+               f"({motion.work.get('rejected', 0)} rejected), {len(motion.t_s)} frames, "
+               f"{len(motion.strobe_t_s)} stroboscopic samples")
+    if not motion.success:
+        out.append(f"STOPPED EARLY: {motion.message}")
+    last = next((e.kind for e in reversed(motion.events)
+                 if e.kind in ("fell", "recovered", "rotation")), None)
+    verdict = {"rotation": "went into rotation", "fell": "fell (left its band)",
+               "recovered": "recovered", None: "stayed within its band"}[last]
+    out.append(f"Outcome: {verdict}")
+    if any(t >= 1 for t in motion.turns):
+        out.append("  turns per link: " + ", ".join(f"{t:.1f}" for t in motion.turns))
+    if motion.events:
+        out.append("Events:")
+        out.extend(f"  {e.t_s:9.4f} s  {e.kind:9s} {e.message}" for e in motion.events)
+    q, w = motion.end_state[:n], motion.end_state[n:]
+    out.append("End: angles " + ", ".join(f"{math.degrees(x):.2f} deg" for x in q)
+               + "; rates " + ", ".join(f"{x:.3f} rad/s" for x in w))
+    return "\n".join(out + _safety()) + "\n"
+
+
+def _edge_words(name: str, value: str, edge: dict | None, estimate: str) -> list[str]:
+    if edge is None:
+        return [f"  {name}: {value}"]
+    lines = [f"  {name}: {value}  (Kapitza estimate {estimate})"]
+    if edge["first_failure"] is not None:
+        lines.append(f"    found by scanning to the first failure and bisecting: within "
+                     f"{edge['precision'] * 100:.2f}%, {edge['evaluations']} full runs")
+    if edge["message"]:
+        lines.append(f"    note: {edge['message']}")
+    return lines
+
+
+def tolerance_text(result: dict, basin: dict | None = None) -> str:
+    out = ["Knock tolerance of the inverted position"]
+    if not result["stable"]:
+        out.append(f"  {result['message']}")
+        return "\n".join(out + _safety()) + "\n"
+    est = result["estimates"]
+    out.append(f"  (recovered: no link passes the horizontal in {result['run_s']:.1f} s, "
+               "starting at drive phase 0)")
+    out += _edge_words("largest knock that recovers", f"{result['max_knock_rad_s']:.3f} rad/s",
+                       result["knock"], f"{est['knock_rad_s']:.3f} rad/s")
+    out += _edge_words("largest release angle that recovers",
+                       f"{math.degrees(result['max_release_angle_rad']):.2f} deg",
+                       result["release"], f"{math.degrees(est['release_angle_rad']):.2f} deg")
+    out.append("  The estimates come from Kapitza's effective potential (Landau & Lifshitz, "
+               "sec. 30): a guide, not the simulated answer.")
+    if basin is not None:
+        grid = basin["recovered"]
+        share = sum(bool(v) for row in grid for v in row) / sum(len(row) for row in grid)
+        out.append("")
+        out.append(f"Basin map: {len(basin['angles_rad'])} x {len(basin['rates_rad_s'])} starts, "
+                   f"{share * 100:.0f}% recover; cell-to-cell mapping with "
+                   f"{basin['refine']}x finer cells, {basin['cells_mapped']} cells")
+        if basin.get("validation"):
+            v = basin["validation"]
+            out.append(f"  {v['summary']}" + (
+                f" (edge {v['edge_agreement'] * 100:.0f}%, interior "
+                f"{v['interior_agreement'] * 100:.0f}%)"
+                if v["edge_agreement"] is not None and v["interior_agreement"] is not None
+                else ""))
+    return "\n".join(out + _safety()) + "\n"
+
+
+def loads_text(result: dict) -> str:
+    f, p = result["drive_force_N"], result["power_W"]
+    out = [f"Loads over {result['cycles']} drive cycle(s) at {result['speed_rpm']:,.0f} rpm, "
+           f"stroke {result['stroke_m'] * 1000:.2f} mm, pendulum {result['state']} "
+           f"({result['equilibrium']})",
+           f"  drive force: peak {f['peak']:.4g} N, RMS {f['rms']:.4g} N, mean {f['mean']:.4g} N "
+           f"(weight {result['weight_N']:.4g} N)",
+           f"  drive power: peak {p['peak']:.4g} W, mean {p['mean']:.4g} W",
+           f"  peak pivot acceleration: {result['peak_accel_m_s2']:.4g} m/s^2"]
+    for link in result["links"]:
+        out.append(f"  link {link['link']}: axial compression up to "
+                   f"{link['max_compression_N']:.4g} N, tension up to "
+                   f"{link['max_tension_N']:.4g} N")
+    if result["rotation"]:
+        r = result["rotation"]
+        out.append(f"  ROTATING: tip speed up to {r['tip_speed_m_s']:.3g} m/s, centripetal load "
+                   f"up to {r['centripetal_load_N']:.4g} N")
+    for flag in result["flags"]:
+        out.append(("  LIMIT: " if flag["exceeded"] else "  limit: ") + flag["message"])
+    if not result["success"]:
+        out.append(f"  note: {result['message']}")
+    return "\n".join(out + _safety()) + "\n"
+
+
+def fit_text(result: dict) -> str:
+    """Words for a fit to a logged run (the dict of ``fit.fit_dict``)."""
+    out = [f"Fit to a logged run: {result['samples']} samples, {result['iterations']} "
+           f"iteration(s), {result['simulations']} simulations"]
+    if not result["converged"]:
+        out.append(f"NOT SETTLED: {result['message']}; the numbers below are the best so far")
+    out.append(f"Misfit (RMS angle): {math.degrees(result['rms_start_rad']):.4g} deg with the "
+               f"rig's own numbers, {math.degrees(result['rms_rad']):.4g} deg fitted")
+    out.append("Fitted numbers (start -> fitted +- standard error):")
+    for p in result["parameters"]:
+        err = p["std_error"]
+        spread = "not determined by this log" if not math.isfinite(err) else f"+- {err:.3g}"
+        out.append(f"  {p['path']}: {p['start']:.6g} -> {p['value']:.6g} {spread}")
+    out.append("Start of the run (fitted, from the upward vertical): angles "
+               + ", ".join(f"{math.degrees(q):.3f} deg" for q in result["initial_angles_rad"])
+               + "; rates " + ", ".join(f"{w:.4f} rad/s" for w in result["initial_rates_rad_s"]))
+    out.append("A fit describes this run: check the fitted rig against another logged run "
+               "before relying on it.")
+    return "\n".join(out + _safety()) + "\n"

@@ -1,0 +1,141 @@
+"""Plain words for the check and run-up results, for a technician at the rig."""
+
+from __future__ import annotations
+
+import math
+
+from ..model.safety import CAUTIONS
+
+_NAMES = {"inverted": "Inverted (pendulum up)", "hanging": "Hanging (pendulum down)"}
+
+
+def _rpm(x: float) -> str:
+    return f"{x:,.0f} rpm"
+
+
+def _mm(x: float) -> str:
+    return f"{x * 1000:.2f} mm"
+
+
+def _window_text(window, ends, fmt, down, up) -> str:
+    if window is None:
+        return "none (not stable here)"
+    lo, hi = window
+    lo_kind = "stability edge" if ends[0] == "edge" else "rig limit"
+    hi_kind = "stability edge" if ends[1] == "edge" else "rig limit"
+    return (f"{fmt(lo)} ({lo_kind}, {down:.1f}% below) to {fmt(hi)} ({hi_kind}, {up:.1f}% above)")
+
+
+def equilibrium_lines(name: str, r: dict) -> list[str]:
+    lines = [f"{_NAMES[name]}: {'STABLE' if r['stable'] else 'UNSTABLE'}"
+             f"  (largest Floquet multiplier {r['max_multiplier']:.6f}; stable below 1)"]
+    if r["stable"]:
+        m, e = r["margins_percent"], r["window_ends"]
+        lines.append("  slow sway: {:.3f} Hz".format(r["slow_frequency_hz"]))
+        lines.append("  speed window: " + _window_text(
+            r["speed_window_rpm"], (e["speed_low"], e["speed_high"]), _rpm,
+            m["speed_down"], m["speed_up"]))
+        lines.append("  stroke window: " + _window_text(
+            r["stroke_window_m"], (e["stroke_low"], e["stroke_high"]), _mm,
+            m["stroke_down"], m["stroke_up"]))
+        if r.get("close_to_edge"):
+            lines.append(f"  close to an edge: only {r['nearest_margin_percent']:.1f}% of margin; "
+                         "a small change of speed or stroke loses this position")
+    else:
+        lines.append("  a small disturbance grows by a factor {:.3g} every drive cycle"
+                     .format(r["max_multiplier"]))
+    for msg in r.get("messages", []):
+        lines.append(f"  note: {msg}")
+    return lines
+
+
+def report_text(result: dict, warnings=()) -> str:
+    """The human report of ``shakestill check``."""
+    est = result["estimates"]
+    out = []
+    if result.get("title"):
+        out.append(result["title"])
+        out.append("=" * len(result["title"]))
+    out.append(f"Drive: {result['waveform']}, {_rpm(result['speed_rpm'])} "
+               f"({result['frequency_hz']:.2f} Hz), stroke {_mm(result['stroke_m'])}")
+    out.append(f"Peak pivot acceleration: {result['peak_accel_m_s2']:.1f} m/s^2 "
+               f"({result['peak_accel_g']:.1f} g)")
+    out.append("")
+    for name in ("inverted", "hanging"):
+        out.extend(equilibrium_lines(name, result[name]))
+        out.append("")
+    out.append("Closed-form estimates (Kapitza's averaging; a guide, not the exact answer):")
+    out.append(f"  equivalent pendulum length l_eq: {est['l_eq_m'] * 1000:.1f} mm")
+    out.append(f"  inverted needs more than about {_rpm(est['kapitza_min_speed_rpm'])} at this "
+               "stroke (exact edge: " + _edge_text(result["inverted"]) + ")")
+    inv = est["inverted_slow_frequency_hz"]
+    out.append("  inverted slow sway about " + (f"{inv:.3f} Hz" if inv else "none (estimate: "
+                                                "unstable)")
+               + f"; hanging about {est['hanging_slow_frequency_hz']:.3f} Hz")
+    out.append(f"  inverted lost above a stroke of about {_mm(est['max_stroke_estimate_m'])} "
+               "at any speed")
+    if est["effective_barrier_J"] > 0:
+        out.append(f"  knock it survives, about {est['knock_estimate_rad_s']:.2f} rad/s; release "
+                   f"angle about {math.degrees(est['release_angle_estimate_rad']):.0f} deg")
+    if warnings:
+        out.append("")
+        out.append("Warnings:")
+        out.extend(f"  {w.path}: {w.message}" for w in warnings)
+    if not result.get("converged", True):
+        out.append("")
+        out.append("Numerical note: some results did not meet their accuracy check; see notes.")
+    out.append("")
+    out.append("Safety:")
+    out.extend(f"  - {c}" for c in CAUTIONS)
+    return "\n".join(out) + "\n"
+
+
+def _edge_text(r: dict) -> str:
+    w, e = r.get("speed_window_rpm"), r.get("window_ends", {})
+    if not w:
+        return "not stable at this speed"
+    return _rpm(w[0]) if e.get("speed_low") == "edge" else "below the speed limit"
+
+
+def jsonable(obj):
+    """Plain JSON data: non-finite floats become null (JSON has no infinity)."""
+    if isinstance(obj, float):
+        return obj if math.isfinite(obj) else None
+    if isinstance(obj, dict):
+        return {k: jsonable(v) for k, v in obj.items()}
+    if isinstance(obj, (list, tuple)):
+        return [jsonable(v) for v in obj]
+    return obj
+
+
+def runup_text(result: dict) -> str:
+    """Words for a run-up result."""
+    out = [f"Run-up at {result['rate_rpm_s']:g} rpm/s from {result['start_rpm']:,.0f} to "
+           f"{result['end_rpm']:,.0f} rpm, stroke {_mm(result['stroke_m'])} "
+           f"(acceptable growth: x{result['factor']:g})"]
+    for name in ("inverted", "hanging"):
+        r = result.get(name)
+        if r is None:
+            continue
+        out.append("")
+        out.append(f"{_NAMES[name]}:")
+        if not r["crossings"]:
+            out.append("  no unstable speeds crossed")
+        for c in r["crossings"]:
+            grow = c["simulated_amplification"] or c["amplification"]
+            out.append(f"  unstable from {_rpm(c['speed_from_rpm'])} to {_rpm(c['speed_to_rpm'])}:"
+                       f" {c['seconds']:.2f} s, {c['cycles']:.0f} cycles, a disturbance grows "
+                       f"x{grow:.3g} (estimate x{c['amplification']:.3g})")
+        if r["crossings"]:
+            out.append(f"  ramp at least {r['min_rate_rpm_s']:.3g} rpm/s to keep each crossing "
+                       f"under x{result['factor']:g}" + ("" if r["ok"] else "  <- NOT MET"))
+        out.append("  " + r["rundown"])
+    out.append("")
+    out.append("Note: " + result["note"])
+    if result.get("inverted", {}).get("crossings"):
+        out.append("The inverted position cannot be held while the drive runs up below its lower "
+                   "edge; bring it up by hand or a catch only after the speed is in its window.")
+    out.append("")
+    out.append("Safety:")
+    out.extend(f"  - {c}" for c in CAUTIONS)
+    return "\n".join(out) + "\n"
