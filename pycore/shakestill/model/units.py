@@ -8,24 +8,49 @@ from __future__ import annotations
 import math
 import re
 
-# Each kind maps unit spellings to the factor that turns them into SI.
+# Exact definitions of the customary units (international yard and pound, 1959; NIST SP 811,
+# appendix B): 1 in = 0.0254 m, 1 ft = 0.3048 m, 1 lb = 0.45359237 kg, 1 lbf = 1 lb x g0.
+INCH = 0.0254
+FOOT = 0.3048
+POUND = 0.45359237
+OUNCE = POUND / 16.0
+G0 = 9.80665  # standard gravity, m/s^2 (CGPM 1901): one "g" and the pound-force's g
+POUND_FORCE = POUND * G0
+RPM_PER_RAD_S = 60.0 / (2.0 * math.pi)
+
+# Each kind maps unit spellings (lower case, single spaces) to the factor that turns them
+# into SI (rpm for speeds). The first spelling of each unit is the one error messages list.
 UNITS: dict[str, dict[str, float]] = {
-    "length": {"m": 1.0, "cm": 1e-2, "mm": 1e-3, "um": 1e-6, "in": 0.0254},
-    "mass": {"kg": 1.0, "g": 1e-3},
-    "speed": {"rpm": 1.0, "hz": 60.0, "rev/min": 1.0, "1/min": 1.0},
+    "length": {"m": 1.0, "cm": 1e-2, "mm": 1e-3, "um": 1e-6, "in": INCH, "inch": INCH,
+               "inches": INCH, '"': INCH, "ft": FOOT, "foot": FOOT, "feet": FOOT, "'": FOOT},
+    "mass": {"kg": 1.0, "g": 1e-3, "lb": POUND, "lbs": POUND, "oz": OUNCE},
+    "speed": {"rpm": 1.0, "r/min": 1.0, "rev/min": 1.0, "1/min": 1.0, "hz": 60.0,
+              "rev/s": 60.0, "rps": 60.0, "rad/s": RPM_PER_RAD_S},
     "inertia": {"kg m2": 1.0, "kg*m2": 1.0, "kg m^2": 1.0, "kg*m^2": 1.0,
-                "g cm2": 1e-7, "g*cm2": 1e-7, "g cm^2": 1e-7},
-    "damping": {"n m s": 1.0, "n*m*s": 1.0, "nms": 1.0, "n m s/rad": 1.0},
-    "torque": {"n m": 1.0, "n*m": 1.0, "nm": 1.0, "mn m": 1e-3, "mnm": 1e-3},
-    "acceleration": {"m/s2": 1.0, "m/s^2": 1.0, "g": 9.80665},
-    "rate": {"rpm/s": 1.0, "hz/s": 60.0},
-    "force": {"n": 1.0, "kn": 1e3},
-    "power": {"w": 1.0, "kw": 1e3},
-    "velocity": {"m/s": 1.0},
-    "area": {"m2": 1.0, "m^2": 1.0, "cm2": 1e-4, "cm^2": 1e-4, "mm2": 1e-6, "mm^2": 1e-6},
-    "time": {"s": 1.0, "ms": 1e-3, "min": 60.0},
-    "angle": {"rad": 1.0, "deg": math.pi / 180.0},
-    "angular_rate": {"rad/s": 1.0, "deg/s": math.pi / 180.0, "rpm": 2 * math.pi / 60.0},
+                "g cm2": 1e-7, "g*cm2": 1e-7, "g cm^2": 1e-7, "kg cm^2": 1e-4, "kg cm2": 1e-4,
+                "lb in^2": POUND * INCH ** 2, "lb in2": POUND * INCH ** 2,
+                "lb*in^2": POUND * INCH ** 2, "lb ft^2": POUND * FOOT ** 2,
+                "lb ft2": POUND * FOOT ** 2, "oz in^2": OUNCE * INCH ** 2,
+                "oz in2": OUNCE * INCH ** 2},
+    "damping": {"n m s": 1.0, "n*m*s": 1.0, "nms": 1.0, "n m s/rad": 1.0,
+                "lbf in s": POUND_FORCE * INCH, "lbf*in*s": POUND_FORCE * INCH},
+    "torque": {"n m": 1.0, "n*m": 1.0, "nm": 1.0, "mn m": 1e-3, "mnm": 1e-3,
+               "lbf in": POUND_FORCE * INCH, "in lbf": POUND_FORCE * INCH,
+               "lbf ft": POUND_FORCE * FOOT, "ft lbf": POUND_FORCE * FOOT,
+               "ozf in": POUND_FORCE / 16.0 * INCH, "oz in": POUND_FORCE / 16.0 * INCH},
+    "acceleration": {"m/s2": 1.0, "m/s^2": 1.0, "g": G0, "ft/s2": FOOT, "ft/s^2": FOOT,
+                     "in/s2": INCH, "in/s^2": INCH},
+    "rate": {"rpm/s": 1.0, "r/min/s": 1.0, "hz/s": 60.0, "rpm/min": 1.0 / 60.0},
+    "force": {"n": 1.0, "kn": 1e3, "lbf": POUND_FORCE, "kgf": G0},
+    "power": {"w": 1.0, "kw": 1e3, "hp": 745.69987158227022},  # mechanical horsepower
+    "velocity": {"m/s": 1.0, "mm/s": 1e-3, "ft/s": FOOT, "in/s": INCH},
+    "area": {"m2": 1.0, "m^2": 1.0, "cm2": 1e-4, "cm^2": 1e-4, "mm2": 1e-6, "mm^2": 1e-6,
+             "in2": INCH ** 2, "in^2": INCH ** 2, "sq in": INCH ** 2},
+    "time": {"s": 1.0, "ms": 1e-3, "min": 60.0, "h": 3600.0},
+    "angle": {"rad": 1.0, "deg": math.pi / 180.0, "degrees": math.pi / 180.0,
+              "°": math.pi / 180.0},
+    "angular_rate": {"rad/s": 1.0, "deg/s": math.pi / 180.0, "rpm": 2 * math.pi / 60.0,
+                     "r/min": 2 * math.pi / 60.0, "rev/s": 2 * math.pi, "hz": 2 * math.pi},
     "plain": {"": 1.0},
 }
 
@@ -37,8 +62,13 @@ class UnitError(ValueError):
 
 
 def allowed_units(kind: str) -> str:
-    """The unit spellings accepted for ``kind``, for error messages."""
-    return ", ".join(u for u in UNITS[kind] if u)
+    """The units accepted for ``kind``, one spelling each, for messages and hints."""
+    seen, names = set(), []
+    for spelling, factor in UNITS[kind].items():
+        if spelling and factor not in seen:
+            seen.add(factor)
+            names.append(spelling)
+    return ", ".join(names)
 
 
 def parse_quantity(value: object, kind: str) -> float:
