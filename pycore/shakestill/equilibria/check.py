@@ -9,6 +9,7 @@ from ..model import drive as drv
 from .estimates import estimates
 from .floquet import stability
 from ..model.linear import EQUILIBRIA
+from ..model.modes import modes
 from ..model.properties import properties
 from ..model.rig import Rig
 from .windows import window
@@ -26,11 +27,13 @@ def _equilibrium(rig: Rig, name: str) -> dict:
     speed = window(rig, name, "speed", s)
     stroke = window(rig, name, "stroke", s)
     op_speed, op_stroke = rig.drive.speed_rpm, rig.drive.stroke_m
-    messages = [m for m in (s.message, speed.message, stroke.message) if m]
+    # both windows say "unstable at the operating point" when it is: say it once
+    messages = list(dict.fromkeys(m for m in (s.message, speed.message, stroke.message) if m))
     return {
         "stable": s.stable,
         "max_multiplier": s.max_multiplier,
         "slow_frequency_hz": s.slow_frequency_hz,
+        "sway_modes_hz": list(s.sway_modes_hz) if s.sway_modes_hz is not None else None,
         "speed_window_rpm": speed.interval if s.stable else None,
         "stroke_window_m": stroke.interval if s.stable else None,
         "multipliers": [[z.real, z.imag] for z in s.multipliers],
@@ -79,6 +82,12 @@ def check(rig: Rig) -> dict:
     for name in EQUILIBRIA:
         result[name] = _equilibrium(rig, name)
     result["estimates"] = estimates(rig).as_dict()
+    sway = modes(rig)
+    result["modes"] = {
+        "equivalent_lengths_m": list(sway.lengths_m),
+        "shapes": [list(shape) for shape in sway.shapes],
+        "damping_coupling": sway.coupling,
+    }
     result["properties"] = {
         "total_mass_kg": props.total_mass_kg,
         "first_moment_kg_m": props.first_moment_kg_m,

@@ -38,13 +38,14 @@ class Stability:
     multipliers: tuple[complex, ...]
     max_multiplier: float
     stable: bool
-    slow_frequency_hz: float
+    slow_frequency_hz: float | None  # the slowest sway mode; None when unstable
     margin: float  # < 0 stable, > 0 unstable; continuous, for root finding
     method: str  # "hill" or "monodromy"
     converged: bool = True
     error_estimate: float = 0.0
     message: str = ""
     work: dict = field(default_factory=dict, compare=False)
+    sway_modes_hz: tuple[float, ...] | None = None  # one per link, ascending; None: unstable
 
 
 @dataclass(frozen=True)
@@ -84,9 +85,20 @@ def _summarise(rig: Rig, equilibrium: str, rhos, margin: float, method: str, **e
         stable = margin < 0
     else:
         stable = margin < 0 or max_mult <= 1.0 + UNDAMPED_TOLERANCE
-    nu = abs(cmath.phase(biggest)) / (2 * math.pi) if math.isfinite(max_mult) else 0.0
+    sway = sway_frequencies_hz(rhos, rig.drive.frequency_hz) if stable else None
     return Stability(equilibrium, rig.drive.speed_rpm, rig.drive.stroke_m, tuple(rhos),
-                     max_mult, stable, nu * rig.drive.frequency_hz, margin, method, **extra)
+                     max_mult, stable, sway[0] if sway else None, margin, method, **extra,
+                     sway_modes_hz=sway)
+
+
+def sway_frequencies_hz(rhos, frequency_hz: float) -> tuple[float, ...]:
+    """One slow sway frequency per mode, ascending: nu f with nu = |arg rho| / (2 pi).
+
+    The 2N multipliers come in N pairs of equal |arg| (conjugates, or two real ones of one
+    sign near an edge with damping), so every other one of the sorted angles is a mode.
+    """
+    nus = sorted(abs(cmath.phase(r)) / (2 * math.pi) for r in rhos)
+    return tuple(nu * frequency_hz for nu in nus[::2])
 
 
 # ----------------------------------------------------------------------------- one link

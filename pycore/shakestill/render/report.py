@@ -17,6 +17,30 @@ def _mm(x: float) -> str:
     return f"{x * 1000:.2f} mm"
 
 
+def shape_words(shape: tuple[float, ...]) -> str:
+    """A mode shape in words: which links swing with the first and which against it."""
+    if len(shape) == 1:
+        return "the link swings as one pendulum"
+    ref = shape[0] if shape[0] != 0.0 else 1.0
+    together = [i + 1 for i, c in enumerate(shape) if c * ref > 0]
+    against = [i + 1 for i, c in enumerate(shape) if c * ref < 0]
+    if not against:
+        return "all links swing together"
+    names = ", ".join(f"link {i}" for i in against)
+    return (f"{names} against link {together[0]}" if len(together) == 1 else
+            f"{names} against links {', '.join(str(i) for i in together)}")
+
+
+def _sway_text(r: dict, shapes) -> str:
+    """The slow sway of a stable equilibrium: one frequency, or one per mode with its shape
+    (modes pair with shapes by order: the longer a mode's equivalent length, the slower)."""
+    sway = r.get("sway_modes_hz") or [r["slow_frequency_hz"]]
+    if len(sway) == 1:
+        return "  slow sway: {:.3f} Hz".format(sway[0])
+    parts = [f"{hz:.3f} Hz ({shape_words(shape)})" for hz, shape in zip(sway, shapes)]
+    return "  sway modes: " + "; ".join(parts)
+
+
 def _window_text(window, ends, fmt, down, up) -> str:
     if window is None:
         return "none (not stable here)"
@@ -26,12 +50,12 @@ def _window_text(window, ends, fmt, down, up) -> str:
     return (f"{fmt(lo)} ({lo_kind}, {down:.1f}% below) to {fmt(hi)} ({hi_kind}, {up:.1f}% above)")
 
 
-def equilibrium_lines(name: str, r: dict) -> list[str]:
+def equilibrium_lines(name: str, r: dict, shapes=((1.0,),)) -> list[str]:
     lines = [f"{_NAMES[name]}: {'STABLE' if r['stable'] else 'UNSTABLE'}"
              f"  (largest Floquet multiplier {r['max_multiplier']:.6f}; stable below 1)"]
     if r["stable"]:
         m, e = r["margins_percent"], r["window_ends"]
-        lines.append("  slow sway: {:.3f} Hz".format(r["slow_frequency_hz"]))
+        lines.append(_sway_text(r, shapes))
         lines.append("  speed window: " + _window_text(
             r["speed_window_rpm"], (e["speed_low"], e["speed_high"]), _rpm,
             m["speed_down"], m["speed_up"]))
@@ -62,18 +86,26 @@ def report_text(result: dict, warnings=()) -> str:
                f"({result['peak_accel_g']:.1f} g)")
     out.append("")
     for name in ("inverted", "hanging"):
-        out.extend(equilibrium_lines(name, result[name]))
+        out.extend(equilibrium_lines(name, result[name], result["modes"]["shapes"]))
         out.append("")
     out.append("Closed-form estimates (Kapitza's averaging; a guide, not the exact answer):")
-    out.append(f"  equivalent pendulum length l_eq: {est['l_eq_m'] * 1000:.1f} mm")
+    lengths = est["mode_lengths_m"]
+    out.append(f"  equivalent pendulum length l_eq{' (links held in line)' if len(lengths) > 1 else ''}"
+               f": {est['l_eq_m'] * 1000:.1f} mm")
+    if len(lengths) > 1:
+        out.extend(f"  mode {k + 1}: equivalent length {length * 1000:.1f} mm, "
+                   f"{shape_words(shape)}"
+                   for k, (length, shape) in enumerate(zip(lengths, result["modes"]["shapes"])))
+    binds = (lambda mode: f" (mode {mode} binds)" if len(lengths) > 1 else "")
     out.append(f"  inverted needs more than about {_rpm(est['kapitza_min_speed_rpm'])} at this "
-               "stroke (exact edge: " + _edge_text(result["inverted"]) + ")")
+               "stroke" + binds(est["min_speed_mode"]) + " (exact edge: "
+               + _edge_text(result["inverted"]) + ")")
     inv = est["inverted_slow_frequency_hz"]
     out.append("  inverted slow sway about " + (f"{inv:.3f} Hz" if inv else "none (estimate: "
                                                 "unstable)")
                + f"; hanging about {est['hanging_slow_frequency_hz']:.3f} Hz")
     out.append(f"  inverted lost above a stroke of about {_mm(est['max_stroke_estimate_m'])} "
-               "at any speed")
+               "at any speed" + binds(est["max_stroke_mode"]))
     if est["effective_barrier_J"] > 0:
         out.append(f"  knock it survives, about {est['knock_estimate_rad_s']:.2f} rad/s; release "
                    f"angle about {math.degrees(est['release_angle_estimate_rad']):.0f} deg")
