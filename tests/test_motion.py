@@ -369,7 +369,7 @@ def test_cli_simulate_frames_match_solve_ivp(tmp_path, monkeypatch, capsys):
     (["--duration=-1s"], "--duration", "above 0"),
     (["--angle", "3 parsecs"], "--angle", "parsecs"),
     (["--set", "1s:1deg,2deg"], "--set", "1 comma-separated"),
-    (["--speed-table", "/nonexistent.csv"], "--speed-table", "cannot read"),
+    (["--speed-table", "/nonexistent.csv"], "--speed-table", "cannot be read"),
 ], ids=lambda v: v if isinstance(v, str) else " ".join(v))
 def test_cli_bad_options_are_named(monkeypatch, capsys, argv, option, fragment):
     code = run_cli(monkeypatch, ["simulate"] + argv)

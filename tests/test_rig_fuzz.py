@@ -15,7 +15,10 @@ from hypothesis import strategies as st
 import refsolvers as ref
 import shakestill as ss
 
-PATH = re.compile(r"^[A-Za-z_][A-Za-z0-9_]*(\[\d+\])?(\.[A-Za-z_][A-Za-z0-9_]*(\[\d+\])?)*$")
+# a JSON path: names joined by dots, each with list indexes [3] or, for a key that is not a
+# plain name, the key quoted as JSON ["2 x"] (nested lists and odd keys need both)
+_INDEX = r'(\[\d+\]|\["(?:[^"\\]|\\.)*"\])'
+PATH = re.compile(rf"^([A-Za-z_][A-Za-z0-9_]*|{_INDEX}){_INDEX}*(\.[A-Za-z_][A-Za-z0-9_]*{_INDEX}*)*$")
 FUZZ = settings(max_examples=300, deadline=None, suppress_health_check=list(HealthCheck))
 
 json_values = st.recursive(

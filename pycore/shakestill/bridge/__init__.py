@@ -14,6 +14,7 @@ import traceback
 from ..commands import OPS
 from ..commands.common import problems_json
 from ..model.rig import RigError
+from ..model.safejson import loads_json
 from ..render.report import jsonable
 
 
@@ -35,10 +36,12 @@ def call(request: dict) -> dict:
 
 
 def handle(request_json: str) -> str:
-    try:
-        request = json.loads(request_json)
-    except (TypeError, ValueError) as exc:
-        reply = {"ok": False, "error": f"the request is not JSON: {exc}"}
+    """``call`` on a request's JSON text, read with bounds (depth, sizes, finite numbers)."""
+    if not isinstance(request_json, str):
+        reply = {"ok": False, "error": "the request is not JSON text"}
     else:
-        reply = call(request)
+        try:
+            reply = call(loads_json(request_json, "(request)"))
+        except RigError as exc:
+            reply = {"ok": False, "problems": problems_json(exc.problems)}
     return json.dumps(jsonable(reply), allow_nan=False)

@@ -11,6 +11,7 @@ from ..model import share
 from ..model.demo import demo_rig_dict
 from ..model.rig import Problem, RigError, with_operating_point
 from ..model.rigfile import dumps_rig, loads_rig, rig_from_dict
+from ..model.safejson import MAX_TEXT_CHARS, decode_text
 from ..model.units import UnitError, allowed_units, parse_quantity
 
 # ----------------------------------------------------------------------------- command line
@@ -24,13 +25,20 @@ def load_source(source: str | None):
         data, _ = share.decode(source)
         return rig_from_dict(data, with_warnings=True)
     if source == "-":
-        return loads_rig(sys.stdin.read(), with_warnings=True)
+        return loads_rig(decode_text(sys.stdin.buffer.read(), "(stdin)"), with_warnings=True)
+    return loads_rig(read_text(source, "(file)"), with_warnings=True)
+
+
+def read_text(path: str, where: str) -> str:
+    """A file's text (UTF-8, with or without a byte-order mark), or a RigError at ``where``."""
     try:
-        with open(source, encoding="utf-8") as fh:
-            text = fh.read()
+        with open(path, "rb") as fh:
+            data = fh.read(MAX_TEXT_CHARS * 4 + 1)
     except OSError as exc:
-        raise RigError([Problem("(file)", f"cannot read {source!r}: {exc.strerror}")]) from None
-    return loads_rig(text, with_warnings=True)
+        raise RigError([Problem(where, f"{path!r} cannot be read: {exc.strerror}")]) from None
+    if len(data) > MAX_TEXT_CHARS * 4:
+        raise RigError([Problem(where, f"{path!r} is far too large to be read here")])
+    return decode_text(data, where)
 
 
 def override(rig, args):

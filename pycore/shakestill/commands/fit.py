@@ -24,7 +24,7 @@ from ..model.safety import CAUTIONS
 from ..render.motion_report import fit_text
 from ..render.plots import fit_svg
 from ..render.report import jsonable
-from .common import problems_json, progress, rig_of, rig_of_args, write
+from .common import problems_json, progress, read_text, rig_of, rig_of_args, write
 from .motion import last_reply
 from .table import command, job_kind, op
 
@@ -51,12 +51,7 @@ def _fit_arguments(f) -> None:
 @command("fit", "fit damping, friction or inertia to a run logged on the rig", _fit_arguments)
 def _cmd_fit(args) -> int:
     rig, _ = rig_of_args(args)
-    try:
-        with open(args.log, encoding="utf-8-sig") as fh:
-            text = fh.read()
-    except OSError as exc:
-        raise RigError([Problem("--log", f"{args.log!r} cannot be read: {exc.strerror}")]) \
-            from None
+    text = read_text(args.log, "--log")
     if not 1 <= args.iterations <= 200:
         raise RigError([Problem("--iterations", f"{args.iterations!r} is not allowed: 1 to 200")])
     log = read_angle_log(text, rig.n_links, reference=args.zero)

@@ -5,6 +5,7 @@ with units) or from the command line's options (--knock 2s:3rad/s, --ramp 1s:2s:
 from __future__ import annotations
 
 import csv
+import io
 import math
 from dataclasses import replace
 
@@ -12,7 +13,7 @@ from ..model.rig import Problem, RigError
 from ..model.units import UnitError, parse_quantity
 from ..motion.scenario import Jump, Knock, Scenario
 from ..motion.speed import ramp_profile, table_profile
-from .common import Reader, bad, quantity
+from .common import Reader, bad, quantity, read_text
 
 # ----------------------------------------------------------------------------- bridge requests
 
@@ -184,12 +185,8 @@ def _profile(args, rig):
 
 def _read_table(path: str, table_profile):
     """A CSV of time, speed rows (a header row is skipped); cells may carry units."""
-    try:
-        with open(path, encoding="utf-8", newline="") as fh:
-            rows = [r for r in csv.reader(fh) if r and any(c.strip() for c in r)]
-    except OSError as exc:
-        raise RigError([Problem("--speed-table", f"cannot read {path!r}: {exc.strerror}")]) \
-            from None
+    text = read_text(path, "--speed-table")
+    rows = [r for r in csv.reader(io.StringIO(text, newline="")) if r and any(c.strip() for c in r)]
     times, speeds = [], []
     for k, row in enumerate(rows):
         try:

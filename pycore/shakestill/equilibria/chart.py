@@ -16,10 +16,11 @@ from dataclasses import dataclass
 from typing import Iterator
 
 from ..model import drive as drv
-from .lines import PHASE_STEP, Edge, Probe, edge_between, scan_settings, speed_points, walk
+from .lines import PHASE_STEP, Probe, edge_between, scan_settings, speed_points, walk
 from ..model.linear import EQUILIBRIA
 from ..model.properties import properties
-from ..model.rig import Rig, max_stroke_m, with_operating_point
+from ..model.rig import OutOfReach, Problem, Rig, max_stroke_m, with_operating_point
+from .reach import floor_words, scan_floor_rpm
 
 COARSE_EVERY = 8  # first pass walks every 8th row whole; the rest follow their edges
 CHART_SPEED_STEP = 0.1  # relative speed step of a whole-row walk (peaks are still searched)
@@ -95,8 +96,7 @@ def stroke_for_peak_accel(rig: Rig, accel_m_s2: float, speed_rpm: float) -> floa
 
 def _row_line(rig: Rig, y_axis: str, y: float):
     """(point(x) -> (speed, stroke), speed_min, speed_max) for a row, or None if empty."""
-    lo, hi = rig.limits.speed_rpm
-    lo = max(lo, 1e-6)
+    lo, hi = speed_range(rig)
     if y_axis == "stroke":
         return (lambda x: (x, y)), lo, hi
     top = max_stroke_m(rig)
@@ -177,6 +177,17 @@ def _follow(probe: Probe, lo: float, hi: float, s0, prediction):
     return tuple(found)
 
 
+def speed_range(rig: Rig) -> tuple[float, float]:
+    """The chart's speeds: the rig's limits, from no lower than the slowest speed the
+    stability scans resolve (module ``reach``)."""
+    lo, hi = rig.limits.speed_rpm
+    floor = scan_floor_rpm(rig)
+    if floor >= hi:
+        raise OutOfReach([Problem("limits.speed_rpm", f"{[lo, hi]} rpm is outside what this "
+                                  f"method can resolve: {floor_words(rig)}")])
+    return max(lo, 1e-6, floor), hi
+
+
 def _y_range(rig: Rig, y_axis: str) -> tuple[float, float]:
     top = max_stroke_m(rig)
     if y_axis == "stroke":
@@ -233,7 +244,7 @@ def chart_steps(rig: Rig, *, rows: int | None = None, y_axis: str = "stroke",
             raise ValueError(f"equilibria: {eq!r} is not one of {EQUILIBRIA}")
     y0, y1 = _y_range(rig, y_axis)
     ys = [y0 + (y1 - y0) * j / (rows - 1) for j in range(rows)]
-    lo, hi = rig.limits.speed_rpm
+    lo, hi = speed_range(rig)
     done: dict[int, Row] = {}
     total = 0
     notes = ("coarse rows are walked whole (a scan every {:g}% of speed or {:g} of a tongue "
@@ -243,6 +254,9 @@ def chart_steps(rig: Rig, *, rows: int | None = None, y_axis: str = "stroke",
              "feature that starts and ends between two coarse rows ({:.3g} of the y range) "
              "is not seen".format(100 * CHART_SPEED_STEP, PHASE_STEP, CHART_RTOL,
                                   COARSE_EVERY / (rows - 1)),)
+    if lo > max(rig.limits.speed_rpm[0], 1e-6):
+        notes += (f"the chart starts at {lo:.4g} rpm, above the rig's lowest speed: "
+                  + floor_words(rig),)
     order = _row_order(rows)
     coarse = sorted(order[:len(set(range(0, rows, COARSE_EVERY)) | {rows - 1})])
 

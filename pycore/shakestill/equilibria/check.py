@@ -12,6 +12,7 @@ from ..model.linear import EQUILIBRIA
 from ..model.modes import modes
 from ..model.properties import properties
 from ..model.rig import Rig
+from .reach import require_in_reach
 from .windows import window
 
 G0 = 9.80665  # m/s^2 per "g" of acceleration (standard gravity)
@@ -66,6 +67,7 @@ def _end_kind(value, is_edge: bool) -> str | None:
 
 def check(rig: Rig) -> dict:
     """The operating check of a rig at its own speed and stroke."""
+    require_in_reach(rig)
     peak = drv.peak_accel_m_s2(rig.drive)
     props = properties(rig)
     result = {

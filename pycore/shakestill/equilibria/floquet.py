@@ -18,8 +18,8 @@ from ..model import drive as drv
 from ..numerics.hill import default_truncation, hill_trace, multipliers_from_trace
 from ..numerics.linalg import eigvals, inverse, matmul
 from ..model.linear import EQUILIBRIA, linearise
-from ..model.rig import Rig, with_operating_point
-from ..numerics.rk import N_STAGES, STAGE_NODES, fundamental_matrix
+from ..model.rig import OutOfReach, Problem, Rig, with_operating_point
+from ..numerics.rk import STAGE_NODES, fundamental_matrix
 
 UNDAMPED_TOLERANCE = 1e-9  # |rho| <= 1 + this counts as on the unit circle (undamped)
 CONVERGENCE_TOLERANCE = 1e-8  # accepted change of the multipliers under refinement
@@ -294,8 +294,13 @@ def stability(rig: Rig, equilibrium: str, speed_rpm: float | None = None,
     settings = settings or Settings()
     if settings.method not in (None, "hill", "monodromy"):
         raise ValueError(f"settings.method: {settings.method!r} is not 'hill' or 'monodromy'")
-    if rig.n_links == 1 and settings.method == "monodromy" and not verify:
-        return _rk_trace_stability(rig, equilibrium, settings)
-    if rig.n_links == 1:
-        return _hill_stability(rig, equilibrium, settings, verify)
-    return _rk_stability(rig, equilibrium, settings, verify)
+    try:
+        if rig.n_links == 1 and settings.method == "monodromy" and not verify:
+            return _rk_trace_stability(rig, equilibrium, settings)
+        if rig.n_links == 1:
+            return _hill_stability(rig, equilibrium, settings, verify)
+        return _rk_stability(rig, equilibrium, settings, verify)
+    except ArithmeticError as exc:  # eigenvalues that did not converge, an overflow
+        raise OutOfReach([Problem("links", f"outside what this method can resolve at "
+                                           f"{rig.drive.speed_rpm:g} rpm and a stroke of "
+                                           f"{rig.drive.stroke_m:g} m: {exc}")]) from None

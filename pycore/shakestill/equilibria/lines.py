@@ -19,6 +19,7 @@ from ..numerics.hill import default_truncation, needed_harmonics
 from ..model.properties import properties
 from ..model.rig import Rig
 from ..numerics.roots import brentq, golden_max
+from .reach import MAX_EVALUATIONS, too_much_work
 
 EDGE_RTOL = 1e-10  # edges to this relative precision
 PHASE_STEP = 0.08  # scan spacing in sqrt(|theta0|) ~ 2 f0 / f (tongue n sits near n)
@@ -86,6 +87,8 @@ class Probe:
 
     def __call__(self, x: float) -> Stability:
         self.count += 1
+        if self.count > MAX_EVALUATIONS:
+            raise too_much_work("limits.speed_rpm", MAX_EVALUATIONS)
         speed, stroke = self.point(x)
         return stability(self.rig, self.equilibrium, speed_rpm=speed, stroke_m=stroke,
                          settings=self.settings, verify=False)

@@ -22,6 +22,7 @@ from .floquet import stability
 from .lines import Probe, scan_settings, speed_points, walk
 from ..model.linear import EQUILIBRIA
 from ..model.rig import Rig, with_operating_point
+from .reach import scan_floor_rpm
 
 GAUSS_POINTS = 20  # per interval, after the cosine map that absorbs sqrt edge behaviour
 LOW_ACCEL_FRACTION = 0.05  # below this peak pivot acceleration (in g) nothing is assumed to grow
@@ -134,7 +135,7 @@ def crossings(rig: Rig, equilibrium: str, start_rpm: float, end_rpm: float, rate
               factor: float = DEFAULT_FACTOR) -> tuple[list[Crossing], int]:
     """Unstable intervals met between two speeds at the operating stroke, and evaluations."""
     lo, hi = sorted((start_rpm, end_rpm))
-    lo = max(lo, low_speed_floor(rig))
+    lo = max(lo, low_speed_floor(rig), scan_floor_rpm(rig))
     if lo >= hi:
         return [], 0
     stroke = rig.drive.stroke_m

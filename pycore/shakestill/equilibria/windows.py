@@ -12,6 +12,7 @@ from .floquet import Stability
 from .lines import (PHASE_STEP, SPEED_STEP, STROKE_POINTS, Probe, scan_settings, speed_points,
                     stroke_points, walk)
 from ..model.rig import Rig, max_stroke_m, with_operating_point
+from .reach import floor_words, scan_floor_rpm
 
 
 @dataclass(frozen=True)
@@ -43,8 +44,13 @@ def window(rig: Rig, equilibrium: str, axis: str, s0: Stability | None = None) -
     if axis not in ("speed", "stroke"):
         raise ValueError(f"axis: {axis!r} is not 'speed' or 'stroke'")
     speed, stroke = rig.drive.speed_rpm, rig.drive.stroke_m
+    note = ""
     if axis == "speed":
         lo, hi = max(rig.limits.speed_rpm[0], 1e-6), rig.limits.speed_rpm[1]
+        if lo < scan_floor_rpm(rig) < hi:  # slower scans would not end in reasonable time
+            lo = scan_floor_rpm(rig)
+            note = "the speed window stops at the slowest speed this method resolves: " + \
+                floor_words(rig)
         here = speed
         corners = [with_operating_point(rig, speed_rpm=v) for v in (lo, hi)]
 
@@ -73,4 +79,5 @@ def window(rig: Rig, equilibrium: str, axis: str, s0: Stability | None = None) -
     resolution = (f"scanned every {100 * SPEED_STEP:g}% of speed or {PHASE_STEP:g} of a tongue "
                   "spacing, each local peak searched" if axis == "speed" else
                   f"scanned {STROKE_POINTS} strokes across the range, each local peak searched")
-    return Window(axis, low, high, low_edge, high_edge, probe.count, resolution)
+    return Window(axis, low, high, low_edge, high_edge, probe.count, resolution,
+                  note if low == lo and not low_edge else "")

@@ -38,6 +38,7 @@ FD_STEP = 1e-5  # forward-difference step, relative to max(1, |scaled value|)
 MAX_ITERATIONS = 30
 GRADIENT_TOL = 1e-8  # stop when the scaled gradient is this small against the cost
 STEP_TOL = 1e-7  # stop when a step changes the scaled numbers by less than this (relative)
+MIN_SWING_RAD = 1e-4  # a log moving less than this (0.006 deg) shows no dynamics to fit
 COST_TOL = 1e-10  # stop when an accepted step lowers the cost by less than this (relative)
 
 
@@ -188,6 +189,11 @@ def fit_steps(rig: Rig, log: AngleLog, parameters: Sequence[str], *,
                          f"{rig.n_links} link(s)")
     if not 1 <= max_iterations <= 200:
         raise ValueError(f"max_iterations: {max_iterations!r} must be from 1 to 200")
+    swing = max(max(q[i] for q in log.angles_rad) - min(q[i] for q in log.angles_rad)
+                for i in range(rig.n_links))
+    if swing < MIN_SWING_RAD:
+        raise ValueError(f"log: the logged angles move by {math.degrees(swing):.2g} deg at most: "
+                         "a log with no motion cannot tell damping, friction or inertia")
     scales = _scales(rig, paths)
     model = _Model(rig, log, paths, scales)
     start = [_get(rig, p) for p in paths]
@@ -273,6 +279,17 @@ def fit_steps(rig: Rig, log: AngleLog, parameters: Sequence[str], *,
         message = f"stopped after {max_iterations} iterations before the fit settled"
     values, q0, w0 = model.unpack(x)
     errors = _std_errors(jac, r, scales + [1.0] * (p - k), p) if jac else [math.nan] * p
+    unknown = [path for path, e in zip(paths, errors) if not math.isfinite(e)]
+    at_bound = [path for path, v, e in zip(paths, values, errors)
+                if v == 0.0 and math.isfinite(e) and e > 0.0]
+    if converged and unknown:
+        converged = False
+        message = (f"the log does not determine {', '.join(unknown)} (the fit's normal matrix "
+                   "is singular): fit fewer numbers or log a run that shows them")
+    elif converged and at_bound:
+        converged = False
+        message = (f"{', '.join(at_bound)} settled at its bound 0: the log does not show it; "
+                   "leave it out of the fit")
     fitted = with_values(rig, paths, values)
     model_angles = model.angles(x)
     m = len(r)

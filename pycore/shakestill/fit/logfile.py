@@ -27,6 +27,7 @@ from ..model.rig import Problem, RigError
 MAX_ROWS = 200_000  # a log longer than this is cut down before fitting, not read
 MAX_PROBLEMS = 20  # a broken file is reported by its first problems
 MAX_JITTER = 0.25  # largest deviation of a sample time from the even grid, in steps
+MAX_ANGLE_RAD = 200 * math.pi  # 100 turns: a pendulum that went over the top for a while
 _UNITS = {
     "time": {"s": 1.0, "ms": 1e-3},
     "angle": {"rad": 1.0, "deg": math.pi / 180.0},
@@ -134,6 +135,10 @@ def read_angle_log(text: str, n_links: int, *, reference: str = "hanging") -> An
             if not math.isfinite(value):
                 problems.append(Problem(f"log[{n}].{header[j]}", f"{cell!r} is not a finite "
                                                                  "number"))
+            elif col[0] == "angle" and abs(value) > MAX_ANGLE_RAD:
+                problems.append(Problem(f"log[{n}].{header[j]}", f"{cell!r} is not allowed: "
+                                        f"angles beyond {MAX_ANGLE_RAD / (2 * math.pi):g} turns "
+                                        "are not a logged swing (check the unit)"))
             row.append(value)
         table.append(row)
         if len(problems) >= MAX_PROBLEMS:

@@ -7,7 +7,7 @@ from dataclasses import dataclass
 
 from ..numerics.linalg import eigvals, inverse, matmul
 from .linear import chain
-from .rig import Rig
+from .rig import OutOfReach, Problem, Rig
 
 
 @dataclass(frozen=True)
@@ -36,7 +36,12 @@ def properties(rig: Rig) -> RigProperties:
     total = sum(ch.mass_kg)
     # Hanging: M q'' + g diag(a) q = 0, so omega^2 are the eigenvalues of g M^-1 diag(a).
     stiff = [[rig.g_m_s2 * ch.a_kg_m[i] if i == j else 0.0 for j in range(n)] for i in range(n)]
-    w2 = sorted(max(ev.real, 0.0) for ev in eigvals(matmul(inverse(ch.coupling), stiff)))
+    try:
+        w2 = sorted(max(ev.real, 0.0) for ev in eigvals(matmul(inverse(ch.coupling), stiff)))
+    except ArithmeticError as exc:
+        raise OutOfReach([Problem("links", f"outside what this method can resolve: the "
+                                           f"chain's own frequencies could not be found ({exc})")]
+                         ) from None
     return RigProperties(
         total_mass_kg=total,
         link_mass_kg=ch.mass_kg,

@@ -35,6 +35,11 @@ class RigError(ValueError):
         super().__init__("; ".join(str(p) for p in self.problems))
 
 
+class OutOfReach(RigError):
+    """The rig is outside what the methods can resolve; each problem names the field and
+    says why ("outside what this method can resolve: ...")."""
+
+
 @dataclass(frozen=True)
 class PointMass:
     mass_kg: float

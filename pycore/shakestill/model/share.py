@@ -14,6 +14,7 @@ import zlib
 
 from .rig import Problem, RigError
 from .rigfile import rig_from_dict, rig_to_dict
+from .safejson import loads_json
 
 PREFIX = "s1."
 MAX_FRAGMENT = 200_000  # characters; a rig file is a few hundred bytes compressed
@@ -51,10 +52,11 @@ def decode(fragment: str) -> tuple[dict, dict]:
         raw = d.decompress(packed, MAX_INFLATED)
         if d.unconsumed_tail or not d.eof:
             raise ValueError("truncated or oversized")
-        payload = json.loads(raw.decode("utf-8"))
+        text = raw.decode("utf-8")
     except (binascii.Error, ValueError, zlib.error, UnicodeDecodeError):
         raise _refuse("this link is damaged or incomplete (its checksum or encoding does not "
                       "match); ask for the link again") from None
+    payload = loads_json(text, "(link)")  # bounded: depth, sizes, finite numbers by path
     if not isinstance(payload, dict) or not isinstance(payload.get("rig"), dict):
         raise _refuse("this link holds no rig")
     view = payload.get("view", {})

@@ -91,8 +91,13 @@ def parse_quantity(value: object, kind: str) -> float:
         raise ValueError(f"kind: unknown quantity kind {kind!r}")
     if isinstance(value, bool):
         raise UnitError("expected a number, got a true/false value")
-    if isinstance(value, (int, float)):
-        return float(value)
+    if isinstance(value, int):
+        try:
+            return float(value)
+        except OverflowError:
+            raise UnitError(f"a {len(str(abs(value)))}-digit number is far too large") from None
+    if isinstance(value, float):
+        return value
     if not isinstance(value, str):
         raise UnitError(f"expected a number, got {type(value).__name__}")
     match = _NUMBER.match(value)

@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import math
 
 from ..equilibria.chart import Chart, accel_lines, boundaries
 from ..model.rig import Rig

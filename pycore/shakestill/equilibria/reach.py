@@ -1,0 +1,43 @@
+"""What the stability methods can resolve, so that no rig makes them work without end.
+
+Scans along speed step through the parametric tongues, which crowd together as
+the drive slows (tongue n sits near a drive frequency of 2 f0 / n), and Hill's
+determinant needs more rows there; below about 2 f0 / MAX_TONGUE_ORDER a scan
+would take minutes and say nothing a technician can use (the pivot barely
+accelerates). Scans stop at that floor and say so; an operating point below it
+is refused with that message. A probe's evaluations are capped as a safety net.
+"""
+
+from __future__ import annotations
+
+from ..model.properties import properties
+from ..model.rig import OutOfReach, Problem, Rig
+
+MAX_TONGUE_ORDER = 50  # tongues a speed scan steps through below the drive, at most
+MAX_EVALUATIONS = 6000  # stability evaluations on one scan line (a rig inside the reach
+# needs a few hundred; this bounds any line to seconds)
+
+
+def scan_floor_rpm(rig: Rig) -> float:
+    """The slowest drive speed a stability scan resolves for this rig (rpm)."""
+    f0 = max(properties(rig).hanging_frequencies_hz)
+    return 2.0 * f0 / MAX_TONGUE_ORDER * 60.0
+
+
+def floor_words(rig: Rig) -> str:
+    f0 = max(properties(rig).hanging_frequencies_hz)
+    return (f"below {scan_floor_rpm(rig):.4g} rpm the pendulum's own frequency ({f0:.3g} Hz) is "
+            f"more than {MAX_TONGUE_ORDER // 2} times the drive's, too many parametric "
+            "resonances to resolve")
+
+
+def require_in_reach(rig: Rig) -> None:
+    """OutOfReach naming drive.speed_rpm when the operating speed is below the scan floor."""
+    if rig.drive.speed_rpm < scan_floor_rpm(rig):
+        raise OutOfReach([Problem("drive.speed_rpm", f"{rig.drive.speed_rpm:g} rpm is outside "
+                                  f"what this method can resolve: {floor_words(rig)}")])
+
+
+def too_much_work(where: str, count: int) -> OutOfReach:
+    return OutOfReach([Problem(where, f"outside what this method can resolve: the scan needed "
+                                      f"more than {count} stability evaluations")])

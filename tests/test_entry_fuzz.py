@@ -1,0 +1,76 @@
+"""A standing fuzz harness over the entry points (rig files through the CLI, share links,
+bridge requests, CSV logs): every damaged input is answered or refused cleanly (exit code
+0 or 2, or a reply with problems naming a path), never a traceback, never more than a few
+seconds. Fixed seed and a modest count so CI stays fast; bench/fuzz_long.py runs the long
+version and prints its counts. Common practice, no source."""
+
+from __future__ import annotations
+
+import json
+import random
+import time
+
+import pytest
+
+import fuzzcases as fc
+import shakestill as ss
+from shakestill import bridge, cli
+from shakestill.fit.logfile import read_angle_log
+from shakestill.model import share
+
+SEED = 20261204
+CASE_SECONDS = 10.0  # "never more than a few seconds per case", on a loaded 2-core machine
+
+
+@pytest.mark.parametrize("source", [fc.rig_text, fc.two_link_text], ids=["one link", "two links"])
+def test_damaged_rig_files_are_checked_or_refused_cleanly(tmp_path, capsys, source):
+    rnd = random.Random(SEED)
+    path = tmp_path / "rig.json"
+    codes = []
+    for _ in range(25):
+        path.write_bytes(fc.damage(source(), rnd))
+        start = time.perf_counter()
+        code = cli.main(["check", str(path), "--json"])
+        assert time.perf_counter() - start < CASE_SECONDS
+        err = capsys.readouterr().err
+        assert code in (0, 2), err
+        if code == 2:
+            assert "cannot go on" in err and ": " in err.splitlines()[1]
+        codes.append(code)
+    assert 2 in codes  # the harness does damage the files
+
+
+def test_damaged_share_links_are_decoded_or_refused_cleanly():
+    rnd = random.Random(SEED)
+    refused = 0
+    for _ in range(200):
+        link = fc.damaged_link(rnd)
+        try:
+            rig, view = share.decode(link)
+        except ss.RigError as exc:
+            refused += 1
+            assert all(p.path and p.message for p in exc.problems)
+        else:
+            assert isinstance(rig, dict) and isinstance(view, dict)
+    assert refused > 0
+
+
+def test_damaged_bridge_requests_get_a_reply_never_an_exception():
+    rnd = random.Random(SEED)
+    for _ in range(40):
+        text = fc.damage(json.dumps({"op": "validate", "rig": ss.demo_rig_dict()}).encode(), rnd)
+        reply = json.loads(bridge.handle(text.decode("utf-8", "replace")))
+        assert reply["ok"] in (True, False)
+        if not reply["ok"]:
+            assert reply.get("problems") or reply.get("error")
+            assert "trace" not in reply  # an internal fault would carry its trace
+
+
+def test_damaged_logs_are_read_or_refused_with_row_and_column():
+    rnd = random.Random(SEED)
+    for _ in range(200):
+        text = fc.damage(fc.log_text(), rnd).decode("utf-8", "replace")
+        try:
+            read_angle_log(text, 1)
+        except ss.RigError as exc:
+            assert all(p.path.startswith("log") for p in exc.problems), exc.problems
