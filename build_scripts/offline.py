@@ -40,6 +40,7 @@ TOP = Path(__file__).resolve().parent.parent
 HERE = Path(__file__).resolve().parent
 ESBUILD = TOP / "node_modules" / ".bin" / "esbuild"
 WORKER_BUNDLE = "worker-bundle.js"  # path of the bundled worker inside the archive
+WORKER_SOURCE = "engine/worker.js"  # the worker's module in the site (site/engine/worker-client.js)
 DATA_ELEMENT_ID = "shakestill-embedded"
 
 # Files the page uses through HTML or CSS become data: URLs; these are their kinds.
@@ -80,11 +81,11 @@ def esbuild(entry: Path, *options: str) -> str:
 
 
 def bundle_worker(site: Path, work: Path) -> bytes:
-    """offline_worker.js, site/worker.js and Pyodide's JavaScript as one ES module."""
+    """offline_worker.js, site/engine/worker.js and Pyodide's JavaScript as one ES module."""
     entry = work / "worker-entry.js"
     # offline_worker.js first: its message listener must see the files before worker.js does.
     entry.write_text("".join(f'import "{os.path.relpath(path, work)}";\n'
-                             for path in (HERE / "offline_worker.js", site / "worker.js")))
+                             for path in (HERE / "offline_worker.js", site / WORKER_SOURCE)))
     asm = os.path.relpath(site / "pyodide" / "pyodide.asm.mjs", TOP)
     code = esbuild(entry, "--format=esm", "--platform=browser", "--external:node:*", "--external:ws",
                    "--charset=ascii", f"--alias:shakestill-pyodide-asm=./{asm}")

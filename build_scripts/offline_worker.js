@@ -1,5 +1,5 @@
 // First module of the single file's worker bundle (offline.py bundles it with
-// site/worker.js and Pyodide). The worker runs from a data: URL, so it can
+// site/engine/worker.js and Pyodide). The worker runs from a data: URL, so it can
 // fetch nothing itself: the page posts it every embedded file first, and
 // this module answers every fetch from those bytes (nothing reaches the
 // network or the disk) and hands Pyodide its Emscripten module directly.
@@ -10,7 +10,7 @@ const files = new Promise((resolve) => {
   received = resolve;
 });
 
-// The page's files message comes first; site/worker.js never sees it.
+// The page's files message comes first; site/engine/worker.js never sees it.
 self.addEventListener("message", function first(event) {
   const data = event.data;
   if (!data || data.type !== "shakestill-embedded") return;

@@ -15,6 +15,13 @@ fi
 python -m pip install --quiet --upgrade pip
 python -m pip install --quiet -e ".[test]"
 
+# Node.js runs the Pyodide pass of the tests and the site's bundler; a fresh machine of this
+# project's kind has it, another one gets Debian's.
+if ! command -v node >/dev/null 2>&1 && command -v apt-get >/dev/null 2>&1; then
+  apt-get update -qq
+  DEBIAN_FRONTEND=noninteractive apt-get install -y -qq nodejs npm >/dev/null
+fi
+
 if [ -f package.json ]; then
   if [ ! -d node_modules ] || [ package-lock.json -nt node_modules ]; then
     npm ci --no-audit --no-fund --loglevel=error

@@ -1,32 +1,37 @@
-// Shakestill page: wires the rig sheet, the engine worker, the verdict, the
-// sketch, share links, rig files and autosave. No physics here: every number
-// shown comes from the core through the worker.
+// Shakestill page, the composition root: the rig sheet and its draft (autosave, the
+// previous rig), the engine worker, and the panels (verdict, sketch, map, run-up, motion,
+// tolerance, loads, fit, toolbar) wired together. No physics here: every number shown
+// comes from the core through the worker. Each concern lives in its own module:
+// engine/ (worker, boot, offline copy), state/ (draft, storage, links, files),
+// panels/ (what the page shows), lib/ (DOM and trusted-types helpers).
 
-import { h, replaceChildren } from "./dom.js";
-import { draftFromRig, rigFromDraft } from "./draft.js";
-import { fileNameFor, download, readRigFile } from "./rig-file.js";
-import { createChartView } from "./chart-view.js";
-import { createFitView } from "./fit-view.js";
-import { createLoadsView } from "./loads-view.js";
-import { createMotionView } from "./motion-view.js";
-import { createReport } from "./report-view.js";
-import { createRigForm } from "./rig-form.js";
-import { createRunupView } from "./runup-view.js";
-import { showSchematic } from "./schematic-view.js";
-import { clearFragment, copyText, currentFragment, linkFor } from "./share.js";
-import { autosave } from "./storage.js";
-import { policy } from "./trusted.js";
-import { createToleranceView } from "./tolerance-view.js";
-import { Cancelled, EngineClient, startEngineWorker } from "./worker-client.js";
+import { h, replaceChildren } from "./lib/dom.js";
+import { policy } from "./lib/trusted.js";
+import { draftFromRig, rigFromDraft } from "./state/draft.js";
+import { clearFragment, currentFragment } from "./state/share.js";
+import { autosave } from "./state/storage.js";
+import { bootView } from "./engine/boot-view.js";
+import { registerServiceWorker } from "./engine/offline-copy.js";
+import { Cancelled, EngineClient, startEngineWorker } from "./engine/worker-client.js";
+import { createChartView } from "./panels/chart-view.js";
+import { createFitView } from "./panels/fit-view.js";
+import { createLoadsView } from "./panels/loads-view.js";
+import { createMotionView } from "./panels/motion-view.js";
+import { createNotices, sentence } from "./panels/notices.js";
+import { createReport } from "./panels/report-view.js";
+import { createRigForm } from "./panels/rig-form.js";
+import { createRunupView } from "./panels/runup-view.js";
+import { showSchematic } from "./panels/schematic-view.js";
+import { createToleranceView } from "./panels/tolerance-view.js";
+import { wireToolbar } from "./panels/toolbar.js";
 
 // Long enough to cover a burst of typing, short enough to feel immediate.
 const DEBOUNCE_MS = 250;
 // The map takes seconds of engine time: wait this long after the last edit before redrawing it.
 const CHART_DEBOUNCE_MS = 2500;
-// No start-up news for this long means the start has stalled (e.g. a blocked download).
-const STALLED_BOOT_MS = 60_000;
 
 const $ = (id) => document.getElementById(id);
+const { notice, hide: hideNotice, chip } = createNotices($);
 
 const state = {
   draft: null, // what the sheet holds: texts as typed
@@ -56,33 +61,6 @@ const form = createRigForm($("rig-sheet"), {
   },
 });
 $("rig-sheet").addEventListener("submit", (event) => event.preventDefault());
-
-// ---------------------------------------------------------------- notices
-
-/** The core's words as a sentence: capital first letter, full stop at the end. */
-function sentence(text) {
-  const t = String(text || "").trim();
-  if (!t) return "";
-  return t.charAt(0).toUpperCase() + t.slice(1) + (/[.!?]$/.test(t) ? "" : ".");
-}
-
-function notice(text, actions = []) {
-  $("notice-text").textContent = text;
-  replaceChildren($("notice-actions"),
-    actions.map(({ label, run }) => h("button", { type: "button", on: { click: () => { hideNotice(); run(); } } }, label)),
-    h("button", { type: "button", class: "quiet", on: { click: hideNotice } }, "Dismiss"));
-  $("notice").hidden = false;
-}
-
-function hideNotice() {
-  $("notice").hidden = true;
-}
-
-function chip(id, text, chipState) {
-  const node = $(id);
-  node.textContent = text;
-  node.dataset.state = chipState;
-}
 
 // ---------------------------------------------------------------- draft and autosave
 
@@ -127,48 +105,15 @@ function edited() {
 
 // ---------------------------------------------------------------- engine
 
-let stallTimer = 0;
-function watchBoot(stage) {
-  clearTimeout(stallTimer);
-  stallTimer = setTimeout(() => {
-    if (engine.state !== "starting") return;
-    $("boot-failed").hidden = false;
-    $("boot-failed-reason").textContent = `The engine has made no progress for a minute, at the step "${stage}".`;
-    $("boot-failed-advice").textContent = "Part of it may be blocked or very slow to download (a proxy or "
-      + "filter on managed networks can do this). Wait a little longer, or reload; after one complete "
-      + "visit the page works offline.";
-    chip("chip-engine", "Engine: stalled", "failed");
-  }, STALLED_BOOT_MS);
-}
-watchBoot("opening");
-
-const engine = new EngineClient(() => startEngineWorker(policy), {
-  onBoot: ({ stage, fraction }) => {
-    watchBoot(stage || "starting");
-    $("boot-stage").textContent = stage || "starting";
-    if (Number.isFinite(fraction)) $("boot-progress").value = fraction;
-    chip("chip-engine", `Engine: starting ${Math.round((fraction || 0) * 100)}%`, "starting");
-  },
-  onReady: (version) => {
-    clearTimeout(stallTimer);
-    $("boot").hidden = true;
-    $("boot-failed").hidden = true;
-    $("version").textContent = `engine ${version}`;
-    chip("chip-engine", `Engine: ready (${version})`, "ready");
-    engineReady();
-  },
-  onFail: (message, wasReady) => {
-    clearTimeout(stallTimer);
-    $("boot").hidden = true;
-    $("boot-failed").hidden = false;
-    $("boot-failed-reason").textContent = wasReady ? `The engine stopped: ${message}` : message;
-    $("boot-failed-advice").textContent = adviceFor(message);
-    chip("chip-engine", "Engine: not running", "failed");
+const engine = new EngineClient(() => startEngineWorker(policy), bootView($, chip, {
+  isStarting: () => engine.state === "starting",
+  ready: () => engineReady(),
+  failed: () => {
     report.unavailable();
     // A first visit has no rig yet (the demo comes from the engine): start a blank sheet to type into.
     if (!state.draft) useDraft(draftFromRig({}));
   },
-});
+}));
 
 const chart = createChartView({
   holder: $("stability-chart"),
@@ -275,24 +220,6 @@ function mapFollows(rig) {
   chart.stop();
   state.chartTimer = setTimeout(() => chart.draw(), state.mapDrawn ? CHART_DEBOUNCE_MS : 0);
   state.mapDrawn = true;
-}
-
-/** Plain advice for a failed start, from what the browser can and cannot do. */
-function adviceFor(message) {
-  if (typeof WebAssembly !== "object") {
-    return "This browser has WebAssembly switched off or missing (some managed laptops do this). "
-      + "Ask your IT department to allow WebAssembly for this page, or use another browser.";
-  }
-  if (typeof Worker !== "function") return "This browser cannot run background workers, which the engine needs.";
-  if (location.protocol === "file:") {
-    return "Opened from disk: use the file shakestill-offline.html, which is built to run from a file, "
-      + "or open the site's web address.";
-  }
-  if (/fetch|network|HTTP|load/i.test(message)) {
-    return "Part of the engine could not be downloaded. Check the connection and reload; "
-      + "after one complete visit the page also works offline.";
-  }
-  return "Reload the page. If it keeps failing, the browser's settings may block WebAssembly or workers.";
 }
 
 function schedule(delay) {
@@ -416,106 +343,13 @@ if (currentFragment()) notice("Opening the rig from the link once the engine has
 
 // ---------------------------------------------------------------- toolbar
 
-$("load-demo").addEventListener("click", () => loadDemo(true));
-
-$("save-file").addEventListener("click", async () => {
-  if (!state.draft) return;
-  const asTyped = rigFromDraft(state.draft);
-  const name = fileNameFor(state.draft.title);
-  let reply = null;
-  try {
-    reply = await engine.request("validate", { rig: asTyped });
-  } catch (err) {
-    if (err instanceof Cancelled) return;
-  }
-  if (reply && reply.ok) {
-    download(name, `${JSON.stringify(reply.rig, null, 2)}\n`);
-    notice(`Saved ${name} (all values in SI units).`);
-  } else {
-    download(name, `${JSON.stringify(asTyped, null, 2)}\n`);
-    notice(reply
-      ? `Saved ${name} as typed, with ${reply.problems ? reply.problems.length : "some"} problem(s) still marked; `
-        + "Shakestill points them out again when you open it."
-      : `Saved ${name} as typed; the engine has not checked it yet.`);
-  }
+wireToolbar($, {
+  engine, form, notice, replaceRig, loadDemo,
+  getDraft: () => state.draft,
+  getView: () => state.view,
 });
-
-$("open-file").addEventListener("change", async (event) => {
-  const file = event.target.files[0];
-  event.target.value = "";
-  if (!file) return;
-  const { rig, problem } = await readRigFile(file);
-  if (problem) notice(`${problem} Your rig is unchanged.`);
-  else replaceRig(rig, null, `Opened ${file.name}`);
-});
-
-$("copy-link").addEventListener("click", async () => {
-  if (!state.draft) return;
-  let reply;
-  try {
-    reply = await engine.request("share_encode", { rig: rigFromDraft(state.draft), view: state.view });
-  } catch (err) {
-    if (!(err instanceof Cancelled)) notice(`No link: ${err.message}`);
-    return;
-  }
-  if (!reply.ok) {
-    const why = reply.problems ? "fix the marked fields first." : reply.error;
-    if (reply.problems) form.showProblems(reply.problems);
-    notice(`No link yet: ${why}`);
-    return;
-  }
-  const link = linkFor(reply.fragment);
-  const box = $("share-box");
-  box.value = link;
-  const copied = await copyText(link, box);
-  notice(copied ? "Link copied. It holds the whole rig; nothing is sent to a server."
-    : "The link is selected in the box beside the button: copy it from there.");
-});
-
-$("print-report").addEventListener("click", () => window.print());
 
 // ---------------------------------------------------------------- offline copy
 
-async function registerServiceWorker() {
-  if (location.protocol === "file:") {
-    chip("chip-offline", "Offline: this file works without a network", "on");
-    return;
-  }
-  if (!("serviceWorker" in navigator)) {
-    chip("chip-offline", "Offline copy: not available in this browser", "off");
-    return;
-  }
-  try {
-    const registration = await navigator.serviceWorker.register(policy.createScriptURL(
-      new URL("sw.js", document.baseURI).href));
-    await navigator.serviceWorker.ready;
-    chip("chip-offline", "Offline copy: ready", "on");
-    document.documentElement.dataset.offline = "ready";
-    const offerUpdate = () => {
-      if (!registration.waiting || !navigator.serviceWorker.controller) return;
-      notice("A newer version of Shakestill is ready.", [{
-        label: "Reload to use it",
-        run: () => {
-          document.documentElement.dataset.updating = "yes";
-          registration.waiting.postMessage({ type: "skip-waiting" });
-        },
-      }]);
-    };
-    offerUpdate();
-    registration.addEventListener("updatefound", () => {
-      registration.installing?.addEventListener("statechange", offerUpdate);
-    });
-    let reloaded = false;
-    navigator.serviceWorker.addEventListener("controllerchange", () => {
-      if (reloaded || !document.documentElement.dataset.updating) return;
-      reloaded = true;
-      location.reload();
-    });
-  } catch (err) {
-    chip("chip-offline", "Offline copy: not available here", "off");
-    console.warn("service worker:", err);
-  }
-}
-
-registerServiceWorker();
+registerServiceWorker({ chip, notice, policy });
 window.addEventListener("pagehide", save);

@@ -1,4 +1,4 @@
-// Runs the built site's own worker (dist/site/worker.js) under Node.js and
+// Runs the built site's own worker (dist/site/engine/worker.js) under Node.js and
 // drives it with the worker message protocol, for tests/test_pyodide.py.
 //
 //   node tests/pyodide_run.mjs SITE_DIR < script.json
@@ -67,7 +67,7 @@ function finish(code) {
 
 // Pyodide under Node takes its folder as a path, not a file: URL.
 globalThis.shakestillHost = { pyodideOptions: { indexURL: resolve(site, "pyodide") + "/" } };
-await import(pathToFileURL(resolve(site, "worker.js")).href);
+await import(pathToFileURL(resolve(site, "engine", "worker.js")).href);
 const [first = [], ...later] = script.batches || [];
 send(first);
 const boot = await bootDone;

@@ -10,6 +10,7 @@ source: a layered architecture read off the import graph with ``ast``.
 from __future__ import annotations
 
 import ast
+import re
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parents[1] / "pycore" / "shakestill"
@@ -128,3 +129,27 @@ def test_the_engine_and_its_package_carry_one_version():
     import shakestill as ss
     project = tomllib.loads((ROOT.parents[1] / "pyproject.toml").read_text())["project"]
     assert ss.__version__ == project["version"]
+
+
+SITE = ROOT.parents[1] / "site"
+SITE_ROOMS = {"lib": 0, "state": 1, "engine": 1, "panels": 2, "": 3}  # "": app.js at the top
+IMPORT = re.compile(r'\bfrom\s+"(\.{1,2}/[^"]+)"')
+
+
+def test_the_page_modules_import_only_from_rooms_below_or_their_own():
+    """site/: app.js -> panels -> engine, state -> lib; state and engine never import each
+    other, so the page's plumbing and its memory stay apart."""
+    wrong = []
+    for path in SITE.rglob("*.js"):
+        if path.name == "sw-template.js":
+            continue
+        room = path.parent.relative_to(SITE).as_posix().replace(".", "")
+        for ref in IMPORT.findall(path.read_text()):
+            target = (path.parent / ref).resolve().relative_to(SITE.resolve())
+            if target.parts[0] == "pyodide":
+                continue
+            theirs = target.parent.as_posix().replace(".", "")
+            if SITE_ROOMS[theirs] > SITE_ROOMS[room] or (
+                    theirs != room and SITE_ROOMS[theirs] == SITE_ROOMS[room]):
+                wrong.append(f"{path.relative_to(SITE)} -> {target}")
+    assert wrong == []

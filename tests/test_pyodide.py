@@ -2,7 +2,7 @@
 
 Builds the site (Pyodide core, pinned wheels, the core's wheel, the rewritten
 lock file) into a temporary folder, runs the site's own worker
-(site/worker.js) under Node.js through tests/pyodide_run.mjs (the worker
+(site/engine/worker.js) under Node.js through tests/pyodide_run.mjs (the worker
 loads micropip and packaging from the lock, then micropip installs the core
 from its local wheel, hash in the lock), and drives it with the worker
 message protocol. Every bridge reply is compared field by field with
@@ -22,6 +22,8 @@ import tomllib
 from pathlib import Path
 
 import pytest
+
+from prereq import missing
 
 TOP = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(TOP / "build_scripts"))
@@ -50,7 +52,7 @@ TWO_LINK = {
 def _node() -> str:
     node = shutil.which("node")
     if node is None:
-        pytest.skip("node is not on PATH: the Pyodide pass runs the core under Node.js "
+        missing("node is not on PATH: the Pyodide pass runs the core under Node.js "
                     f"{NODE_MIN_MAJOR} or newer (Debian package nodejs)")
     version = subprocess.run([node, "--version"], capture_output=True, text=True, check=True).stdout
     major = int(re.match(r"v(\d+)", version).group(1))

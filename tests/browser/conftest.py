@@ -9,19 +9,12 @@ tests locally with the reason; with CI=true they fail instead.
 from __future__ import annotations
 
 import importlib.util
-import os
 from pathlib import Path
 
 import pytest
 
 from pagekit import CHROMIUM, CHROMIUM_ARGS, LAPTOP, OFFLINE, SITE, TOP
-
-
-def missing(reason: str):
-    """Skip locally; fail under CI, where every prerequisite must be present."""
-    if os.environ.get("CI") == "true":
-        pytest.fail(f"missing prerequisite under CI: {reason}", pytrace=False)
-    pytest.skip(reason)
+from prereq import missing
 
 
 def _serve_module():

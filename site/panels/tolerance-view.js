@@ -3,8 +3,8 @@
 // shown beside Kapitza's closed-form estimate, labelled as an estimate; the
 // map is the core's SVG, redrawn after every step as it fills in.
 
-import { h, replaceChildren } from "./dom.js";
-import { Runner, busyMark, failedWords, num, statusLine } from "./motion-job.js";
+import { h, replaceChildren } from "../lib/dom.js";
+import { Runner, busyMark, failedWords, num, statusLine } from "../engine/motion-job.js";
 import { svgNode } from "./schematic-view.js";
 
 const DEG = 180 / Math.PI; // display only: the core gives radians and degrees alike

@@ -3,7 +3,7 @@
 // act on. The element carries that JSON in data-result, replaced with every
 // new result; a bad edit keeps the old result on view, marked stale.
 
-import { h, replaceChildren } from "./dom.js";
+import { h, replaceChildren } from "../lib/dom.js";
 
 /** A number for reading: 4 significant figures, no trailing zeros. */
 export function num(x, digits = 4) {

@@ -5,10 +5,10 @@
 // whether it settled, its plot and its words. "Use the fitted numbers" hands the
 // core's fitted rig to the page's replace-with-undo path.
 
-import { h, replaceChildren } from "./dom.js";
-import { LINK_UNITS } from "./draft.js";
-import { Runner, busyMark, failedWords, num, statusLine } from "./motion-job.js";
-import { LINK_FIELDS } from "./rig-fields.js";
+import { h, replaceChildren } from "../lib/dom.js";
+import { LINK_UNITS } from "../state/draft.js";
+import { Runner, busyMark, failedWords, num, statusLine } from "../engine/motion-job.js";
+import { LINK_FIELDS } from "../state/rig-fields.js";
 import { svgNode } from "./schematic-view.js";
 
 const DEG = 180 / Math.PI; // display only: the core's misfit is in radians

@@ -2,15 +2,15 @@
 // back into the draft, and shows the core's problems and warnings beside the
 // field whose JSON path they name (aria-describedby), never in an alert.
 
-import { h, replaceChildren, slug } from "./dom.js";
+import { h, replaceChildren, slug } from "../lib/dom.js";
 import {
   MAX_LINKS, WAVEFORMS, addLink, addPointMass, driveFieldUsed, getPath, parentPath, removeLink,
   removePointMass, setPath,
-} from "./draft.js";
+} from "../state/draft.js";
 import {
   DRIVE_FIELDS, GENERAL_FIELDS, LIMIT_FIELDS, LINK_FIELDS, MASS_FIELDS, WAVEFORM_NAMES,
   describePath,
-} from "./rig-fields.js";
+} from "../state/rig-fields.js";
 
 const TEXT_INPUT = {
   type: "text", autocomplete: "off", spellcheck: "false", autocapitalize: "off",

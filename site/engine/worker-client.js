@@ -1,4 +1,4 @@
-// Talks to the engine worker (site/worker.js) by the worker message protocol in
+// Talks to the engine worker (site/engine/worker.js) by the worker message protocol in
 // DEVELOPERS.md. Requests on the same channel supersede each other: a new one
 // cancels the one before, whose late reply is dropped. Requests made before
 // the worker is ready wait here and go out when it is.
@@ -10,9 +10,12 @@ export class Cancelled extends Error {
   }
 }
 
+/** Where the worker's module sits, from the page (build_scripts/offline.py bundles the same). */
+export const WORKER_PATH = "engine/worker.js";
+
 /** Start the engine worker (a module worker; the single-file build swaps in its own). */
 export function startEngineWorker(policy) {
-  const url = new URL("worker.js", document.baseURI).href;
+  const url = new URL(WORKER_PATH, document.baseURI).href;
   return new Worker(policy.createScriptURL(url), { type: "module", name: "shakestill-engine" });
 }
 

@@ -13,7 +13,7 @@
 // {type: "boot-failed", message}, {id, type: "progress", fraction, message},
 // {id, type: "result", reply}, {id, type: "error", message}.
 
-import { loadPyodide } from "./pyodide/pyodide.mjs";
+import { loadPyodide } from "../pyodide/pyodide.mjs";
 
 // Pyodide packages loaded from the shipped lock file before the core.
 const PACKAGES = ["micropip", "packaging"];
@@ -83,7 +83,7 @@ async function boot() {
     stage("unpacking the embedded files", 0);
     base = new URL(await step("unpack the files embedded in the page", () => host.prepare()));
   } else {
-    base = new URL("./", import.meta.url);
+    base = new URL("../", import.meta.url);  // this module sits in engine/
   }
   const info = await step("read build-info.json", async () => {
     const response = await fetch(new URL("build-info.json", base));

@@ -6,9 +6,9 @@
 // drive speed shown is the core's for the frame on show, and a knock re-runs
 // the simulation in the core with the knock added at the time on show.
 
-import { h, replaceChildren } from "./dom.js";
+import { h, replaceChildren } from "../lib/dom.js";
 import { createAnimation, frameIndex } from "./animation.js";
-import { Runner, busyMark, num, statusLine, withUnit } from "./motion-job.js";
+import { Runner, busyMark, num, statusLine, withUnit } from "../engine/motion-job.js";
 import { svgNode } from "./schematic-view.js";
 
 const FRAMES_PER_CYCLE = 24; // frames per drive cycle: slow motion shows each shake smoothly

@@ -2,8 +2,8 @@
 // at a given ramp rate (the core's `runup` op), told as what a technician
 // does about each one. Numbers come from the core; this file only words them.
 
-import { h, replaceChildren } from "./dom.js";
-import { Cancelled } from "./worker-client.js";
+import { h, replaceChildren } from "../lib/dom.js";
+import { Cancelled } from "../engine/worker-client.js";
 
 const NAMES = { inverted: "Inverted (upright)", hanging: "Hanging" };
 

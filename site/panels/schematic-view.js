@@ -1,7 +1,7 @@
 // The scale sketch: SVG drawn by the core's `schematic` op, inserted as SVG
 // nodes (DOMParser + importNode), never as HTML.
 
-import { policy } from "./trusted.js";
+import { policy } from "../lib/trusted.js";
 
 /** Parse the core's SVG text into a node ready to insert into this document. */
 export function svgNode(svgText, label) {

@@ -4,9 +4,9 @@
 // read-out (the `point` op) and moving the operating point, both through the
 // axis mapping the core returns with each picture. No physics here.
 
-import { h, replaceChildren } from "./dom.js";
+import { h, replaceChildren } from "../lib/dom.js";
 import { svgNode } from "./schematic-view.js";
-import { Cancelled } from "./worker-client.js";
+import { Cancelled } from "../engine/worker-client.js";
 
 const STEP_BUDGET_MS = 150; // one job step: short enough for a check to slip in between
 const POINT_THROTTLE_MS = 90; // read-out requests while the cursor moves

@@ -2,10 +2,10 @@
 // cycle, flags against the rig's limits) as a small table, the core's plot
 // and its words. Exceeded limits lead, in the page's warning style.
 
-import { h, replaceChildren } from "./dom.js";
-import { num } from "./motion-job.js";
+import { h, replaceChildren } from "../lib/dom.js";
+import { num } from "../engine/motion-job.js";
 import { svgNode } from "./schematic-view.js";
-import { Cancelled } from "./worker-client.js";
+import { Cancelled } from "../engine/worker-client.js";
 
 /** A mean that is rounding noise beside the peak reads as 0. */
 const small = (v, peak) => (Math.abs(v) < 1e-9 * Math.abs(peak) ? "0" : num(v, 3));

@@ -1,0 +1,73 @@
+// The toolbar: demo rig, rig files (save, open), the share link and print.
+
+import { rigFromDraft } from "../state/draft.js";
+import { download, fileNameFor, readRigFile } from "../state/rig-file.js";
+import { copyText, linkFor } from "../state/share.js";
+import { Cancelled } from "../engine/worker-client.js";
+
+/**
+ * Wire the toolbar's buttons. ``page`` gives: engine, getDraft(), getView(), form,
+ * notice(text, actions), replaceRig(rig, view, what), loadDemo(announce).
+ */
+export function wireToolbar($, page) {
+  const { engine, getDraft, getView, form, notice, replaceRig, loadDemo } = page;
+  $("load-demo").addEventListener("click", () => loadDemo(true));
+
+  $("save-file").addEventListener("click", async () => {
+    const draft = getDraft();
+    if (!draft) return;
+    const asTyped = rigFromDraft(draft);
+    const name = fileNameFor(draft.title);
+    let reply = null;
+    try {
+      reply = await engine.request("validate", { rig: asTyped });
+    } catch (err) {
+      if (err instanceof Cancelled) return;
+    }
+    if (reply && reply.ok) {
+      download(name, `${JSON.stringify(reply.rig, null, 2)}\n`);
+      notice(`Saved ${name} (all values in SI units).`);
+    } else {
+      download(name, `${JSON.stringify(asTyped, null, 2)}\n`);
+      notice(reply
+        ? `Saved ${name} as typed, with ${reply.problems ? reply.problems.length : "some"} problem(s) still marked; `
+          + "Shakestill points them out again when you open it."
+        : `Saved ${name} as typed; the engine has not checked it yet.`);
+    }
+  });
+
+  $("open-file").addEventListener("change", async (event) => {
+    const file = event.target.files[0];
+    event.target.value = "";
+    if (!file) return;
+    const { rig, problem } = await readRigFile(file);
+    if (problem) notice(`${problem} Your rig is unchanged.`);
+    else replaceRig(rig, null, `Opened ${file.name}`);
+  });
+
+  $("copy-link").addEventListener("click", async () => {
+    const draft = getDraft();
+    if (!draft) return;
+    let reply;
+    try {
+      reply = await engine.request("share_encode", { rig: rigFromDraft(draft), view: getView() });
+    } catch (err) {
+      if (!(err instanceof Cancelled)) notice(`No link: ${err.message}`);
+      return;
+    }
+    if (!reply.ok) {
+      const why = reply.problems ? "fix the marked fields first." : reply.error;
+      if (reply.problems) form.showProblems(reply.problems);
+      notice(`No link yet: ${why}`);
+      return;
+    }
+    const link = linkFor(reply.fragment);
+    const box = $("share-box");
+    box.value = link;
+    const copied = await copyText(link, box);
+    notice(copied ? "Link copied. It holds the whole rig; nothing is sent to a server."
+      : "The link is selected in the box beside the button: copy it from there.");
+  });
+
+  $("print-report").addEventListener("click", () => window.print());
+}
