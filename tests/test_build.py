@@ -191,7 +191,10 @@ def test_every_file_the_page_refers_to_is_shipped(dist):
     for script in [p for p in site.rglob("*.js") if "pyodide" not in p.parts]:
         for ref in JS_REFS.findall(script.read_text()):
             checked += 1
-            if not (script.parent / ref).resolve().is_file():
+            # "./x.js" is relative to the module; a bare name ("sw.js", "build-info.json")
+            # is resolved against the page or the site's base URL
+            base = script.parent if ref.startswith(".") else site
+            if not (base / ref).resolve().is_file():
                 missing.append(f"{script.relative_to(site)}: {ref}")
     for sheet in site.glob("*.css"):
         for ref in re.findall(r"url\(\s*['\"]?([^'\")]+)", sheet.read_text()):
