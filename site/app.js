@@ -8,6 +8,7 @@
 import { h, replaceChildren } from "./lib/dom.js";
 import { policy } from "./lib/trusted.js";
 import { draftFromRig, rigFromDraft } from "./state/draft.js";
+import { download } from "./state/rig-file.js";
 import { clearFragment, currentFragment } from "./state/share.js";
 import { autosave } from "./state/storage.js";
 import { bootView } from "./engine/boot-view.js";
@@ -105,15 +106,23 @@ function edited() {
 
 // ---------------------------------------------------------------- engine
 
-const engine = new EngineClient(() => startEngineWorker(policy), bootView($, chip, {
-  isStarting: () => engine.state === "starting",
-  ready: () => engineReady(),
-  failed: () => {
-    report.unavailable();
-    // A first visit has no rig yet (the demo comes from the engine): start a blank sheet to type into.
-    if (!state.draft) useDraft(draftFromRig({}));
+const engine = new EngineClient(() => startEngineWorker(policy), {
+  ...bootView($, chip, {
+    isStarting: () => engine.state === "starting",
+    ready: () => engineReady(),
+    failed: () => {
+      report.unavailable();
+      // A first visit has no rig yet (the demo comes from the engine): start a blank sheet to type into.
+      if (!state.draft) useDraft(draftFromRig({}));
+    },
+  }),
+  // Python died on one input: the rig on the sheet stays, and is checked again once ready.
+  onRestart: (op, message) => {
+    chip("chip-engine", "Engine: starting again", "starting");
+    notice(`The engine stopped on the ${op} request and is starting again; your rig is kept. `
+      + sentence(message));
   },
-}));
+});
 
 const chart = createChartView({
   holder: $("stability-chart"),
@@ -330,14 +339,30 @@ window.addEventListener("hashchange", () => {
   if (fragment && engine.state === "ready") openFragment(fragment);
 });
 
-const saved = autosave.load();
-if (saved) {
-  state.draft = saved.draft;
-  if (saved.view) state.view = { ...state.view, ...saved.view };
-  form.render();
-} else {
+/** The last session's rig; a damaged autosave is set aside (never overwritten) and offered. */
+function restoreAutosave() {
+  const saved = autosave.load();
+  if (saved) {
+    try {
+      rigFromDraft(saved.draft); // throws on a draft of the wrong shape
+      state.draft = saved.draft;
+      if (saved.view && typeof saved.view === "object") state.view = { ...state.view, ...saved.view };
+      form.render();
+      return;
+    } catch {
+      state.draft = null;
+      autosave.setAside(true);
+    }
+  } else if (!autosave.setAside()) {
+    replaceChildren($("rig-sheet"), h("p", { class: "empty" }, "The demo rig loads when the engine has started."));
+    return;
+  }
   replaceChildren($("rig-sheet"), h("p", { class: "empty" }, "The demo rig loads when the engine has started."));
+  notice("The rig saved in this browser last time could not be read (it is damaged), so the demo "
+    + "rig is shown instead. The damaged copy is kept: download it to look at it or send it to us.",
+  [{ label: "Download the damaged copy", run: () => download("shakestill-damaged-autosave.txt", autosave.damagedText()) }]);
 }
+restoreAutosave();
 if (!autosave.available()) chip("chip-autosave", "Autosave: off (this browser blocks storage; save a rig file)", "off");
 if (currentFragment()) notice("Opening the rig from the link once the engine has started.");
 

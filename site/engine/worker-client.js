@@ -10,6 +10,9 @@ export class Cancelled extends Error {
   }
 }
 
+// Fresh workers started after Python died on an input, before the client gives up.
+const MAX_RESTARTS = 3;
+
 /** Where the worker's module sits, from the page (build_scripts/offline.py bundles the same). */
 export const WORKER_PATH = "engine/worker.js";
 
@@ -24,14 +27,21 @@ export class EngineClient {
    * @param {() => Worker} startWorker  makes the worker (may throw: reported as a failed start)
    * @param {object} hooks  onBoot({stage, fraction}), onReady(version), onFail(message)
    */
-  constructor(startWorker, { onBoot = () => {}, onReady = () => {}, onFail = () => {} } = {}) {
-    this.hooks = { onBoot, onReady, onFail };
+  constructor(startWorker, { onBoot = () => {}, onReady = () => {}, onFail = () => {},
+    onRestart = () => {} } = {}) {
+    this.hooks = { onBoot, onReady, onFail, onRestart };
+    this.startWorker = startWorker;
     this.nextId = 1;
     this.pending = new Map(); // id -> {message, resolve, reject, onProgress, sent}
     this.channels = new Map(); // channel -> id of its live request
+    this.restarts = 0;
+    this.start();
+  }
+
+  start() {
     this.state = "starting";
     try {
-      this.worker = startWorker();
+      this.worker = this.startWorker();
     } catch (err) {
       this.fail(`the browser refused to start the engine: ${err.message || err}`);
       return;
@@ -44,6 +54,28 @@ export class EngineClient {
         : "the engine script could not be loaded or run");
     });
     this.worker.addEventListener("messageerror", () => this.fail("the engine sent a message that could not be read"));
+  }
+
+  /**
+   * Python died on one request (a fatal error in Pyodide): that request fails with the
+   * engine's words, the others wait, and a fresh worker starts; the page keeps its rig.
+   * More than MAX_RESTARTS deaths in one visit is a failure, not a loop.
+   */
+  restart(msg) {
+    const job = this.pending.get(msg.id);
+    if (job) {
+      this.settle(msg.id);
+      job.reject(new Error(`the engine stopped on this ${msg.op || "request"} and is starting again: ${msg.message}`));
+    }
+    this.worker.terminate();
+    if (this.restarts >= MAX_RESTARTS) {
+      this.fail(`the engine stopped again: ${msg.message}`);
+      return;
+    }
+    this.restarts += 1;
+    for (const waiting of this.pending.values()) waiting.sent = false;
+    this.hooks.onRestart(msg.op || "request", msg.message);
+    this.start();
   }
 
   fail(message) {
@@ -62,6 +94,9 @@ export class EngineClient {
     switch (msg.type) {
       case "boot":
         this.hooks.onBoot({ stage: msg.stage, fraction: msg.fraction });
+        return;
+      case "fatal":
+        this.restart(msg);
         return;
       case "ready":
         this.state = "ready";

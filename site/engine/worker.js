@@ -204,6 +204,15 @@ function pump() {
   }, 0);
 }
 
+/** Whether Python still answers after an error (a fatal error leaves it unusable). */
+function alive() {
+  try {
+    return JSON.parse(bridge.handle('{"op": "version"}')).ok === true;
+  } catch {
+    return false;
+  }
+}
+
 function run(request) {
   const { id, ...fields } = request;
   post({ id, type: "progress", fraction: 0, message: "started" });
@@ -211,7 +220,16 @@ function run(request) {
   try {
     reply = JSON.parse(bridge.handle(JSON.stringify(fields)));
   } catch (error) {
-    post({ id, type: "error", message: `The core failed on ${request.op}: ${describe(error)}` });
+    const message = `The core failed on ${request.op}: ${describe(error)}`;
+    if (alive()) {
+      post({ id, type: "error", message });
+    } else {
+      // Python itself died (a fatal error in Pyodide): nothing more can run in this worker.
+      // The page starts a fresh one and keeps the user's rig; see worker-client.js.
+      state = "failed";
+      failure = message;
+      post({ id, type: "fatal", op: request.op, message });
+    }
     return;
   }
   post({ id, type: "result", reply });

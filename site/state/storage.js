@@ -4,6 +4,8 @@
 
 const KEY = "shakestill.autosave.v1";
 const PREVIOUS = "shakestill.previous.v1";
+// An autosave that cannot be read is moved here, never overwritten: the user can download it.
+const DAMAGED = "shakestill.damaged.v1";
 
 function store() {
   try {
@@ -42,6 +44,29 @@ export const autosave = {
     return write(PREVIOUS, draft, view);
   },
   previous: () => read(PREVIOUS),
+  /**
+   * Move an autosave that cannot be used (unreadable, or ``force``: read but unusable) to
+   * the damaged slot before anything overwrites it; returns its text, or "" if none.
+   */
+  setAside(force = false) {
+    const s = store();
+    try {
+      const text = s?.getItem(KEY);
+      if (!text || (!force && read(KEY))) return "";
+      s.setItem(DAMAGED, text);
+      s.removeItem(KEY);
+      return text;
+    } catch {
+      return "";
+    }
+  },
+  damagedText: () => {
+    try {
+      return store()?.getItem(DAMAGED) || "";
+    } catch {
+      return "";
+    }
+  },
   available: () => {
     const s = store();
     if (!s) return false;

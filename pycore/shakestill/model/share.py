@@ -47,7 +47,8 @@ def decode(fragment: str) -> tuple[dict, dict]:
         raise _refuse("this link is far too long to be a rig link")
     body = text[len(PREFIX):]
     try:
-        packed = base64.urlsafe_b64decode(body + "=" * (-len(body) % 4))
+        # validate: a character outside the alphabet is damage, not something to skip
+        packed = base64.b64decode(body + "=" * (-len(body) % 4), altchars=b"-_", validate=True)
         d = zlib.decompressobj()
         raw = d.decompress(packed, MAX_INFLATED)
         if d.unconsumed_tail or not d.eof:
