@@ -188,3 +188,23 @@ def test_nan_in_an_unknown_field_of_a_link_is_refused():
     with pytest.raises(ss.RigError) as err:
         ss.rig_from_dict(bad)
     assert [p.path for p in err.value.problems] == ["note"]
+
+
+def test_a_crank_near_its_dead_point_is_refused_within_seconds():
+    # r/l -> 1: the pivot's acceleration spikes and needs thousands of harmonics; a check of
+    # limits up to twice the rod ran for many minutes. The stroke is refused at its field; a
+    # limit beyond the reach is clipped with a warning, and the check answers in seconds.
+    data = ss.demo_rig_dict()
+    data["drive"].update({"stroke_m": 2 * 0.08 * 0.99, "rod_length_m": 0.08})
+    with pytest.raises(ss.RigError) as err:
+        ss.rig_from_dict(data)
+    assert err.value.problems[0].path == "drive.stroke_m"
+    assert "outside what this method can resolve" in err.value.problems[0].message
+    data["drive"]["stroke_m"] = 0.024
+    data["limits"]["stroke_m"] = [0.0, 0.5]
+    rig, warnings = ss.rig_from_dict(data, with_warnings=True)
+    assert any(w.path == "limits.stroke_m" for w in warnings)
+    start = time.perf_counter()
+    result = ss.check(rig)
+    assert time.perf_counter() - start < SECONDS
+    assert result["hanging"]["stroke_window_m"][1] <= 2 * 0.08 * 0.95 * (1 + 1e-12)

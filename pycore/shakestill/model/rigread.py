@@ -11,8 +11,9 @@ import json
 import math
 from typing import Any
 
-from .rig import (AIR_DENSITY, FORMAT, MAX_LINKS, MIN_SAMPLES, STANDARD_GRAVITY, VERSION,
-                  WAVEFORMS, Drive, Limits, Link, PointMass, Problem, Rig, RigError)
+from .rig import (AIR_DENSITY, FORMAT, MAX_CRANK_RATIO, MAX_LINKS, MIN_SAMPLES,
+                  STANDARD_GRAVITY, VERSION, WAVEFORMS, Drive, Limits, Link, PointMass, Problem,
+                  Rig, RigError)
 from .safejson import non_finite_problems
 from .units import UnitError, parse_quantity
 
@@ -222,6 +223,13 @@ def _read_drive(r: _Reader, raw: Any) -> Drive | None:
                                          f"connecting rod must be longer than the crank radius "
                                          f"(stroke/2 = {stroke / 2:g} m)")
             rod = None
+        elif rod is not None and stroke is not None and stroke / 2.0 > MAX_CRANK_RATIO * rod:
+            r.fail("drive.stroke_m", f"{_show(obj['stroke_m'])} is outside what this method can "
+                                     f"resolve: a crank radius above {MAX_CRANK_RATIO:g} of the "
+                                     f"rod ({2 * MAX_CRANK_RATIO * rod:g} m of stroke here) makes "
+                                     "the pivot's acceleration spike beyond the harmonics it "
+                                     "resolves in seconds")
+            stroke = None
     if None in (speed, stroke, rod, carriage):
         return None
     return Drive(waveform, speed, stroke, rod, (), 0.0, carriage, given, extra)
@@ -313,6 +321,8 @@ def _warn_operating_point(r: _Reader, rig: Rig) -> None:
     if "limits" not in rig.given:
         r.warn("limits", "no limits given: windows are searched from a quarter to four times "
                          "the speed and up to four times the stroke")
-    if rig.drive.waveform == "crank" and rig.limits.stroke_m[1] >= 2 * rig.drive.rod_length_m:
-        r.warn("limits.stroke_m", "the crank cannot reach this stroke: strokes are kept below "
-                                  f"twice the connecting rod ({2 * rig.drive.rod_length_m:g} m)")
+    top = 2 * MAX_CRANK_RATIO * rig.drive.rod_length_m
+    if rig.drive.waveform == "crank" and rig.limits.stroke_m[1] > top:
+        r.warn("limits.stroke_m", "windows and charts stop at a stroke of "
+                                  f"{top:g} m: a crank reaches less than twice its connecting "
+                                  f"rod, and this method resolves up to {MAX_CRANK_RATIO:g} of it")
