@@ -327,7 +327,16 @@ async function loadDemo(announce = true) {
   }
 }
 
+/** Words that waited for the engine ("... once the engine has started") say what comes next,
+ * unless a panel has already replaced them with its own. */
+function sayEngineStarted() {
+  for (const node of document.querySelectorAll("[data-ready-text]")) {
+    if (node.textContent.includes("once the engine has started")) node.textContent = node.dataset.readyText;
+  }
+}
+
 function engineReady() {
+  sayEngineStarted();
   const fragment = currentFragment();
   if (fragment) openFragment(fragment);
   else if (!state.draft) loadDemo(false);

@@ -84,3 +84,25 @@ def test_cli_takes_customary_units_for_its_options():
     result = json.loads(out)
     assert result["speed_rpm"] == pytest.approx(3000.0, rel=REL)
     assert result["stroke_m"] == pytest.approx(0.0254, rel=REL)
+
+
+def test_every_unit_the_rig_sheet_hints_at_is_one_the_core_reads():
+    """site/state/rig-fields.js tells the user which units each field takes; each must be
+    read by the core (model/units.py) as the field's quantity (common practice, no source)."""
+    import re
+    from pathlib import Path
+    kinds = {"g_m_s2": "acceleration", "length_m": "length", "rod_mass_kg": "mass",
+             "extra_inertia_kg_m2": "inertia", "joint_damping_N_m_s": "damping",
+             "joint_friction_N_m": "torque", "mass_kg": "mass", "at_m": "length",
+             "stroke_m": "length", "samples_stroke_m": "length", "rod_length_m": "length",
+             "speed_rpm": "speed"}
+    text = (Path(__file__).resolve().parents[1] / "site" / "state" / "rig-fields.js").read_text()
+    seen = 0
+    for key, hint in re.findall(r'(\w+): \{[^}]*?hint:\s*"[^"]*?Units: ([^"]+?)\.["\s]', text, re.S):
+        kind = kinds.get(key)
+        if kind is None:
+            continue
+        for unit in re.split(r",\s*", re.sub(r"\s*\([^)]*\)", "", hint)):
+            assert parse_quantity(f"1 {unit}", kind) > 0, (key, unit)
+            seen += 1
+    assert seen >= 30

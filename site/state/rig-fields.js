@@ -10,25 +10,25 @@ export const GENERAL_FIELDS = {
 };
 
 export const LINK_FIELDS = {
-  length_m: { label: "Length", hint: "Joint to far end. Units: m, cm, mm, in." },
-  rod_mass_kg: { label: "Rod mass", hint: "The link's own mass, spread along it. Units: kg, g." },
+  length_m: { label: "Length", hint: "Joint to far end. Units: m, cm, mm, in, ft." },
+  rod_mass_kg: { label: "Rod mass", hint: "The link's own mass, spread along it. Units: kg, g, lb, oz." },
   extra_inertia_kg_m2: {
     label: "Extra inertia",
-    hint: "About the link's centre of mass. Units: kg m2, g cm2. Blank is 0.",
+    hint: "About the link's centre of mass. Units: kg m2, kg cm2, g cm2, lb in2. Blank is 0.",
   },
   joint_damping_N_m_s: {
     label: "Joint damping",
-    hint: "Viscous, at this link's joint. Units: N m s. Blank is 0.",
+    hint: "Viscous, at this link's joint. Units: N m s, lbf in s. Blank is 0.",
   },
   joint_friction_N_m: {
     label: "Joint friction",
-    hint: "Dry friction torque at the joint. Units: N m, mN m. Blank is 0.",
+    hint: "Dry friction torque at the joint. Units: N m, mN m, lbf in, ozf in. Blank is 0.",
   },
 };
 
 export const MASS_FIELDS = {
-  mass_kg: { label: "Mass", hint: "Units: kg, g." },
-  at_m: { label: "Sits at", hint: "Distance from this link's joint. Units: m, cm, mm." },
+  mass_kg: { label: "Mass", hint: "Units: kg, g, lb, oz." },
+  at_m: { label: "Sits at", hint: "Distance from this link's joint. Units: m, cm, mm, in, ft." },
 };
 
 export const WAVEFORM_NAMES = {
@@ -39,14 +39,14 @@ export const WAVEFORM_NAMES = {
 
 export const DRIVE_FIELDS = {
   waveform: { label: "Waveform", hint: "How the pivot moves over one drive revolution." },
-  stroke_m: { label: "Stroke", hint: "Top to bottom of the pivot's travel. Units: m, cm, mm." },
+  stroke_m: { label: "Stroke", hint: "Top to bottom of the pivot's travel. Units: m, cm, mm, in, ft." },
   stroke_m_samples: {
     label: "Stroke (optional)",
-    hint: "Scales the samples to this stroke; blank keeps them as given. Units: m, cm, mm.",
+    hint: "Scales the samples to this stroke; blank keeps them as given. Units: m, cm, mm, in, ft.",
   },
   rod_length_m: {
     label: "Connecting rod",
-    hint: "Crank pin to wrist pin; longer than half the stroke. Units: m, cm, mm.",
+    hint: "Crank pin to wrist pin; longer than half the stroke. Units: m, cm, mm, in, ft.",
   },
   samples_m: {
     label: "Samples",
@@ -55,13 +55,13 @@ export const DRIVE_FIELDS = {
   },
   speed_rpm: {
     label: "Speed",
-    hint: "Drive speed; one pivot cycle per revolution. Units: rpm, Hz.",
+    hint: "Drive speed; one pivot cycle per revolution. Units: rpm (r/min), Hz, rad/s.",
   },
 };
 
 export const LIMIT_FIELDS = {
-  speed_rpm: { label: "Speed range", hint: "What the motor can do. Units: rpm, Hz." },
-  stroke_m: { label: "Stroke range", hint: "What the mechanism can be set to. Units: m, cm, mm." },
+  speed_rpm: { label: "Speed range", hint: "What the motor can do. Units: rpm (r/min), Hz, rad/s." },
+  stroke_m: { label: "Stroke range", hint: "What the mechanism can be set to. Units: m, cm, mm, in, ft." },
 };
 
 /** "links[1].point_masses[0].at_m" -> "Link 2, point mass 1, sits at": for the problem list. */

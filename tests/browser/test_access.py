@@ -126,3 +126,16 @@ def test_print_shows_the_report_and_cautions_without_controls(page, server):
     assert page.evaluate(visible, "#schematic svg") == 1
     cautions = page.evaluate(visible, ".safety .cautions li")
     assert cautions == len(CAUTIONS)
+
+
+def test_dark_mode_follows_the_system_and_keeps_contrast(new_context, server):
+    # WCAG 2.2 SC 1.4.3 / 1.4.11 again, with the system set to dark (prefers-color-scheme)
+    page = new_context(color_scheme="dark").new_page()
+    open_page(page, server.url)
+    background = page.evaluate("getComputedStyle(document.body).backgroundColor")
+    assert luminance([float(v) for v in background[4:-1].split(",")[:3]]) < 0.05  # dark paper
+    assert failures(page) == []
+    page.fill('[data-path="drive.stroke_m"]', "-4 mm")
+    wait_for_stale(page)
+    assert failures(page) == []
+    shot(page, "laptop-dark")
