@@ -276,6 +276,7 @@ function compute() {
     if (reply.ok) {
       form.showProblems([], reply.warnings || []);
       report.show(reply);
+      autosave.keepCheck(rig, reply);
       chart.setOperatingPoint(reply.result);
       motion.setOperatingPoint(reply.result);
     } else if (reply.problems) {
@@ -372,6 +373,30 @@ function restoreAutosave() {
   [{ label: "Download the damaged copy", run: () => download("shakestill-damaged-autosave.txt", autosave.damagedText()) }]);
 }
 restoreAutosave();
+
+/** A verdict at once, marked for what it is, while Python starts: the last visit's for this
+ * same rig, or the demo rig's worked out when the page was built. */
+async function showCachedVerdict() {
+  if (state.draft) {
+    const last = autosave.checkFor(rigFromDraft(state.draft));
+    if (last && !state.seq) report.showCached(last, "last-visit");
+    return;
+  }
+  if (currentFragment()) return;
+  let cached = null;
+  try {
+    const response = await fetch("demo-check.json");
+    cached = response.ok ? await response.json() : null;
+  } catch {
+    return; // no cached verdict: the engine's own comes when it has started
+  }
+  if (!cached || state.draft || engine.state !== "starting") return;
+  state.draft = draftFromRig(cached.rig);
+  form.render();
+  save();
+  report.showCached(cached.reply, "build");
+}
+showCachedVerdict();
 if (!autosave.available()) chip("chip-autosave", "Autosave: off (this browser blocks storage; save a rig file)", "off");
 if (currentFragment()) notice("Opening the rig from the link once the engine has started.");
 

@@ -196,7 +196,20 @@ export function createReport(el, strip, onCautions = () => {}) {
           : null);
       if (Array.isArray(reply.cautions) && reply.cautions.length) onCautions(reply.cautions);
       updateStrip(result);
+      delete el.dataset.source;
       setState("fresh", "");
+    },
+    /**
+     * A result not yet from this engine run: worked out when the page was built (``build``,
+     * the demo rig) or on the last visit for this same rig (``last-visit``). It shows at once,
+     * marked, and the engine's own result replaces it (data-state "cached" -> "fresh").
+     */
+    showCached(reply, source) {
+      this.show(reply);
+      el.dataset.source = source;
+      setState("cached", source === "build"
+        ? "Worked out when this page was built, for the demo rig: the engine confirms it in a moment."
+        : "From your last visit, for this same rig: the engine confirms it in a moment.");
     },
     stale(problems) {
       bar.hidden = true;

@@ -6,6 +6,8 @@ const KEY = "shakestill.autosave.v1";
 const PREVIOUS = "shakestill.previous.v1";
 // An autosave that cannot be read is moved here, never overwritten: the user can download it.
 const DAMAGED = "shakestill.damaged.v1";
+// The last check the engine gave, with the exact rig it was for (shown at once next visit).
+const LAST_CHECK = "shakestill.lastcheck.v1";
 
 function store() {
   try {
@@ -58,6 +60,22 @@ export const autosave = {
       return text;
     } catch {
       return "";
+    }
+  },
+  keepCheck(rig, reply) {
+    try {
+      store()?.setItem(LAST_CHECK, JSON.stringify({ rig, reply }));
+    } catch {
+      // full or blocked: next visit simply waits for the engine
+    }
+  },
+  /** The last check's reply if it was for exactly this rig (every text as typed), else null. */
+  checkFor(rig) {
+    try {
+      const last = JSON.parse(store()?.getItem(LAST_CHECK) || "null");
+      return last && JSON.stringify(last.rig) === JSON.stringify(rig) ? last.reply : null;
+    } catch {
+      return null;
     }
   },
   damagedText: () => {
