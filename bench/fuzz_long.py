@@ -14,6 +14,7 @@ from __future__ import annotations
 
 import argparse
 import random
+import resource
 import sys
 import time
 import traceback
@@ -29,6 +30,7 @@ from shakestill.model.rigfile import loads_rig  # noqa: E402
 from shakestill.model.safejson import decode_text  # noqa: E402
 
 HANG_SECONDS = 5.0
+MEMORY_BYTES = 4 * 1024 ** 3  # address space per run: a blow-up is a MemoryError (a crash), not the OOM killer
 
 
 class Tally:
@@ -44,7 +46,7 @@ class Tally:
             self.answered += 1
         except ss.RigError:
             self.rejected += 1
-        except Exception:  # noqa: BLE001  (the point is to count them)
+        except (Exception, MemoryError):  # noqa: BLE001  (the point is to count them)
             self.crashes.append((case, traceback.format_exc(limit=3)))
         if time.perf_counter() - start > HANG_SECONDS:
             self.hangs.append(case)
@@ -63,6 +65,7 @@ def main() -> int:
     p.add_argument("--seed", type=int, default=1)
     p.add_argument("--check-every", type=int, default=1)
     args = p.parse_args()
+    resource.setrlimit(resource.RLIMIT_AS, (MEMORY_BYTES, MEMORY_BYTES))
     rnd = random.Random(args.seed)
     sources = [fc.rig_text(), fc.two_link_text()]
     rigs, links, logs = Tally("rig files"), Tally("links"), Tally("logs")
@@ -77,6 +80,8 @@ def main() -> int:
     start = time.perf_counter()
     for k in range(args.rigs):
         rigs.run(fc.damage(sources[k % 2], rnd), rig_case)
+        if (k + 1) % 10_000 == 0:
+            print(rigs.line(), f"({time.perf_counter() - start:.0f} s)", flush=True)
     for _ in range(args.links):
         links.run(fc.damaged_link(rnd), share.decode)
     for _ in range(args.logs):
