@@ -287,13 +287,30 @@ def needed_harmonics(theta0: float, theta: tuple, truncation: int, *,
         if abs(hill_trace(theta0, theta[:most], max(truncation, most)) - over) > \
                 tol * max(1.0, abs(over)):
             return None
-    full = hill_trace(theta0, theta, truncation)
-    for keep in range(1, most + 1):
+        full = over  # the harmonics past most + 1 do not move the trace either (falling)
+    else:
+        full = hill_trace(theta0, theta, truncation)
+
+    def enough(keep: int) -> bool:
         part = full if keep == len(theta) else hill_trace(theta0, theta[:keep],
                                                           max(truncation, keep))
-        if abs(part - full) <= tol * max(1.0, abs(full)):
-            return keep
-    return None
+        return abs(part - full) <= tol * max(1.0, abs(full))
+
+    # Doubling, then bisection: a few traces instead of one per harmonic (each costs
+    # rows x band^2, minutes for a crank near its dead point when taken one by one).
+    hi = 1
+    while hi < most and not enough(hi):
+        hi = min(2 * hi, most)
+    if not enough(hi):
+        return None
+    lo = hi // 2  # enough(lo) is False (or lo is 0)
+    while hi - lo > 1:
+        mid = (lo + hi) // 2
+        if enough(mid):
+            hi = mid
+        else:
+            lo = mid
+    return hi
 
 
 def multipliers_from_trace(trace: float, decay: float) -> tuple[complex, complex]:
