@@ -9,7 +9,7 @@ import { h, replaceChildren } from "./lib/dom.js";
 import { policy } from "./lib/trusted.js";
 import { draftFromRig, rigFromDraft } from "./state/draft.js";
 import { download } from "./state/rig-file.js";
-import { clearFragment, currentFragment } from "./state/share.js";
+import { clearFragment, currentFragment, peekRig } from "./state/share.js";
 import { autosave } from "./state/storage.js";
 import { bootView } from "./engine/boot-view.js";
 import { registerServiceWorker } from "./engine/offline-copy.js";
@@ -36,6 +36,7 @@ const { notice, hide: hideNotice, chip } = createNotices($);
 
 const state = {
   draft: null, // what the sheet holds: texts as typed
+  preview: null, // a link's rig shown (read-only) until the engine has checked the link
   view: { v: 1, focus: "pendulum" },
   seq: 0, // bumps on every edit; replies for older drafts are ignored
   timer: 0,
@@ -53,7 +54,7 @@ function showCautions(cautions) {
   list.dataset.source = "core";
 }
 const form = createRigForm($("rig-sheet"), {
-  getDraft: () => state.draft,
+  getDraft: () => state.preview || state.draft,
   onEdit: edited,
   onStructure: edited,
   onFocusSection: (section) => {
@@ -293,6 +294,26 @@ function compute() {
 // ---------------------------------------------------------------- start-up
 
 /** The rig in a share link: decoded by the core; a bad link leaves the rig alone. */
+/** A link's rig in the sheet at once, read-only until the engine has decoded and checked it. */
+async function previewLinkedRig() {
+  const fragment = currentFragment();
+  const rig = fragment ? await peekRig(fragment) : null;
+  if (!rig || engine.state !== "starting" || currentFragment() !== fragment) return;
+  state.preview = draftFromRig(rig);
+  $("rig-sheet").inert = true;
+  $("rig-sheet").dataset.preview = "link";
+  form.render();
+}
+
+function endPreview() {
+  if (!state.preview) return;
+  state.preview = null;
+  $("rig-sheet").inert = false;
+  delete $("rig-sheet").dataset.preview;
+  if (state.draft) form.render();
+  else replaceChildren($("rig-sheet"), h("p", { class: "empty" }, "The demo rig loads now."));
+}
+
 async function openFragment(fragment) {
   clearFragment();
   let reply;
@@ -302,6 +323,7 @@ async function openFragment(fragment) {
     if (err instanceof Cancelled) return;
     reply = { ok: false, error: err.message };
   }
+  endPreview();
   if (reply.ok) {
     replaceRig(reply.rig, reply.view, "Opened the rig from the link");
     return;
@@ -377,6 +399,7 @@ restoreAutosave();
 /** A verdict at once, marked for what it is, while Python starts: the last visit's for this
  * same rig, or the demo rig's worked out when the page was built. */
 async function showCachedVerdict() {
+  if (currentFragment()) return; // the sheet shows the link's rig: no other rig's result
   if (state.draft) {
     const last = autosave.checkFor(rigFromDraft(state.draft));
     if (last && !state.seq) report.showCached(last, "last-visit");
@@ -398,7 +421,11 @@ async function showCachedVerdict() {
 }
 showCachedVerdict();
 if (!autosave.available()) chip("chip-autosave", "Autosave: off (this browser blocks storage; save a rig file)", "off");
-if (currentFragment()) notice("Opening the rig from the link once the engine has started.");
+if (currentFragment()) {
+  notice("The rig from the link is shown below; it can be edited once the engine has started "
+    + "and checked it.");
+  previewLinkedRig();
+}
 
 // ---------------------------------------------------------------- toolbar
 

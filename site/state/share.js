@@ -1,6 +1,7 @@
 // Share links: the whole rig and view live in the URL fragment (after "#"),
 // which browsers never send to a server. The core's share_encode and
-// share_decode ops do the coding; this module only handles the address.
+// share_decode ops do the coding and validate; this module handles the address, and
+// peeks at a link's rig to show it in the sheet before the engine has started.
 
 /** The fragment of the page's address without its "#", or null if there is none. */
 export function currentFragment(loc = globalThis.location) {
@@ -34,5 +35,23 @@ export async function copyText(text, box) {
     box.focus();
     box.select();
     return false;
+  }
+}
+
+/**
+ * The rig inside a link ("s1." + base64url of zlib-compressed JSON), read for display only
+ * (the core decodes and validates it as soon as it runs), or null if it cannot be read.
+ */
+export async function peekRig(fragment) {
+  try {
+    const body = String(fragment).replace(/^#/, "");
+    if (!body.startsWith("s1.") || typeof DecompressionStream !== "function") return null;
+    const b64 = body.slice(3).replace(/-/g, "+").replace(/_/g, "/");
+    const bytes = Uint8Array.from(atob(b64 + "=".repeat((4 - (b64.length % 4)) % 4)), (c) => c.charCodeAt(0));
+    const stream = new Blob([bytes]).stream().pipeThrough(new DecompressionStream("deflate"));
+    const payload = JSON.parse(await new Response(stream).text());
+    return payload && typeof payload.rig === "object" && payload.rig ? payload.rig : null;
+  } catch {
+    return null;
   }
 }

@@ -104,3 +104,22 @@ def test_opening_a_link_keeps_the_previous_rig_to_bring_back(new_context, server
     back = wait_for_rig(page, "my own")
     assert back == mine
     assert page.input_value('[data-path="drive.speed_rpm"]') == "2650 rpm"  # the text as typed
+
+
+def test_a_links_rig_is_in_the_sheet_before_the_engine_has_started(new_context, server):
+    sender = new_context().new_page()
+    edited_rig(sender, server)
+    link = make_link(sender)
+    page = new_context().new_page()
+    page.goto(link)
+    # decoded in the page for display, read-only, long before Python has started
+    page.wait_for_function("() => document.getElementById('rig-sheet').dataset.preview === 'link'",
+                           timeout=10_000)
+    assert page.input_value('[data-path="title"]') == "Exhibit pendulum, hall 2"
+    assert page.evaluate("document.getElementById('rig-sheet').inert") is True
+    assert page.get_attribute("#chip-engine", "data-state") != "ready"
+    assert page.get_attribute("#check-report", "data-state") != "cached"  # no other rig's result
+    result = wait_for_result(page)
+    assert result["title"] == "Exhibit pendulum, hall 2"
+    assert page.evaluate("document.getElementById('rig-sheet').inert") is False
+    assert page.get_attribute("#rig-sheet", "data-preview") is None
