@@ -19,7 +19,7 @@ from ..numerics.hill import default_truncation, needed_harmonics
 from ..model.properties import properties
 from ..model.rig import Rig
 from ..numerics.roots import brentq, golden_max
-from .reach import MAX_EVALUATIONS, too_much_work
+from .reach import MAX_EVALUATIONS, MAX_RK_STEPS, too_much_work
 
 EDGE_RTOL = 1e-10  # edges to this relative precision
 PHASE_STEP = 0.08  # scan spacing in sqrt(|theta0|) ~ 2 f0 / f (tongue n sits near n)
@@ -84,14 +84,19 @@ class Probe:
                  settings: Settings):
         self.rig, self.equilibrium, self.point, self.settings = rig, equilibrium, point, settings
         self.count = 0
+        self.steps = 0  # Runge-Kutta steps of the monodromies taken on this line
 
     def __call__(self, x: float) -> Stability:
         self.count += 1
         if self.count > MAX_EVALUATIONS:
-            raise too_much_work("limits.speed_rpm", MAX_EVALUATIONS)
+            raise too_much_work("limits", f"{MAX_EVALUATIONS} stability evaluations")
         speed, stroke = self.point(x)
-        return stability(self.rig, self.equilibrium, speed_rpm=speed, stroke_m=stroke,
-                         settings=self.settings, verify=False)
+        s = stability(self.rig, self.equilibrium, speed_rpm=speed, stroke_m=stroke,
+                      settings=self.settings, verify=False)
+        self.steps += s.work.get("steps", 0)
+        if self.steps > MAX_RK_STEPS:
+            raise too_much_work("limits", f"{MAX_RK_STEPS} Runge-Kutta steps of the monodromy")
+        return s
 
 
 def speed_points(rig: Rig, start: float, stop: float, *, step: float = SPEED_STEP) -> list[float]:

@@ -15,7 +15,9 @@ from ..model.rig import OutOfReach, Problem, Rig
 
 MAX_TONGUE_ORDER = 50  # tongues a speed scan steps through below the drive, at most
 MAX_EVALUATIONS = 6000  # stability evaluations on one scan line (a rig inside the reach
-# needs a few hundred; this bounds any line to seconds)
+# needs a few hundred; this bounds a line of Hill's determinants to seconds)
+MAX_RK_STEPS = 400_000  # Runge-Kutta steps of the monodromies on one scan line (about 10-20 s
+# on CPython for three links; an ordinary two- or three-link window needs about 2,000)
 
 
 def scan_floor_rpm(rig: Rig) -> float:
@@ -38,6 +40,6 @@ def require_in_reach(rig: Rig) -> None:
                                   f"what this method can resolve: {floor_words(rig)}")])
 
 
-def too_much_work(where: str, count: int) -> OutOfReach:
+def too_much_work(where: str, what: str) -> OutOfReach:
     return OutOfReach([Problem(where, f"outside what this method can resolve: the scan needed "
-                                      f"more than {count} stability evaluations")])
+                                      f"more than {what}")])
