@@ -19,7 +19,7 @@ from shakestill.fit.logfile import read_angle_log
 from shakestill.model import share
 
 SEED = 20261204
-CASE_SECONDS = 10.0  # "never more than a few seconds per case", on a loaded 2-core machine
+CASE_SECONDS = 60.0  # a hang, not a speed target: bench/fuzz_long.py counts cases over 5 s
 
 
 @pytest.mark.parametrize("source", [fc.rig_text, fc.two_link_text], ids=["one link", "two links"])

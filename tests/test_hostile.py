@@ -20,7 +20,8 @@ import shakestill as ss
 from shakestill import bridge, cli
 from shakestill.model import share
 
-SECONDS = 10.0  # "an answer or a clear message within seconds" (the issue), on a loaded machine
+SECONDS = 60.0  # a hang, not a speed target (timings live in bench/): "within seconds" is
+# bench/fuzz_long.py's count; here only a run far past it fails, even on a loaded CI machine
 
 
 def run(args, stdin: bytes | None = None):
