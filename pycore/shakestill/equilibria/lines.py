@@ -116,12 +116,16 @@ def speed_points(rig: Rig, start: float, stop: float, *, step: float = SPEED_STE
 
 
 def stroke_points(lo: float, hi: float, start: float, stop: float) -> list[float]:
+    """Strokes from ``start`` towards ``stop`` (start excluded, stop included), STROKE_POINTS
+    across the range [lo, hi]; never more than that many, whatever the numbers."""
     step = (hi - lo) / STROKE_POINTS
     direction = 1.0 if stop > start else -1.0
     points, v = [], start
-    while (stop - v) * direction > 0:
-        v += direction * step
+    while (stop - v) * direction > 0 and len(points) <= STROKE_POINTS:
+        v = v + direction * step if step > 0 else stop
         points.append(min(v, stop) if direction > 0 else max(v, stop))
+    if points and points[-1] != stop:
+        points.append(stop)
     return points
 
 

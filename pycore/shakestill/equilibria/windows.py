@@ -57,7 +57,8 @@ def window(rig: Rig, equilibrium: str, axis: str, s0: Stability | None = None) -
         def point(x):
             return x, stroke
 
-        low_points, high_points = speed_points(rig, here, lo), speed_points(rig, here, hi)
+        def points(end):
+            return speed_points(rig, here, end)
     else:
         lo, hi = rig.limits.stroke_m[0], max_stroke_m(rig)
         here = stroke
@@ -66,9 +67,12 @@ def window(rig: Rig, equilibrium: str, axis: str, s0: Stability | None = None) -
         def point(x):
             return speed, x
 
-        low_points, high_points = stroke_points(lo, hi, here, lo), stroke_points(lo, hi, here, hi)
+        def points(end):
+            return stroke_points(lo, hi, here, end)
+    # before any scan: a point outside limits of, say, 1e-322 m would be walked in steps of them
     if not lo <= here <= hi:
         return Window(axis, None, None, message="the operating point is outside the limits")
+    low_points, high_points = points(lo), points(hi)
     probe = Probe(rig, equilibrium, point, scan_settings(rig, equilibrium, corners + [rig]))
     s0 = probe(here)
     if not s0.stable:

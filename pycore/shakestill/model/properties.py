@@ -38,7 +38,7 @@ def properties(rig: Rig) -> RigProperties:
     stiff = [[rig.g_m_s2 * ch.a_kg_m[i] if i == j else 0.0 for j in range(n)] for i in range(n)]
     try:
         w2 = sorted(max(ev.real, 0.0) for ev in eigvals(matmul(inverse(ch.coupling), stiff)))
-    except ArithmeticError as exc:
+    except (ArithmeticError, ValueError) as exc:  # eigenvalues not converged, M singular
         raise OutOfReach([Problem("links", f"outside what this method can resolve: the "
                                            f"chain's own frequencies could not be found ({exc})")]
                          ) from None
