@@ -241,3 +241,10 @@ def test_stroke_limits_of_a_denormal_width_do_not_exhaust_memory():
     assert "outside the limits" in " ".join(result["inverted"]["messages"])
     from shakestill.equilibria.lines import STROKE_POINTS, stroke_points
     assert len(stroke_points(0.0, 1e-322, 0.024, 0.0)) <= STROKE_POINTS + 2
+
+
+def test_a_stroke_of_zero_gets_its_report_not_a_traceback():
+    # found by a fuzz run: the words formatted a margin in per cent of a stroke of 0 (None)
+    code, out, err, _ = run(["check", "--stroke", "0mm"])
+    assert code == 0 and "Traceback" not in err
+    assert "stroke window: 0.00 mm (rig limit) to" in out

@@ -47,7 +47,10 @@ def _window_text(window, ends, fmt, down, up) -> str:
     lo, hi = window
     lo_kind = "stability edge" if ends[0] == "edge" else "rig limit"
     hi_kind = "stability edge" if ends[1] == "edge" else "rig limit"
-    return (f"{fmt(lo)} ({lo_kind}, {down:.1f}% below) to {fmt(hi)} ({hi_kind}, {up:.1f}% above)")
+    # a margin is in per cent of the operating value: none at a stroke of 0
+    below = f", {down:.1f}% below" if down is not None else ""
+    above = f", {up:.1f}% above" if up is not None else ""
+    return f"{fmt(lo)} ({lo_kind}{below}) to {fmt(hi)} ({hi_kind}{above})"
 
 
 def equilibrium_lines(name: str, r: dict, shapes=((1.0,),)) -> list[str]:
