@@ -17,9 +17,13 @@ import { loadPyodide } from "PYODIDE/pyodide.mjs";
 import { readFileSync, readdirSync } from "node:fs";
 const t0 = performance.now();
 const py = await loadPyodide({ indexURL: "PYODIDE/" });
-py.FS.mkdirTree("/bench/shakestill");
-for (const name of readdirSync("CORE")) {
-  if (name.endsWith(".py")) py.FS.writeFile(`/bench/shakestill/${name}`, readFileSync(`CORE/${name}`));
+// the core and its subpackages (one level: numerics/, model/, equilibria/, ...)
+for (const dir of ["", ...readdirSync("CORE", { withFileTypes: true })
+    .filter((e) => e.isDirectory() && e.name !== "__pycache__").map((e) => e.name + "/")]) {
+  py.FS.mkdirTree(`/bench/shakestill/${dir}`);
+  for (const name of readdirSync(`CORE/${dir}`)) {
+    if (name.endsWith(".py")) py.FS.writeFile(`/bench/shakestill/${dir}${name}`, readFileSync(`CORE/${dir}${name}`));
+  }
 }
 py.setStdout({ batched: (line) => console.log(line) });
 py.globals.set("boot_s", (performance.now() - t0) / 1000);
