@@ -18,7 +18,7 @@ from typing import Iterator
 from ..model import drive as drv
 from .lines import PHASE_STEP, Probe, edge_between, scan_settings, speed_points, walk
 from ..model.linear import EQUILIBRIA
-from ..model.properties import properties
+from ..model.derived import Model, as_model
 from ..model.rig import OutOfReach, Problem, Rig, max_stroke_m, with_operating_point
 from .reach import floor_words, scan_floor_rpm
 
@@ -112,26 +112,27 @@ def _row_line(rig: Rig, y_axis: str, y: float):
     return (lambda x: (x, stroke_for_peak_accel(rig, y, x))), lo, hi
 
 
-def _row_settings(rig: Rig, point, lo: float, hi: float, eq: str):
-    corners = [with_operating_point(rig, speed_rpm=v, stroke_m=point(v)[1]) for v in (lo, hi)]
-    return scan_settings(rig, eq, corners, step_phase=CHART_STEP_PHASE,
+def _row_settings(model: Model, point, lo: float, hi: float, eq: str):
+    corners = [model.at(v, point(v)[1]) for v in (lo, hi)]
+    return scan_settings(model, eq, corners, step_phase=CHART_STEP_PHASE,
                          min_steps=CHART_MIN_STEPS)
 
 
-def _scan_row(rig: Rig, y_axis: str, y: float, equilibria, guide=None) -> Row | None:
+def _scan_row(model: Model, y_axis: str, y: float, equilibria, guide=None) -> Row | None:
     """One row: follow the edges of two computed neighbour rows where they agree
     (bracketed root finding near the interpolated edges), else walk the whole row."""
-    line = _row_line(rig, y_axis, y)
+    line = _row_line(model.rig, y_axis, y)
     if line is None:
         return None
     point, lo, hi = line
     edges, start_verdicts, count = {}, {}, 0
     for eq in equilibria:
-        probe = Probe(rig, eq, point, _row_settings(rig, point, lo, hi, eq))
+        probe = Probe(model, eq, point, _row_settings(model, point, lo, hi, eq))
         s0 = probe(lo)
         followed = _follow(probe, lo, hi, s0, guide(eq, y) if guide else None)
         if followed is None:
-            followed = tuple(walk(probe, lo, s0, speed_points(rig, lo, hi, step=CHART_SPEED_STEP),
+            followed = tuple(walk(probe, lo, s0, speed_points(model, lo, hi,
+                                                              step=CHART_SPEED_STEP),
                                   rtol=CHART_RTOL))
         edges[eq] = followed
         start_verdicts[eq] = s0.stable
@@ -177,14 +178,14 @@ def _follow(probe: Probe, lo: float, hi: float, s0, prediction):
     return tuple(found)
 
 
-def speed_range(rig: Rig) -> tuple[float, float]:
+def speed_range(model: Rig | Model) -> tuple[float, float]:
     """The chart's speeds: the rig's limits, from no lower than the slowest speed the
     stability scans resolve (module ``reach``)."""
-    lo, hi = rig.limits.speed_rpm
-    floor = scan_floor_rpm(rig)
+    lo, hi = as_model(model).rig.limits.speed_rpm
+    floor = scan_floor_rpm(model)
     if floor >= hi:
         raise OutOfReach([Problem("limits.speed_rpm", f"{[lo, hi]} rpm is outside what this "
-                                  f"method can resolve: {floor_words(rig)}")])
+                                  f"method can resolve: {floor_words(model)}")])
     return max(lo, 1e-6, floor), hi
 
 
@@ -212,11 +213,13 @@ def _row_order(n: int) -> list[int]:
     return order
 
 
-def tongues(rig: Rig) -> tuple[dict, ...]:
+def tongues(rig: Rig | Model) -> tuple[dict, ...]:
     """Where the hanging position's parametric resonances sit: drive frequency 2 f_i / n."""
+    model = as_model(rig)
+    rig = model.rig
     lo, hi = rig.limits.speed_rpm
     out = []
-    for mode, f in enumerate(properties(rig).hanging_frequencies_hz):
+    for mode, f in enumerate(model.properties.hanging_frequencies_hz):
         for n in range(1, 200):
             rpm = 2 * f / n * 60
             if rpm < lo:
@@ -227,12 +230,14 @@ def tongues(rig: Rig) -> tuple[dict, ...]:
     return tuple(out)
 
 
-def chart_steps(rig: Rig, *, rows: int | None = None, y_axis: str = "stroke",
+def chart_steps(rig: Rig | Model, *, rows: int | None = None, y_axis: str = "stroke",
                 equilibria=EQUILIBRIA) -> Iterator[tuple[float, Chart]]:
     """Yield (fraction done, chart so far) after each row; the last chart is complete.
 
     ``rows`` defaults to DEFAULT_ROWS for one link and DEFAULT_ROWS_SEVERAL_LINKS otherwise.
     """
+    model = as_model(rig)
+    rig = model.rig
     if rows is None:
         rows = DEFAULT_ROWS if rig.n_links == 1 else DEFAULT_ROWS_SEVERAL_LINKS
     if y_axis not in ("stroke", "accel"):
@@ -244,7 +249,7 @@ def chart_steps(rig: Rig, *, rows: int | None = None, y_axis: str = "stroke",
             raise ValueError(f"equilibria: {eq!r} is not one of {EQUILIBRIA}")
     y0, y1 = _y_range(rig, y_axis)
     ys = [y0 + (y1 - y0) * j / (rows - 1) for j in range(rows)]
-    lo, hi = speed_range(rig)
+    lo, hi = speed_range(model)
     done: dict[int, Row] = {}
     total = 0
     notes = ("coarse rows are walked whole (a scan every {:g}% of speed or {:g} of a tongue "
@@ -256,8 +261,9 @@ def chart_steps(rig: Rig, *, rows: int | None = None, y_axis: str = "stroke",
                                   COARSE_EVERY / (rows - 1)),)
     if lo > max(rig.limits.speed_rpm[0], 1e-6):
         notes += (f"the chart starts at {lo:.4g} rpm, above the rig's lowest speed: "
-                  + floor_words(rig),)
+                  + floor_words(model),)
     order = _row_order(rows)
+    marks = tongues(model)
     coarse = sorted(order[:len(set(range(0, rows, COARSE_EVERY)) | {rows - 1})])
 
     def guide(j):
@@ -270,12 +276,12 @@ def chart_steps(rig: Rig, *, rows: int | None = None, y_axis: str = "stroke",
         return lambda eq, y: _predict(done[below], done[above], eq, y)
 
     for k, j in enumerate(order):
-        row = _scan_row(rig, y_axis, ys[j], equilibria, None if j in coarse else guide(j))
+        row = _scan_row(model, y_axis, ys[j], equilibria, None if j in coarse else guide(j))
         if row is not None:
             done[j] = row
             total += row.evaluations
         partial = Chart(y_axis, (lo, hi), (y0, y1), tuple(done[i] for i in sorted(done)),
-                        tongues(rig), total, k == len(order) - 1, notes)
+                        marks, total, k == len(order) - 1, notes)
         yield (k + 1) / len(order), partial
 
 
@@ -294,7 +300,7 @@ def _predict(a: Row, b: Row, eq: str, y: float):
     return a.stable_at_min[eq], out
 
 
-def chart(rig: Rig, **options) -> Chart:
+def chart(rig: Rig | Model, **options) -> Chart:
     """The complete chart (see ``chart_steps`` for the options)."""
     result = None
     for _, result in chart_steps(rig, **options):

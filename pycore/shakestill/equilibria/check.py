@@ -9,8 +9,7 @@ from ..model import drive as drv
 from .estimates import estimates
 from .floquet import stability
 from ..model.linear import EQUILIBRIA
-from ..model.modes import modes
-from ..model.properties import properties
+from ..model.derived import Model, derive
 from ..model.rig import Rig
 from .reach import require_in_reach
 from .windows import window
@@ -23,10 +22,11 @@ def _percent(op: float, end: float | None) -> float | None:
     return None if end is None or op == 0 else abs(end - op) / op * 100.0
 
 
-def _equilibrium(rig: Rig, name: str) -> dict:
-    s = stability(rig, name)
-    speed = window(rig, name, "speed", s)
-    stroke = window(rig, name, "stroke", s)
+def _equilibrium(model: Model, name: str) -> dict:
+    rig = model.rig
+    s = stability(model, name)
+    speed = window(model, name, "speed", s)
+    stroke = window(model, name, "stroke", s)
     op_speed, op_stroke = rig.drive.speed_rpm, rig.drive.stroke_m
     # both windows say "unstable at the operating point" when it is: say it once
     messages = list(dict.fromkeys(m for m in (s.message, speed.message, stroke.message) if m))
@@ -67,9 +67,10 @@ def _end_kind(value, is_edge: bool) -> str | None:
 
 def check(rig: Rig) -> dict:
     """The operating check of a rig at its own speed and stroke."""
-    require_in_reach(rig)
+    model = derive(rig)  # once: everything below is handed this record
+    require_in_reach(model)
     peak = drv.peak_accel_m_s2(rig.drive)
-    props = properties(rig)
+    props = model.properties
     result = {
         "title": rig.title,
         "speed_rpm": rig.drive.speed_rpm,
@@ -82,9 +83,9 @@ def check(rig: Rig) -> dict:
                    "stroke_m": list(rig.limits.stroke_m)},
     }
     for name in EQUILIBRIA:
-        result[name] = _equilibrium(rig, name)
-    result["estimates"] = estimates(rig).as_dict()
-    sway = modes(rig)
+        result[name] = _equilibrium(model, name)
+    result["estimates"] = estimates(model).as_dict()
+    sway = model.modes
     result["modes"] = {
         "equivalent_lengths_m": list(sway.lengths_m),
         "shapes": [list(shape) for shape in sway.shapes],

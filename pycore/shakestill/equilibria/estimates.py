@@ -25,8 +25,7 @@ import math
 from dataclasses import dataclass
 
 from ..model import drive as drv
-from ..model.modes import modes
-from ..model.properties import properties
+from ..model.derived import Model, as_model
 from ..model.rig import Rig
 
 # q at which the Mathieu characteristic value b_1(q) = 0, from memory; tests
@@ -83,17 +82,17 @@ def rms_velocity_per_rad_s(rig: Rig) -> float:
     return math.sqrt(total / _RMS_SAMPLES)
 
 
-def _potential_terms(rig: Rig) -> tuple[float, float]:
+def _potential_terms(m: Model) -> tuple[float, float]:
     """(s g, s^2 <v^2> / (2 J)): U_eff = first cos(theta) + second sin^2(theta)."""
-    p = properties(rig)
+    rig, p = m.rig, m.properties
     s, J = p.first_moment_kg_m, p.inertia_about_pivot_kg_m2
     v2 = (rms_velocity_per_rad_s(rig) * 2 * math.pi * rig.drive.frequency_hz) ** 2
     return s * rig.g_m_s2, s * s * v2 / (2 * J)
 
 
-def effective_potential_J(rig: Rig, theta_rad: float) -> float:
+def effective_potential_J(rig: Rig | Model, theta_rad: float) -> float:
     """Kapitza's averaged potential at angle theta from the upward vertical (J)."""
-    weight, fast = _potential_terms(rig)
+    weight, fast = _potential_terms(as_model(rig))
     return weight * math.cos(theta_rad) + fast * math.sin(theta_rad) ** 2
 
 
@@ -103,10 +102,11 @@ def _sway_hz(v2: float, g: float, length: float, sign: float) -> float | None:
     return math.sqrt(w2) / (2 * math.pi) if w2 > 0 else None
 
 
-def estimates(rig: Rig) -> Estimates:
-    p = properties(rig)
+def estimates(rig: Rig | Model) -> Estimates:
+    m = as_model(rig)
+    rig, p = m.rig, m.properties
     g = rig.g_m_s2
-    lengths = modes(rig).lengths_m  # longest first
+    lengths = m.modes.lengths_m  # longest first
     longest, shortest = lengths[0], lengths[-1]
     per_rad = rms_velocity_per_rad_s(rig)
     omega = 2 * math.pi * rig.drive.frequency_hz
@@ -115,10 +115,10 @@ def estimates(rig: Rig) -> Estimates:
     min_omega = math.sqrt(g * longest) / per_rad if per_rad > 0 else math.inf
     inverted = tuple(_sway_hz(v2, g, length, -1.0) for length in lengths)
     hanging = tuple(_sway_hz(v2, g, length, 1.0) for length in lengths)
-    weight, fast = _potential_terms(rig)
+    weight, fast = _potential_terms(m)
     # dU/dtheta = sin(theta) (2 fast cos(theta) - weight): a crest where cos = weight / 2 fast.
     crest = math.acos(weight / (2 * fast)) if fast > weight / 2 else 0.0
-    barrier = effective_potential_J(rig, crest) - effective_potential_J(rig, 0.0)
+    barrier = effective_potential_J(m, crest) - effective_potential_J(m, 0.0)
     return Estimates(
         l_eq_m=p.l_eq_m,
         rms_pivot_velocity_m_s=math.sqrt(v2),

@@ -16,9 +16,10 @@ from functools import lru_cache
 
 from ..model import drive as drv
 from ..numerics.hill import default_truncation, hill_trace, multipliers_from_trace
-from ..numerics.linalg import eigvals, inverse, matmul
-from ..model.linear import EQUILIBRIA, linearise
-from ..model.rig import OutOfReach, Problem, Rig, with_operating_point
+from ..numerics.linalg import eigvals
+from ..model.derived import Model, as_model
+from ..model.linear import EQUILIBRIA
+from ..model.rig import OutOfReach, Problem, Rig
 from ..numerics.rk import STAGE_NODES, fundamental_matrix
 
 UNDAMPED_TOLERANCE = 1e-9  # |rho| <= 1 + this counts as on the unit circle (undamped)
@@ -66,22 +67,19 @@ def _check_equilibrium(equilibrium: str) -> None:
         raise ValueError(f"equilibrium: {equilibrium!r} is not one of {EQUILIBRIA}")
 
 
-def _operating(rig: Rig, speed_rpm, stroke_m) -> Rig:
+def _operating(m: Model, speed_rpm, stroke_m) -> Model:
     if speed_rpm is not None and not (speed_rpm > 0 and math.isfinite(speed_rpm)):
         raise ValueError(f"speed_rpm: {speed_rpm!r} must be a finite number above 0")
     if stroke_m is not None and not (stroke_m >= 0 and math.isfinite(stroke_m)):
         raise ValueError(f"stroke_m: {stroke_m!r} must be a finite number of at least 0")
-    return with_operating_point(rig, speed_rpm=speed_rpm, stroke_m=stroke_m)
+    return m.at(speed_rpm, stroke_m)
 
 
-def _is_damped(rig: Rig) -> bool:
-    return any(link.joint_damping_N_m_s > 0 for link in rig.links)
-
-
-def _summarise(rig: Rig, equilibrium: str, rhos, margin: float, method: str, **extra):
+def _summarise(m: Model, equilibrium: str, rhos, margin: float, method: str, **extra):
+    rig = m.rig
     biggest = max(rhos, key=abs)
     max_mult = abs(biggest)
-    if _is_damped(rig):
+    if m.damped:
         stable = margin < 0
     else:
         stable = margin < 0 or max_mult <= 1.0 + UNDAMPED_TOLERANCE
@@ -114,13 +112,14 @@ class HillForm:
     gamma_T: float
 
 
-def hill_form(rig: Rig, equilibrium: str, harmonics: int | None = None) -> HillForm:
+def hill_form(model: Rig | Model, equilibrium: str, harmonics: int | None = None) -> HillForm:
     """Map the single link's linear equation to Hill's form at the rig's operating point."""
-    lin = linearise(rig, equilibrium)
+    m = as_model(model)
+    rig, lin = m.rig, m.of(equilibrium).linear
     J, c, k = lin.M[0][0], lin.D[0][0], lin.K[0][0]
     omega = 2 * math.pi * rig.drive.frequency_hz
     gamma = c / (2 * J)
-    h = drv.harmonics(rig.drive)
+    h = m.harmonics
     theta0 = 4.0 / omega ** 2 * (k / J * rig.g_m_s2 - gamma * gamma)
     theta = tuple(2.0 * k / J * complex(a, -b) for a, b in zip(h.cos_m, h.sin_m))[:harmonics]
     if all(t.imag == 0.0 for t in theta):
@@ -129,9 +128,9 @@ def hill_form(rig: Rig, equilibrium: str, harmonics: int | None = None) -> HillF
     return HillForm(theta0, theta, math.exp(-gamma_T), gamma_T)
 
 
-def _hill_stability(rig: Rig, equilibrium: str, settings: Settings,
+def _hill_stability(m: Model, equilibrium: str, settings: Settings,
                     verify: bool) -> Stability:
-    form = hill_form(rig, equilibrium, settings.harmonics)
+    form = hill_form(m, equilibrium, settings.harmonics)
     R = max(settings.truncation or default_truncation(form.theta0, form.theta),
             len(form.theta))
     trace = hill_trace(form.theta0, form.theta, R)
@@ -144,40 +143,34 @@ def _hill_stability(rig: Rig, equilibrium: str, settings: Settings,
             message = (f"Hill determinant not converged at {R} rows: the trace changed by "
                        f"{error:.2g} when refined")
         trace = finer
-    return _from_trace(rig, equilibrium, trace, form.gamma_T, "hill", converged=converged,
+    return _from_trace(m, equilibrium, trace, form.gamma_T, "hill", converged=converged,
                        error_estimate=error, message=message,
                        work={"truncation": R, "harmonics": len(form.theta)})
 
 
-def _from_trace(rig: Rig, equilibrium: str, trace: float, gamma_T: float, method: str,
+def _from_trace(m: Model, equilibrium: str, trace: float, gamma_T: float, method: str,
                 **extra) -> Stability:
     """One link's verdict from the trace of its undamped form u = exp(gamma t) q."""
     margin = abs(trace) - 2.0 * math.cosh(gamma_T)
     rhos = multipliers_from_trace(trace, math.exp(-gamma_T))
-    return _summarise(rig, equilibrium, rhos, margin, method, **extra)
+    return _summarise(m, equilibrium, rhos, margin, method, **extra)
 
 
-def _rk_trace_stability(rig: Rig, equilibrium: str, settings: Settings) -> Stability:
+def _rk_trace_stability(m: Model, equilibrium: str, settings: Settings) -> Stability:
     """One link by its 2 x 2 monodromy, judged like Hill's trace (same margin), for scans
     of drives with many harmonics, where the fixed RK cycle is cheaper than the band LU."""
-    lin = linearise(rig, equilibrium)
-    gamma_T = lin.D[0][0] / (2.0 * lin.M[0][0]) / rig.drive.frequency_hz
-    n = _steps(rig, equilibrium, settings)
-    m = _monodromy(rig, equilibrium, n)
-    trace = math.exp(gamma_T) * (m[0][0] + m[1][1])
-    return _from_trace(rig, equilibrium, trace, gamma_T, "monodromy", work={"steps": n})
+    lin = m.of(equilibrium).linear
+    gamma_T = lin.D[0][0] / (2.0 * lin.M[0][0]) / m.rig.drive.frequency_hz
+    n = _steps(m, equilibrium, settings)
+    mono = _monodromy(m, equilibrium, n)
+    trace = math.exp(gamma_T) * (mono[0][0] + mono[1][1])
+    return _from_trace(m, equilibrium, trace, gamma_T, "monodromy", work={"steps": n})
 
 
 # ----------------------------------------------------------------------------- several links
 
 
-def _system(rig: Rig, equilibrium: str):
-    lin = linearise(rig, equilibrium)
-    Minv = inverse([list(r) for r in lin.M])
-    return matmul(Minv, [list(r) for r in lin.K]), matmul(Minv, [list(r) for r in lin.D])
-
-
-def default_steps(rig: Rig, equilibrium: str, *, step_phase: float = STEP_PHASE,
+def default_steps(model: Rig | Model, equilibrium: str, *, step_phase: float = STEP_PHASE,
                   min_steps: int = MIN_STEPS) -> int:
     """Steps per cycle from the fastest rate of the linear system over the cycle:
     (rate) x (step) = ``step_phase``, at least ``min_steps`` and two per drive harmonic.
@@ -185,7 +178,8 @@ def default_steps(rig: Rig, equilibrium: str, *, step_phase: float = STEP_PHASE,
     The rate is sqrt(G_peak * |eig B|) + |eig C|; the crank's peak acceleration is taken
     at top dead centre, r omega^2 (1 + r/l), which is close enough to choose a step.
     """
-    B, C = _system(rig, equilibrium)
+    m = as_model(model)
+    rig, eq = m.rig, m.of(equilibrium)
     d = rig.drive
     omega = 2 * math.pi * d.frequency_hz
     if d.waveform == "crank":
@@ -193,16 +187,14 @@ def default_steps(rig: Rig, equilibrium: str, *, step_phase: float = STEP_PHASE,
         peak = r * (1 + r / d.rod_length_m) * omega ** 2
     else:
         peak = drv.peak_accel_m_s2(d)
-    stiff = max(abs(ev) for ev in eigvals([[(rig.g_m_s2 + peak) * x for x in row] for row in B]))
-    damp = max(abs(ev) for ev in eigvals(C)) if _is_damped(rig) else 0.0
-    rate = math.sqrt(stiff) + damp
-    harmonics = drv.harmonics(d).count
+    rate = math.sqrt((rig.g_m_s2 + peak) * eq.stiffness_rate) + eq.damping_rate
+    harmonics = m.harmonics.count
     steps = math.ceil(rate / d.frequency_hz / step_phase)
     return min(MAX_STEPS, max(min_steps, 2 * harmonics, steps))
 
 
-def _steps(rig: Rig, equilibrium: str, settings: Settings) -> int:
-    return settings.steps or default_steps(rig, equilibrium, step_phase=settings.step_phase,
+def _steps(m: Model, equilibrium: str, settings: Settings) -> int:
+    return settings.steps or default_steps(m, equilibrium, step_phase=settings.step_phase,
                                            min_steps=settings.min_steps)
 
 
@@ -226,35 +218,36 @@ def _phase_accel_nodes(waveform, stroke_m, rod_length_m, samples_m, samples_stro
                  for s in range(steps) for c in STAGE_NODES)
 
 
-def monodromy(rig: Rig, equilibrium: str, speed_rpm: float | None = None,
+def monodromy(rig: Rig | Model, equilibrium: str, speed_rpm: float | None = None,
               stroke_m: float | None = None, *, steps: int | None = None):
     """The one-cycle monodromy matrix (2N x 2N) for the state (q, q'), as tuples."""
     _check_equilibrium(equilibrium)
-    rig = _operating(rig, speed_rpm, stroke_m)
-    return tuple(tuple(row) for row in _monodromy(rig, equilibrium, steps or
-                                                  default_steps(rig, equilibrium)))
+    m = _operating(as_model(rig), speed_rpm, stroke_m)
+    return tuple(tuple(row) for row in _monodromy(m, equilibrium, steps or
+                                                  default_steps(m, equilibrium)))
 
 
-def _monodromy(rig: Rig, equilibrium: str, steps: int):
-    B, C = _system(rig, equilibrium)
-    return fundamental_matrix(B, C, _G_nodes(rig, steps), 1.0 / rig.drive.frequency_hz, steps)
+def _monodromy(m: Model, equilibrium: str, steps: int):
+    eq = m.of(equilibrium)
+    return fundamental_matrix(eq.B, eq.C, _G_nodes(m.rig, steps), 1.0 / m.rig.drive.frequency_hz,
+                              steps)
 
 
-def _multi_margin(rig: Rig, rhos) -> float:
+def _multi_margin(m: Model, rhos) -> float:
     biggest = max(abs(r) for r in rhos)
     if not math.isfinite(biggest) or biggest == 0:
         return math.inf if not math.isfinite(biggest) else -math.inf
-    tol = 0.0 if _is_damped(rig) else UNDAMPED_TOLERANCE
+    tol = 0.0 if m.damped else UNDAMPED_TOLERANCE
     return math.log(biggest) - tol
 
 
-def _rk_stability(rig: Rig, equilibrium: str, settings: Settings, verify: bool) -> Stability:
-    n = _steps(rig, equilibrium, settings)
-    rhos = eigvals(_monodromy(rig, equilibrium, n))
+def _rk_stability(m: Model, equilibrium: str, settings: Settings, verify: bool) -> Stability:
+    n = _steps(m, equilibrium, settings)
+    rhos = eigvals(_monodromy(m, equilibrium, n))
     error, converged, message = 0.0, True, ""
     if verify:
         finer_n = min(MAX_STEPS * 2, n + max(8, n // 2))
-        finer = eigvals(_monodromy(rig, equilibrium, finer_n))
+        finer = eigvals(_monodromy(m, equilibrium, finer_n))
         error = _set_distance(rhos, finer)
         scale = max(1.0, max(abs(r) for r in finer))
         converged = error <= CONVERGENCE_TOLERANCE * scale
@@ -262,7 +255,7 @@ def _rk_stability(rig: Rig, equilibrium: str, settings: Settings, verify: bool) 
             message = (f"monodromy not converged at {n} steps per cycle: the multipliers "
                        f"moved by {error:.2g} when refined")
         rhos, n = finer, finer_n
-    return _summarise(rig, equilibrium, rhos, _multi_margin(rig, rhos), "monodromy",
+    return _summarise(m, equilibrium, rhos, _multi_margin(m, rhos), "monodromy",
                       converged=converged, error_estimate=error, message=message,
                       work={"steps": n})
 
@@ -275,7 +268,7 @@ def _set_distance(a, b) -> float:
 # ----------------------------------------------------------------------------- entry point
 
 
-def stability(rig: Rig, equilibrium: str, speed_rpm: float | None = None,
+def stability(rig: Rig | Model, equilibrium: str, speed_rpm: float | None = None,
               stroke_m: float | None = None, *, settings: Settings | None = None,
               verify: bool = True) -> Stability:
     """Floquet multipliers and verdict for ``equilibrium`` ("inverted" or "hanging").
@@ -290,16 +283,17 @@ def stability(rig: Rig, equilibrium: str, speed_rpm: float | None = None,
         Refine once and report the change as ``error_estimate`` / ``converged``.
     """
     _check_equilibrium(equilibrium)
-    rig = _operating(rig, speed_rpm, stroke_m)
+    m = _operating(as_model(rig), speed_rpm, stroke_m)
+    rig = m.rig
     settings = settings or Settings()
     if settings.method not in (None, "hill", "monodromy"):
         raise ValueError(f"settings.method: {settings.method!r} is not 'hill' or 'monodromy'")
     try:
         if rig.n_links == 1 and settings.method == "monodromy" and not verify:
-            return _rk_trace_stability(rig, equilibrium, settings)
+            return _rk_trace_stability(m, equilibrium, settings)
         if rig.n_links == 1:
-            return _hill_stability(rig, equilibrium, settings, verify)
-        return _rk_stability(rig, equilibrium, settings, verify)
+            return _hill_stability(m, equilibrium, settings, verify)
+        return _rk_stability(m, equilibrium, settings, verify)
     except ArithmeticError as exc:  # eigenvalues that did not converge, an overflow
         raise OutOfReach([Problem("links", f"outside what this method can resolve at "
                                            f"{rig.drive.speed_rpm:g} rpm and a stroke of "

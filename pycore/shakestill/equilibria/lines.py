@@ -16,7 +16,7 @@ from typing import Callable, Iterator
 
 from .floquet import MIN_STEPS, STEP_PHASE, Settings, Stability, default_steps, hill_form, stability
 from ..numerics.hill import default_truncation, needed_harmonics
-from ..model.properties import properties
+from ..model.derived import Model, as_model
 from ..model.rig import Rig
 from ..numerics.roots import brentq, golden_max
 from .reach import MAX_EVALUATIONS, MAX_RK_STEPS, too_much_work
@@ -41,12 +41,12 @@ class Edge:
     gained: bool  # True if the equilibrium becomes stable moving up the line
 
 
-def scan_settings(rig: Rig, equilibrium: str, corners: list[Rig], *,
+def scan_settings(model: Model, equilibrium: str, corners: list[Model], *,
                   step_phase: float = STEP_PHASE, min_steps: int = MIN_STEPS) -> Settings:
     """Numerical settings good enough at every corner of a scan (one link: Hill rows and
     harmonics, or fixed RK steps; several links: steps are chosen at each point from its
     own rates). ``step_phase`` and ``min_steps`` size the RK steps (see default_steps)."""
-    if rig.n_links > 1:
+    if model.rig.n_links > 1:
         return Settings(step_phase=step_phase, min_steps=min_steps)
     forms = [hill_form(c, equilibrium) for c in corners]
     steps = None
@@ -78,11 +78,14 @@ def _affordable_harmonics(form, steps: int | None) -> int:
 
 
 class Probe:
-    """Stability at points x of a line x -> (speed_rpm, stroke_m); counts evaluations."""
+    """Stability at points x of a line x -> (speed_rpm, stroke_m); counts evaluations.
 
-    def __init__(self, rig: Rig, equilibrium: str, point: Callable[[float], tuple],
+    Every point moves the one derived model (``Model.at``): the links' part is shared."""
+
+    def __init__(self, model: Model, equilibrium: str, point: Callable[[float], tuple],
                  settings: Settings):
-        self.rig, self.equilibrium, self.point, self.settings = rig, equilibrium, point, settings
+        self.model, self.equilibrium, self.point = model, equilibrium, point
+        self.settings = settings
         self.count = 0
         self.steps = 0  # Runge-Kutta steps of the monodromies taken on this line
 
@@ -91,7 +94,7 @@ class Probe:
         if self.count > MAX_EVALUATIONS:
             raise too_much_work("limits", f"{MAX_EVALUATIONS} stability evaluations")
         speed, stroke = self.point(x)
-        s = stability(self.rig, self.equilibrium, speed_rpm=speed, stroke_m=stroke,
+        s = stability(self.model, self.equilibrium, speed_rpm=speed, stroke_m=stroke,
                       settings=self.settings, verify=False)
         self.steps += s.work.get("steps", 0)
         if self.steps > MAX_RK_STEPS:
@@ -99,12 +102,12 @@ class Probe:
         return s
 
 
-def speed_points(rig: Rig, start: float, stop: float, *, step: float = SPEED_STEP) -> list[float]:
+def speed_points(model: Rig | Model, start: float, stop: float, *, step: float = SPEED_STEP) -> list[float]:
     """Speeds from ``start`` towards ``stop`` (start excluded, stop included): tongues are
     evenly spaced in 1/speed, and the relative step is bounded as well."""
     points = []
     direction = 1.0 if stop > start else -1.0
-    f0 = max(properties(rig).hanging_frequencies_hz)
+    f0 = max(as_model(model).properties.hanging_frequencies_hz)
     inv_step = PHASE_STEP / (2.0 * f0 * 60.0)  # d(1/rpm) giving a PHASE_STEP change
     v = start
     while (stop - v) * direction > 0:

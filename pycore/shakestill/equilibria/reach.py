@@ -10,7 +10,7 @@ is refused with that message. A probe's evaluations are capped as a safety net.
 
 from __future__ import annotations
 
-from ..model.properties import properties
+from ..model.derived import Model, as_model
 from ..model.rig import OutOfReach, Problem, Rig
 
 MAX_TONGUE_ORDER = 50  # tongues a speed scan steps through below the drive, at most
@@ -21,24 +21,28 @@ MAX_RK_STEPS = 40_000  # Runge-Kutta steps of the monodromies on one scan line: 
 # with joint dampers 10,000 times the demo's takes 4,000 a monodromy and minutes a check
 
 
-def scan_floor_rpm(rig: Rig) -> float:
+def _fastest_hanging_hz(model: Rig | Model) -> float:
+    return max(as_model(model).properties.hanging_frequencies_hz)
+
+
+def scan_floor_rpm(model: Rig | Model) -> float:
     """The slowest drive speed a stability scan resolves for this rig (rpm)."""
-    f0 = max(properties(rig).hanging_frequencies_hz)
-    return 2.0 * f0 / MAX_TONGUE_ORDER * 60.0
+    return 2.0 * _fastest_hanging_hz(model) / MAX_TONGUE_ORDER * 60.0
 
 
-def floor_words(rig: Rig) -> str:
-    f0 = max(properties(rig).hanging_frequencies_hz)
-    return (f"below {scan_floor_rpm(rig):.4g} rpm the pendulum's own frequency ({f0:.3g} Hz) is "
+def floor_words(model: Rig | Model) -> str:
+    f0 = _fastest_hanging_hz(model)
+    return (f"below {scan_floor_rpm(model):.4g} rpm the pendulum's own frequency ({f0:.3g} Hz) is "
             f"more than {MAX_TONGUE_ORDER // 2} times the drive's, too many parametric "
             "resonances to resolve")
 
 
-def require_in_reach(rig: Rig) -> None:
+def require_in_reach(model: Rig | Model) -> None:
     """OutOfReach naming drive.speed_rpm when the operating speed is below the scan floor."""
-    if rig.drive.speed_rpm < scan_floor_rpm(rig):
-        raise OutOfReach([Problem("drive.speed_rpm", f"{rig.drive.speed_rpm:g} rpm is outside "
-                                  f"what this method can resolve: {floor_words(rig)}")])
+    speed = as_model(model).rig.drive.speed_rpm
+    if speed < scan_floor_rpm(model):
+        raise OutOfReach([Problem("drive.speed_rpm", f"{speed:g} rpm is outside "
+                                  f"what this method can resolve: {floor_words(model)}")])
 
 
 def too_much_work(where: str, what: str) -> OutOfReach:

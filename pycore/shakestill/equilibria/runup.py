@@ -18,10 +18,14 @@ import math
 from dataclasses import dataclass
 from functools import lru_cache
 
+from ..model import drive as drv
+from ..model.derived import Model, as_model
+from ..model.linear import EQUILIBRIA
+from ..model.rig import Rig
+from ..numerics.linalg import eigvals, matmul
+from ..numerics.rk import STAGE_NODES, fundamental_matrix
 from .floquet import stability
 from .lines import Probe, scan_settings, speed_points, walk
-from ..model.linear import EQUILIBRIA
-from ..model.rig import Rig, with_operating_point
 from .reach import scan_floor_rpm
 
 GAUSS_POINTS = 20  # per interval, after the cosine map that absorbs sqrt edge behaviour
@@ -54,7 +58,8 @@ def gauss_legendre(n: int) -> tuple[tuple[float, ...], tuple[float, ...]]:
 RAMP_STEPS_PER_CYCLE = 32  # fixed 8th-order steps per drive cycle in the ramp simulation
 
 
-def ramp_amplification(rig: Rig, equilibrium: str, a: float, b: float, rate_rpm_s: float) -> float:
+def ramp_amplification(rig: Rig | Model, equilibrium: str, a: float, b: float,
+                       rate_rpm_s: float) -> float:
     """Growth of a small disturbance through a ramp from a to b rpm, by integrating the
     linearised equations with the speed changing (G = g + omega^2 y_pp + omega' y_p).
 
@@ -62,10 +67,8 @@ def ramp_amplification(rig: Rig, equilibrium: str, a: float, b: float, rate_rpm_
     first tongue responds); the growth is the largest singular value of the transfer matrix
     in that norm.
     """
-    from ..model import drive as drv
-    from .floquet import _system
-    from ..numerics.linalg import matmul
-    from ..numerics.rk import STAGE_NODES, fundamental_matrix
+    model = as_model(rig)
+    rig = model.rig
     duration = abs(b - a) / rate_rpm_s
     sign = 1.0 if b >= a else -1.0
     cycles = abs(b * b - a * a) / 120.0 / rate_rpm_s
@@ -80,15 +83,14 @@ def ramp_amplification(rig: Rig, equilibrium: str, a: float, b: float, rate_rpm_
             phi = 2 * math.pi * a / 60 * t + alpha * t * t / 2
             _, dy, d2y = drv.phase_derivatives(rig.drive, phi)
             nodes.append(rig.g_m_s2 + omega * omega * d2y + alpha * dy)
-    B, C = _system(rig, equilibrium)
-    F = fundamental_matrix(B, C, nodes, duration, steps)
+    eq = model.of(equilibrium)
+    F = fundamental_matrix(eq.B, eq.C, nodes, duration, steps)
     n = rig.n_links
     w_in, w_out = math.pi * a / 60, math.pi * b / 60
     scale_in = [1.0] * n + [w_in] * n  # multiply columns: inverse of the entry scaling
     scale_out = [1.0] * n + [1.0 / w_out] * n
     Fs = [[scale_out[i] * F[i][j] * scale_in[j] for j in range(2 * n)] for i in range(2 * n)]
     FtF = matmul([list(col) for col in zip(*Fs)], Fs)
-    from ..numerics.linalg import eigvals
     return math.sqrt(max(ev.real for ev in eigvals(FtF)))
 
 
@@ -105,7 +107,7 @@ class Crossing:
     simulated_amplification: float | None = None  # linear ramp integrated directly
 
 
-def _log_integral(rig: Rig, equilibrium: str, a: float, b: float, settings) -> tuple[float, float]:
+def _log_integral(model: Model, equilibrium: str, a: float, b: float, settings) -> tuple[float, float]:
     """(integral of ln max_multiplier * s/60 ds over [a, b], peak multiplier)."""
     nodes, weights = gauss_legendre(GAUSS_POINTS)
     total, peak = 0.0, 0.0
@@ -115,7 +117,7 @@ def _log_integral(rig: Rig, equilibrium: str, a: float, b: float, settings) -> t
         theta = math.pi * (x + 1) / 2
         s = a + half * (1 - math.cos(theta))
         ds = half * math.sin(theta) * math.pi / 2
-        rho = stability(rig, equilibrium, speed_rpm=s, settings=settings, verify=False)
+        rho = stability(model, equilibrium, speed_rpm=s, settings=settings, verify=False)
         peak = max(peak, rho.max_multiplier)
         total += w * math.log(rho.max_multiplier) * s / 60 * ds
     return total, peak
@@ -123,27 +125,28 @@ def _log_integral(rig: Rig, equilibrium: str, a: float, b: float, settings) -> t
 
 def low_speed_floor(rig: Rig) -> float:
     """The speed below which the peak pivot acceleration is under LOW_ACCEL_FRACTION g."""
-    from ..model.drive import peak_phase_accel_m
-    per = peak_phase_accel_m(rig.drive)
+    per = drv.peak_phase_accel_m(rig.drive)
     if per <= 0:
         return math.inf
     omega = math.sqrt(LOW_ACCEL_FRACTION * rig.g_m_s2 / per)
     return omega * 60 / (2 * math.pi)
 
 
-def crossings(rig: Rig, equilibrium: str, start_rpm: float, end_rpm: float, rate_rpm_s: float,
-              factor: float = DEFAULT_FACTOR) -> tuple[list[Crossing], int]:
+def crossings(rig: Rig | Model, equilibrium: str, start_rpm: float, end_rpm: float,
+              rate_rpm_s: float, factor: float = DEFAULT_FACTOR) -> tuple[list[Crossing], int]:
     """Unstable intervals met between two speeds at the operating stroke, and evaluations."""
+    model = as_model(rig)
+    rig = model.rig
     lo, hi = sorted((start_rpm, end_rpm))
-    lo = max(lo, low_speed_floor(rig), scan_floor_rpm(rig))
+    lo = max(lo, low_speed_floor(rig), scan_floor_rpm(model))
     if lo >= hi:
         return [], 0
     stroke = rig.drive.stroke_m
-    corners = [with_operating_point(rig, speed_rpm=v) for v in (lo, hi)]
-    settings = scan_settings(rig, equilibrium, corners)
-    probe = Probe(rig, equilibrium, lambda x: (x, stroke), settings)
+    corners = [model.at(speed_rpm=v) for v in (lo, hi)]
+    settings = scan_settings(model, equilibrium, corners)
+    probe = Probe(model, equilibrium, lambda x: (x, stroke), settings)
     s0 = probe(lo)
-    edges = list(walk(probe, lo, s0, speed_points(rig, lo, hi)))
+    edges = list(walk(probe, lo, s0, speed_points(model, lo, hi)))
     intervals, open_at = [], None if s0.stable else lo
     for e in edges:
         if not e.gained:
@@ -155,10 +158,10 @@ def crossings(rig: Rig, equilibrium: str, start_rpm: float, end_rpm: float, rate
         intervals.append((open_at, hi))
     out = []
     for a, b in intervals:
-        integral, peak = _log_integral(rig, equilibrium, a, b, settings)
+        integral, peak = _log_integral(model, equilibrium, a, b, settings)
         frozen = math.exp(min(integral / rate_rpm_s, 700.0))
         cycles = (b * b - a * a) / 120.0 / rate_rpm_s
-        simulated = (ramp_amplification(rig, equilibrium, a, b, rate_rpm_s)
+        simulated = (ramp_amplification(model, equilibrium, a, b, rate_rpm_s)
                      if cycles <= MAX_SIMULATED_CYCLES and integral / rate_rpm_s < MAX_LOG_GROWTH
                      else None)
         # ln(simulated) ~ I / R + ln(prefactor): correct the rate once for the prefactor
@@ -171,14 +174,17 @@ def crossings(rig: Rig, equilibrium: str, start_rpm: float, end_rpm: float, rate
     return out, probe.count + GAUSS_POINTS * len(intervals)
 
 
-def runup(rig: Rig, *, rate_rpm_s: float, start_rpm: float = 0.0, end_rpm: float | None = None,
-          factor: float = DEFAULT_FACTOR, equilibria=EQUILIBRIA) -> dict:
+def runup(rig: Rig | Model, *, rate_rpm_s: float, start_rpm: float = 0.0,
+          end_rpm: float | None = None, factor: float = DEFAULT_FACTOR,
+          equilibria=EQUILIBRIA) -> dict:
     """Run-up from ``start_rpm`` to ``end_rpm`` (default: the operating speed) and the
     run-down back; plain data for JSON and the page."""
     if not (rate_rpm_s > 0 and math.isfinite(rate_rpm_s)):
         raise ValueError(f"rate_rpm_s: {rate_rpm_s!r} must be a finite number above 0 rpm/s")
     if not (factor > 1 and math.isfinite(factor)):
         raise ValueError(f"factor: {factor!r} must be a finite number above 1")
+    model = as_model(rig)
+    rig = model.rig
     end = rig.drive.speed_rpm if end_rpm is None else end_rpm
     if not (start_rpm >= 0 and end > 0):
         raise ValueError("start_rpm and end_rpm: speeds must be at least 0 rpm")
@@ -190,7 +196,7 @@ def runup(rig: Rig, *, rate_rpm_s: float, start_rpm: float = 0.0, end_rpm: float
                        "low-speed floor the pivot's peak acceleration is under "
                        f"{LOW_ACCEL_FRACTION:g} g and nothing is taken to grow")}
     for eq in equilibria:
-        found, count = crossings(rig, eq, start_rpm, end, rate_rpm_s, factor)
+        found, count = crossings(model, eq, start_rpm, end, rate_rpm_s, factor)
         result["evaluations"] += count
         items = [c.__dict__ for c in found]
         result[eq] = {

@@ -11,7 +11,8 @@ from dataclasses import dataclass
 from .floquet import Stability
 from .lines import (PHASE_STEP, SPEED_STEP, STROKE_POINTS, Probe, scan_settings, speed_points,
                     stroke_points, walk)
-from ..model.rig import Rig, max_stroke_m, with_operating_point
+from ..model.derived import Model, as_model
+from ..model.rig import Rig, max_stroke_m
 from .reach import floor_words, scan_floor_rpm
 
 
@@ -39,30 +40,33 @@ def _first_edge(probe: Probe, start: float, s0: Stability, stop: float, points):
     return stop, False
 
 
-def window(rig: Rig, equilibrium: str, axis: str, s0: Stability | None = None) -> Window:
+def window(rig: Rig | Model, equilibrium: str, axis: str,
+           s0: Stability | None = None) -> Window:
     """The speed (rpm) or stroke (m) window of ``equilibrium`` around the operating point."""
+    model = as_model(rig)
+    rig = model.rig
     if axis not in ("speed", "stroke"):
         raise ValueError(f"axis: {axis!r} is not 'speed' or 'stroke'")
     speed, stroke = rig.drive.speed_rpm, rig.drive.stroke_m
     note = ""
     if axis == "speed":
         lo, hi = max(rig.limits.speed_rpm[0], 1e-6), rig.limits.speed_rpm[1]
-        if lo < scan_floor_rpm(rig) < hi:  # slower scans would not end in reasonable time
-            lo = scan_floor_rpm(rig)
+        if lo < scan_floor_rpm(model) < hi:  # slower scans would not end in reasonable time
+            lo = scan_floor_rpm(model)
             note = "the speed window stops at the slowest speed this method resolves: " + \
-                floor_words(rig)
+                floor_words(model)
         here = speed
-        corners = [with_operating_point(rig, speed_rpm=v) for v in (lo, hi)]
+        corners = [model.at(speed_rpm=v) for v in (lo, hi)]
 
         def point(x):
             return x, stroke
 
         def points(end):
-            return speed_points(rig, here, end)
+            return speed_points(model, here, end)
     else:
         lo, hi = rig.limits.stroke_m[0], max_stroke_m(rig)
         here = stroke
-        corners = [with_operating_point(rig, stroke_m=v) for v in (lo, hi)]
+        corners = [model.at(stroke_m=v) for v in (lo, hi)]
 
         def point(x):
             return speed, x
@@ -73,7 +77,7 @@ def window(rig: Rig, equilibrium: str, axis: str, s0: Stability | None = None) -
     if not lo <= here <= hi:
         return Window(axis, None, None, message="the operating point is outside the limits")
     low_points, high_points = points(lo), points(hi)
-    probe = Probe(rig, equilibrium, point, scan_settings(rig, equilibrium, corners + [rig]))
+    probe = Probe(model, equilibrium, point, scan_settings(model, equilibrium, corners + [model]))
     s0 = probe(here)
     if not s0.stable:
         return Window(axis, None, None, evaluations=probe.count,

@@ -76,32 +76,23 @@ def chain(rig: Rig) -> Chain:
                  tuple(link.joint_friction_N_m for link in rig.links))
 
 
-def linearise(rig: Rig, equilibrium: str) -> LinearModel:
+def linear_model(ch: Chain, equilibrium: str) -> LinearModel:
     """M, D, K of the chain linearised about ``"inverted"`` or ``"hanging"``.
 
-    They depend on the links alone, not on the drive, so a scan over speed and stroke
-    reuses them (cached by the links' numbers).
+    They depend on the links alone, not on the drive: an analysis derives them once
+    (``derived.derive``) and moves its operating point without touching them.
     """
     if equilibrium not in EQUILIBRIA:
         raise ValueError(f"equilibrium: {equilibrium!r} is not one of {EQUILIBRIA}")
-    key = tuple((lk.length_m, lk.rod_mass_kg, tuple((p.mass_kg, p.at_m) for p in lk.point_masses),
-                 lk.extra_inertia_kg_m2, lk.joint_damping_N_m_s, lk.joint_friction_N_m)
-                for lk in rig.links)
-    model = _LINEAR_CACHE.get((key, equilibrium))
-    if model is None:
-        ch = chain(rig)
-        n = rig.n_links
-        sign = -1.0 if equilibrium == "inverted" else 1.0
-        K = [[sign * ch.a_kg_m[i] if i == j else 0.0 for j in range(n)] for i in range(n)]
-        model = LinearModel(equilibrium, ch.coupling, ch.damping, _freeze(K))
-        if len(_LINEAR_CACHE) >= _LINEAR_CACHE_SIZE:
-            _LINEAR_CACHE.clear()
-        _LINEAR_CACHE[(key, equilibrium)] = model
-    return model
+    n = len(ch.a_kg_m)
+    sign = -1.0 if equilibrium == "inverted" else 1.0
+    K = [[sign * ch.a_kg_m[i] if i == j else 0.0 for j in range(n)] for i in range(n)]
+    return LinearModel(equilibrium, ch.coupling, ch.damping, _freeze(K))
 
 
-_LINEAR_CACHE: dict = {}
-_LINEAR_CACHE_SIZE = 256  # rigs remembered (a fit or a page session visits a few)
+def linearise(rig: Rig, equilibrium: str) -> LinearModel:
+    """M, D, K of the rig's chain about ``equilibrium`` (see ``linear_model``)."""
+    return linear_model(chain(rig), equilibrium)
 
 
 def _freeze(rows) -> tuple[tuple[float, ...], ...]:

@@ -15,7 +15,7 @@ import math
 from dataclasses import dataclass
 
 from ..numerics.symeig import generalized_eigh
-from .linear import chain
+from .linear import Chain, chain
 from .rig import Rig
 
 
@@ -35,8 +35,12 @@ class Modes:
 
 def modes(rig: Rig) -> Modes:
     """The rig's sway modes (the same about upright and hanging: only K's sign differs)."""
-    ch = chain(rig)
-    n = rig.n_links
+    return modes_of(chain(rig))
+
+
+def modes_of(ch: Chain) -> Modes:
+    """Sway modes from the rig's already derived chain (``derived.derive`` calls this)."""
+    n = len(ch.a_kg_m)
     stiff = [[ch.a_kg_m[i] if i == j else 0.0 for j in range(n)] for i in range(n)]
     lams, x = generalized_eigh(stiff, [list(r) for r in ch.coupling])
     order = list(range(n))  # lambdas ascending: lengths descending

@@ -6,7 +6,7 @@ import math
 from dataclasses import dataclass
 
 from ..numerics.linalg import eigvals, inverse, matmul
-from .linear import chain
+from .linear import Chain, chain
 from .rig import OutOfReach, Problem, Rig
 
 
@@ -27,7 +27,12 @@ class RigProperties:
 
 
 def properties(rig: Rig) -> RigProperties:
-    ch = chain(rig)
+    """The rig's mass properties and fixed-pivot frequencies."""
+    return properties_of(rig, chain(rig))
+
+
+def properties_of(rig: Rig, ch: Chain) -> RigProperties:
+    """Properties from the rig's already derived chain (``derived.derive`` calls this)."""
     n = rig.n_links
     offsets = [sum(ch.length_m[:i]) for i in range(n)]  # each joint's distance from the pivot
     moment = sum(ch.first_moment_kg_m[i] + ch.mass_kg[i] * offsets[i] for i in range(n))

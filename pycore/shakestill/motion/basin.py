@@ -25,7 +25,7 @@ from .dynamics import model
 from ..equilibria.estimates import estimates
 from ..equilibria.floquet import stability
 from .simulation import simulate
-from ..model.properties import properties
+from ..model.derived import derive
 from ..model.rig import Rig
 from .tolerance import HORIZONTAL, fall_steps, relay, run_scenario, run_seconds
 
@@ -200,14 +200,15 @@ def basin_steps(rig: Rig, *, size: int = MAP_SIZE, angle_max_rad: float = HORIZO
         raise ValueError(f"refine: {refine!r} must be a whole number from 1 to 16")
     if not 0 < angle_max_rad <= HORIZONTAL:
         raise ValueError(f"angle_max_rad: {angle_max_rad!r} must be above 0 and at most pi/2")
+    derived = derive(rig)
     if rate_max_rad_s is None:
-        est = estimates(rig).knock_estimate_rad_s
-        rate_max_rad_s = 2 * (est or math.sqrt(rig.g_m_s2 / properties(rig).l_eq_m))
+        est = estimates(derived).knock_estimate_rad_s
+        rate_max_rad_s = 2 * (est or math.sqrt(rig.g_m_s2 / derived.properties.l_eq_m))
     if not rate_max_rad_s > 0:
         raise ValueError(f"rate_max_rad_s: {rate_max_rad_s!r} must be above 0")
     if not (isinstance(validate, int) and 0 <= validate <= size * size):
         raise ValueError(f"validate: {validate!r} must be a whole number from 0 to size^2")
-    slow = stability(rig, "inverted").slow_frequency_hz or None
+    slow = stability(derived, "inverted").slow_frequency_hz or None
     run = run_s or run_seconds(rig, slow)
     f = rig.drive.frequency_hz
     run_cycles = math.ceil(run * f)

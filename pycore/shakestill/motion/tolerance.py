@@ -28,7 +28,7 @@ from ..equilibria.estimates import estimates
 from ..equilibria.floquet import stability
 from .scenario import Scenario
 from .simulation import simulate
-from ..model.properties import properties
+from ..model.derived import derive
 from ..model.rig import Rig
 
 MIN_RUN_S = 10.0  # the recovery run lasts at least this long ...
@@ -47,8 +47,9 @@ def run_seconds(rig: Rig, slow_frequency_hz: float | None = None) -> float:
     """max(10 s, 20 slow periods), with the exact slow frequency of the inverted position."""
     f = slow_frequency_hz
     if f is None:
-        s = stability(rig, "inverted")
-        f = s.slow_frequency_hz or estimates(rig).inverted_slow_frequency_hz
+        derived = derive(rig)
+        s = stability(derived, "inverted")
+        f = s.slow_frequency_hz or estimates(derived).inverted_slow_frequency_hz
     return max(MIN_RUN_S, SLOW_PERIODS / f) if f else MIN_RUN_S
 
 
@@ -218,8 +219,9 @@ class Tolerance:
 
 def tolerance_steps(rig: Rig):
     """Generator of progress fractions; returns the Tolerance (StopIteration.value)."""
-    s = stability(rig, "inverted")
-    est = estimates(rig)
+    derived = derive(rig)
+    s = stability(derived, "inverted")
+    est = estimates(derived)
     if not s.stable:
         return Tolerance(False, 0.0, 0.0, None, None, est.knock_estimate_rad_s,
                          est.crest_angle_rad, 0.0, message=(
@@ -227,7 +229,7 @@ def tolerance_steps(rig: Rig):
                              f"multiplier {s.max_multiplier:.4g}): any disturbance grows"))
     run = run_seconds(rig, s.slow_frequency_hz or None)
     m = model(rig)
-    rate_scale = est.knock_estimate_rad_s or math.sqrt(rig.g_m_s2 / properties(rig).l_eq_m)
+    rate_scale = est.knock_estimate_rad_s or math.sqrt(rig.g_m_s2 / derived.properties.l_eq_m)
     knock = yield from _scaled(edge_steps(
         lambda x: fall_steps(rig, 0.0, x, run, m),
         rate_scale / SCAN_STEPS, 20 * rate_scale), 0.0, 0.5)

@@ -1,0 +1,99 @@
+"""The rig's model, derived once per analysis and handed down.
+
+``derive(rig)`` builds one frozen record of everything that follows from the
+rig's numbers: the chain's mass properties, its sway modes, each
+equilibrium's linear model (M, D, K and the first-order matrices M^-1 K and
+M^-1 D with their fastest rates) and the drive's harmonics at the operating
+point. The analyses take the record instead of the rig; moving the operating
+point along a scan (``Model.at``) replaces the drive and its harmonics only,
+since the links do not change.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, replace
+
+from ..numerics.linalg import eigvals, inverse, matmul
+from . import drive as drv
+from .linear import EQUILIBRIA, Chain, LinearModel, chain, linear_model
+from .modes import Modes, modes_of
+from .properties import RigProperties, properties_of
+from .rig import OutOfReach, Problem, Rig, with_operating_point
+
+Matrix = tuple[tuple[float, ...], ...]
+
+
+@dataclass(frozen=True)
+class EquilibriumModel:
+    """One equilibrium's linear model in the forms the analyses use."""
+
+    linear: LinearModel
+    B: Matrix  # M^-1 K
+    C: Matrix  # M^-1 D
+    stiffness_rate: float  # max |eig B|: the fastest stiffness rate per unit of g + y_p''
+    damping_rate: float  # max |eig C| (0 without dampers)
+
+
+@dataclass(frozen=True)
+class Model:
+    """Everything derived from a rig once: hand this down instead of the rig."""
+
+    rig: Rig
+    chain: Chain
+    properties: RigProperties
+    modes: Modes
+    inverted: EquilibriumModel
+    hanging: EquilibriumModel
+    harmonics: drv.Harmonics  # of d2y/dphi2 at the operating stroke
+    damped: bool  # some joint has a damper
+
+    def of(self, equilibrium: str) -> EquilibriumModel:
+        if equilibrium == "inverted":
+            return self.inverted
+        if equilibrium == "hanging":
+            return self.hanging
+        raise ValueError(f"equilibrium: {equilibrium!r} is not one of {EQUILIBRIA}")
+
+    def at(self, speed_rpm: float | None = None, stroke_m: float | None = None) -> "Model":
+        """The same model at another operating point (the links' part is shared)."""
+        rig = with_operating_point(self.rig, speed_rpm=speed_rpm, stroke_m=stroke_m)
+        if rig is self.rig:
+            return self
+        if rig.drive.stroke_m == self.rig.drive.stroke_m:  # the cycle's shape is speed-free
+            return replace(self, rig=rig)
+        return replace(self, rig=rig, harmonics=drv.harmonics(rig.drive))
+
+
+def _freeze(rows) -> Matrix:
+    return tuple(tuple(float(x) for x in row) for row in rows)
+
+
+def _equilibrium(ch: Chain, name: str, damped: bool) -> EquilibriumModel:
+    lin = linear_model(ch, name)
+    m_inv = inverse([list(r) for r in lin.M])
+    B = matmul(m_inv, [list(r) for r in lin.K])
+    C = matmul(m_inv, [list(r) for r in lin.D])
+    stiff = max(abs(ev) for ev in eigvals(B))
+    damp = max(abs(ev) for ev in eigvals(C)) if damped else 0.0
+    return EquilibriumModel(lin, _freeze(B), _freeze(C), stiff, damp)
+
+
+def derive(rig: Rig) -> Model:
+    """The rig's model: mass properties, modes, both equilibria's linear models and the
+    drive's harmonics at the operating point."""
+    ch = chain(rig)
+    damped = any(link.joint_damping_N_m_s > 0 for link in rig.links)
+    props = properties_of(rig, ch)  # names the problem itself when M is singular
+    try:
+        inverted, hanging = (_equilibrium(ch, name, damped) for name in EQUILIBRIA)
+        sway = modes_of(ch)
+    except (ArithmeticError, ValueError) as exc:  # eigenvalues not converged
+        raise OutOfReach([Problem("links", "outside what this method can resolve: the "
+                                           f"chain's linear model could not be formed ({exc})")]
+                         ) from None
+    return Model(rig, ch, props, sway, inverted, hanging, drv.harmonics(rig.drive), damped)
+
+
+def as_model(rig_or_model: Rig | Model) -> Model:
+    """A Model as given, or derived from a Rig (public entry points take either)."""
+    return rig_or_model if isinstance(rig_or_model, Model) else derive(rig_or_model)
