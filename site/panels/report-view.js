@@ -128,6 +128,13 @@ function estimates(result) {
         h("th", { scope: "row" }, label), h("td", {}, guess), h("td", {}, exact || "—"))))));
 }
 
+/** The core's cautions (the same words as the command line) replace the page's opening list. */
+export function showCautions(list, cautions) {
+  if (list.dataset.source === "core") return;
+  replaceChildren(list, cautions.map((text) => h("li", {}, text)));
+  list.dataset.source = "core";
+}
+
 export function createReport(el, strip, onCautions = () => {}) {
   const status = h("p", { class: "report-status", role: "status" });
   // Screen readers hear the verdict when it changes, not the whole report on every edit.

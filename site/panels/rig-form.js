@@ -265,5 +265,17 @@ export function createRigForm(root, { getDraft, onEdit, onStructure, onFocusSect
     if (go) focus(go.dataset.goto);
   });
 
-  return { render, showProblems, focus };
+  /** A point picked on the map becomes the operating point: typed into the sheet like an edit. */
+  function typeOperatingPoint({ speed_rpm, stroke_m }) {
+    const put = (path, text) => {
+      const input = root.querySelector(`[data-path="${path}"]`);
+      if (!input) return;
+      input.value = text;
+      input.dispatchEvent(new Event("input", { bubbles: true }));
+    };
+    put("drive.speed_rpm", `${speed_rpm} rpm`);
+    if (stroke_m !== undefined) put("drive.stroke_m", `${Number((stroke_m * 1000).toFixed(6))} mm`);
+  }
+
+  return { render, showProblems, focus, typeOperatingPoint };
 }

@@ -1,0 +1,107 @@
+// The work panels (map, run-up, motion, tolerance, loads, fit) made on their page elements,
+// and the two things every one of them hears: the rig changed, the check has a new result.
+
+import { createChartView } from "./chart-view.js";
+import { createFitView } from "./fit-view.js";
+import { createLoadsView } from "./loads-view.js";
+import { createMotionView } from "./motion-view.js";
+import { createRunupView } from "./runup-view.js";
+import { createToleranceView } from "./tolerance-view.js";
+
+/**
+ * ``page`` gives: engine, getRig(), onPick(point) for a point picked on the map,
+ * useRig(rig) to put fitted numbers on the sheet, restoreRig() to take them back.
+ */
+export function mountPanels($, { engine, getRig, onPick, useRig, restoreRig }) {
+  const chart = createChartView({
+    holder: $("stability-chart"),
+    progress: $("chart-progress"),
+    status: $("chart-status"),
+    cancel: $("chart-cancel"),
+    redraw: $("chart-redraw"),
+    axisInputs: document.querySelectorAll('input[name="chart-axis"]'),
+    readout: $("chart-readout"),
+    note: $("chart-note"),
+  }, { engine, onPick });
+
+  const runup = createRunupView({
+    form: $("runup-form"),
+    rate: $("runup-rate"),
+    start: $("runup-start"),
+    factor: $("runup-factor"),
+    messages: $("runup-messages"),
+    out: $("runup-result"),
+  }, { engine, getRig });
+
+  const motion = createMotionView({
+    form: $("motion-form"),
+    start: $("motion-start"),
+    angle: $("motion-angle"),
+    duration: $("motion-duration"),
+    knock: $("motion-knock"),
+    knockGo: $("motion-knock-go"),
+    status: $("motion-status"),
+    progress: $("motion-progress"),
+    cancel: $("motion-cancel"),
+    anim: $("motion-anim"),
+    play: $("motion-play"),
+    time: $("motion-time"),
+    clock: $("motion-clock"),
+    slow: $("motion-slow"),
+    strobe: $("motion-strobe"),
+    events: $("motion-events"),
+    plot: $("motion-plot"),
+    msgs: { angle: $("motion-angle-msg"), duration: $("motion-duration-msg"), knock: $("motion-knock-msg") },
+  }, { engine, getRig });
+
+  const tolerance = createToleranceView({
+    go: $("tolerance-go"),
+    basinGo: $("basin-go"),
+    size: $("basin-size"),
+    cancel: $("tolerance-cancel"),
+    progress: $("tolerance-progress"),
+    status: $("tolerance-status"),
+    out: $("tolerance-result"),
+    basin: $("basin-map"),
+  }, { engine, getRig });
+
+  const fit = createFitView({
+    form: $("fit-form"),
+    file: $("fit-file"),
+    sample: $("fit-sample"),
+    log: $("fit-log"),
+    source: $("fit-log-source"),
+    msgs: $("fit-log-msgs"),
+    stopped: $("fit-stopped"),
+    go: $("fit-go"),
+    cancel: $("fit-cancel"),
+    progress: $("fit-progress"),
+    status: $("fit-status"),
+    out: $("fit-result"),
+    plot: $("fit-plot"),
+    apply: $("fit-apply"),
+    applyNote: $("fit-apply-note"),
+    undo: $("fit-undo"),
+  }, { engine, getRig, useRig, restoreRig });
+
+  const loads = createLoadsView({ go: $("loads-go"), out: $("loads-result") },
+    { engine, getRig, getEquilibrium: () => motion.reference });
+
+  return {
+    chart,
+    /** Every panel hears of a new rig; the map's own redraw is the caller's to time. */
+    rigChanged(rig) {
+      runup.rigChanged();
+      motion.rigChanged(rig);
+      tolerance.rigChanged(rig);
+      loads.rigChanged(rig);
+      fit.rigChanged(rig);
+      return chart.setRig(rig);
+    },
+    /** The check's result marks the operating point on the map and in the motion panel. */
+    checked(result) {
+      chart.setOperatingPoint(result);
+      motion.setOperatingPoint(result);
+    },
+  };
+}

@@ -1,0 +1,112 @@
+// The rig on the sheet: its draft (texts as typed) and view, autosave, the previous rig
+// kept on every replacement, the read-only preview of a link's rig, and the last session's
+// rig restored at start (a damaged one set aside, never overwritten). The screen is told
+// through the callbacks it is given; this module draws nothing itself.
+
+import { draftFromRig, rigFromDraft } from "./draft.js";
+import { download } from "./rig-file.js";
+import { autosave } from "./storage.js";
+
+const AUTOSAVE_OFF = "Autosave: off (this browser blocks storage; save a rig file)";
+
+/**
+ * ``screen`` gives: render() the sheet, changed(delay) after any change of rig,
+ * notice(text, actions), chip(id, text, state), preview(on) the sheet read-only or not,
+ * waiting(text) an empty sheet's words.
+ */
+export function createCurrentRig(screen) {
+  const rig = {
+    draft: null, // what the sheet holds
+    preview: null, // a link's rig shown (read-only) until the engine has checked the link
+    view: { v: 1, focus: "pendulum" },
+
+    /** The draft the sheet shows: the link's preview while there is one. */
+    shown: () => rig.preview || rig.draft,
+
+    /** The rig as the engine reads it (null before there is one). */
+    current: () => rig.draft && rigFromDraft(rig.draft),
+
+    save() {
+      if (!rig.draft) return;
+      const ok = autosave.save(rig.draft, rig.view);
+      screen.chip("chip-autosave", ok ? "Autosave: on" : AUTOSAVE_OFF, ok ? "on" : "off");
+    },
+
+    focus(section) {
+      rig.view.focus = section;
+      rig.save();
+    },
+
+    use(draft, view = null) {
+      rig.draft = draft;
+      if (view && typeof view === "object") rig.view = { ...rig.view, ...view };
+      screen.render();
+      rig.save();
+      screen.changed(0);
+      const section = document.querySelector(`[data-section="${CSS.escape(rig.view.focus || "")}"]`);
+      if (view && section) section.scrollIntoView({ block: "start" });
+    },
+
+    /** Replace the rig with another one, keeping the current one as "previous". */
+    replace(next, view, what) {
+      const had = rig.draft;
+      if (had) autosave.keepPrevious(had, rig.view);
+      rig.use(draftFromRig(next), view);
+      screen.notice(`${what}.`, had ? [{ label: "Bring back my previous rig", run: rig.restorePrevious }] : []);
+    },
+
+    restorePrevious() {
+      const previous = autosave.previous();
+      if (!previous) return;
+      autosave.keepPrevious(rig.draft, rig.view);
+      rig.use(previous.draft, previous.view);
+      screen.notice("Your previous rig is back (the one you just left is kept as previous).",
+        [{ label: "Swap back", run: rig.restorePrevious }]);
+    },
+
+    /** A link's rig on the sheet at once, read-only until the engine has checked the link. */
+    startPreview(linked) {
+      rig.preview = draftFromRig(linked);
+      screen.preview(true);
+      screen.render();
+    },
+
+    endPreview() {
+      if (!rig.preview) return;
+      rig.preview = null;
+      screen.preview(false);
+      if (rig.draft) screen.render();
+      else screen.waiting("The demo rig loads now.");
+    },
+
+    /** The last session's rig; false when there is none (a damaged one is set aside and offered). */
+    restoreSaved() {
+      if (!autosave.available()) screen.chip("chip-autosave", AUTOSAVE_OFF, "off");
+      const saved = autosave.load();
+      if (saved) {
+        try {
+          rigFromDraft(saved.draft); // throws on a draft of the wrong shape
+          rig.draft = saved.draft;
+          if (saved.view && typeof saved.view === "object") rig.view = { ...rig.view, ...saved.view };
+          screen.render();
+          return true;
+        } catch {
+          autosave.setAside(true);
+        }
+      } else if (!autosave.setAside()) {
+        screen.waiting("The demo rig loads when the engine has started.");
+        return false;
+      }
+      screen.waiting("The demo rig loads when the engine has started.");
+      screen.notice("The rig saved in this browser last time could not be read (it is damaged), so the demo "
+        + "rig is shown instead. The damaged copy is kept: download it to look at it or send it to us.",
+      [{ label: "Download the damaged copy", run: () => download("shakestill-damaged-autosave.txt", autosave.damagedText()) }]);
+      return false;
+    },
+
+    /** The last fresh check kept for exactly this rig, if any. */
+    lastCheck: () => rig.draft && autosave.checkFor(rigFromDraft(rig.draft)),
+    keepCheck: (checked, reply) => autosave.keepCheck(checked, reply),
+  };
+  return rig;
+}
