@@ -13,7 +13,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass, replace
 
-from ..numerics.linalg import eigvals, inverse, matmul
+from ..numerics.linalg import inverse, matmul
+from ..numerics.symeig import generalized_eigh
 from . import drive as drv
 from .linear import EQUILIBRIA, Chain, LinearModel, chain, linear_model
 from .modes import Modes, modes_of
@@ -73,9 +74,15 @@ def _equilibrium(ch: Chain, name: str, damped: bool) -> EquilibriumModel:
     m_inv = inverse([list(r) for r in lin.M])
     B = matmul(m_inv, [list(r) for r in lin.K])
     C = matmul(m_inv, [list(r) for r in lin.D])
-    stiff = max(abs(ev) for ev in eigvals(B))
-    damp = max(abs(ev) for ev in eigvals(C)) if damped else 0.0
+    # eig(M^-1 K) and eig(M^-1 D) are those of the symmetric-definite pencils (K, M) and
+    # (D, M): real, and found by Cholesky and Jacobi, which converge for any scale of numbers
+    stiff = _largest(generalized_eigh(lin.K, lin.M)[0])
+    damp = _largest(generalized_eigh(lin.D, lin.M)[0]) if damped else 0.0
     return EquilibriumModel(lin, _freeze(B), _freeze(C), stiff, damp)
+
+
+def _largest(values) -> float:
+    return max(abs(v) for v in values)
 
 
 def derive(rig: Rig) -> Model:
