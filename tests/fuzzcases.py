@@ -73,3 +73,62 @@ def damaged_link(rnd: random.Random) -> str:
         return damage(link_text().encode(), rnd).decode("latin-1")
     payload = damage(json.dumps({"rig": ss.demo_rig_dict(), "view": {}}).encode(), rnd)
     return "#s1." + base64.urlsafe_b64encode(zlib.compress(payload, 9)).decode().rstrip("=")
+
+
+# ---------------------------------------------------------------- numbers changed, shape kept
+# A rig file whose shape is intact but whose numbers are anything: most such files load, so
+# the analyses themselves (not only the reader) meet extreme, tiny, negative and odd values.
+
+LINK_NUMBERS = ("length_m", "rod_mass_kg", "extra_inertia_kg_m2", "joint_damping_N_m_s",
+                "joint_friction_N_m")
+SCALES = tuple(10.0 ** k for k in range(-9, 10, 3))  # the original times 1e-9 .. 1e9
+ODD = (0.0, -0.0, -1.0, 1e-300, 5e-324, 1e300, math.inf, math.nan, 2 ** 53 + 1.0)
+
+
+def number_paths(data: dict) -> list[tuple]:
+    """Where the numbers of a rig dict sit, as key paths."""
+    paths = [("g_m_s2",), ("drive", "stroke_m"), ("drive", "speed_rpm"),
+             ("limits", "speed_rpm", 0), ("limits", "speed_rpm", 1),
+             ("limits", "stroke_m", 0), ("limits", "stroke_m", 1)]
+    if "rod_length_m" in data["drive"]:
+        paths.append(("drive", "rod_length_m"))
+    for i, link in enumerate(data["links"]):
+        paths += [("links", i, key) for key in LINK_NUMBERS if key in link]
+        for j, _ in enumerate(link.get("point_masses", [])):
+            paths += [("links", i, "point_masses", j, "mass_kg"),
+                      ("links", i, "point_masses", j, "at_m")]
+    return paths
+
+
+def renumbered(data: dict, changes) -> dict:
+    """A copy of ``data`` with each (path, how) applied: how is ("scale", factor),
+    ("odd", value) or ("waveform", name)."""
+    out = json.loads(json.dumps(data))
+    for path, (kind, value) in changes:
+        if kind == "waveform":
+            out["drive"]["waveform"] = value
+            continue
+        holder = out
+        for key in path[:-1]:
+            holder = holder[key]
+        holder[path[-1]] = holder[path[-1]] * value if kind == "scale" else value
+    return out
+
+
+def random_changes(data: dict, rnd: random.Random) -> list:
+    paths = number_paths(data)
+    changes = []
+    for _ in range(rnd.randint(1, 4)):
+        roll = rnd.random()
+        if roll < 0.7:
+            changes.append((rnd.choice(paths), ("scale", rnd.choice(SCALES) * rnd.uniform(0.5, 2))))
+        elif roll < 0.9:
+            changes.append((rnd.choice(paths), ("odd", rnd.choice(ODD))))
+        else:
+            changes.append(((), ("waveform", rnd.choice(("sine", "crank")))))
+    return changes
+
+
+def rig_bytes(data: dict) -> bytes:
+    """The rig file's bytes as a user's tool might write them (NaN and Infinity included)."""
+    return json.dumps(data, indent=1, allow_nan=True).encode()

@@ -9,7 +9,7 @@ import sys
 
 from ..model import share
 from ..model.demo import demo_rig_dict
-from ..model.rig import Problem, RigError, with_operating_point
+from ..model.rig import Problem, RigError, outside_reach, with_operating_point
 from ..model.rigfile import dumps_rig, loads_rig, rig_from_dict
 from ..model.safejson import MAX_TEXT_CHARS, decode_text
 from ..model.units import UnitError, allowed_units, parse_quantity
@@ -88,6 +88,9 @@ def quantity(text: str | None, kind: str, option: str, *, minimum: float | None 
     if minimum is not None and not value >= minimum:
         raise RigError([Problem(option, f"{text!r} is not allowed: it must be at least "
                                         f"{minimum:g}")])
+    allowed = outside_reach(value, kind)
+    if allowed:
+        raise RigError([Problem(option, f"{text!r} is {allowed}")])
     return value
 
 
@@ -152,6 +155,10 @@ class Reader:
             bound = (f"at least {minimum:g}" if minimum is not None else
                      f"above {above:g}" if above is not None else "finite")
             self.problems.append(Problem(where, f"{raw!r} is not allowed: it must be {bound}"))
+            return None
+        allowed = outside_reach(value, kind)
+        if allowed:
+            self.problems.append(Problem(where, f"{raw!r} is {allowed}"))
             return None
         return value
 

@@ -20,7 +20,7 @@ from .lines import PHASE_STEP, Probe, edge_between, scan_settings, speed_points,
 from ..model.linear import EQUILIBRIA
 from ..model.derived import Model, as_model
 from ..model.rig import OutOfReach, Problem, Rig, max_stroke_m, with_operating_point
-from .reach import floor_words, scan_floor_rpm
+from .reach import CEILING_WORDS, MAX_SPEED_RPM, floor_words, scan_floor_rpm
 
 COARSE_EVERY = 8  # first pass walks every 8th row whole; the rest follow their edges
 CHART_SPEED_STEP = 0.1  # relative speed step of a whole-row walk (peaks are still searched)
@@ -186,7 +186,7 @@ def speed_range(model: Rig | Model) -> tuple[float, float]:
     if floor >= hi:
         raise OutOfReach([Problem("limits.speed_rpm", f"{[lo, hi]} rpm is outside what this "
                                   f"method can resolve: {floor_words(model)}")])
-    return max(lo, 1e-6, floor), hi
+    return max(lo, 1e-6, floor), min(hi, max(MAX_SPEED_RPM, lo))
 
 
 def _y_range(rig: Rig, y_axis: str) -> tuple[float, float]:
@@ -262,6 +262,9 @@ def chart_steps(rig: Rig | Model, *, rows: int | None = None, y_axis: str = "str
     if lo > max(rig.limits.speed_rpm[0], 1e-6):
         notes += (f"the chart starts at {lo:.4g} rpm, above the rig's lowest speed: "
                   + floor_words(model),)
+    if hi < rig.limits.speed_rpm[1]:
+        notes += (f"the chart stops at {hi:.4g} rpm, below the rig's highest speed: "
+                  + CEILING_WORDS,)
     order = _row_order(rows)
     marks = tongues(model)
     coarse = sorted(order[:len(set(range(0, rows, COARSE_EVERY)) | {rows - 1})])

@@ -13,6 +13,8 @@ from __future__ import annotations
 from ..model.derived import Model, as_model
 from ..model.rig import OutOfReach, Problem, Rig
 
+MAX_SPEED_RPM = 1e6  # the fastest drive the scans go to: a rig for a pendulum runs far below,
+# and past it the drive's terms (omega^2 near 1e300 for limits typed as 1e300) overflow
 MAX_TONGUE_ORDER = 50  # tongues a speed scan steps through below the drive, at most
 MAX_EVALUATIONS = 6000  # stability evaluations on one scan line (a rig inside the reach
 # needs a few hundred; this bounds a line of Hill's determinants to seconds)
@@ -37,9 +39,17 @@ def floor_words(model: Rig | Model) -> str:
             "resonances to resolve")
 
 
+CEILING_WORDS = (f"above {MAX_SPEED_RPM:g} rpm the drive is outside the range this method is "
+                 "built for")
+
+
 def require_in_reach(model: Rig | Model) -> None:
-    """OutOfReach naming drive.speed_rpm when the operating speed is below the scan floor."""
+    """OutOfReach naming drive.speed_rpm when the operating speed is below the scan floor
+    or above MAX_SPEED_RPM."""
     speed = as_model(model).rig.drive.speed_rpm
+    if speed > MAX_SPEED_RPM:
+        raise OutOfReach([Problem("drive.speed_rpm", f"{speed:g} rpm is outside what this "
+                                  f"method can resolve: {CEILING_WORDS}")])
     if speed < scan_floor_rpm(model):
         raise OutOfReach([Problem("drive.speed_rpm", f"{speed:g} rpm is outside "
                                   f"what this method can resolve: {floor_words(model)}")])

@@ -26,7 +26,7 @@ from ..numerics.linalg import eigvals, matmul
 from ..numerics.rk import STAGE_NODES, fundamental_matrix
 from .floquet import stability
 from .lines import Probe, scan_settings, speed_points, walk
-from .reach import scan_floor_rpm
+from .reach import MAX_SPEED_RPM, scan_floor_rpm
 
 GAUSS_POINTS = 20  # per interval, after the cosine map that absorbs sqrt edge behaviour
 LOW_ACCEL_FRACTION = 0.05  # below this peak pivot acceleration (in g) nothing is assumed to grow
@@ -139,6 +139,7 @@ def crossings(rig: Rig | Model, equilibrium: str, start_rpm: float, end_rpm: flo
     rig = model.rig
     lo, hi = sorted((start_rpm, end_rpm))
     lo = max(lo, low_speed_floor(rig), scan_floor_rpm(model))
+    hi = min(hi, MAX_SPEED_RPM)
     if lo >= hi:
         return [], 0
     stroke = rig.drive.stroke_m

@@ -13,7 +13,7 @@ from .lines import (PHASE_STEP, SPEED_STEP, STROKE_POINTS, Probe, scan_settings,
                     stroke_points, walk)
 from ..model.derived import Model, as_model
 from ..model.rig import Rig, max_stroke_m
-from .reach import floor_words, scan_floor_rpm
+from .reach import CEILING_WORDS, MAX_SPEED_RPM, floor_words, scan_floor_rpm
 
 
 @dataclass(frozen=True)
@@ -48,13 +48,17 @@ def window(rig: Rig | Model, equilibrium: str, axis: str,
     if axis not in ("speed", "stroke"):
         raise ValueError(f"axis: {axis!r} is not 'speed' or 'stroke'")
     speed, stroke = rig.drive.speed_rpm, rig.drive.stroke_m
-    note = ""
+    low_note = high_note = ""
     if axis == "speed":
         lo, hi = max(rig.limits.speed_rpm[0], 1e-6), rig.limits.speed_rpm[1]
         if lo < scan_floor_rpm(model) < hi:  # slower scans would not end in reasonable time
             lo = scan_floor_rpm(model)
-            note = "the speed window stops at the slowest speed this method resolves: " + \
+            low_note = "the speed window stops at the slowest speed this method resolves: " + \
                 floor_words(model)
+        if hi > MAX_SPEED_RPM:
+            hi = max(MAX_SPEED_RPM, lo)
+            high_note = "the speed window stops at the fastest speed this method resolves: " + \
+                CEILING_WORDS
         here = speed
         corners = [model.at(speed_rpm=v) for v in (lo, hi)]
 
@@ -87,5 +91,7 @@ def window(rig: Rig | Model, equilibrium: str, axis: str,
     resolution = (f"scanned every {100 * SPEED_STEP:g}% of speed or {PHASE_STEP:g} of a tongue "
                   "spacing, each local peak searched" if axis == "speed" else
                   f"scanned {STROKE_POINTS} strokes across the range, each local peak searched")
+    notes = [note for note, clipped in ((low_note, low == lo and not low_edge),
+                                        (high_note, high == hi and not high_edge)) if clipped]
     return Window(axis, low, high, low_edge, high_edge, probe.count, resolution,
-                  note if low == lo and not low_edge else "")
+                  "; ".join(n for n in notes if n))

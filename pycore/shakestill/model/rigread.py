@@ -11,9 +11,9 @@ import json
 import math
 from typing import Any
 
-from .rig import (AIR_DENSITY, FORMAT, MAX_CRANK_RATIO, MAX_LINKS, MIN_SAMPLES,
-                  STANDARD_GRAVITY, VERSION, WAVEFORMS, Drive, Limits, Link, PointMass, Problem,
-                  Rig, RigError)
+from .rig import (AIR_DENSITY, FORMAT, GRAVITY_REACH, MAX_CRANK_RATIO, MAX_LINKS, MIN_LINK_M,
+                  MIN_SAMPLES, REACH, STANDARD_GRAVITY, VERSION, WAVEFORMS, Drive, Limits, Link,
+                  PointMass, Problem, Rig, RigError, outside_reach)
 from .safejson import non_finite_problems
 from .units import UnitError, parse_quantity
 
@@ -41,9 +41,10 @@ class _Reader:
         return self.value(obj[key], where, kind=kind, unit=unit, **bounds)
 
     def value(self, raw: Any, where: str, *, kind: str, unit: str,
-              minimum: float | None = None,
-              exclusive_minimum: float | None = None) -> float | None:
-        """Read a finite number (or a string with a unit) and check its bound."""
+              minimum: float | None = None, exclusive_minimum: float | None = None,
+              reach: tuple[float | None, float] | None = None) -> float | None:
+        """Read a finite number (or a string with a unit) and check its bounds, then its
+        magnitude against what the methods are built for (``reach``, default by kind)."""
         try:
             value = parse_quantity(raw, kind)
         except UnitError as exc:
@@ -58,6 +59,13 @@ class _Reader:
         if exclusive_minimum is not None and value <= exclusive_minimum:
             self.fail(where, f"{_show(raw)} is not allowed: it must be greater than "
                              f"{exclusive_minimum:g} {unit}")
+            return None
+        allowed = outside_reach(value, kind, reach=reach,
+                                signed=minimum is None and exclusive_minimum is None)
+        if allowed:
+            zero = ("" if exclusive_minimum is not None or "a size" not in allowed
+                    else " (or 0)")
+            self.fail(where, f"{_show(raw)} is {allowed}{zero}")
             return None
         return value
 
@@ -112,7 +120,8 @@ def _read_link(r: _Reader, raw: Any, path: str) -> Link | None:
     obj = r.obj(raw, path)
     if obj is None:
         return None
-    length = r.number(obj, "length_m", path, kind="length", unit="m", exclusive_minimum=0.0)
+    length = r.number(obj, "length_m", path, kind="length", unit="m", exclusive_minimum=0.0,
+                      reach=(MIN_LINK_M, REACH["length"][1]))
     rod = r.number(obj, "rod_mass_kg", path, kind="mass", unit="kg", default=0.0, minimum=0.0)
     inertia = r.number(obj, "extra_inertia_kg_m2", path, kind="inertia", unit="kg m^2",
                        default=0.0, minimum=0.0)
@@ -170,7 +179,8 @@ def _read_samples(r: _Reader, obj: dict, path: str) -> tuple[float, ...] | None:
         return None
     values = []
     for i, item in enumerate(raw):
-        v = r.value(item, f"{where}[{i}]", kind="length", unit="m")
+        v = r.value(item, f"{where}[{i}]", kind="length", unit="m",
+                    reach=(None, REACH["length"][1]))  # a sample may be any small size
         if v is None:
             return None
         values.append(v)
@@ -210,7 +220,8 @@ def _read_drive(r: _Reader, raw: Any) -> Drive | None:
     stroke = r.number(obj, "stroke_m", path, kind="length", unit="m", minimum=0.0)
     rod = 0.0
     if waveform == "crank":
-        rod = r.number(obj, "rod_length_m", path, kind="length", unit="m", exclusive_minimum=0.0)
+        rod = r.number(obj, "rod_length_m", path, kind="length", unit="m", exclusive_minimum=0.0,
+                       reach=(MIN_LINK_M, REACH["length"][1]))
         if rod is not None and stroke is not None and not stroke / 2.0 < rod:
             r.fail("drive.rod_length_m", f"{_show(obj['rod_length_m'])} is not allowed: the "
                                          f"connecting rod must be longer than the crank radius "
@@ -250,7 +261,7 @@ def rig_from_dict(data: Any, *, with_warnings: bool = False):
         r.fail("title", f"{_show(title)} is not allowed: the title is text")
         title = ""
     g = r.number(obj, "g_m_s2", "", kind="acceleration", unit="m/s^2",
-                 default=STANDARD_GRAVITY, exclusive_minimum=0.0)
+                 default=STANDARD_GRAVITY, exclusive_minimum=0.0, reach=GRAVITY_REACH)
     rho = r.number(obj, "air_density_kg_m3", "", kind="plain", unit="kg/m^3",
                    default=AIR_DENSITY, minimum=0.0)
     links: list[Link] = []
