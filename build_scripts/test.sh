@@ -7,4 +7,7 @@ cd "$top"
 if [ -f build_scripts/build_site.py ]; then
   python build_scripts/build_site.py
 fi
-python -m pytest "$@"
+# pytest-xdist: whole test files per worker (module fixtures are built once); more workers than
+# the two cores because the page and Pyodide tests mostly wait on the browser and Node.
+# SHAKESTILL_TEST_WORKERS=0 runs in one process.
+python -m pytest -n "${SHAKESTILL_TEST_WORKERS:-4}" --dist loadfile "$@"

@@ -1,0 +1,127 @@
+"""Mutation score of the engine's analysis modules with mutmut (PyPI), and the survivors.
+
+    python bench/mutation.py                 # every listed module, the fast engine tests
+    python bench/mutation.py --modules equilibria/estimates.py equilibria/check.py
+    python bench/mutation.py --report        # print the last run's score and survivors again
+
+mutmut expects the package under ./ or src/; the engine lives in pycore/. So this script
+stages a copy of the working tree's engine as build/mutation/src/shakestill with the tests
+and a pyproject.toml that configures mutmut, runs `mutmut run` there (it prints progress),
+and prints the score: killed / (killed + survived + timeout-free others), with every survivor
+by name. Survivors judged equivalent are listed, with why, in DEVELOPERS.md ("Mutation score
+and coverage"); the score printed here counts them as survivors (the raw score) and again
+without the ones listed in EQUIVALENT below.
+
+Slow on two cores (hours for every module): not part of CI. Pass --jobs to use more cores.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import os
+import re
+import shutil
+import subprocess
+import sys
+from pathlib import Path
+
+TOP = Path(__file__).resolve().parent.parent
+STAGE = TOP / "build" / "mutation"
+
+# The analysis modules issue 12 names (stability/floquet, estimates, check, windows, lines,
+# chart, runup, hill, loads, fit).
+MODULES = [
+    "equilibria/floquet.py", "equilibria/lines.py", "equilibria/windows.py",
+    "equilibria/estimates.py", "equilibria/check.py", "equilibria/chart.py",
+    "equilibria/runup.py", "numerics/hill.py", "motion/loads.py", "fit/fitting.py",
+]
+# The fast engine tests that exercise those modules (the slow long-run cases and the
+# Pyodide/browser passes are left out: each mutant re-runs the tests that reach it).
+TESTS = [
+    "tests/test_check_fields.py", "tests/test_windows.py", "tests/test_ref_kapitza.py",
+    "tests/test_ref_mathieu.py", "tests/test_hill.py", "tests/test_ref_crank.py",
+    "tests/test_ref_monodromy.py", "tests/test_loads.py", "tests/test_fit.py",
+    "tests/test_stability_chart.py", "tests/test_runup.py", "tests/test_other_json.py",
+]
+# Survivors judged equivalent (the mutant computes the same numbers), by mutmut's name, with
+# the reason; DEVELOPERS.md carries the same list.
+EQUIVALENT: dict[str, str] = {}
+
+
+def stage(modules: list[str], tests: list[str]) -> None:
+    if STAGE.exists():
+        shutil.rmtree(STAGE)
+    (STAGE / "src").mkdir(parents=True)
+    shutil.copytree(TOP / "pycore" / "shakestill", STAGE / "src" / "shakestill",
+                    ignore=shutil.ignore_patterns("__pycache__"))
+    shutil.copytree(TOP / "tests", STAGE / "tests",
+                    ignore=shutil.ignore_patterns("__pycache__", "browser"))
+    present = [t for t in tests if (TOP / t).is_file()]
+    only = ", ".join(f'"src/shakestill/{m}"' for m in modules)
+    args = ", ".join(f'"{t}"' for t in present)
+    (STAGE / "pyproject.toml").write_text(f"""\
+[tool.mutmut]
+source_paths = ["src"]
+only_mutate = [{only}]
+pytest_add_cli_args_test_selection = [{args}]
+pytest_add_cli_args = ["-p", "no:cacheprovider", "-m", "not pyodide and not browser and not slow"]
+use_git_change_detection = false
+
+[tool.pytest.ini_options]
+markers = ["pyodide: -", "browser: -", "slow: -"]
+""")
+
+
+def results() -> dict[str, str]:
+    out = subprocess.run([sys.executable, "-m", "mutmut", "results", "--all", "true"],
+                         cwd=STAGE, capture_output=True, text=True)
+    status = {}
+    for line in out.stdout.splitlines():
+        m = re.match(r"\s*(\S+): (.+)$", line)
+        if m:
+            status[m.group(1)] = m.group(2).strip()
+    return status
+
+
+def report() -> int:
+    status = results()
+    counts: dict[str, int] = {}
+    for s in status.values():
+        counts[s] = counts.get(s, 0) + 1
+    killed = counts.get("killed", 0) + counts.get("timeout", 0)
+    survivors = sorted(k for k, s in status.items() if s == "survived")
+    judged = [k for k in survivors if k in EQUIVALENT]
+    tested = killed + len(survivors)
+    print("mutants by status:", json.dumps(counts, sort_keys=True))
+    if tested:
+        print(f"mutation score: {killed} killed of {tested} tested = {100 * killed / tested:.1f}%")
+        live = tested - len(judged)
+        print(f"without {len(judged)} judged equivalent: {killed} of {live} = "
+              f"{100 * killed / max(live, 1):.1f}%")
+    for k in survivors:
+        print("survived:", k, "(equivalent: " + EQUIVALENT[k] + ")" if k in EQUIVALENT else "")
+    return 0
+
+
+def main() -> int:
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--modules", nargs="+", default=MODULES, help="paths under pycore/shakestill")
+    ap.add_argument("--tests", nargs="+", default=TESTS)
+    ap.add_argument("--jobs", type=int, default=2, help="mutmut --max-children (default 2)")
+    ap.add_argument("--report", action="store_true", help="only print the last run's results")
+    a = ap.parse_args()
+    if a.report:
+        return report()
+    stage(a.modules, a.tests)
+    env = {k: v for k, v in os.environ.items() if k != "PYTHONPATH"}  # mutmut's src/ only
+    env["PYTHONPATH"] = str(STAGE / "tests")  # the tests' own helpers (refsolvers)
+    run = subprocess.run([sys.executable, "-m", "mutmut", "run", "--max-children", str(a.jobs)],
+                         cwd=STAGE, env=env)
+    if run.returncode not in (0, 1):
+        print(f"mutmut run ended with {run.returncode}", file=sys.stderr)
+    return report()
+
+
+if __name__ == "__main__":
+    sys.exit(main())
