@@ -37,12 +37,16 @@ const rig = createCurrentRig({
     else delete sheet.dataset.preview;
   },
   waiting: (text) => replaceChildren(sheet, h("p", { class: "empty" }, text)),
+  history: (canUndo, canRedo) => {
+    $("undo").disabled = !canUndo;
+    $("redo").disabled = !canRedo;
+  },
 });
 
 const form = createRigForm(sheet, {
   getDraft: rig.shown,
-  onEdit: () => follow.edited(),
-  onStructure: () => follow.edited(),
+  onEdit: (path) => { rig.edited(path); follow.edited(); },
+  onStructure: (what) => { rig.edited(what); follow.edited(); },
   onFocusSection: rig.focus,
 });
 sheet.addEventListener("submit", (event) => event.preventDefault());
@@ -85,6 +89,8 @@ opening.start();
 wireToolbar($, {
   engine, form, notice,
   replaceRig: rig.replace,
+  undo: rig.undo,
+  redo: rig.redo,
   loadDemo: opening.loadDemo,
   getDraft: () => rig.draft,
   getView: () => rig.view,

@@ -70,7 +70,7 @@ export function createOpening({ engine, rig, report, notice, render, untouched }
       return; // no cached verdict: the engine's own comes when it has started
     }
     if (!cached || rig.draft || engine.state !== "starting") return;
-    rig.draft = draftFromRig(cached.rig);
+    rig.begin(draftFromRig(cached.rig));
     render();
     rig.save();
     report.showCached(cached.reply, "build");

@@ -7,10 +7,22 @@ import { Cancelled } from "../engine/worker-client.js";
 
 /**
  * Wire the toolbar's buttons. ``page`` gives: engine, getDraft(), getView(), form,
- * notice(text, actions), replaceRig(rig, view, what), loadDemo(announce).
+ * notice(text, actions), replaceRig(rig, view, what), loadDemo(announce), undo(), redo().
  */
 export function wireToolbar($, page) {
-  const { engine, getDraft, getView, form, notice, replaceRig, loadDemo } = page;
+  const { engine, getDraft, getView, form, notice, replaceRig, loadDemo, undo, redo } = page;
+  $("undo").addEventListener("click", undo);
+  $("redo").addEventListener("click", redo);
+  // Ctrl/Cmd+Z and Ctrl/Cmd+Shift+Z (or Ctrl+Y) outside text fields, whose own undo stays theirs.
+  document.addEventListener("keydown", (event) => {
+    if (!(event.ctrlKey || event.metaKey) || event.altKey) return;
+    if (event.target.closest("input, textarea, select, [contenteditable]")) return;
+    const key = event.key.toLowerCase();
+    if (key === "z" && !event.shiftKey) undo();
+    else if ((key === "z" && event.shiftKey) || key === "y") redo();
+    else return;
+    event.preventDefault();
+  });
   $("load-demo").addEventListener("click", () => loadDemo(true));
 
   $("save-file").addEventListener("click", async () => {

@@ -8,13 +8,47 @@ import { download } from "./rig-file.js";
 import { autosave } from "./storage.js";
 
 const AUTOSAVE_OFF = "Autosave: off (this browser blocks storage; save a rig file)";
+// Typing in one field is one undo step until a pause this long; a gesture that types several
+// fields at once (a point picked on the map) is one step when its edits come this close.
+const TYPING_PAUSE_MS = 1000;
+const ONE_GESTURE_MS = 50;
+const MAX_STEPS = 200; // undo steps kept (each a copy of the sheet's texts)
+
+const copy = (draft) => JSON.parse(JSON.stringify(draft));
 
 /**
  * ``screen`` gives: render() the sheet, changed(delay) after any change of rig,
  * notice(text, actions), chip(id, text, state), preview(on) the sheet read-only or not,
- * waiting(text) an empty sheet's words.
+ * waiting(text) an empty sheet's words, history(canUndo, canRedo) the undo buttons' state.
  */
 export function createCurrentRig(screen) {
+  // Page-wide undo over every change to the rig: ``past`` holds the sheet's drafts as they
+  // were before each step, ``settled`` the draft as it was after the last change (the form
+  // edits the draft in place, so the state before a keystroke must be kept beforehand).
+  const history = { past: [], future: [], settled: null, lastPath: null, lastTime: 0 };
+
+  function step(before) {
+    history.past.push(before);
+    if (history.past.length > MAX_STEPS) history.past.shift();
+    history.future = [];
+  }
+
+  function settle() {
+    history.settled = rig.draft ? copy(rig.draft) : null;
+    screen.history(history.past.length > 0, history.future.length > 0);
+  }
+
+  function travel(from, to) {
+    if (!from.length || !rig.draft) return;
+    to.push(copy(rig.draft));
+    rig.draft = from.pop();
+    history.lastPath = null;
+    settle();
+    screen.render();
+    rig.save();
+    screen.changed(0);
+  }
+
   const rig = {
     draft: null, // what the sheet holds
     preview: null, // a link's rig shown (read-only) until the engine has checked the link
@@ -37,8 +71,17 @@ export function createCurrentRig(screen) {
       rig.save();
     },
 
-    use(draft, view = null) {
+    /** The first rig of a visit (the last session's, or the build's demo): no undo step. */
+    begin(draft) {
       rig.draft = draft;
+      settle();
+    },
+
+    use(draft, view = null) {
+      if (rig.draft && JSON.stringify(rig.draft) !== JSON.stringify(draft)) step(copy(rig.draft));
+      rig.draft = draft;
+      history.lastPath = null;
+      settle();
       if (view && typeof view === "object") rig.view = { ...rig.view, ...view };
       screen.render();
       rig.save();
@@ -64,6 +107,21 @@ export function createCurrentRig(screen) {
         [{ label: "Swap back", run: rig.restorePrevious }]);
     },
 
+    /** The sheet's draft has just been edited at ``path``: one undo step per burst of typing. */
+    edited(path) {
+      const now = Date.now();
+      const gap = now - history.lastTime;
+      if (history.settled && (gap > TYPING_PAUSE_MS || (path !== history.lastPath && gap > ONE_GESTURE_MS))) {
+        step(history.settled);
+      }
+      history.lastPath = path;
+      history.lastTime = now;
+      settle();
+    },
+
+    undo: () => travel(history.past, history.future),
+    redo: () => travel(history.future, history.past),
+
     /** A link's rig on the sheet at once, read-only until the engine has checked the link. */
     startPreview(linked) {
       rig.preview = draftFromRig(linked);
@@ -86,7 +144,7 @@ export function createCurrentRig(screen) {
       if (saved) {
         try {
           rigFromDraft(saved.draft); // throws on a draft of the wrong shape
-          rig.draft = saved.draft;
+          rig.begin(saved.draft);
           if (saved.view && typeof saved.view === "object") rig.view = { ...rig.view, ...saved.view };
           screen.render();
           return true;
