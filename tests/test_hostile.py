@@ -277,3 +277,19 @@ def test_numbers_outside_the_methods_reach_are_refused_by_name(path, where, outs
     assert json.dumps(outside) in problem.message  # the value as the file gives it
     assert "outside what this method can resolve" in problem.message
     ss.rig_from_dict(fc.renumbered(data, [(path, ("odd", inside))]))
+
+
+def test_a_mass_a_hair_from_its_joint_is_refused_at_once():
+    # found by the numbers fuzz (bench/fuzz_long.py, seed 11): the bob at 0.2 micrometres
+    # from the pivot made a pendulum 2e-7 m long, and Hill's determinant asked for some 8,000
+    # rows of the crank's band (over 30 s). The shortest sway mode, 0.025 kg at 2.05e-7 m
+    # (l_eq = at_m for a point mass, common practice, no source), is named and refused.
+    data = ss.demo_rig_dict()
+    data["links"][0]["rod_mass_kg"] = 0.0
+    data["links"][0]["point_masses"][0]["at_m"] = 2.05e-7
+    start = time.perf_counter()
+    with pytest.raises(ss.RigError) as caught:
+        ss.check(ss.rig_from_dict(data))
+    assert time.perf_counter() - start < 60  # a hang bound, not a speed target
+    problem = caught.value.problems[0]
+    assert problem.path == "links" and "2.05e-07 m" in problem.message

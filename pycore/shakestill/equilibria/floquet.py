@@ -27,6 +27,8 @@ CONVERGENCE_TOLERANCE = 1e-8  # accepted change of the multipliers under refinem
 MIN_STEPS = 24  # RK steps per cycle, never fewer
 STEP_PHASE = 0.2  # target of (fastest linear rate) x (step) for the 8th-order step
 MAX_STEPS = 4000  # a cycle finer than this is not worth it: report non-convergence
+MAX_HILL_WORK = 4_000_000  # rows x band width^2 of one Hill determinant (about 2 s): a
+# stroke of 1e5 pendulum lengths asked for 8,000 rows of a crank's band and half a minute
 
 
 @dataclass(frozen=True)
@@ -133,6 +135,12 @@ def _hill_stability(m: Model, equilibrium: str, settings: Settings,
     form = hill_form(m, equilibrium, settings.harmonics)
     R = max(settings.truncation or default_truncation(form.theta0, form.theta),
             len(form.theta))
+    if (2 * R + 1) * (2 * len(form.theta) + 1) ** 2 > MAX_HILL_WORK:
+        raise OutOfReach([Problem("drive.stroke_m", "outside what this method can resolve: "
+                                  f"Hill's determinant would need {R} rows at a stroke of "
+                                  f"{m.rig.drive.stroke_m:g} m, "
+                                  f"{m.rig.drive.stroke_m / m.properties.l_eq_m:.3g} times "
+                                  "the pendulum's equivalent length")])
     trace = hill_trace(form.theta0, form.theta, R)
     error, converged, message = 0.0, True, ""
     if verify:

@@ -19,7 +19,7 @@ from . import drive as drv
 from .linear import EQUILIBRIA, Chain, LinearModel, chain, linear_model
 from .modes import Modes, modes_of
 from .properties import RigProperties, properties_of
-from .rig import OutOfReach, Problem, Rig, with_operating_point
+from .rig import MIN_LINK_M, OutOfReach, Problem, Rig, with_operating_point
 
 Matrix = tuple[tuple[float, ...], ...]
 
@@ -98,6 +98,11 @@ def derive(rig: Rig) -> Model:
         raise OutOfReach([Problem("links", "outside what this method can resolve: the "
                                            f"chain's linear model could not be formed ({exc})")]
                          ) from None
+    shortest = min(sway.lengths_m)
+    if not shortest >= MIN_LINK_M:  # a mass at (or a hair from) its joint: no pendulum
+        raise OutOfReach([Problem("links", "outside what this method can resolve: the "
+                                  f"shortest sway mode is a pendulum {shortest:.3g} m long, "
+                                  f"under {MIN_LINK_M:g} m (is a mass sitting at its joint?)")])
     return Model(rig, ch, props, sway, inverted, hanging, drv.harmonics(rig.drive), damped)
 
 
