@@ -24,7 +24,8 @@ const { notice, hide: hideNotice, chip } = createNotices($);
 const sheet = $("rig-sheet");
 
 const report = createReport($("check-report"), $("verdict-strip"),
-  (cautions) => showCautions(document.querySelector(".safety .cautions"), cautions));
+  (cautions) => showCautions(document.querySelector(".safety .cautions"), cautions),
+  (path) => form.focus(path));
 
 const rig = createCurrentRig({
   render: () => form.render(),

@@ -4,6 +4,7 @@
 // new result; a bad edit keeps the old result on view, marked stale.
 
 import { h, replaceChildren } from "../lib/dom.js";
+import { describePath } from "../state/rig-fields.js";
 
 /** A number for reading: 4 significant figures, no trailing zeros. */
 export function num(x, digits = 4) {
@@ -135,7 +136,11 @@ export function showCautions(list, cautions) {
   list.dataset.source = "core";
 }
 
-export function createReport(el, strip, onCautions = () => {}) {
+/**
+ * The check report in ``el`` and the verdict strip; ``onCautions(list)`` gets the core's
+ * cautions, ``onGoto(path)`` is asked to focus a field the strip names.
+ */
+export function createReport(el, strip, onCautions = () => {}, onGoto = () => {}) {
   const status = h("p", { class: "report-status", role: "status" });
   // Screen readers hear the verdict when it changes, not the whole report on every edit.
   const announce = h("p", { class: "visually-hidden", role: "status" });
@@ -143,13 +148,23 @@ export function createReport(el, strip, onCautions = () => {}) {
   const body = h("div", { class: "report-body" }, el.querySelector(".empty") || "");
   replaceChildren(el, status, announce, bar, body);
 
-  function setState(name, words) {
+  function setState(name, words, problem = null) {
     el.dataset.state = name;
     el.setAttribute("aria-busy", name === "running" || name === "pending" ? "true" : "false");
     status.textContent = words || "";
     status.hidden = !words;
     strip.dataset.state = name;
     strip.querySelector(".strip-stale").hidden = name !== "stale";
+    strip.querySelector(".strip-fix").hidden = !problem;
+    if (problem) stripNames(problem);
+    else strip.querySelector(".strip-stale").textContent = "results are from the last good rig";
+  }
+
+  /** While the rig has a problem no verdict looks current: the strip says which field. */
+  function stripNames(problem) {
+    strip.querySelector(".strip-stale").textContent = `Check paused: ${describePath(problem.path)}: `
+      + `${problem.message}`;
+    strip.querySelector(".strip-fix").onclick = () => onGoto(problem.path);
   }
 
   function updateStrip(result) {
@@ -223,7 +238,8 @@ export function createReport(el, strip, onCautions = () => {}) {
       const n = problems.length;
       setState("stale", hasResult()
         ? `Showing the last good result: ${n} problem${n === 1 ? "" : "s"} in the rig sheet (marked there).`
-        : `No result yet: ${n} problem${n === 1 ? "" : "s"} in the rig sheet (marked there).`);
+        : `No result yet: ${n} problem${n === 1 ? "" : "s"} in the rig sheet (marked there).`,
+      problems[0] || null);
     },
     failed(message) {
       bar.hidden = true;

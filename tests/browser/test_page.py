@@ -206,3 +206,28 @@ def test_missing_python_wasm_fails_fast_in_words(context, server):
     page, reason = blocked_start(context, server, "**/pyodide.asm.wasm", 30_000)
     assert reason.startswith("Could not download Python"), reason
     assert page.get_attribute("#chip-engine", "data-state") == "failed"
+
+
+def test_a_bad_value_turns_the_strip_neutral_and_names_the_field(page, server):
+    # While an input is invalid no verdict looks current: the strip's verdict words lose their
+    # stable/unstable colours, the strip names the field in the validator's words, and its
+    # button puts the cursor in that field.
+    open_page(page, server.url)
+    ok_colour = page.evaluate("getComputedStyle(document.querySelector("
+                              "'.strip-item[data-eq=inverted] .strip-word')).color")
+    page.fill('[data-path="drive.speed_rpm"]', "fast")
+    wait_for_stale(page)
+    data = demo_dict()
+    data["drive"]["speed_rpm"] = "fast"
+    with pytest.raises(ss.RigError) as caught:
+        ss.rig_from_dict(data)
+    words = next(p.message for p in caught.value.problems if p.path == "drive.speed_rpm")
+    strip = page.locator("#verdict-strip .strip-stale")
+    assert words in strip.inner_text() and "speed" in strip.inner_text()  # "Drive, speed"
+    neutral = page.evaluate("getComputedStyle(document.querySelector("
+                            "'.strip-item[data-eq=inverted] .strip-word')).color")
+    assert neutral != ok_colour
+    page.locator("body").click(position={"x": 5, "y": 5})
+    page.click("#verdict-strip .strip-fix")
+    assert page.evaluate("document.activeElement.dataset.path") == "drive.speed_rpm"
+    shot(page, "laptop-strip-names-the-field")
