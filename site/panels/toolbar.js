@@ -82,4 +82,11 @@ export function wireToolbar($, page) {
   });
 
   $("print-report").addEventListener("click", () => window.print());
+  // Every printed copy says when it was printed and for which rig (the browser's own
+  // print command too).
+  window.addEventListener("beforeprint", () => {
+    const draft = getDraft();
+    const when = new Date().toLocaleString(undefined, { dateStyle: "medium", timeStyle: "short" });
+    $("print-stamp").textContent = `Printed ${when}. Rig: ${(draft && draft.title) || "(untitled)"}.`;
+  });
 }

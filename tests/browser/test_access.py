@@ -139,3 +139,22 @@ def test_dark_mode_follows_the_system_and_keeps_contrast(new_context, server):
     wait_for_stale(page)
     assert failures(page) == []
     shot(page, "laptop-dark")
+
+
+def test_print_says_when_for_which_rig_and_marks_an_unfinished_map(page, server):
+    # The paper carries the date and the rig's title (filled in on the browser's beforeprint
+    # event), and a map that was still being drawn says so in words, not only by its look.
+    import datetime
+    open_page(page, server.url)
+    title = page.locator('[data-path="title"]').input_value()
+    page.evaluate("window.dispatchEvent(new Event('beforeprint'))")
+    page.emulate_media(media="print")
+    stamp = page.locator("#print-stamp")
+    assert stamp.is_visible()
+    assert title in stamp.inner_text() and str(datetime.date.today().year) in stamp.inner_text()
+    page.evaluate("document.getElementById('stability-chart').dataset.state = 'running'")
+    before = page.evaluate("getComputedStyle(document.getElementById('stability-chart'), "
+                           "'::before').content")
+    assert "Map incomplete" in before
+    page.emulate_media(media="screen")
+    assert not stamp.is_visible()
