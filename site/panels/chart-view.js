@@ -5,6 +5,7 @@
 // axis mapping the core returns with each picture. No physics here.
 
 import { h, replaceChildren } from "../lib/dom.js";
+import { saveCsv, savePng, saveSvg } from "./export.js";
 import { svgNode } from "./schematic-view.js";
 import { Cancelled } from "../engine/worker-client.js";
 
@@ -43,6 +44,7 @@ export function createChartView(els, { engine, onPick }) {
     job: null, // the worker's job number while it runs
     axes: null,
     svg: null,
+    chart: null, // the core's chart data behind the picture
     cursor: null, // {x, y} in axis values
     operating: null, // {speed_rpm, stroke_m, peak_accel_m_s2} from the last check
     point: { seq: 0, timer: 0, last: 0 },
@@ -127,6 +129,8 @@ export function createChartView(els, { engine, onPick }) {
     svg.append(cursorMark());
     els.holder.replaceChildren(svg);
     state.svg = svg;
+    state.chart = step.chart;
+    for (const button of els.save) button.disabled = false;
     state.axes = step.axes;
     els.holder.dataset.axes = JSON.stringify(step.axes);
     els.holder.dataset.rows = String(step.chart.rows.length);
@@ -337,6 +341,24 @@ export function createChartView(els, { engine, onPick }) {
       draw();
     });
   }
+
+  // ------------------------------------------------------------ saving the map
+
+  const fileName = () => `stability-map-${state.yAxis}`;
+  els.save[0].addEventListener("click", () => state.svg && saveSvg(state.svg, fileName()));
+  els.save[1].addEventListener("click", () => state.svg && savePng(state.svg, fileName()));
+  els.save[2].addEventListener("click", () => {
+    if (!state.chart) return;
+    // One line per stable interval of each row: the edges the map is drawn from.
+    const yName = state.chart.y_axis === "stroke" ? "stroke_m" : "peak_accel_m_s2";
+    const rows = [];
+    for (const row of state.chart.rows) {
+      for (const eq of ["inverted", "hanging"]) {
+        for (const [from, to] of row[eq].stable_intervals_rpm) rows.push([row.y, eq, from, to]);
+      }
+    }
+    saveCsv(fileName(), [yName, "equilibrium", "stable_from_rpm", "stable_to_rpm"], rows);
+  });
 
   return {
     /** A new rig on the sheet; returns true if the map must be redrawn for it. */

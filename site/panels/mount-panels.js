@@ -22,6 +22,7 @@ export function mountPanels($, { engine, getRig, onPick, useRig, restoreRig }) {
     axisInputs: document.querySelectorAll('input[name="chart-axis"]'),
     readout: $("chart-readout"),
     note: $("chart-note"),
+    save: [$("chart-save-svg"), $("chart-save-png"), $("chart-save-csv")],
   }, { engine, onPick });
 
   const runup = createRunupView({

@@ -73,8 +73,20 @@ export function wireToolbar($, page) {
       notice(`No link yet: ${why}`);
       return;
     }
-    const link = linkFor(reply.fragment);
     const box = $("share-box");
+    if (location.protocol === "file:") {
+      // A file:// address opens only on this computer: never hand out a link that cannot work.
+      const fragment = `#${String(reply.fragment).replace(/^#/, "")}`;
+      box.value = fragment;
+      const copied = await copyText(fragment, box);
+      notice("This page was opened from a file on this computer, so a link to it would open only "
+        + `here. ${copied ? "The rig's fragment is copied" : "The rig's fragment is in the box"}: `
+        + "a colleague adds it to the end of the address of their own copy of Shakestill "
+        + "(served, or their single file). Or send the rig file itself.",
+      [{ label: "Save the rig file to send", run: () => $("save-file").click() }]);
+      return;
+    }
+    const link = linkFor(reply.fragment);
     box.value = link;
     const copied = await copyText(link, box);
     notice(copied ? "Link copied. It holds the whole rig; nothing is sent to a server."

@@ -7,9 +7,9 @@ export function fileNameFor(title) {
   return `${base || "rig"}.rig.json`;
 }
 
-/** Offer text as a download with the given file name. */
-export function download(fileName, text, type = "application/json") {
-  const url = URL.createObjectURL(new Blob([text], { type }));
+/** Offer text (or a Blob) as a download with the given file name. */
+export function download(fileName, data, type = "application/json") {
+  const url = URL.createObjectURL(data instanceof Blob ? data : new Blob([data], { type }));
   const a = document.createElement("a");
   a.href = url;
   a.download = fileName;

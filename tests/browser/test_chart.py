@@ -276,3 +276,42 @@ def test_tap_on_a_tablet_moves_the_operating_point(new_context, server):
     assert abs(result["speed_rpm"] - speed) <= 0.5 * per_px(a["x"])
     assert abs(result["stroke_m"] - stroke) <= 0.5 * per_px(a["y"])
     shot(page, "tablet-portrait-map-tapped")
+
+
+def test_the_map_saves_as_svg_png_and_csv(map_page, tmp_path):
+    # SVG: the picture as drawn, without the moving cursor. PNG: a true PNG (its signature,
+    # ISO/IEC 15948) twice the SVG's size. CSV: every row's stable intervals, which must be
+    # the command line's `chart --json` of the same rig to 1e-9 (Pyodide and CPython may
+    # differ in the last bits of libm, as in tests/test_pyodide.py).
+    import csv
+    import struct
+    import subprocess
+    import sys
+    import xml.etree.ElementTree as ET
+    page = map_page
+    with page.expect_download() as got:
+        page.click("#chart-save-svg")
+    svg = ET.parse(got.value.path()).getroot()
+    assert svg.tag.endswith("svg") and not svg.findall(".//*[@class='chart-cursor']")
+    width = float(svg.get("viewBox").split()[2])
+    with page.expect_download() as got:
+        page.click("#chart-save-png")
+    png = open(got.value.path(), "rb").read()
+    assert png[:8] == b"\x89PNG\r\n\x1a\n"
+    assert struct.unpack(">I", png[16:20])[0] == round(2 * width)
+    with page.expect_download() as got:
+        page.click("#chart-save-csv")
+    assert got.value.suggested_filename == "stability-map-stroke.csv"
+    lines = list(csv.reader(open(got.value.path())))
+    assert lines[0] == ["stroke_m", "equilibrium", "stable_from_rpm", "stable_to_rpm"]
+    rig = tmp_path / "demo.json"
+    rig.write_text(json.dumps(ss.rig_to_dict(ss.demo_rig())))
+    out = subprocess.run([sys.executable, "-m", "shakestill", "chart", str(rig), "--json"],
+                         capture_output=True, text=True, timeout=600)
+    want = [[row["y"], eq, a, b] for row in json.loads(out.stdout)["rows"]
+            for eq in ("inverted", "hanging") for a, b in row[eq]["stable_intervals_rpm"]]
+    assert len(lines) - 1 == len(want)
+    for got_row, want_row in zip(lines[1:], want):
+        assert got_row[1] == want_row[1]
+        for g, w in zip(map(float, (got_row[0], *got_row[2:])), (want_row[0], *want_row[2:])):
+            assert g == pytest.approx(w, rel=1e-9, abs=1e-12)

@@ -30,3 +30,19 @@ def test_single_file_from_disk_computes(page, offline_file, tmp_path):
     assert_same_numbers(result, cli_check(ss.rig_to_dict(ss.demo_rig()), tmp_path))
     assert page.inner_text("#chip-offline").startswith("Offline: this file")
     shot(page, "laptop-single-file")
+
+
+def test_a_link_from_the_single_file_says_where_it_opens(page, offline_file):
+    # A file:// address opens only on the computer that has the file: the page gives the
+    # fragment (which opens the rig in anyone's copy) and says so, never a link that cannot
+    # work. The fragment decodes to the rig on the sheet (the core's share.decode on CPython).
+    from shakestill.model import share
+    open_page(page, offline_file.as_uri())
+    page.click("#copy-link")
+    page.wait_for_function("() => document.getElementById('share-box').value !== ''")
+    fragment = page.input_value("#share-box")
+    assert fragment.startswith("#") and "file:" not in fragment
+    rig, _ = share.decode(fragment)
+    assert ss.rig_to_dict(ss.rig_from_dict(rig)) == ss.rig_to_dict(ss.demo_rig())
+    words = page.inner_text("#notice-text")
+    assert "opened from a file on this computer" in words and "rig file" in words
