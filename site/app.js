@@ -7,10 +7,12 @@
 import { h, replaceChildren } from "./lib/dom.js";
 import { policy } from "./lib/trusted.js";
 import { createCurrentRig } from "./state/current-rig.js";
+import { keepPanelInputs } from "./state/panel-inputs.js";
 import { draftFromRig } from "./state/draft.js";
 import { bootView } from "./engine/boot-view.js";
 import { registerServiceWorker } from "./engine/offline-copy.js";
 import { EngineClient, startEngineWorker } from "./engine/worker-client.js";
+import { wireSaveButtons } from "./panels/export.js";
 import { followEdits } from "./panels/follow-edits.js";
 import { mountPanels } from "./panels/mount-panels.js";
 import { createNotices, sentence } from "./panels/notices.js";
@@ -78,6 +80,8 @@ const panels = mountPanels($, {
   restoreRig: () => { hideNotice(); rig.restorePrevious(); },
 });
 
+keepPanelInputs(); // after the panels exist: they hear the restored values
+wireSaveButtons();
 const follow = followEdits($, { engine, rig, form, report, panels });
 
 const opening = createOpening({

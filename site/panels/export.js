@@ -52,3 +52,27 @@ export function saveCsv(name, header, rows) {
   const lines = [header, ...rows].map((row) => row.map(cell).join(","));
   download(`${name}.csv`, `${lines.join("\n")}\n`, "text/csv");
 }
+
+/**
+ * Buttons marked `data-save-from="<holder id>"` and `data-save-as="svg"` or `"png"` save the
+ * picture in that holder (its first svg) as ``data-save-name``; each is enabled while its
+ * holder shows a picture.
+ */
+export function wireSaveButtons(root = document) {
+  const buttons = [...root.querySelectorAll("button[data-save-from]")];
+  const pictureIn = (button) => document.getElementById(button.dataset.saveFrom)?.querySelector("svg");
+  const refresh = () => {
+    for (const button of buttons) button.disabled = !pictureIn(button);
+  };
+  for (const button of buttons) {
+    button.addEventListener("click", () => {
+      const svg = pictureIn(button);
+      if (!svg) return;
+      if (button.dataset.saveAs === "png") savePng(svg, button.dataset.saveName);
+      else saveSvg(svg, button.dataset.saveName);
+    });
+    const holder = document.getElementById(button.dataset.saveFrom);
+    if (holder) new MutationObserver(refresh).observe(holder, { childList: true, subtree: true });
+  }
+  refresh();
+}

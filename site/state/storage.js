@@ -38,6 +38,28 @@ function write(key, draft, view) {
   }
 }
 
+// The work panels' inputs (run-up, motion, recovery map, the fit and its pasted log).
+const INPUTS = "shakestill.inputs.v1";
+
+/** The panels' inputs by key, kept apart from the rig so a damaged one never costs the rig. */
+export const panelInputs = {
+  load() {
+    try {
+      const data = JSON.parse(store()?.getItem(INPUTS) || "null");
+      return data && typeof data === "object" && !Array.isArray(data) ? data : {};
+    } catch {
+      return {};
+    }
+  },
+  save(values) {
+    try {
+      store()?.setItem(INPUTS, JSON.stringify(values));
+    } catch {
+      // full or blocked: the inputs are simply not kept
+    }
+  },
+};
+
 export const autosave = {
   load: () => read(KEY),
   save: (draft, view) => write(KEY, draft, view),

@@ -542,3 +542,25 @@ def test_laptop_screenshots(motion_page):
     ARTIFACTS.mkdir(exist_ok=True)
     page.locator("section.motion").screenshot(path=str(ARTIFACTS / "motion-laptop.png"))
     assert page.errors == []
+
+
+def test_the_motion_plot_saves_as_svg_and_png(motion_page):
+    # The saved SVG is the plot on show (same viewBox, same number of polylines: XML parsed by
+    # the standard library); the PNG is a PNG (signature, ISO/IEC 15948) twice its width.
+    import struct
+    import xml.etree.ElementTree as ET
+    page = motion_page
+    button = 'button[data-save-from="motion-plot"][data-save-as="svg"]'
+    page.wait_for_function(f"() => !document.querySelector('{button}').disabled")
+    shown = page.evaluate("""() => { const s = document.querySelector('#motion-plot svg');
+        return [s.getAttribute('viewBox'), s.querySelectorAll('polyline').length]; }""")
+    with page.expect_download() as got:
+        page.click(button)
+    svg = ET.parse(got.value.path()).getroot()
+    polylines = svg.findall(".//{http://www.w3.org/2000/svg}polyline")
+    assert [svg.get("viewBox"), len(polylines)] == shown
+    with page.expect_download() as got:
+        page.click('button[data-save-from="motion-plot"][data-save-as="png"]')
+    png = open(got.value.path(), "rb").read()
+    assert png[:8] == b"\x89PNG\r\n\x1a\n"
+    assert struct.unpack(">I", png[16:20])[0] == round(2 * float(shown[0].split()[2]))

@@ -77,3 +77,27 @@ def test_a_replaced_rig_and_a_picked_point_are_one_step_each(page, server):
     assert page.locator('[data-path="title"]').input_value() == "Bench rig B"
     page.click("#undo")
     assert page.locator('[data-path="title"]').input_value() == title
+
+
+def test_the_panels_inputs_and_a_pasted_log_come_back_after_a_reload(page, server):
+    # Nothing the user typed is lost: the run-up rate, the motion angle and ramp choice, the
+    # fit's options and a pasted log are as they were after the page is reloaded.
+    open_page(page, server.url)
+    log = "t_s,angle_deg\n0.00,20.0\n0.01,19.9\n0.02,19.7\n"
+    page.fill("#runup-rate", "35")
+    page.fill("#motion-angle", "12")
+    page.select_option("#motion-slow", index=0)
+    slow = page.input_value("#motion-slow")
+    page.fill("#fit-log", log)
+    page.check('input[name="fit-what"][value="friction"]')
+    page.check('input[name="fit-zero"][value="inverted"]')
+    page.wait_for_timeout(600)  # the inputs are kept after a pause in typing
+    page.reload()
+    open_page(page, server.url)
+    assert page.input_value("#runup-rate") == "35"
+    assert page.input_value("#motion-angle") == "12"
+    assert page.input_value("#motion-slow") == slow
+    assert page.input_value("#fit-log") == log
+    assert page.is_checked('input[name="fit-what"][value="friction"]')
+    assert page.is_checked('input[name="fit-zero"][value="inverted"]')
+    assert not page.is_checked('input[name="fit-zero"][value="hanging"]')
