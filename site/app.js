@@ -96,6 +96,7 @@ wireToolbar($, {
   replaceRig: rig.replace,
   undo: rig.undo,
   redo: rig.redo,
+  lastCheck: rig.lastCheck,
   loadDemo: opening.loadDemo,
   getDraft: () => rig.draft,
   getView: () => rig.view,

@@ -145,3 +145,25 @@ def test_sketch_is_to_scale_against_its_own_scale_bar():
     top = links[1]
     y_joint, y_bob = float(top.get("y1")), float(bobs[-1].get("cy"))
     assert (y_joint - y_bob) / per_m == pytest.approx(0.1, rel=5e-3)
+
+
+def test_a_link_carries_the_senders_check_only_while_it_stays_short():
+    # Decoded independently (RFC 4648 base64url, RFC 1950 zlib, JSON): the payload holds the
+    # result given with the rig; a result over 60,000 characters is left out (the link
+    # would become unwieldy), and the rig still travels.
+    import base64
+    import zlib
+
+    def payload(fragment):
+        body = fragment[len("s1."):]
+        return json.loads(zlib.decompress(base64.urlsafe_b64decode(body + "=" * (-len(body) % 4))))
+
+    result = {"ok": True, "result": {"title": "Reference rig", "speed_rpm": SPEED}}
+    small = ask("share_encode", rig=rig(), result=result)["fragment"]
+    assert payload(small)["result"] == result
+    big = {"ok": True, "padding": "x" * 70_000}
+    large = ask("share_encode", rig=rig(), result=big)["fragment"]
+    assert "result" not in payload(large) and payload(large)["rig"]["title"] == "Reference rig"
+    refused = json.loads(bridge.handle(json.dumps({"op": "share_encode", "rig": rig(),
+                                                   "result": [1, 2]})))
+    assert refused["ok"] is False and refused["problems"][0]["path"] == "result"

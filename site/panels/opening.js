@@ -4,7 +4,7 @@
 // the rig alone), the demo rig, and the words that waited for the engine.
 
 import { Cancelled } from "../engine/worker-client.js";
-import { clearFragment, currentFragment, peekRig } from "../state/share.js";
+import { clearFragment, currentFragment, peekLink } from "../state/share.js";
 import { draftFromRig } from "../state/draft.js";
 import { sentence } from "./notices.js";
 
@@ -46,12 +46,19 @@ export function createOpening({ engine, rig, report, notice, render, untouched }
     if (!rig.draft) await loadDemo(false);
   }
 
-  /** A link's rig in the sheet at once, read-only until the engine has decoded and checked it. */
+  /** A link's rig in the sheet at once, read-only until the engine has decoded and checked
+   * it, with the sender's result for that same rig (if the link carries one) marked as such. */
   async function previewLink() {
     const fragment = currentFragment();
-    const linked = fragment ? await peekRig(fragment) : null;
+    const linked = fragment ? await peekLink(fragment) : null;
     if (!linked || engine.state !== "starting" || currentFragment() !== fragment) return;
-    rig.startPreview(linked);
+    rig.startPreview(linked.rig);
+    if (!linked.result) return;
+    try {
+      report.showCached(linked.result, "link");
+    } catch {
+      report.pending(); // a result the page cannot show: wait for the engine's own
+    }
   }
 
   /** A verdict at once, marked for what it is, while Python starts. */

@@ -229,9 +229,10 @@ export function createReport(el, strip, onCautions = () => {}, onGoto = () => {}
     showCached(reply, source) {
       this.show(reply);
       el.dataset.source = source;
-      setState("cached", source === "build"
-        ? "Worked out when this page was built, for the demo rig: the engine confirms it in a moment."
-        : "From your last visit, for this same rig: the engine confirms it in a moment.");
+      setState("cached", {
+        build: "Worked out when this page was built, for the demo rig: the engine confirms it in a moment.",
+        link: "Worked out by the page that made this link, for this same rig: the engine confirms it in a moment.",
+      }[source] || "From your last visit, for this same rig: the engine confirms it in a moment.");
     },
     stale(problems) {
       bar.hidden = true;

@@ -7,10 +7,11 @@ import { Cancelled } from "../engine/worker-client.js";
 
 /**
  * Wire the toolbar's buttons. ``page`` gives: engine, getDraft(), getView(), form,
- * notice(text, actions), replaceRig(rig, view, what), loadDemo(announce), undo(), redo().
+ * notice(text, actions), replaceRig(rig, view, what), loadDemo(announce), undo(), redo(),
+ * lastCheck() the engine's check reply for exactly the rig on the sheet, or null.
  */
 export function wireToolbar($, page) {
-  const { engine, getDraft, getView, form, notice, replaceRig, loadDemo, undo, redo } = page;
+  const { engine, getDraft, getView, form, notice, replaceRig, loadDemo, undo, redo, lastCheck } = page;
   $("undo").addEventListener("click", undo);
   $("redo").addEventListener("click", redo);
   // Ctrl/Cmd+Z and Ctrl/Cmd+Shift+Z (or Ctrl+Y) outside text fields, whose own undo stays theirs.
@@ -62,7 +63,9 @@ export function wireToolbar($, page) {
     if (!draft) return;
     let reply;
     try {
-      reply = await engine.request("share_encode", { rig: rigFromDraft(draft), view: getView() });
+      // the result travels only when it was computed for exactly this rig
+      reply = await engine.request("share_encode", { rig: rigFromDraft(draft), view: getView(),
+        result: lastCheck() || undefined });
     } catch (err) {
       if (!(err instanceof Cancelled)) notice(`No link: ${err.message}`);
       return;

@@ -26,6 +26,7 @@ export function createCurrentRig(screen) {
   // were before each step, ``settled`` the draft as it was after the last change (the form
   // edits the draft in place, so the state before a keystroke must be kept beforehand).
   const history = { past: [], future: [], settled: null, lastPath: null, lastTime: 0 };
+  let checked = null; // {rig: JSON text, reply}: this visit's last fresh check
 
   function step(before) {
     history.past.push(before);
@@ -162,9 +163,18 @@ export function createCurrentRig(screen) {
       return false;
     },
 
-    /** The last fresh check kept for exactly this rig, if any. */
-    lastCheck: () => rig.draft && autosave.checkFor(rigFromDraft(rig.draft)),
-    keepCheck: (checked, reply) => autosave.keepCheck(checked, reply),
+    /** The last fresh check for exactly the rig on the sheet (every text as typed), if any:
+     * this visit's (kept in memory, storage or not), else the one stored from the last visit. */
+    lastCheck() {
+      if (!rig.draft) return null;
+      const now = JSON.stringify(rigFromDraft(rig.draft));
+      if (checked && checked.rig === now) return checked.reply;
+      return autosave.checkFor(rigFromDraft(rig.draft));
+    },
+    keepCheck(current, reply) {
+      checked = { rig: JSON.stringify(current), reply };
+      autosave.keepCheck(current, reply);
+    },
   };
   return rig;
 }

@@ -39,10 +39,11 @@ export async function copyText(text, box) {
 }
 
 /**
- * The rig inside a link ("s1." + base64url of zlib-compressed JSON), read for display only
- * (the core decodes and validates it as soon as it runs), or null if it cannot be read.
+ * What a link holds ("s1." + base64url of zlib-compressed JSON): {rig, result}, read for
+ * display only (the core decodes and validates it as soon as it runs), or null if it cannot
+ * be read. ``result`` is the check the sender's page had for this rig, or null.
  */
-export async function peekRig(fragment) {
+export async function peekLink(fragment) {
   try {
     const body = String(fragment).replace(/^#/, "");
     if (!body.startsWith("s1.") || typeof DecompressionStream !== "function") return null;
@@ -50,7 +51,9 @@ export async function peekRig(fragment) {
     const bytes = Uint8Array.from(atob(b64 + "=".repeat((4 - (b64.length % 4)) % 4)), (c) => c.charCodeAt(0));
     const stream = new Blob([bytes]).stream().pipeThrough(new DecompressionStream("deflate"));
     const payload = JSON.parse(await new Response(stream).text());
-    return payload && typeof payload.rig === "object" && payload.rig ? payload.rig : null;
+    if (!payload || typeof payload.rig !== "object" || !payload.rig) return null;
+    const result = payload.result && typeof payload.result === "object" ? payload.result : null;
+    return { rig: payload.rig, result };
   } catch {
     return null;
   }

@@ -118,8 +118,32 @@ def test_a_links_rig_is_in_the_sheet_before_the_engine_has_started(new_context, 
     assert page.input_value('[data-path="title"]') == "Exhibit pendulum, hall 2"
     assert page.evaluate("document.getElementById('rig-sheet').inert") is True
     assert page.get_attribute("#chip-engine", "data-state") != "ready"
-    assert page.get_attribute("#check-report", "data-state") != "cached"  # no other rig's result
+    # the only result it may show before its own is the sender's, for this same rig
+    if page.get_attribute("#check-report", "data-state") == "cached":
+        assert page.get_attribute("#check-report", "data-source") == "link"
+        assert json.loads(page.get_attribute("#check-report", "data-result"))["title"] == \
+            "Exhibit pendulum, hall 2"
     result = wait_for_result(page)
     assert result["title"] == "Exhibit pendulum, hall 2"
     assert page.evaluate("document.getElementById('rig-sheet').inert") is False
     assert page.get_attribute("#rig-sheet", "data-preview") is None
+
+
+def test_a_link_carries_the_senders_result_for_that_rig(new_context, server):
+    # The sender's page checked the rig; the link carries that result, and the receiving page
+    # shows it at once marked as the sender's (data-state cached, data-source link) until its
+    # own engine's result replaces it, which must be the same numbers (the same core).
+    sender = new_context().new_page()
+    sent = edited_rig(sender, server)
+    link = make_link(sender)
+    page = new_context().new_page()
+    page.goto(link)
+    page.wait_for_function("() => document.getElementById('check-report').dataset.state"
+                           " === 'cached'", timeout=10_000)
+    assert page.get_attribute("#check-report", "data-source") == "link"
+    assert page.get_attribute("#chip-engine", "data-state") != "ready"
+    shown = json.loads(page.get_attribute("#check-report", "data-result"))
+    assert shown == sent
+    fresh = wait_for_result(page)
+    assert page.get_attribute("#check-report", "data-state") == "fresh"
+    assert fresh == sent

@@ -69,7 +69,10 @@ def _op_share_encode(request: dict) -> dict:
     view = request.get("view") or {}
     if not isinstance(view, dict):
         raise RigError([Problem("view", "the view state must be an object")])
-    return {"fragment": share.encode(request.get("rig"), view)}
+    result = request.get("result")
+    if result is not None and not isinstance(result, dict):
+        raise RigError([Problem("result", "the check result must be an object")])
+    return {"fragment": share.encode(request.get("rig"), view, result)}
 
 
 @op("share_decode")

@@ -19,12 +19,19 @@ from .safejson import loads_json
 PREFIX = "s1."
 MAX_FRAGMENT = 200_000  # characters; a rig file is a few hundred bytes compressed
 MAX_INFLATED = 2_000_000  # bytes; refuse decompression bombs
+MAX_RESULT_CHARS = 60_000  # a check's result rides along only while the link stays short
 
 
-def encode(rig_data: dict, view: dict | None = None) -> str:
-    """The fragment (without '#') for a rig file object and optional view state."""
+def encode(rig_data: dict, view: dict | None = None, result: dict | None = None) -> str:
+    """The fragment (without '#') for a rig file object, optional view state and optional
+    result: the check the sender's page computed for exactly this rig, shown by the
+    receiving page (marked as the sender's) until its own engine has checked the rig."""
     rig = rig_from_dict(rig_data)  # only valid rigs are shared
     payload = {"rig": rig_to_dict(rig), "view": view or {}}
+    if isinstance(result, dict):
+        text = json.dumps(result, separators=(",", ":"), allow_nan=False)
+        if len(text) <= MAX_RESULT_CHARS:
+            payload["result"] = result
     raw = json.dumps(payload, separators=(",", ":"), sort_keys=True).encode()
     packed = zlib.compress(raw, 9)
     return PREFIX + base64.urlsafe_b64encode(packed).decode().rstrip("=")
