@@ -182,3 +182,25 @@ def test_cli_names_bad_options(tmp_path, monkeypatch, capsys):
     assert "--fit: 'grip' is not allowed" in capsys.readouterr().err
     assert cli.main(["fit", "--log", "missing.csv"]) == 2
     assert "--log: 'missing.csv' cannot be read" in capsys.readouterr().err
+
+
+def test_the_fit_plot_uses_the_logs_own_zero():
+    # A log taken from hanging straight down (a 20 deg free swing, tests' decay_log) is
+    # plotted as the user logged it: every plotted angle within the log's own range of
+    # +-20 deg (not near 180 deg from upright), read back from the SVG's polylines through
+    # the axis mapping the reply gives; the axis says which zero it is.
+    import xml.etree.ElementTree as ET
+    text = decay_log(20.0, duration_s=2.0, step_s=0.02)
+    reply = bridge.call({"op": "fit", "rig": rig_data(2e-4), "log": text, "drive_stopped": True,
+                         "reference": "hanging"})
+    assert reply["ok"], reply
+    assert "from hanging straight down" in reply["svg"]
+    y = reply["axes"]["y"]
+    values = []
+    for line in ET.fromstring(reply["svg"]).iter("{http://www.w3.org/2000/svg}polyline"):
+        for pair in line.get("points").split():
+            py = float(pair.split(",")[1])
+            values.append(y["min"] + (py - y["px_min"]) / (y["px_max"] - y["px_min"])
+                          * (y["max"] - y["min"]))
+    assert values and max(abs(v) for v in values) <= 20.0 * 1.01  # 1%: pixel rounding
+    assert max(abs(v) for v in values) >= 19.0

@@ -75,7 +75,8 @@ def _cmd_fit(args) -> int:
     if args.output:
         save_rig(res.rig, args.output)
     if args.svg:
-        write(args.svg, fit_svg(res, f"{rig.title or 'Rig'}: logged and fitted angles")[0])
+        write(args.svg, fit_svg(res, f"{rig.title or 'Rig'}: logged and fitted angles",
+                                log.reference)[0])
     if args.json:
         print(json.dumps(jsonable(result), indent=2, allow_nan=False))
     else:
@@ -128,7 +129,7 @@ def fit_job(rig, warnings, request: dict):
         raise RigError([Problem(where if where in ("parameters", "log") else "log",
                                 str(exc).split(": ", 1)[-1])]) from None
     result = fit_dict(res)
-    svg, axes = fit_svg(res, f"{rig.title or 'Rig'}: logged and fitted angles")
+    svg, axes = fit_svg(res, f"{rig.title or 'Rig'}: logged and fitted angles", log.reference)
     yield 1.0, {"stage": "done", "result": result, "fitted_rig": rig_to_dict(res.rig),
                 "svg": svg, "axes": axes, "report_text": fit_text(result),
                 "warnings": problems_json(warnings),

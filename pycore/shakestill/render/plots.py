@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import math
 
+from ..fit.logfile import REFERENCE_ANGLE
 from .svg import INK, esc, nice_ticks
 
 LINE_COLOURS = ("#2f6690", "#c2571a", "#5b8e3e", "#8a4f9e")  # one per link / series
@@ -193,16 +194,25 @@ def basin_svg(basin, *, knock_rad_s: float | None = None,
 FIT_PLOT_POINTS = 1500  # samples per line in the fit plot (a long log is thinned to this)
 
 
-def fit_svg(result, title: str = "Logged and fitted angles") -> tuple[str, dict]:
-    """Each link's logged angle and the fitted model's, in degrees against time."""
+# The log's own zero: angles are shown as the user logged them, from this position.
+_ZERO_WORDS = {"hanging": "angle from hanging straight down (deg)",
+               "inverted": "angle from upward vertical (deg)"}
+
+
+def fit_svg(result, title: str = "Logged and fitted angles",
+            reference: str = "inverted") -> tuple[str, dict]:
+    """Each link's logged angle and the fitted model's, in degrees against time, measured
+    from the log's own zero (``reference``: "hanging" or "inverted")."""
+    zero, label = REFERENCE_ANGLE[reference], _ZERO_WORDS[reference]
     every = max(1, math.ceil(len(result.t_s) / FIT_PLOT_POINTS))
     ts = result.t_s[::every]
+
+    def degrees(rows, i):
+        return [math.degrees(math.remainder(q[i] - zero, 2 * math.pi)) for q in rows[::every]]
+
     series = []
     for i in range(len(result.measured_rad[0])):
-        series.append((f"link {i + 1} logged", ts,
-                       [math.degrees(q[i]) for q in result.measured_rad[::every]]))
-        series.append((f"link {i + 1} fitted model", ts,
-                       [math.degrees(q[i]) for q in result.model_rad[::every]]))
-    return line_plot(series, title=title, x_label="time (s)",
-                     y_label="angle from upward vertical (deg)", x_unit="s", y_unit="deg",
-                     cls="fit-plot")
+        series.append((f"link {i + 1} logged", ts, degrees(result.measured_rad, i)))
+        series.append((f"link {i + 1} fitted model", ts, degrees(result.model_rad, i)))
+    return line_plot(series, title=title, x_label="time (s)", y_label=label, x_unit="s",
+                     y_unit="deg", cls="fit-plot")
