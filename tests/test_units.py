@@ -106,3 +106,14 @@ def test_every_unit_the_rig_sheet_hints_at_is_one_the_core_reads():
             assert parse_quantity(f"1 {unit}", kind) > 0, (key, unit)
             seen += 1
     assert seen >= 30
+
+
+@pytest.mark.parametrize("text, want", [("24 mm", 0.024), ("36 mm", 0.036), ("0.3 mm", 0.0003),
+                                        ("22.5 mm", 0.0225), ("25 g", 0.025), ("2.5 cm", 0.025),
+                                        ("-12 mm", -0.012)])
+def test_decimal_prefixes_give_exactly_the_double_of_the_si_number(text, want):
+    # Python's float() of the SI decimal text is the correctly rounded double (IEEE 754);
+    # "36 mm" must be that very number (36 * 1e-3 is one bit off), so a rig file shown in
+    # mm on the page reads back unchanged. Equality, no tolerance.
+    kind = "mass" if text.endswith(" g") else "length"
+    assert parse_quantity(text, kind) == want

@@ -26,11 +26,30 @@ export function driveFieldUsed(waveform, key) {
   return (DRIVE_FIELDS[waveform] || []).includes(key);
 }
 
-/** A number from a file becomes "0.3 m"; text stays as it is. */
+// Numbers from a file (SI) are shown in the unit a technician would say: below a metre in
+// mm, below a kilogram in g, as the report shows them. The decimal point moves in the text
+// ("0.024" -> "24"), so the core reads back exactly the number the file held.
+const SMALLER = { m: ["mm", 3], kg: ["g", 3] };
+
+function shiftDecimal(text, places) {
+  const [whole, part = ""] = text.split(".");
+  const digits = whole + part.padEnd(places, "0");
+  const cut = whole.length + places;
+  const joined = `${digits.slice(0, cut)}.${digits.slice(cut)}`.replace(/\.?0*$/, "");
+  return joined.replace(/^(-?)0+(?=\d)/, "$1");
+}
+
+/** A number from a file becomes "24 mm" or "0.3 kg"'s "300 g"; text stays as it is. */
 function asText(value, unit) {
   if (value === undefined || value === null) return "";
-  if (typeof value === "number") return unit ? `${value} ${unit}` : String(value);
-  return typeof value === "string" ? value : JSON.stringify(value);
+  if (typeof value !== "number") return typeof value === "string" ? value : JSON.stringify(value);
+  if (!unit) return String(value);
+  const smaller = SMALLER[unit];
+  const plain = String(value);
+  if (smaller && Math.abs(value) < 1 && !/e/i.test(plain)) {
+    return `${shiftDecimal(plain, smaller[1])} ${smaller[0]}`;
+  }
+  return `${plain} ${unit}`;
 }
 
 function isObject(value) {

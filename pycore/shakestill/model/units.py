@@ -7,6 +7,7 @@ from __future__ import annotations
 
 import math
 import re
+from decimal import Decimal
 
 # Exact definitions of the customary units (international yard and pound, 1959; NIST SP 811,
 # appendix B): 1 in = 0.0254 m, 1 ft = 0.3048 m, 1 lb = 0.45359237 kg, 1 lbf = 1 lb x g0.
@@ -111,4 +112,10 @@ def parse_quantity(value: object, kind: str) -> float:
         return number
     if unit not in table:
         raise UnitError(f"unit {match.group(2)!r} is not allowed here; use {allowed_units(kind)}")
-    return number * table[unit]
+    factor = table[unit]
+    power = round(math.log10(factor)) if factor > 0 else 0
+    if factor == 10.0 ** power and number != 0 and math.isfinite(number):
+        # a decimal prefix moves the decimal point: "24 mm" is exactly the double of 0.024,
+        # where 24 * 1e-3 would be one bit off (two roundings)
+        return float(Decimal(match.group(1)).scaleb(power))
+    return number * factor
