@@ -52,6 +52,7 @@ export function mountPanels($, { engine, getRig, onPick, useRig, restoreRig }) {
     strobe: $("motion-strobe"),
     events: $("motion-events"),
     plot: $("motion-plot"),
+    saveCsv: $("motion-save-csv"),
     msgs: { angle: $("motion-angle-msg"), duration: $("motion-duration-msg"), knock: $("motion-knock-msg") },
   }, { engine, getRig });
 

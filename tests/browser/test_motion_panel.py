@@ -564,3 +564,22 @@ def test_the_motion_plot_saves_as_svg_and_png(motion_page):
     png = open(got.value.path(), "rb").read()
     assert png[:8] == b"\x89PNG\r\n\x1a\n"
     assert struct.unpack(">I", png[16:20])[0] == round(2 * float(shown[0].split()[2]))
+
+
+def test_the_runs_frames_save_as_the_command_lines_csv(motion_page):
+    # "Frames as CSV" gives the file `shakestill simulate -o` writes: the same columns, and
+    # the numbers of the same run by the core on CPython. The run is integrated to the
+    # engine's tolerances (rtol = atol = 1e-8, numerics/integrate.py), and Pyodide's libm may
+    # differ from CPython's in the last bits, so the adaptive steps may differ: agreement to
+    # 1e-7 (ten times the tolerance) is what the two platforms can promise (measured: 2e-9).
+    import csv
+    page = motion_page
+    page.wait_for_function("() => !document.getElementById('motion-save-csv').disabled")
+    with page.expect_download() as got:
+        page.click("#motion-save-csv")
+    rows = list(csv.reader(open(got.value.path())))
+    want = list(csv.reader(core_run(page)["csv"].splitlines()))
+    assert rows[0] == want[0] and rows[0][:3] == ["t_s", "speed_rpm", "pivot_y_m"]
+    assert len(rows) == len(want) > 2
+    for a, b in zip(rows[1:], want[1:]):
+        assert [float(x) for x in a] == pytest.approx([float(x) for x in b], rel=1e-7, abs=1e-7)

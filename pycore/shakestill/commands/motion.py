@@ -180,6 +180,7 @@ def _simulate_job(rig, warnings, request):
                     "success": motion.success, "message": motion.message, "work": motion.work},
         "svg": svg, "axes": axes, "strobe_svg": strobe_svg, "strobe_axes": strobe_axes,
         "report_text": motion_text(motion, rig.title),
+        "csv": motion_csv(motion, m),  # the same file as `simulate -o`
         "warnings": problems_json(warnings), "cautions": list(CAUTIONS)}
 
 
