@@ -69,20 +69,17 @@ def _freeze(rows) -> Matrix:
     return tuple(tuple(float(x) for x in row) for row in rows)
 
 
-def _equilibrium(ch: Chain, name: str, damped: bool) -> EquilibriumModel:
+def _equilibrium(ch: Chain, name: str, sway: Modes, damped: bool) -> EquilibriumModel:
     lin = linear_model(ch, name)
     m_inv = inverse([list(r) for r in lin.M])
     B = matmul(m_inv, [list(r) for r in lin.K])
     C = matmul(m_inv, [list(r) for r in lin.D])
-    # eig(M^-1 K) and eig(M^-1 D) are those of the symmetric-definite pencils (K, M) and
-    # (D, M): real, and found by Cholesky and Jacobi, which converge for any scale of numbers
-    stiff = _largest(generalized_eigh(lin.K, lin.M)[0])
-    damp = _largest(generalized_eigh(lin.D, lin.M)[0]) if damped else 0.0
+    # eig(M^-1 K) = -/+ 1 / (each mode's length): the modes already hold them. eig(M^-1 D)
+    # is that of the symmetric-definite pencil (D, M): real, and found by Cholesky and
+    # Jacobi, which converge for any scale of numbers (general QR failed at 2e-226 N m s).
+    stiff = 1.0 / min(sway.lengths_m)
+    damp = max(abs(v) for v in generalized_eigh(lin.D, lin.M)[0]) if damped else 0.0
     return EquilibriumModel(lin, _freeze(B), _freeze(C), stiff, damp)
-
-
-def _largest(values) -> float:
-    return max(abs(v) for v in values)
 
 
 def derive(rig: Rig) -> Model:
@@ -90,11 +87,10 @@ def derive(rig: Rig) -> Model:
     drive's harmonics at the operating point."""
     ch = chain(rig)
     damped = any(link.joint_damping_N_m_s > 0 for link in rig.links)
-    props = properties_of(rig, ch)  # names the problem itself when M is singular
     try:
-        inverted, hanging = (_equilibrium(ch, name, damped) for name in EQUILIBRIA)
         sway = modes_of(ch)
-    except (ArithmeticError, ValueError) as exc:  # eigenvalues not converged
+        inverted, hanging = (_equilibrium(ch, name, sway, damped) for name in EQUILIBRIA)
+    except (ArithmeticError, ValueError) as exc:  # M not positive definite, a mode of no length
         raise OutOfReach([Problem("links", "outside what this method can resolve: the "
                                            f"chain's linear model could not be formed ({exc})")]
                          ) from None
@@ -103,7 +99,8 @@ def derive(rig: Rig) -> Model:
         raise OutOfReach([Problem("links", "outside what this method can resolve: the "
                                   f"shortest sway mode is a pendulum {shortest:.3g} m long, "
                                   f"under {MIN_LINK_M:g} m (is a mass sitting at its joint?)")])
-    return Model(rig, ch, props, sway, inverted, hanging, drv.harmonics(rig.drive), damped)
+    return Model(rig, ch, properties_of(rig, ch, sway), sway, inverted, hanging,
+                 drv.harmonics(rig.drive), damped)
 
 
 def as_model(rig_or_model: Rig | Model) -> Model:

@@ -5,8 +5,8 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-from ..numerics.linalg import eigvals, inverse, matmul
 from .linear import Chain, chain
+from .modes import Modes, modes_of
 from .rig import OutOfReach, Problem, Rig
 
 
@@ -28,25 +28,27 @@ class RigProperties:
 
 def properties(rig: Rig) -> RigProperties:
     """The rig's mass properties and fixed-pivot frequencies."""
-    return properties_of(rig, chain(rig))
+    ch = chain(rig)
+    try:
+        sway = modes_of(ch)
+    except (ArithmeticError, ValueError) as exc:  # M not positive definite, a mode of no length
+        raise OutOfReach([Problem("links", f"outside what this method can resolve: the "
+                                           f"chain's own frequencies could not be found ({exc})")]
+                         ) from None
+    return properties_of(rig, ch, sway)
 
 
-def properties_of(rig: Rig, ch: Chain) -> RigProperties:
-    """Properties from the rig's already derived chain (``derived.derive`` calls this)."""
+def properties_of(rig: Rig, ch: Chain, sway: Modes) -> RigProperties:
+    """Properties from the rig's already derived chain and sway modes (``derived.derive``
+    calls this). Hanging with the pivot fixed, each mode is a simple pendulum of its
+    equivalent length L: omega^2 = g / L, slowest (longest) first."""
     n = rig.n_links
     offsets = [sum(ch.length_m[:i]) for i in range(n)]  # each joint's distance from the pivot
     moment = sum(ch.first_moment_kg_m[i] + ch.mass_kg[i] * offsets[i] for i in range(n))
     inertia = sum(ch.inertia_kg_m2[i] + 2 * offsets[i] * ch.first_moment_kg_m[i]
                   + ch.mass_kg[i] * offsets[i] ** 2 for i in range(n))
     total = sum(ch.mass_kg)
-    # Hanging: M q'' + g diag(a) q = 0, so omega^2 are the eigenvalues of g M^-1 diag(a).
-    stiff = [[rig.g_m_s2 * ch.a_kg_m[i] if i == j else 0.0 for j in range(n)] for i in range(n)]
-    try:
-        w2 = sorted(max(ev.real, 0.0) for ev in eigvals(matmul(inverse(ch.coupling), stiff)))
-    except (ArithmeticError, ValueError) as exc:  # eigenvalues not converged, M singular
-        raise OutOfReach([Problem("links", f"outside what this method can resolve: the "
-                                           f"chain's own frequencies could not be found ({exc})")]
-                         ) from None
+    w2 = [rig.g_m_s2 / length for length in sway.lengths_m]
     return RigProperties(
         total_mass_kg=total,
         link_mass_kg=ch.mass_kg,
@@ -55,5 +57,5 @@ def properties_of(rig: Rig, ch: Chain) -> RigProperties:
         inertia_about_pivot_kg_m2=inertia,
         centre_of_mass_m=moment / total,
         l_eq_m=inertia / moment,
-        hanging_frequencies_hz=tuple(math.sqrt(w) / (2 * math.pi) for w in w2),
+        hanging_frequencies_hz=tuple(math.sqrt(max(w, 0.0)) / (2 * math.pi) for w in w2),
     )
