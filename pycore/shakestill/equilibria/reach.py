@@ -11,10 +11,10 @@ is refused with that message. A probe's evaluations are capped as a safety net.
 from __future__ import annotations
 
 from ..model.derived import Model, as_model
-from ..model.rig import OutOfReach, Problem, Rig
+from ..model.rig import REACH, OutOfReach, Problem, Rig
 
-MAX_SPEED_RPM = 1e6  # the fastest drive the scans go to: a rig for a pendulum runs far below,
-# and past it the drive's terms (omega^2 near 1e300 for limits typed as 1e300) overflow
+MAX_SPEED_RPM = REACH["speed"][1]  # the fastest drive the scans go to (the rig file's reach):
+# past it the drive's terms (omega^2 near 1e300 for limits typed as 1e300) overflow
 MAX_TONGUE_ORDER = 50  # tongues a speed scan steps through below the drive, at most
 MAX_EVALUATIONS = 6000  # stability evaluations on one scan line (a rig inside the reach
 # needs a few hundred; this bounds a line of Hill's determinants to seconds)

@@ -18,6 +18,8 @@ MIN_SAMPLES = 8  # fewer cannot describe a waveform's first harmonics usefully
 WAVEFORMS = ("sine", "crank", "samples")
 # Crank radius / rod length the methods resolve: the pivot's acceleration peaks as
 # 1 / sqrt(1 - (r/l)^2), needing 112 harmonics at 0.95 (a 3 s check) and 2,000 near 1.
+MAX_CRANK_RATIO = 0.95
+
 # The magnitudes the methods are built for, by kind of quantity (in the file's units):
 # (smallest non-zero, largest). Past them a value is refused by name as outside what the
 # methods resolve: 1e300 overflows the drive's terms, a denormal divides by zero, and a
@@ -36,21 +38,21 @@ UNITS_OF_REACH = {"length": "m", "mass": "kg", "inertia": "kg m^2", "damping": "
 
 
 def outside_reach(value: float, kind: str, *, reach: tuple | None = None,
-                  signed: bool = False) -> str | None:
+                  zero_allowed: bool = False) -> str | None:
     """What is allowed, if ``value`` lies past the magnitudes the methods are built for
     (``reach``: (smallest non-zero or None, largest); by default REACH[kind]), else None."""
     least, most = reach or REACH.get(kind, (None, math.inf))
     if abs(value) <= most and (value == 0 or least is None or abs(value) >= least):
         return None
     unit = UNITS_OF_REACH.get(kind, "")
-    span = (f"up to {'-' if signed else ''}{most:g}" if least is None else
-            f"a size from {least:g} to {most:g}")
-    return f"outside what this method can resolve: use {span} {unit}".rstrip()
+    span = f"a size up to {most:g}" if least is None else f"a size from {least:g} to {most:g}"
+    zero = " (or 0)" if zero_allowed and least is not None else ""
+    return f"outside what this method can resolve: use {span} {unit}".rstrip() + zero
 
 
 MIN_LINK_M = 1e-4  # a link or a connecting rod shorter than 0.1 mm is no pendulum or crank
 GRAVITY_REACH = (1e-3, 1e3)  # m/s^2
-MAX_CRANK_RATIO = 0.95
+
 
 
 @dataclass(frozen=True)

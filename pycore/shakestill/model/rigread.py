@@ -61,11 +61,9 @@ class _Reader:
                              f"{exclusive_minimum:g} {unit}")
             return None
         allowed = outside_reach(value, kind, reach=reach,
-                                signed=minimum is None and exclusive_minimum is None)
+                                zero_allowed=exclusive_minimum is None)
         if allowed:
-            zero = ("" if exclusive_minimum is not None or "a size" not in allowed
-                    else " (or 0)")
-            self.fail(where, f"{_show(raw)} is {allowed}{zero}")
+            self.fail(where, f"{_show(raw)} is {allowed}")
             return None
         return value
 
