@@ -16,53 +16,20 @@ from dataclasses import dataclass
 from typing import Iterator
 
 from ..model import drive as drv
-from .lines import PHASE_STEP, Probe, edge_between, scan_settings, speed_points, walk
-from ..model.linear import EQUILIBRIA
 from ..model.derived import Model, as_model
-from ..model.rig import OutOfReach, Problem, Rig, max_stroke_m, with_operating_point
-from .reach import CEILING_WORDS, MAX_SPEED_RPM, floor_words, scan_floor_rpm
+from ..model.linear import EQUILIBRIA
+from ..model.rig import Rig, max_stroke_m, with_operating_point
+from .chart_rows import (CHART_RTOL, CHART_SPEED_STEP, Row, predict, scan_row, speed_range,
+                         stroke_for_peak_accel)
+from .confirm import CONFIRM_HALF_WIDTHS
+from .floquet import modes_decouple
+from .lines import PHASE_STEP
+from .reach import CEILING_WORDS, floor_words
 
 COARSE_EVERY = 8  # first pass walks every 8th row whole; the rest follow their edges
-CHART_SPEED_STEP = 0.1  # relative speed step of a whole-row walk (peaks are still searched)
-CHART_RTOL = 1e-8  # edges in a chart to this relative precision (the target is 1e-4)
-FOLLOW_SLACK = 0.002  # bracket half-width added to half the neighbours' spread (relative)
-# A first, tighter bracket (a fraction of the spread plus a smaller slack): interpolated
-# edges are usually much closer than that, and a narrow bracket saves Brent iterations.
-FOLLOW_TIGHT = 0.0625
-FOLLOW_TIGHT_SLACK = 5e-5
-FOLLOW_CHECKS = 6  # verdicts spot-checked across a followed row (geometrically spaced)
-# RK steps of chart points: about half the check's, multipliers still to ~1e-8 relative
-# (measured against 4x the steps on crank drives), so edges stay far inside the 1e-4 target.
-CHART_STEP_PHASE = 0.4
-CHART_MIN_STEPS = 12
-DEFAULT_ROWS = 120
-DEFAULT_ROWS_SEVERAL_LINKS = 30  # each point costs an RK monodromy: a coarser map by default
+DEFAULT_ROWS = 120  # for every link count: several links are taken by their sway modes
 ACCEL_LINES_G = (1, 2, 5, 10, 20, 50, 100, 200, 500, 1000, 2000)  # candidate iso-lines
 G0 = 9.80665
-
-
-@dataclass(frozen=True)
-class Row:
-    """One row of the chart: its y value, stroke per speed, and each equilibrium's edges."""
-
-    y: float  # stroke_m, or peak acceleration in m/s^2
-    speed_min: float  # the row's first speed (accel rows start where the stroke fits)
-    speed_max: float
-    edges: dict  # equilibrium -> tuple[Edge, ...] along increasing speed
-    stable_at_min: dict  # equilibrium -> verdict at speed_min
-    evaluations: int
-
-    def stable_intervals(self, equilibrium: str) -> list[list[float]]:
-        out, start = [], self.speed_min if self.stable_at_min[equilibrium] else None
-        for e in self.edges[equilibrium]:
-            if e.gained:
-                start = e.x
-            elif start is not None:
-                out.append([start, e.x])
-                start = None
-        if start is not None:
-            out.append([start, self.speed_max])
-        return out
 
 
 @dataclass(frozen=True)
@@ -75,118 +42,6 @@ class Chart:
     evaluations: int
     complete: bool
     notes: tuple[str, ...]
-
-
-def stroke_for_peak_accel(rig: Rig, accel_m_s2: float, speed_rpm: float) -> float:
-    """The stroke giving this peak pivot acceleration at this speed.
-
-    Sine and samples scale linearly with stroke; for a crank the peak is at top dead
-    centre, r omega^2 (1 + r / l), which solves as a quadratic in r.
-    """
-    omega = 2 * math.pi * speed_rpm / 60
-    per = accel_m_s2 / omega ** 2  # metres of d2y/dphi2 needed
-    d = rig.drive
-    if d.waveform == "crank":
-        rod = d.rod_length_m
-        r = 0.5 * rod * (math.sqrt(1 + 4 * per / rod) - 1)
-        return 2 * r
-    unit = drv.peak_phase_accel_m(d) / d.stroke_m if d.stroke_m > 0 else 0.5
-    return per / unit
-
-
-def _row_line(rig: Rig, y_axis: str, y: float):
-    """(point(x) -> (speed, stroke), speed_min, speed_max) for a row, or None if empty."""
-    lo, hi = speed_range(rig)
-    if y_axis == "stroke":
-        return (lambda x: (x, y)), lo, hi
-    top = max_stroke_m(rig)
-    # accel rows: speeds at which the needed stroke fits the mechanism
-    if stroke_for_peak_accel(rig, y, hi) > top:
-        return None
-    if stroke_for_peak_accel(rig, y, lo) > top:
-        a, b = lo, hi
-        for _ in range(60):
-            m = 0.5 * (a + b)
-            a, b = (m, b) if stroke_for_peak_accel(rig, y, m) > top else (a, m)
-        lo = b
-    return (lambda x: (x, stroke_for_peak_accel(rig, y, x))), lo, hi
-
-
-def _row_settings(model: Model, point, lo: float, hi: float, eq: str):
-    corners = [model.at(v, point(v)[1]) for v in (lo, hi)]
-    return scan_settings(model, eq, corners, step_phase=CHART_STEP_PHASE,
-                         min_steps=CHART_MIN_STEPS)
-
-
-def _scan_row(model: Model, y_axis: str, y: float, equilibria, guide=None) -> Row | None:
-    """One row: follow the edges of two computed neighbour rows where they agree
-    (bracketed root finding near the interpolated edges), else walk the whole row."""
-    line = _row_line(model.rig, y_axis, y)
-    if line is None:
-        return None
-    point, lo, hi = line
-    edges, start_verdicts, count = {}, {}, 0
-    for eq in equilibria:
-        probe = Probe(model, eq, point, _row_settings(model, point, lo, hi, eq))
-        s0 = probe(lo)
-        followed = _follow(probe, lo, hi, s0, guide(eq, y) if guide else None)
-        if followed is None:
-            followed = tuple(walk(probe, lo, s0, speed_points(model, lo, hi,
-                                                              step=CHART_SPEED_STEP),
-                                  rtol=CHART_RTOL))
-        edges[eq] = followed
-        start_verdicts[eq] = s0.stable
-        count += probe.count
-    return Row(y, lo, hi, edges, start_verdicts, count)
-
-
-def _follow(probe: Probe, lo: float, hi: float, s0, prediction):
-    """Edges near predicted positions, or None when the prediction does not hold."""
-    if prediction is None:
-        return None
-    verdict, predicted = prediction
-    if s0.stable != verdict:
-        return None
-    found = []
-    state = s0.stable
-    last = lo
-    for x_pred, spread, gained in predicted:
-        if gained == state:
-            return None
-        for half in (spread * FOLLOW_TIGHT + FOLLOW_TIGHT_SLACK * x_pred,
-                     spread / 2 + FOLLOW_SLACK * x_pred):
-            a, b = max(last, x_pred - half), min(hi, x_pred + half)
-            if not a < b:
-                return None
-            sa, sb = probe(a), probe(b)
-            if sa.stable == state and sb.stable == gained:
-                break
-        else:
-            return None
-        found.append(edge_between(probe, (a, sa), (b, sb), rtol=CHART_RTOL))
-        state, last = gained, found[-1].x
-    # Spot checks across the row: a region the neighbours do not show sends the row to a walk.
-    cuts = [lo] + [e.x for e in found] + [hi]
-    verdicts = [s0.stable]
-    for e in found:
-        verdicts.append(e.gained)
-    for k in range(1, FOLLOW_CHECKS + 2):  # the last one is the row's end
-        x = lo * (hi / lo) ** (k / (FOLLOW_CHECKS + 1))
-        span = next(i for i in range(len(cuts) - 1) if cuts[i] <= x <= cuts[i + 1])
-        if probe(x).stable != verdicts[span]:
-            return None
-    return tuple(found)
-
-
-def speed_range(model: Rig | Model) -> tuple[float, float]:
-    """The chart's speeds: the rig's limits, from no lower than the slowest speed the
-    stability scans resolve (module ``reach``)."""
-    lo, hi = as_model(model).rig.limits.speed_rpm
-    floor = scan_floor_rpm(model)
-    if floor >= hi:
-        raise OutOfReach([Problem("limits.speed_rpm", f"{[lo, hi]} rpm is outside what this "
-                                  f"method can resolve: {floor_words(model)}")])
-    return max(lo, 1e-6, floor), min(hi, max(MAX_SPEED_RPM, lo))
 
 
 def _y_range(rig: Rig, y_axis: str) -> tuple[float, float]:
@@ -234,12 +89,12 @@ def chart_steps(rig: Rig | Model, *, rows: int | None = None, y_axis: str = "str
                 equilibria=EQUILIBRIA) -> Iterator[tuple[float, Chart]]:
     """Yield (fraction done, chart so far) after each row; the last chart is complete.
 
-    ``rows`` defaults to DEFAULT_ROWS for one link and DEFAULT_ROWS_SEVERAL_LINKS otherwise.
+    ``rows`` defaults to DEFAULT_ROWS.
     """
     model = as_model(rig)
     rig = model.rig
     if rows is None:
-        rows = DEFAULT_ROWS if rig.n_links == 1 else DEFAULT_ROWS_SEVERAL_LINKS
+        rows = DEFAULT_ROWS
     if y_axis not in ("stroke", "accel"):
         raise ValueError(f"y_axis: {y_axis!r} is not 'stroke' or 'accel'")
     if not 2 <= rows <= 2000:
@@ -259,6 +114,8 @@ def chart_steps(rig: Rig | Model, *, rows: int | None = None, y_axis: str = "str
              "feature that starts and ends between two coarse rows ({:.3g} of the y range) "
              "is not seen".format(100 * CHART_SPEED_STEP, PHASE_STEP, CHART_RTOL,
                                   COARSE_EVERY / (rows - 1)),)
+    if rig.n_links > 1:
+        notes += (_modes_words(model),)
     if lo > max(rig.limits.speed_rpm[0], 1e-6):
         notes += (f"the chart starts at {lo:.4g} rpm, above the rig's lowest speed: "
                   + floor_words(model),)
@@ -276,10 +133,10 @@ def chart_steps(rig: Rig | Model, *, rows: int | None = None, y_axis: str = "str
         above = min((i for i in done if i > j), default=None)
         if below is None or above is None:
             return None
-        return lambda eq, y: _predict(done[below], done[above], eq, y)
+        return lambda eq, y: predict(done[below], done[above], eq, y)
 
     for k, j in enumerate(order):
-        row = _scan_row(model, y_axis, ys[j], equilibria, None if j in coarse else guide(j))
+        row = scan_row(model, y_axis, ys[j], equilibria, None if j in coarse else guide(j))
         if row is not None:
             done[j] = row
             total += row.evaluations
@@ -288,19 +145,18 @@ def chart_steps(rig: Rig | Model, *, rows: int | None = None, y_axis: str = "str
         yield (k + 1) / len(order), partial
 
 
-def _predict(a: Row, b: Row, eq: str, y: float):
-    """(verdict at the row start, [(x, spread, gained)]) if rows a and b agree, else None."""
-    ea, eb = a.edges[eq], b.edges[eq]
-    if a.stable_at_min[eq] != b.stable_at_min[eq] or len(ea) != len(eb):
-        return None
-    if any(p.gained != q.gained for p, q in zip(ea, eb)) or a.speed_min != b.speed_min:
-        return None
-    t = (y - a.y) / (b.y - a.y)
-    out = []
-    for p, q in zip(ea, eb):
-        x = p.x + t * (q.x - p.x)
-        out.append((x, abs(q.x - p.x), p.gained))
-    return a.stable_at_min[eq], out
+def _modes_words(model: Model) -> str:
+    """How several links were computed, for the chart's notes."""
+    if modes_decouple(model):
+        return ("several links: each sway mode is a one-link Hill problem (no damping couples "
+                "the modes: exact, Acheson 1993)")
+    coupling = f"the joint dampers couple the sway modes ({model.modes.coupling:.2g})"
+    if model.rig.drive.waveform == "sine":
+        return (f"{coupling}: each row is predicted by the modes' Hill determinants and every "
+                "edge confirmed by the chain's exact monodromy within {:g} relative and placed "
+                "there; a row the exact method does not bear out is walked by it".format(
+                    CONFIRM_HALF_WIDTHS[0]))
+    return f"{coupling}: every point by the chain's exact monodromy"
 
 
 def chart(rig: Rig | Model, **options) -> Chart:

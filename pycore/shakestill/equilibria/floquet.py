@@ -27,6 +27,8 @@ CONVERGENCE_TOLERANCE = 1e-8  # accepted change of the multipliers under refinem
 MIN_STEPS = 24  # RK steps per cycle, never fewer
 STEP_PHASE = 0.2  # target of (fastest linear rate) x (step) for the 8th-order step
 MAX_STEPS = 4000  # a cycle finer than this is not worth it: report non-convergence
+MODAL_METHOD = "hill (sway modes)"
+DECOUPLED = 1e-12  # modal damping coupling at round-off: the modes are the chain exactly
 MAX_HILL_WORK = 4_000_000  # rows x band width^2 of one Hill determinant (about 2 s): a
 # stroke of 1e5 pendulum lengths asked for 8,000 rows of a crank's band and half a minute
 
@@ -59,9 +61,18 @@ class Settings:
     harmonics: int | None = None  # leading drive harmonics kept in Hill's determinant
     steps: int | None = None  # RK steps per cycle (several links, or one link by monodromy)
     method: str | None = None  # one link, unverified scan points: "hill" (default) or
-    # "monodromy"; a verified point (verify=True) is always Hill's, which checks its truncation
+    # "monodromy"; a verified point (verify=True) is always Hill's, which checks its truncation.
+    # Several links: "modal" asks for the sway modes' Hill determinants even with damping
+    # coupling the modes (a predictor then); by default they are used where exact.
     step_phase: float = STEP_PHASE  # RK steps chosen per point: see default_steps
     min_steps: int = MIN_STEPS
+
+
+def modes_decouple(model: Rig | Model) -> bool:
+    """True where the sway modes are the chain exactly: no damping, or damping whose modal
+    coupling is at round-off (Acheson 1993); then each mode's Hill determinant is exact."""
+    m = as_model(model)
+    return not m.damped or m.modes.coupling <= DECOUPLED
 
 
 def _check_equilibrium(equilibrium: str) -> None:
@@ -117,8 +128,24 @@ class HillForm:
 def hill_form(model: Rig | Model, equilibrium: str, harmonics: int | None = None) -> HillForm:
     """Map the single link's linear equation to Hill's form at the rig's operating point."""
     m = as_model(model)
-    rig, lin = m.rig, m.of(equilibrium).linear
-    J, c, k = lin.M[0][0], lin.D[0][0], lin.K[0][0]
+    lin = m.of(equilibrium).linear
+    return _hill_form_of(m, lin.M[0][0], lin.D[0][0], lin.K[0][0], harmonics)
+
+
+def mode_forms(model: Rig | Model, equilibrium: str,
+               harmonics: int | None = None) -> tuple[HillForm, ...]:
+    """Each sway mode's Hill form: z'' + c_i z' + (g + y_p'') (-/+ 1 / L_i) z = 0 in the
+    modal coordinates of ``model.modes`` (X^T M X = I), the sign of K's about the
+    equilibrium (negative upright). The chain's damping enters by its modal diagonal only."""
+    m = as_model(model)
+    sign = -1.0 if equilibrium == "inverted" else 1.0
+    return tuple(_hill_form_of(m, 1.0, c, sign / length, harmonics)
+                 for length, c in zip(m.modes.lengths_m, m.modes.damping))
+
+
+def _hill_form_of(m: Model, J: float, c: float, k: float, harmonics: int | None) -> HillForm:
+    """J q'' + c q' + k (g + y_p'') q = 0 in Hill's form."""
+    rig = m.rig
     omega = 2 * math.pi * rig.drive.frequency_hz
     gamma = c / (2 * J)
     h = m.harmonics
@@ -130,30 +157,38 @@ def hill_form(model: Rig | Model, equilibrium: str, harmonics: int | None = None
     return HillForm(theta0, theta, math.exp(-gamma_T), gamma_T)
 
 
-def _hill_stability(m: Model, equilibrium: str, settings: Settings,
-                    verify: bool) -> Stability:
-    form = hill_form(m, equilibrium, settings.harmonics)
-    R = max(settings.truncation or default_truncation(form.theta0, form.theta),
-            len(form.theta))
-    if (2 * R + 1) * (2 * len(form.theta) + 1) ** 2 > MAX_HILL_WORK:
-        raise OutOfReach([Problem("drive.stroke_m", "outside what this method can resolve: "
-                                  f"Hill's determinant would need {R} rows at a stroke of "
-                                  f"{m.rig.drive.stroke_m:g} m, "
-                                  f"{m.rig.drive.stroke_m / m.properties.l_eq_m:.3g} times "
-                                  "the pendulum's equivalent length")])
-    trace = hill_trace(form.theta0, form.theta, R)
+def _hill_stability(m: Model, equilibrium: str, settings: Settings, verify: bool, *,
+                    modal: bool = False) -> Stability:
+    """One link by its Hill determinant, or several by each sway mode's (``modal``)."""
+    forms = (mode_forms(m, equilibrium, settings.harmonics) if modal else
+             (hill_form(m, equilibrium, settings.harmonics),))
+    margins, rhos, rows = [], [], 0
     error, converged, message = 0.0, True, ""
-    if verify:
-        finer = hill_trace(form.theta0, form.theta, R + max(4, R // 2))
-        error = abs(finer - trace)
-        converged = error <= CONVERGENCE_TOLERANCE * max(1.0, abs(trace))
-        if not converged:
-            message = (f"Hill determinant not converged at {R} rows: the trace changed by "
-                       f"{error:.2g} when refined")
-        trace = finer
-    return _from_trace(m, equilibrium, trace, form.gamma_T, "hill", converged=converged,
-                       error_estimate=error, message=message,
-                       work={"truncation": R, "harmonics": len(form.theta)})
+    for form in forms:
+        R = max(settings.truncation or default_truncation(form.theta0, form.theta),
+                len(form.theta))
+        if (2 * R + 1) * (2 * len(form.theta) + 1) ** 2 > MAX_HILL_WORK:
+            raise OutOfReach([Problem("drive.stroke_m", "outside what this method can resolve: "
+                                      f"Hill's determinant would need {R} rows at a stroke of "
+                                      f"{m.rig.drive.stroke_m:g} m, "
+                                      f"{m.rig.drive.stroke_m / m.properties.l_eq_m:.3g} times "
+                                      "the pendulum's equivalent length")])
+        trace = hill_trace(form.theta0, form.theta, R)
+        if verify:
+            finer = hill_trace(form.theta0, form.theta, R + max(4, R // 2))
+            change = abs(finer - trace)
+            error = max(error, change)
+            if change > CONVERGENCE_TOLERANCE * max(1.0, abs(trace)) and converged:
+                converged = False
+                message = (f"Hill determinant not converged at {R} rows: the trace changed "
+                           f"by {change:.2g} when refined")
+            trace = finer
+        margins.append(abs(trace) - 2.0 * math.cosh(form.gamma_T))
+        rhos.extend(multipliers_from_trace(trace, form.decay))
+        rows = max(rows, R)
+    return _summarise(m, equilibrium, rhos, max(margins), MODAL_METHOD if modal else "hill",
+                      converged=converged, error_estimate=error, message=message,
+                      work={"truncation": rows, "harmonics": len(forms[0].theta)})
 
 
 def _from_trace(m: Model, equilibrium: str, trace: float, gamma_T: float, method: str,
@@ -294,13 +329,16 @@ def stability(rig: Rig | Model, equilibrium: str, speed_rpm: float | None = None
     m = _operating(as_model(rig), speed_rpm, stroke_m)
     rig = m.rig
     settings = settings or Settings()
-    if settings.method not in (None, "hill", "monodromy"):
-        raise ValueError(f"settings.method: {settings.method!r} is not 'hill' or 'monodromy'")
+    if settings.method not in (None, "hill", "monodromy", "modal"):
+        raise ValueError(f"settings.method: {settings.method!r} is not 'hill', 'monodromy' "
+                         "or 'modal'")
     try:
         if rig.n_links == 1 and settings.method == "monodromy" and not verify:
             return _rk_trace_stability(m, equilibrium, settings)
         if rig.n_links == 1:
             return _hill_stability(m, equilibrium, settings, verify)
+        if settings.method == "modal" or (settings.method is None and modes_decouple(m)):
+            return _hill_stability(m, equilibrium, settings, verify, modal=True)
         return _rk_stability(m, equilibrium, settings, verify)
     except ArithmeticError as exc:  # eigenvalues that did not converge, an overflow
         raise OutOfReach([Problem("links", f"outside what this method can resolve at "

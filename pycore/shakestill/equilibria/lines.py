@@ -14,7 +14,8 @@ import math
 from dataclasses import dataclass
 from typing import Callable, Iterator
 
-from .floquet import MIN_STEPS, STEP_PHASE, Settings, Stability, default_steps, hill_form, stability
+from .floquet import (MIN_STEPS, STEP_PHASE, Settings, Stability, default_steps, hill_form,
+                      mode_forms, modes_decouple, stability)
 from ..numerics.hill import default_truncation, needed_harmonics
 from ..model.derived import Model, as_model
 from ..model.rig import Rig
@@ -42,34 +43,45 @@ class Edge:
 
 
 def scan_settings(model: Model, equilibrium: str, corners: list[Model], *,
-                  step_phase: float = STEP_PHASE, min_steps: int = MIN_STEPS) -> Settings:
-    """Numerical settings good enough at every corner of a scan (one link: Hill rows and
-    harmonics, or fixed RK steps; several links: steps are chosen at each point from its
-    own rates). ``step_phase`` and ``min_steps`` size the RK steps (see default_steps)."""
-    if model.rig.n_links > 1:
+                  step_phase: float = STEP_PHASE, min_steps: int = MIN_STEPS,
+                  modal: bool | None = None) -> Settings:
+    """Numerical settings good enough at every corner of a scan: Hill rows and harmonics
+    (one link, or each sway mode of several), or fixed RK steps. Several links are taken by
+    their modes where that is exact (``modes_decouple``), or where ``modal`` asks for it as
+    a predictor; else RK steps are chosen at each point from its own rates. ``step_phase``
+    and ``min_steps`` size the RK steps (see default_steps)."""
+    several = model.rig.n_links > 1
+    if modal is None:
+        modal = several and modes_decouple(model)
+    if several and not modal:
         return Settings(step_phase=step_phase, min_steps=min_steps)
-    forms = [hill_form(c, equilibrium) for c in corners]
+    forms = [f for c in corners
+             for f in (mode_forms(c, equilibrium) if several else (hill_form(c, equilibrium),))]
     steps = None
-    if any(len(f.theta) > 1 for f in forms):
+    if not several and any(len(f.theta) > 1 for f in forms):
         steps = max(default_steps(c, equilibrium, step_phase=step_phase, min_steps=min_steps)
                     for c in corners)
     rows, kept = 0, 1
     for form in forms:
-        most = _affordable_harmonics(form, steps)
+        most = _affordable_harmonics(form, steps)  # every harmonic for modes (steps None)
         keep = needed_harmonics(form.theta0, form.theta,
                                 default_truncation(form.theta0, form.theta), most=most)
         if keep is None:
             return Settings(steps=steps, method="monodromy")
         kept = max(kept, keep)
         rows = max(rows, default_truncation(form.theta0, form.theta[:keep]))
-    return Settings(truncation=rows, harmonics=kept)
+    return Settings(truncation=rows, harmonics=kept, method="modal" if several else None)
 
 
 def _affordable_harmonics(form, steps: int | None) -> int:
     """The most harmonics for which Hill's band LU costs less than an RK cycle of ``steps``
-    (one harmonic always: Hill's tridiagonal form is the cheapest of all)."""
+    (one harmonic always: Hill's tridiagonal form is the cheapest of all); every harmonic
+    with no RK cycle to compare (``steps`` None: a sine, or a sway mode of several links,
+    whose RK alternative is the whole chain's)."""
+    if steps is None:
+        return len(form.theta)
     keep = 1
-    while steps is not None and keep < len(form.theta):
+    while keep < len(form.theta):
         rows = default_truncation(form.theta0, form.theta[:keep + 1])
         if HILL_BAND_US * (2 * rows + 1) * (2 * keep + 3) ** 2 > RK_STEP_US * steps:
             break

@@ -1,0 +1,138 @@
+"""Several links by their sway modes: multipliers, chart edges and windows against outside
+references (the source is named beside each check)."""
+
+from __future__ import annotations
+
+import math
+import random
+
+import numpy as np
+import pytest
+import scipy.linalg
+from scipy.optimize import brentq
+from scipy.special import mathieu_a, mathieu_b
+
+import refsolvers as ref
+import shakestill as ss
+from shakestill.equilibria.chart import chart
+from shakestill.equilibria.floquet import MODAL_METHOD
+from shakestill.model.derived import derive
+
+G = ref.G_STANDARD
+LIMITS = {"speed_rpm": [300.0, 6000.0], "stroke_m": [0.0, 0.03]}
+
+
+def _two(damping=0.0, drive=None):
+    links = [ref.link(0.2, 0.04, damping=damping),
+             ref.link(0.12, 0.02, [(0.01, 0.12)], damping=damping / 3)]
+    return ref.rig(links, drive or ref.sine(0.016, 2700.0), limits=LIMITS)
+
+
+def _three(damping=0.0, drive=None):
+    links = [ref.link(0.18, 0.03, [(0.02, 0.18)], damping=damping),
+             ref.link(0.12, 0.02, [(0.012, 0.12)], damping=damping),
+             ref.link(0.08, 0.01, [(0.006, 0.08)], damping=damping)]
+    return ref.rig(links, drive or ref.sine(0.004, 24000.0), limits=LIMITS)
+
+
+def _mode_lengths(data):
+    """Equivalent lengths 1 / lambda of scipy.linalg.eigh(K, M) on the reference chain."""
+    mass, _, stiff = ref.chain_matrices(data, "hanging")
+    return sorted(1.0 / scipy.linalg.eigh(stiff, mass, eigvals_only=True), reverse=True)
+
+
+@pytest.mark.parametrize("drive", [ref.sine(0.012, 2000.0), ref.crank(0.012, 0.05, 2000.0)],
+                         ids=["sine", "crank"])
+@pytest.mark.parametrize("make", [_two, _three], ids=["two links", "three links"])
+@pytest.mark.parametrize("equilibrium", ["inverted", "hanging"])
+def test_undamped_modal_multipliers_are_the_chains(make, drive, equilibrium):
+    # Acheson 1993 (Proc. R. Soc. Lond. A 443, 239): with no damping the chain splits into
+    # its sway modes exactly. Reference: scipy.integrate.solve_ivp monodromy of the whole
+    # chain (DOP853, rtol 1e-12) and numpy.linalg.eigvals; every multiplier to 1e-8.
+    for speed in (700.0, 2000.0, 5200.0):
+        data = make(drive=dict(drive, speed_rpm=speed))
+        got = ss.stability(ss.rig_from_dict(data), equilibrium)
+        assert got.method == MODAL_METHOD
+        want = ref.multipliers(ref.monodromy(data, equilibrium))
+        assert ref.same_multipliers(got.multipliers, want, 1e-8) < 1e-8
+
+
+@pytest.mark.parametrize("make", [_two, _three], ids=["two links", "three links"])
+def test_undamped_chart_edges_lie_on_a_modes_mathieu_curve(make):
+    # Each sway mode of length L is the Mathieu equation y'' + (a - 2q cos 2z) y = 0 with
+    # a = +-4 g / (L omega^2) and |q| = stroke / L (Acheson 1993; McLachlan, Theory and
+    # Application of Mathieu Functions, ch. 2), so every edge of an undamped chart sits on
+    # a transition curve of scipy.special.mathieu_a / mathieu_b for one of the lengths
+    # from scipy.linalg.eigh. Tolerance 1e-6 relative in speed.
+    data = make()
+    lengths = _mode_lengths(data)
+    c = chart(ss.rig_from_dict(data), rows=8)
+    checked = 0
+    for row in c.rows[1:]:
+        for eq, sign in (("inverted", -1), ("hanging", 1)):
+            for e in row.edges[eq]:
+                w = 2 * math.pi * e.x / 60
+                best = math.inf
+                for length in lengths:
+                    a, q = sign * 4 * G / (length * w * w), row.y / length
+                    curves = [mathieu_a(n, q) for n in range(12)] + \
+                             [mathieu_b(n, q) for n in range(1, 12)]
+                    best = min([best] + [abs(math.sqrt(a / cv) - 1) for cv in curves
+                                         if cv * a > 0])
+                assert best < 1e-6
+                checked += 1
+    assert checked >= 10  # tongue and Kapitza edges in every row
+
+
+@pytest.mark.parametrize("make", [_two, _three], ids=["two links", "three links"])
+def test_acheson_lower_edge_is_kapitza_of_the_longest_mode(make):
+    # Acheson 1993: the upright chain needs (A omega)^2 > 2 g L_max; the exact lower edge
+    # exceeds it by 7/32 (A / L_max)^2 relative (Landau & Lifshitz, Mechanics, sec. 30, with
+    # the a_0(q) expansion of DLMF 28.6.1). The chart's edge at a small stroke within 5% of
+    # that correction; L_max from scipy.linalg.eigh.
+    data = make()
+    longest = _mode_lengths(data)[0]
+    data["limits"] = {"speed_rpm": [3000.0, 60000.0], "stroke_m": [0.0, 0.008]}
+    c = chart(ss.rig_from_dict(data), rows=5, equilibria=("inverted",))
+    row = c.rows[1]
+    amplitude = row.y / 2
+    kapitza = math.sqrt(2 * G * longest) / amplitude * 60 / (2 * math.pi)
+    lower = [e.x for e in row.edges["inverted"] if e.gained][0]
+    assert lower / kapitza - 1 == pytest.approx(7 / 32 * (amplitude / longest) ** 2, rel=0.05)
+
+
+def _ref_max_multiplier(data, eq, speed, stroke):
+    rhos = ref.multipliers(ref.monodromy(data, eq, speed_rpm=speed, stroke_m=stroke,
+                                         rtol=1e-11, atol=1e-12))
+    return max(abs(rhos))
+
+
+@pytest.mark.parametrize("make", [_two, _three], ids=["two links", "three links"])
+def test_damped_sine_chart_is_confirmed_by_solve_ivp(make):
+    # Joint dampers couple the modes: the rows are predicted by them and confirmed by the
+    # exact monodromy. Reference: solve_ivp monodromy (DOP853, rtol 1e-11): the verdict at
+    # 60 random points of the rows (points within 1e-6 of an edge skipped), and the first
+    # edges of the busiest row by scipy.optimize.brentq on it to 1e-4 relative (the target).
+    data = make(damping=3e-4)
+    rig = ss.rig_from_dict(data)
+    assert derive(rig).modes.coupling > 0.01  # the dampers do couple the modes
+    c = chart(rig, rows=8)
+    assert any("predicted by the modes" in n for n in c.notes)
+    rng = random.Random(11)
+    for _ in range(60):
+        row = rng.choice(c.rows[1:])
+        x = row.speed_min * (row.speed_max / row.speed_min) ** rng.random()
+        for eq in ("inverted", "hanging"):
+            if any(abs(x - e.x) < 1e-6 * x for e in row.edges[eq]):
+                continue
+            inside = any(a <= x <= b for a, b in row.stable_intervals(eq))
+            assert inside == (_ref_max_multiplier(data, eq, x, row.y) < 1)
+    row = max(c.rows, key=lambda r: len(r.edges["inverted"]) + len(r.edges["hanging"]))
+    checked = 0
+    for eq in ("inverted", "hanging"):
+        for e in row.edges[eq][:2]:
+            want = brentq(lambda v: _ref_max_multiplier(data, eq, v, row.y) - 1,
+                          e.x * (1 - 2e-3), e.x * (1 + 2e-3), xtol=1e-9 * e.x)
+            assert e.x == pytest.approx(want, rel=1e-4)
+            checked += 1
+    assert checked >= 2
