@@ -150,13 +150,10 @@ def _modes_words(model: Model) -> str:
     if modes_decouple(model):
         return ("several links: each sway mode is a one-link Hill problem (no damping couples "
                 "the modes: exact, Acheson 1993)")
-    coupling = f"the joint dampers couple the sway modes ({model.modes.coupling:.2g})"
-    if model.rig.drive.waveform == "sine":
-        return (f"{coupling}: each row is predicted by the modes' Hill determinants and every "
-                "edge confirmed by the chain's exact monodromy within {:g} relative and placed "
-                "there; a row the exact method does not bear out is walked by it".format(
-                    CONFIRM_HALF_WIDTHS[0]))
-    return f"{coupling}: every point by the chain's exact monodromy"
+    return (f"the joint dampers couple the sway modes ({model.modes.coupling:.2g}): each row "
+            "is predicted by the modes and every edge confirmed by the chain's exact monodromy "
+            f"within {CONFIRM_HALF_WIDTHS[0]:g} relative and placed there; a row the exact "
+            "method does not bear out is walked by it")
 
 
 def chart(rig: Rig | Model, **options) -> Chart:

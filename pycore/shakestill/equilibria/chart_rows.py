@@ -102,8 +102,8 @@ def scan_row(model: Model, y_axis: str, y: float, equilibria, guide=None) -> Row
     """One row: follow the edges of two computed neighbour rows where they agree
     (bracketed root finding near the interpolated edges), else walk the whole row.
 
-    Several links with joint dampers coupling their modes, on a sine drive: the row is
-    found by the modes (a predictor), then each edge is confirmed and placed by the exact
+    Several links with joint dampers coupling their modes: the row is found by the
+    modes (a predictor), then each edge is confirmed and placed by the exact
     monodromy (module ``confirm``); a row that does not confirm is walked exactly."""
     line = row_line(model.rig, y_axis, y)
     if line is None:
@@ -113,14 +113,9 @@ def scan_row(model: Model, y_axis: str, y: float, equilibria, guide=None) -> Row
     edges, start_verdicts, count = {}, {}, 0
     for eq in equilibria:
         settings = row_settings(model, point, lo, hi, eq, modal=True if coupled else None)
-        # the modes predict only where they are much cheaper than the chain's monodromy: a
-        # sine's tridiagonal Hill form (a crank's band of harmonics costs about as much)
-        predicted = coupled and settings.harmonics == 1
-        if coupled and not predicted:
-            settings = row_settings(model, point, lo, hi, eq, modal=False)
         probe = Probe(model, eq, point, settings)
         s0, found = _edges(probe, lo, hi, guide(eq, y) if guide else None)
-        if predicted:
+        if coupled:
             exact = Probe(model, eq, point, row_settings(model, point, lo, hi, eq, modal=False))
             confirmed = confirm_edges(exact, found, s0.stable, lo, hi, rtol=CHART_RTOL)
             if confirmed is None:

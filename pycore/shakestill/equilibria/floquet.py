@@ -62,8 +62,9 @@ class Settings:
     steps: int | None = None  # RK steps per cycle (several links, or one link by monodromy)
     method: str | None = None  # one link, unverified scan points: "hill" (default) or
     # "monodromy"; a verified point (verify=True) is always Hill's, which checks its truncation.
-    # Several links: "modal" asks for the sway modes' Hill determinants even with damping
-    # coupling the modes (a predictor then); by default they are used where exact.
+    # Several links: "modal" asks for the sway modes (Hill's determinants, or their 2 x 2
+    # monodromies when ``steps`` is set) even with damping coupling the modes (a predictor
+    # then); by default they are used where exact.
     step_phase: float = STEP_PHASE  # RK steps chosen per point: see default_steps
     min_steps: int = MIN_STEPS
 
@@ -199,15 +200,28 @@ def _from_trace(m: Model, equilibrium: str, trace: float, gamma_T: float, method
     return _summarise(m, equilibrium, rhos, margin, method, **extra)
 
 
-def _rk_trace_stability(m: Model, equilibrium: str, settings: Settings) -> Stability:
-    """One link by its 2 x 2 monodromy, judged like Hill's trace (same margin), for scans
-    of drives with many harmonics, where the fixed RK cycle is cheaper than the band LU."""
-    lin = m.of(equilibrium).linear
-    gamma_T = lin.D[0][0] / (2.0 * lin.M[0][0]) / m.rig.drive.frequency_hz
+def _rk_trace_stability(m: Model, equilibrium: str, settings: Settings, *,
+                        modal: bool = False) -> Stability:
+    """One link (or each sway mode, ``modal``) by its 2 x 2 monodromy, judged like Hill's
+    trace (same margin), for scans of drives with many harmonics, where the fixed RK cycle
+    is cheaper than the band LU."""
     n = _steps(m, equilibrium, settings)
-    mono = _monodromy(m, equilibrium, n)
-    trace = math.exp(gamma_T) * (mono[0][0] + mono[1][1])
-    return _from_trace(m, equilibrium, trace, gamma_T, "monodromy", work={"steps": n})
+    if not modal:
+        lin = m.of(equilibrium).linear
+        gamma_T = lin.D[0][0] / (2.0 * lin.M[0][0]) / m.rig.drive.frequency_hz
+        mono = _monodromy(m, equilibrium, n)
+        trace = math.exp(gamma_T) * (mono[0][0] + mono[1][1])
+        return _from_trace(m, equilibrium, trace, gamma_T, "monodromy", work={"steps": n})
+    sign = -1.0 if equilibrium == "inverted" else 1.0
+    nodes, period = _G_nodes(m.rig, n), 1.0 / m.rig.drive.frequency_hz
+    margins, rhos = [], []
+    for length, c in zip(m.modes.lengths_m, m.modes.damping):
+        mono = fundamental_matrix(((sign / length,),), ((c,),), nodes, period, n)
+        gamma_T = 0.5 * c * period
+        trace = math.exp(gamma_T) * (mono[0][0] + mono[1][1])
+        margins.append(abs(trace) - 2.0 * math.cosh(gamma_T))
+        rhos.extend(multipliers_from_trace(trace, math.exp(-gamma_T)))
+    return _summarise(m, equilibrium, rhos, max(margins), MODAL_METHOD, work={"steps": n})
 
 
 # ----------------------------------------------------------------------------- several links
@@ -333,8 +347,9 @@ def stability(rig: Rig | Model, equilibrium: str, speed_rpm: float | None = None
         raise ValueError(f"settings.method: {settings.method!r} is not 'hill', 'monodromy' "
                          "or 'modal'")
     try:
-        if rig.n_links == 1 and settings.method == "monodromy" and not verify:
-            return _rk_trace_stability(m, equilibrium, settings)
+        if settings.method in ("monodromy", "modal") and settings.steps and not verify and \
+                (rig.n_links == 1 or settings.method == "modal"):
+            return _rk_trace_stability(m, equilibrium, settings, modal=rig.n_links > 1)
         if rig.n_links == 1:
             return _hill_stability(m, equilibrium, settings, verify)
         if settings.method == "modal" or (settings.method is None and modes_decouple(m)):

@@ -58,16 +58,16 @@ def scan_settings(model: Model, equilibrium: str, corners: list[Model], *,
     forms = [f for c in corners
              for f in (mode_forms(c, equilibrium) if several else (hill_form(c, equilibrium),))]
     steps = None
-    if not several and any(len(f.theta) > 1 for f in forms):
+    if any(len(f.theta) > 1 for f in forms):
         steps = max(default_steps(c, equilibrium, step_phase=step_phase, min_steps=min_steps)
                     for c in corners)
     rows, kept = 0, 1
     for form in forms:
-        most = _affordable_harmonics(form, steps)  # every harmonic for modes (steps None)
+        most = _affordable_harmonics(form, steps)
         keep = needed_harmonics(form.theta0, form.theta,
                                 default_truncation(form.theta0, form.theta), most=most)
-        if keep is None:
-            return Settings(steps=steps, method="monodromy")
+        if keep is None:  # each link or mode by its 2 x 2 monodromy
+            return Settings(steps=steps, method="modal" if several else "monodromy")
         kept = max(kept, keep)
         rows = max(rows, default_truncation(form.theta0, form.theta[:keep]))
     return Settings(truncation=rows, harmonics=kept, method="modal" if several else None)
@@ -76,8 +76,7 @@ def scan_settings(model: Model, equilibrium: str, corners: list[Model], *,
 def _affordable_harmonics(form, steps: int | None) -> int:
     """The most harmonics for which Hill's band LU costs less than an RK cycle of ``steps``
     (one harmonic always: Hill's tridiagonal form is the cheapest of all); every harmonic
-    with no RK cycle to compare (``steps`` None: a sine, or a sway mode of several links,
-    whose RK alternative is the whole chain's)."""
+    with no RK cycle to compare (``steps`` None: a drive of one harmonic)."""
     if steps is None:
         return len(form.theta)
     keep = 1
