@@ -117,7 +117,7 @@ def test_damped_sine_chart_is_confirmed_by_solve_ivp(make):
     rig = ss.rig_from_dict(data)
     assert derive(rig).modes.coupling > 0.01  # the dampers do couple the modes
     c = chart(rig, rows=8)
-    assert any("predicted by the modes" in n for n in c.notes)
+    assert any("confirmed by the chain's exact monodromy" in n for n in c.notes)
     rng = random.Random(11)
     for _ in range(60):
         row = rng.choice(c.rows[1:])

@@ -11,7 +11,6 @@ and can simply be dropped to cancel.
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 from typing import Iterator
 
@@ -19,6 +18,7 @@ from ..model import drive as drv
 from ..model.derived import Model, as_model
 from ..model.linear import EQUILIBRIA
 from ..model.rig import Rig, max_stroke_m, with_operating_point
+from .chart_modes import modal_row_steps
 from .chart_rows import (CHART_RTOL, CHART_SPEED_STEP, Row, predict, scan_row, speed_range,
                          stroke_for_peak_accel)
 from .confirm import CONFIRM_HALF_WIDTHS
@@ -122,9 +122,27 @@ def chart_steps(rig: Rig | Model, *, rows: int | None = None, y_axis: str = "str
     if hi < rig.limits.speed_rpm[1]:
         notes += (f"the chart stops at {hi:.4g} rpm, below the rig's highest speed: "
                   + CEILING_WORDS,)
-    order = _row_order(rows)
     marks = tongues(model)
-    coarse = sorted(order[:len(set(range(0, rows, COARSE_EVERY)) | {rows - 1})])
+    if rig.n_links == 1:
+        steps = _row_steps(model, ys, y_axis, equilibria)
+    else:
+        steps = modal_row_steps(model, lo, y_axis, equilibria,
+                                lambda mode: _row_steps(mode, ys, y_axis, equilibria))
+    for k, (j, row) in enumerate(steps):
+        if row is not None:
+            done[j] = row
+            total += row.evaluations
+        partial = Chart(y_axis, (lo, hi), (y0, y1), tuple(done[i] for i in sorted(done)),
+                        marks, total, k == rows - 1, notes)
+        yield (k + 1) / rows, partial
+
+
+def _row_steps(model: Model, ys: list[float], y_axis: str, equilibria):
+    """(row index, row or None) for every row, coarse rows first (``_row_order``)."""
+    rows = len(ys)
+    order = _row_order(rows)
+    coarse = set(order[:len(set(range(0, rows, COARSE_EVERY)) | {rows - 1})])
+    done: dict[int, Row] = {}
 
     def guide(j):
         # the nearest computed rows: a row walked whole where its neighbours disagreed
@@ -135,24 +153,22 @@ def chart_steps(rig: Rig | Model, *, rows: int | None = None, y_axis: str = "str
             return None
         return lambda eq, y: predict(done[below], done[above], eq, y)
 
-    for k, j in enumerate(order):
+    for j in order:
         row = scan_row(model, y_axis, ys[j], equilibria, None if j in coarse else guide(j))
         if row is not None:
             done[j] = row
-            total += row.evaluations
-        partial = Chart(y_axis, (lo, hi), (y0, y1), tuple(done[i] for i in sorted(done)),
-                        marks, total, k == len(order) - 1, notes)
-        yield (k + 1) / len(order), partial
+        yield j, row
 
 
 def _modes_words(model: Model) -> str:
     """How several links were computed, for the chart's notes."""
+    words = ("several links: each sway mode is charted as a one-link pendulum of its "
+             "equivalent length and the chain holds where every mode holds (Acheson 1993)")
     if modes_decouple(model):
-        return ("several links: each sway mode is a one-link Hill problem (no damping couples "
-                "the modes: exact, Acheson 1993)")
-    return (f"the joint dampers couple the sway modes ({model.modes.coupling:.2g}): each row "
-            "is predicted by the modes and every edge confirmed by the chain's exact monodromy "
-            f"within {CONFIRM_HALF_WIDTHS[0]:g} relative and placed there; a row the exact "
+        return words + "; no damping couples the modes, so this is exact"
+    return (f"{words}; the joint dampers couple the modes ({model.modes.coupling:.2g}), so "
+            "every edge is confirmed by the chain's exact monodromy within "
+            f"{CONFIRM_HALF_WIDTHS[0]:g} relative and placed there, and a row the exact "
             "method does not bear out is walked by it")
 
 

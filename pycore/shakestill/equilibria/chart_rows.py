@@ -3,9 +3,7 @@
 A row follows the edges of its computed neighbour rows where they agree
 (bracketed root finding near the interpolated edges, spot-checked across the
 row), else it is walked whole with the tongue-safe line scan of module
-``lines``. Several links whose joint dampers couple their sway modes are
-predicted by the modes on a sine drive and confirmed by the exact monodromy
-(module ``confirm``).
+``lines``.
 """
 
 from __future__ import annotations
@@ -16,8 +14,6 @@ from dataclasses import dataclass
 from ..model import drive as drv
 from ..model.derived import Model, as_model
 from ..model.rig import OutOfReach, Problem, Rig, max_stroke_m
-from .confirm import confirm_edges
-from .floquet import modes_decouple
 from .lines import Probe, edge_between, scan_settings, speed_points, walk
 from .reach import MAX_SPEED_RPM, floor_words, scan_floor_rpm
 
@@ -100,36 +96,21 @@ def row_settings(model: Model, point, lo: float, hi: float, eq: str, modal=None)
 
 def scan_row(model: Model, y_axis: str, y: float, equilibria, guide=None) -> Row | None:
     """One row: follow the edges of two computed neighbour rows where they agree
-    (bracketed root finding near the interpolated edges), else walk the whole row.
-
-    Several links with joint dampers coupling their modes: the row is found by the
-    modes (a predictor), then each edge is confirmed and placed by the exact
-    monodromy (module ``confirm``); a row that does not confirm is walked exactly."""
+    (bracketed root finding near the interpolated edges), else walk the whole row."""
     line = row_line(model.rig, y_axis, y)
     if line is None:
         return None
     point, lo, hi = line
-    coupled = model.rig.n_links > 1 and not modes_decouple(model)
     edges, start_verdicts, count = {}, {}, 0
     for eq in equilibria:
-        settings = row_settings(model, point, lo, hi, eq, modal=True if coupled else None)
-        probe = Probe(model, eq, point, settings)
-        s0, found = _edges(probe, lo, hi, guide(eq, y) if guide else None)
-        if coupled:
-            exact = Probe(model, eq, point, row_settings(model, point, lo, hi, eq, modal=False))
-            confirmed = confirm_edges(exact, found, s0.stable, lo, hi, rtol=CHART_RTOL)
-            if confirmed is None:
-                s0, found = _edges(exact, lo, hi, None)
-            else:
-                found = confirmed
-            count += exact.count
-        edges[eq] = found
+        probe = Probe(model, eq, point, row_settings(model, point, lo, hi, eq))
+        s0, edges[eq] = line_edges(probe, lo, hi, guide(eq, y) if guide else None)
         start_verdicts[eq] = s0.stable
         count += probe.count
     return Row(y, lo, hi, edges, start_verdicts, count)
 
 
-def _edges(probe: Probe, lo: float, hi: float, prediction):
+def line_edges(probe: Probe, lo: float, hi: float, prediction=None):
     """(verdict at lo, edges along the row): near the neighbours' edges, else a whole walk."""
     s0 = probe(lo)
     followed = _follow(probe, lo, hi, s0, prediction)

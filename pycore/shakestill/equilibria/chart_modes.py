@@ -1,0 +1,97 @@
+"""Chart rows of several links from their sway modes' own one-link rows.
+
+Linearised, the chain splits into its sway modes, each a single pendulum of
+equivalent length L_i and damping c_i (module ``model.modes``; Acheson 1993),
+exactly so when no damping couples the modes. Each mode is given to the
+one-link chart as a pendulum of its own (a point mass on a massless rod of
+length L_i, damper c_i L_i^2, so that its equation is the mode's), and the
+chain holds where every mode holds: a row's stable stretches are the
+intersection of its modes'. A mode's row is walked with its own tongues'
+spacing and costs a one-link row, so N links cost about N one-link charts.
+
+Where joint dampers couple the modes the intersection is a prediction: every
+edge is confirmed and placed by the chain's exact monodromy (module
+``confirm``), and a row the exact method does not bear out is walked by it.
+"""
+
+from __future__ import annotations
+
+from dataclasses import replace
+from typing import Callable, Iterator
+
+from ..model.derived import Model, derive
+from ..model.rig import Link, PointMass
+from .chart_rows import CHART_RTOL, Row, line_edges, row_line, row_settings
+from .confirm import confirm_edges
+from .floquet import modes_decouple
+from .lines import Edge, Probe
+
+RowSteps = Iterator[tuple[int, Row | None]]
+
+
+def mode_models(model: Model, speed_min: float) -> tuple[Model, ...]:
+    """Each sway mode as a one-link rig of the same drive and limits, its speeds starting
+    at the chain's ``speed_min`` so that every mode's rows span the chain's."""
+    rig = model.rig
+    limits = replace(rig.limits, speed_rpm=(speed_min, rig.limits.speed_rpm[1]))
+    out = []
+    for length, damping in zip(model.modes.lengths_m, model.modes.damping):
+        link = Link(length_m=length, point_masses=(PointMass(1.0, length),),
+                    joint_damping_N_m_s=damping * length * length)
+        out.append(derive(replace(rig, links=(link,), limits=limits)))
+    return tuple(out)
+
+
+def modal_row_steps(model: Model, speed_min: float, y_axis: str, equilibria,
+                    row_steps: Callable[[Model], RowSteps]) -> RowSteps:
+    """(row index, chain row) in the order ``row_steps`` computes each mode's rows."""
+    walkers = [row_steps(mode) for mode in mode_models(model, speed_min)]
+    coupled = not modes_decouple(model)
+    for computed in zip(*walkers):
+        j = computed[0][0]
+        rows = [row for _, row in computed]
+        if any(row is None for row in rows):
+            yield j, None
+        else:
+            yield j, chain_row(model, rows, y_axis, equilibria, coupled)
+
+
+def chain_row(model: Model, rows: list[Row], y_axis: str, equilibria, coupled: bool) -> Row:
+    """The chain's row from its modes' rows (confirmed exactly when ``coupled``)."""
+    first = rows[0]
+    lo, hi = first.speed_min, first.speed_max
+    edges, at_lo, count = {}, {}, sum(r.evaluations for r in rows)
+    for eq in equilibria:
+        stretches = _intersection([r.stable_intervals(eq) for r in rows])
+        at_lo[eq] = bool(stretches) and stretches[0][0] <= lo
+        found = []
+        for a, b in stretches:
+            if a > lo:
+                found.append(Edge(a, True))
+            if b < hi:
+                found.append(Edge(b, False))
+        edges[eq] = tuple(found)
+        if coupled:
+            point = row_line(model.rig, y_axis, first.y)[0]
+            exact = Probe(model, eq, point, row_settings(model, point, lo, hi, eq, modal=False))
+            confirmed = confirm_edges(exact, edges[eq], at_lo[eq], lo, hi, rtol=CHART_RTOL)
+            if confirmed is None:
+                s0, confirmed = line_edges(exact, lo, hi)
+                at_lo[eq] = s0.stable
+            edges[eq] = confirmed
+            count += exact.count
+    return Row(first.y, lo, hi, edges, at_lo, count)
+
+
+def _intersection(interval_sets: list[list[list[float]]]) -> list[tuple[float, float]]:
+    """Where every set holds: the intersection of sorted lists of [a, b] intervals."""
+    common = [(a, b) for a, b in interval_sets[0]]
+    for intervals in interval_sets[1:]:
+        out = []
+        for a, b in common:
+            for c, d in intervals:
+                lo, hi = max(a, c), min(b, d)
+                if lo < hi:
+                    out.append((lo, hi))
+        common = out
+    return common
