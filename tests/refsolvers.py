@@ -271,6 +271,22 @@ def char_values(q, count=8):
     return out
 
 
+def transition_q_error(a, q, count=10):
+    """Relative distance in q from (a, q) to the nearest Mathieu transition curve a_n(q) or
+    b_n(q) (scipy.special), found by scipy.optimize.brentq along q within 1e-3 of q: how far
+    a point traced as an edge at fixed a (fixed speed) lies from the true edge. inf if no
+    curve crosses a there."""
+    curves = [lambda x, n=n: special.mathieu_a(n, x) - a for n in range(count)]
+    curves += [lambda x, n=n: special.mathieu_b(n, x) - a for n in range(1, count)]
+    best = math.inf
+    lo, hi = q * (1 - 1e-3), q * (1 + 1e-3)
+    for f in curves:
+        if f(lo) * f(hi) <= 0:
+            root = brentq(f, lo, hi, xtol=1e-15 * q, rtol=4 * np.finfo(float).eps)
+            best = min(best, abs(root / q - 1))
+    return best
+
+
 def char_value_tridiagonal(kind, order, q, size=60):
     """Characteristic value from the recurrences of DLMF 28.4 (a numpy cross-check of scipy)."""
     if kind == "a" and order % 2 == 0:

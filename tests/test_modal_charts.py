@@ -82,6 +82,12 @@ def test_undamped_chart_edges_lie_on_a_modes_mathieu_curve(make):
                 assert best < 1e-6
                 checked += 1
     assert checked >= 10  # tongue and Kapitza edges in every row
+    # edges traced in stroke at fixed speeds: on a mode's curve to 1e-6 relative in stroke
+    for eq, sign in (("inverted", -1), ("hanging", 1)):
+        for e in c.columns[eq]:
+            w = 2 * math.pi * e.speed_rpm / 60
+            assert min(ref.transition_q_error(sign * 4 * G / (length * w * w), e.y / length)
+                       for length in lengths) < 1e-6
 
 
 @pytest.mark.parametrize("make", [_two, _three], ids=["two links", "three links"])

@@ -10,6 +10,7 @@ from scipy.integrate import solve_ivp
 from scipy.optimize import brentq
 from scipy.special import mathieu_a, mathieu_b
 
+import refsolvers as ref
 import shakestill as ss
 from shakestill.equilibria.chart import chart, chart_dict
 from shakestill.render.chart_svg import render
@@ -179,3 +180,26 @@ def test_runup_simulation_matches_solve_ivp():
     assert c["simulated_amplification"] == pytest.approx(growth, rel=0.05)
     # the frozen-multiplier estimate carries only the exponential part: same order of magnitude
     assert 0.2 < c["amplification"] / growth < 1.0
+
+
+def test_edges_along_speed_are_traced_in_stroke_onto_mathieu_curves():
+    # The upright pendulum's upper (flutter) edge runs nearly along speed at high speed, so
+    # rows cannot place it; the chart traces it in stroke at fixed speeds. Undamped sine, one
+    # link: every such edge lies on a transition curve of scipy.special.mathieu_a / mathieu_b
+    # with a = +-4 g / (l_eq omega^2), q = stroke / l_eq (McLachlan, Theory and Application of
+    # Mathieu Functions, ch. 2), to 1e-6 relative in stroke (the target is 1e-4).
+    rig = ss.rig_from_dict({
+        "format": "shakestill-rig", "version": 1,
+        "links": [{"length_m": 0.03, "rod_mass_kg": 0.01}],
+        "drive": {"waveform": "sine", "stroke_m": 0.01, "speed_rpm": 20000},
+        "limits": {"speed_rpm": [3000, 60000], "stroke_m": [0.0, 0.03]}})
+    l_eq = ss.properties(rig).l_eq_m
+    c = chart(rig, rows=24)
+    upper = [e for e in c.columns["inverted"] if not e.gained]
+    assert len(upper) > 50  # the flutter edge spans most of the speed range
+    for eq in ("inverted", "hanging"):
+        for e in c.columns[eq]:
+            a, q = ref.mathieu_aq(l_eq, G, e.y, e.speed_rpm, eq)
+            assert ref.transition_q_error(a, q) < 1e-6
+    drawn = [b for b in chart_dict(c)["boundaries"] if b["kind"] == "upper edge"]
+    assert max(len(b["points"]) for b in drawn) > 50  # one line along the traced edge

@@ -11,13 +11,14 @@ and can simply be dropped to cancel.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field, replace
 from typing import Iterator
 
 from ..model import drive as drv
 from ..model.derived import Model, as_model
 from ..model.linear import EQUILIBRIA
 from ..model.rig import Rig, max_stroke_m, with_operating_point
+from .chart_columns import column_edges, column_speeds
 from .chart_modes import modal_row_steps
 from .chart_rows import (CHART_RTOL, CHART_SPEED_STEP, Row, predict, scan_row, speed_range,
                          stroke_for_peak_accel)
@@ -28,6 +29,9 @@ from .reach import CEILING_WORDS, floor_words
 
 COARSE_EVERY = 8  # first pass walks every 8th row whole; the rest follow their edges
 DEFAULT_ROWS = 120  # for every link count: several links are taken by their sway modes
+COLUMN_WORDS = ("at {} evenly spaced speeds, an edge between two rows that no pair of the rows' "
+                "edges explains (a boundary running along speed, such as the upright "
+                "pendulum's upper edge) is traced in y by root finding to the same precision")
 ACCEL_LINES_G = (1, 2, 5, 10, 20, 50, 100, 200, 500, 1000, 2000)  # candidate iso-lines
 G0 = 9.80665
 
@@ -42,6 +46,8 @@ class Chart:
     evaluations: int
     complete: bool
     notes: tuple[str, ...]
+    # equilibrium -> edges traced in y at fixed speeds where the rows cannot place them
+    columns: dict = field(default_factory=dict)
 
 
 def _y_range(rig: Rig, y_axis: str) -> tuple[float, float]:
@@ -133,8 +139,14 @@ def chart_steps(rig: Rig | Model, *, rows: int | None = None, y_axis: str = "str
             done[j] = row
             total += row.evaluations
         partial = Chart(y_axis, (lo, hi), (y0, y1), tuple(done[i] for i in sorted(done)),
-                        marks, total, k == rows - 1, notes)
-        yield (k + 1) / rows, partial
+                        marks, total, False, notes)
+        yield (k + 1) / (rows + 1), partial
+    columns, speeds = {}, column_speeds((lo, hi))
+    for eq in equilibria:
+        columns[eq], spent = column_edges(model, partial.rows, y_axis, eq, speeds)
+        total += spent
+    yield 1.0, replace(partial, evaluations=total, complete=True, columns=columns,
+                       notes=notes + (COLUMN_WORDS.format(len(speeds)),))
 
 
 def _row_steps(model: Model, ys: list[float], y_axis: str, equilibria):
@@ -181,37 +193,46 @@ def chart(rig: Rig | Model, **options) -> Chart:
 
 
 def boundaries(c: Chart, equilibrium: str) -> list[dict]:
-    """Edges of neighbouring rows linked into polylines [(speed, y), ...]."""
-    open_lines: list[dict] = []
-    finished: list[dict] = []
-    gap = 0.08 * (c.speed_range[1] - c.speed_range[0])
-    for row in c.rows:
-        taken = set()
-        still_open = []
-        for line in open_lines:
-            last_x = line["points"][-1][0]
-            best = None
-            for i, e in enumerate(row.edges.get(equilibrium, ())):
-                if i in taken or e.gained != line["gained"]:
-                    continue
-                if abs(e.x - last_x) <= gap and (best is None or
-                                                 abs(e.x - last_x) < abs(row.edges[equilibrium][best].x - last_x)):
-                    best = i
-            if best is None:
-                finished.append(line)
-            else:
-                taken.add(best)
-                line["points"].append([row.edges[equilibrium][best].x, row.y])
-                still_open.append(line)
-        for i, e in enumerate(row.edges.get(equilibrium, ())):
-            if i not in taken:
-                still_open.append({"equilibrium": equilibrium, "gained": e.gained,
-                                   "points": [[e.x, row.y]]})
-        open_lines = still_open
-    finished.extend(open_lines)
-    for line in finished:
+    """Edges linked into polylines [(speed, y), ...]: the rows' edges from row to row, and
+    the edges traced at fixed speeds (``Chart.columns``) from speed to speed."""
+    by_rows = _polylines([(row.y, [(e.x, e.gained) for e in row.edges.get(equilibrium, ())])
+                          for row in c.rows], 0.08 * (c.speed_range[1] - c.speed_range[0]))
+    speeds: dict[float, list] = {}
+    for e in c.columns.get(equilibrium, ()):
+        speeds.setdefault(e.speed_rpm, []).append((e.y, e.gained))
+    by_columns = _polylines(sorted(speeds.items()), 0.08 * (c.y_range[1] - c.y_range[0]))
+    lines = [{"equilibrium": equilibrium, "gained": gained, "points": [[x, y] for x, y in pts]}
+             for gained, pts in by_rows]
+    lines += [{"equilibrium": equilibrium, "gained": gained, "points": [[x, y] for y, x in pts]}
+              for gained, pts in by_columns]
+    for line in lines:
         line["kind"] = _edge_kind(equilibrium, line["gained"])
-    return finished
+    return lines
+
+
+def _polylines(stations, gap: float) -> list[tuple[bool, list]]:
+    """Edges at successive stations (position, [(coordinate, gained), ...]) linked into
+    (gained, [(coordinate, position), ...]): an edge continues the open line of its kind
+    nearest to it within ``gap``."""
+    open_lines: list[tuple[bool, list]] = []
+    finished: list[tuple[bool, list]] = []
+    for position, edges in stations:
+        taken, still_open = set(), []
+        for gained, points in open_lines:
+            last = points[-1][0]
+            near = [(abs(coord - last), i) for i, (coord, kind) in enumerate(edges)
+                    if i not in taken and kind == gained and abs(coord - last) <= gap]
+            if not near:
+                finished.append((gained, points))
+                continue
+            best = min(near)[1]
+            taken.add(best)
+            points.append((edges[best][0], position))
+            still_open.append((gained, points))
+        still_open += [(kind, [(coord, position)]) for i, (coord, kind) in enumerate(edges)
+                       if i not in taken]
+        open_lines = still_open
+    return finished + open_lines
 
 
 def _edge_kind(equilibrium: str, gained: bool) -> str:
@@ -232,6 +253,8 @@ def chart_dict(c: Chart) -> dict:
                   **{eq: {"edges": [[e.x, e.gained] for e in r.edges[eq]],
                           "stable_intervals_rpm": r.stable_intervals(eq)} for eq in eqs}}
                  for r in c.rows],
+        "column_edges": {eq: [[e.speed_rpm, e.y, e.gained] for e in c.columns.get(eq, ())]
+                         for eq in eqs},
         "boundaries": [b for eq in eqs for b in boundaries(c, eq)],
         "tongues": list(c.tongues),
         "evaluations": c.evaluations,

@@ -1,0 +1,90 @@
+"""Edges the chart's rows cannot place: boundaries that run nearly along speed.
+
+Rows find their edges in speed. A boundary running along speed (the upright
+pendulum's upper edge at high speed, where the stroke reaches its flutter
+limit, or the top of a tongue) crosses few rows, and between two rows its
+stroke would be known only to the row spacing. So at each of COLUMNS speeds,
+wherever two neighbouring rows disagree and no pair of their edges sweeps
+across that speed, the edge is found by root finding in the row's y (stroke
+or peak acceleration) to the rows' precision.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from ..model.derived import Model
+from .chart_rows import CHART_MIN_STEPS, CHART_RTOL, CHART_STEP_PHASE, Row, stroke_for_peak_accel
+from .lines import Probe, edge_between, scan_settings
+
+COLUMNS = 200  # speeds, evenly spaced over the chart, at which such edges are traced
+
+
+@dataclass(frozen=True)
+class ColumnEdge:
+    """Where the equilibrium's verdict changes moving up in y at a fixed speed."""
+
+    speed_rpm: float
+    y: float
+    gained: bool  # True if the equilibrium becomes stable moving up
+
+
+def column_speeds(speed_range: tuple[float, float]) -> list[float]:
+    lo, hi = speed_range
+    return [lo + (hi - lo) * (k + 0.5) / COLUMNS for k in range(COLUMNS)]
+
+
+def column_edges(model: Model, rows: tuple[Row, ...], y_axis: str, equilibrium: str,
+                 speeds: list[float]) -> tuple[tuple[ColumnEdge, ...], int]:
+    """(edges between neighbouring rows that the rows' own edges do not explain, ordered by
+    speed then y; stability evaluations spent)."""
+    found, count = [], 0
+    for below, above in zip(rows, rows[1:]):
+        for x in speeds:
+            if not (max(below.speed_min, above.speed_min) <= x <= min(below.speed_max,
+                                                                     above.speed_max)):
+                continue
+            stable_below, stable_above = _holds(below, equilibrium, x), _holds(above, equilibrium, x)
+            if stable_below == stable_above or _swept(below, above, equilibrium, x):
+                continue
+            edge, spent = _trace(model, y_axis, equilibrium, x, below.y, above.y)
+            count += spent
+            if edge is not None:
+                found.append(edge)
+    found.sort(key=lambda e: (e.speed_rpm, e.y))
+    return tuple(found), count
+
+
+def _holds(row: Row, equilibrium: str, x: float) -> bool:
+    return any(a <= x <= b for a, b in row.stable_intervals(equilibrium))
+
+
+def _swept(below: Row, above: Row, equilibrium: str, x: float) -> bool:
+    """True if an edge of one row and an edge of the same kind in the other lie on either
+    side of x: a boundary crossing the rows' gap at a slant, already placed in speed."""
+    for e in below.edges[equilibrium]:
+        for f in above.edges[equilibrium]:
+            if e.gained == f.gained and min(e.x, f.x) <= x <= max(e.x, f.x):
+                return True
+    return False
+
+
+def _trace(model: Model, y_axis: str, equilibrium: str, x: float, y0: float, y1: float):
+    """The edge between y0 and y1 at speed x by root finding, or None if the exact verdicts
+    at the ends agree after all (a point on a row's edge)."""
+    rig = model.rig
+    if y_axis == "stroke":
+        def point(y):
+            return x, y
+    else:
+        def point(y):
+            return x, stroke_for_peak_accel(rig, y, x)
+    corners = [model.at(*point(y)) for y in (y0, y1)]
+    settings = scan_settings(model, equilibrium, corners, step_phase=CHART_STEP_PHASE,
+                             min_steps=CHART_MIN_STEPS)
+    probe = Probe(model, equilibrium, point, settings)
+    a, b = (y0, probe(y0)), (y1, probe(y1))
+    if a[1].stable == b[1].stable:
+        return None, probe.count
+    edge = edge_between(probe, a, b, rtol=CHART_RTOL)
+    return ColumnEdge(x, edge.x, edge.gained), probe.count
