@@ -142,3 +142,28 @@ def test_damped_sine_chart_is_confirmed_by_solve_ivp(make):
             assert e.x == pytest.approx(want, rel=1e-4)
             checked += 1
     assert checked >= 2
+
+
+@pytest.mark.parametrize("make", [_two, _three], ids=["two links", "three links"])
+@pytest.mark.parametrize("equilibrium", ["inverted", "hanging"])
+def test_undamped_window_edges_are_a_modes_mathieu_edges(make, equilibrium):
+    # The speed and stroke windows of an undamped chain end where one mode's Mathieu
+    # equation reaches a transition curve (Acheson 1993; scipy.special.mathieu_a / _b with
+    # the lengths of scipy.linalg.eigh): each edge is checked by the relative distance in q
+    # at its speed to the nearest curve of any mode, to 1e-8 (the target).
+    data = make(drive=ref.sine(0.016, 4000.0))  # both equilibria stable here
+    lengths = _mode_lengths(data)
+    rig = ss.rig_from_dict(data)
+    checked = 0
+    for axis in ("speed", "stroke"):
+        w = ss.window(rig, equilibrium, axis)
+        for value, is_edge in ((w.low, w.low_is_edge), (w.high, w.high_is_edge)):
+            if value is None or not is_edge:
+                continue
+            speed, stroke = (value, 0.016) if axis == "speed" else (4000.0, value)
+            err = min(ref.transition_q_error(*ref.mathieu_aq(length, G, stroke, speed,
+                                                            equilibrium))
+                      for length in lengths)
+            assert err < 1e-8
+            checked += 1
+    assert checked >= 1
