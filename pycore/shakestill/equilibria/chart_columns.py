@@ -15,6 +15,8 @@ from dataclasses import dataclass
 
 from ..model.derived import Model
 from .chart_rows import CHART_MIN_STEPS, CHART_RTOL, CHART_STEP_PHASE, Row, stroke_for_peak_accel
+from .confirm import place_edge
+from .floquet import modes_decouple
 from .lines import Probe, edge_between, scan_settings
 
 COLUMNS = 200  # speeds, evenly spaced over the chart, at which such edges are traced
@@ -71,7 +73,9 @@ def _swept(below: Row, above: Row, equilibrium: str, x: float) -> bool:
 
 def _trace(model: Model, y_axis: str, equilibrium: str, x: float, y0: float, y1: float):
     """The edge between y0 and y1 at speed x by root finding, or None if the exact verdicts
-    at the ends agree after all (a point on a row's edge)."""
+    at the ends agree after all (a point on a row's edge). Several links whose dampers
+    couple the modes: found on the modes, then confirmed and placed by the exact monodromy
+    (module ``confirm``), as the rows are."""
     rig = model.rig
     if y_axis == "stroke":
         def point(y):
@@ -79,12 +83,26 @@ def _trace(model: Model, y_axis: str, equilibrium: str, x: float, y0: float, y1:
     else:
         def point(y):
             return x, stroke_for_peak_accel(rig, y, x)
-    corners = [model.at(*point(y)) for y in (y0, y1)]
-    settings = scan_settings(model, equilibrium, corners, step_phase=CHART_STEP_PHASE,
-                             min_steps=CHART_MIN_STEPS)
-    probe = Probe(model, equilibrium, point, settings)
+    coupled = rig.n_links > 1 and not modes_decouple(model)
+    exact = _probe(model, equilibrium, point, y0, y1, modal=False if coupled else None)
+    probe = _probe(model, equilibrium, point, y0, y1, modal=True) if coupled else exact
     a, b = (y0, probe(y0)), (y1, probe(y1))
     if a[1].stable == b[1].stable:
         return None, probe.count
     edge = edge_between(probe, a, b, rtol=CHART_RTOL)
-    return ColumnEdge(x, edge.x, edge.gained), probe.count
+    if coupled:
+        placed = place_edge(exact, edge, a[1].stable, y0, y1, CHART_RTOL)
+        if placed is None:
+            a, b = (y0, exact(y0)), (y1, exact(y1))
+            placed = edge_between(exact, a, b, rtol=CHART_RTOL) if \
+                a[1].stable != b[1].stable else None
+        edge = placed
+    count = probe.count + (exact.count if coupled else 0)
+    return (None if edge is None else ColumnEdge(x, edge.x, edge.gained)), count
+
+
+def _probe(model: Model, equilibrium: str, point, y0: float, y1: float, modal) -> Probe:
+    corners = [model.at(*point(y)) for y in (y0, y1)]
+    settings = scan_settings(model, equilibrium, corners, step_phase=CHART_STEP_PHASE,
+                             min_steps=CHART_MIN_STEPS, modal=modal)
+    return Probe(model, equilibrium, point, settings)

@@ -29,7 +29,7 @@ def confirm_edges(exact: Probe, predicted: tuple[Edge, ...], stable_at_lo: bool,
     for edge in predicted:
         if edge.gained == state:
             return None
-        placed = _place(exact, edge, state, last, hi, rtol)
+        placed = place_edge(exact, edge, state, last, hi, rtol)
         if placed is None:
             return None
         found.append(placed)
@@ -37,9 +37,10 @@ def confirm_edges(exact: Probe, predicted: tuple[Edge, ...], stable_at_lo: bool,
     return tuple(found)
 
 
-def _place(exact: Probe, edge: Edge, before: bool, last: float, hi: float,
+def place_edge(exact: Probe, edge: Edge, before: bool, last: float, hi: float,
            rtol: float) -> Edge | None:
-    """The exact edge in the tightest confirmed bracket around ``edge``, or None."""
+    """The exact edge in the tightest confirmed bracket around a predicted ``edge`` (the
+    verdict ``before`` it, nothing nearer than ``last`` or past ``hi``), or None."""
     for half in CONFIRM_HALF_WIDTHS:
         a, b = max(last, edge.x * (1 - half)), min(hi, edge.x * (1 + half))
         if not a < b:
