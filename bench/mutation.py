@@ -34,7 +34,9 @@ STAGE = TOP / "build" / "mutation"
 MODULES = [
     "equilibria/floquet.py", "equilibria/lines.py", "equilibria/windows.py",
     "equilibria/estimates.py", "equilibria/check.py", "equilibria/chart.py",
-    "equilibria/runup.py", "numerics/hill.py", "motion/loads.py", "fit/fitting.py",
+    "equilibria/chart_rows.py", "equilibria/chart_modes.py", "equilibria/chart_columns.py",
+    "equilibria/confirm.py", "equilibria/runup.py", "numerics/hill.py", "motion/loads.py",
+    "fit/fitting.py",
 ]
 # The fast engine tests that exercise those modules (the slow long-run cases and the
 # Pyodide/browser passes are left out: each mutant re-runs the tests that reach it).
@@ -42,7 +44,8 @@ TESTS = [
     "tests/test_check_fields.py", "tests/test_windows.py", "tests/test_ref_kapitza.py",
     "tests/test_ref_mathieu.py", "tests/test_hill.py", "tests/test_ref_crank.py",
     "tests/test_ref_monodromy.py", "tests/test_loads.py", "tests/test_fit.py",
-    "tests/test_stability_chart.py", "tests/test_runup.py", "tests/test_other_json.py",
+    "tests/test_stability_chart.py", "tests/test_runup.py", "tests/test_modal_charts.py",
+    "tests/test_modes.py", "tests/test_cli_paths.py",
 ]
 # Survivors judged equivalent (the mutant computes the same numbers), by mutmut's name, with
 # the reason; DEVELOPERS.md carries the same list.

@@ -92,10 +92,11 @@ def tongues(rig: Rig | Model) -> tuple[dict, ...]:
 
 
 def chart_steps(rig: Rig | Model, *, rows: int | None = None, y_axis: str = "stroke",
-                equilibria=EQUILIBRIA) -> Iterator[tuple[float, Chart]]:
+                equilibria=EQUILIBRIA, columns: bool = True) -> Iterator[tuple[float, Chart]]:
     """Yield (fraction done, chart so far) after each row; the last chart is complete.
 
-    ``rows`` defaults to DEFAULT_ROWS.
+    ``rows`` defaults to DEFAULT_ROWS. ``columns`` False leaves out the edges traced along
+    y at fixed speeds (module ``chart_columns``) for callers that read the rows only.
     """
     model = as_model(rig)
     rig = model.rig
@@ -141,12 +142,12 @@ def chart_steps(rig: Rig | Model, *, rows: int | None = None, y_axis: str = "str
         partial = Chart(y_axis, (lo, hi), (y0, y1), tuple(done[i] for i in sorted(done)),
                         marks, total, False, notes)
         yield (k + 1) / (rows + 1), partial
-    columns, speeds = {}, column_speeds((lo, hi))
-    for eq in equilibria:
-        columns[eq], spent = column_edges(model, partial.rows, y_axis, eq, speeds)
+    traced, speeds = {}, column_speeds((lo, hi)) if columns else []
+    for eq in equilibria if columns else ():
+        traced[eq], spent = column_edges(model, partial.rows, y_axis, eq, speeds)
         total += spent
-    yield 1.0, replace(partial, evaluations=total, complete=True, columns=columns,
-                       notes=notes + (COLUMN_WORDS.format(len(speeds)),))
+    yield 1.0, replace(partial, evaluations=total, complete=True, columns=traced,
+                       notes=notes + ((COLUMN_WORDS.format(len(speeds)),) if columns else ()))
 
 
 def _row_steps(model: Model, ys: list[float], y_axis: str, equilibria):

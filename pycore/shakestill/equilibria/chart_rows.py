@@ -152,7 +152,9 @@ def _follow(probe: Probe, lo: float, hi: float, s0, prediction):
     for e in found:
         verdicts.append(e.gained)
     for k in range(1, FOLLOW_CHECKS + 2):  # the last one is the row's end
-        x = lo * (hi / lo) ** (k / (FOLLOW_CHECKS + 1))
+        # clamped: lo * (hi / lo) ** 1 can round past hi (a row a few ulps wide raised
+        # StopIteration below)
+        x = min(hi, max(lo, lo * (hi / lo) ** (k / (FOLLOW_CHECKS + 1))))
         span = next(i for i in range(len(cuts) - 1) if cuts[i] <= x <= cuts[i + 1])
         if probe(x).stable != verdicts[span]:
             return None
