@@ -204,3 +204,24 @@ def test_the_fit_plot_uses_the_logs_own_zero():
                           * (y["max"] - y["min"]))
     assert values and max(abs(v) for v in values) <= 20.0 * 1.01  # 1%: pixel rounding
     assert max(abs(v) for v in values) >= 19.0
+
+
+def test_the_fit_report_speaks_in_the_logs_zero_and_meaningful_digits():
+    # The report gives the fitted start angle from the log's own zero: a 20 deg free swing
+    # logged from hanging (tests' decay_log) starts at +20 deg (0.05 deg: the fit's start
+    # angle is a fitted number), not at 200 deg from upright. Fitted numbers carry their
+    # standard error to two significant digits and the value to the same decimal place
+    # (common practice, no source): a worked value 0.000899768 +- 6.59e-07.
+    from shakestill.render.motion_report import with_error
+    text = decay_log(20.0, duration_s=2.0, step_s=0.02)
+    reply = bridge.call({"op": "fit", "rig": rig_data(2e-4), "log": text, "drive_stopped": True,
+                         "reference": "hanging"})
+    assert reply["ok"], reply
+    words = reply["report_text"]
+    line = next(x for x in words.splitlines() if x.startswith("Start of the run"))
+    assert "from the hanging position" in line
+    angle = float(line.split("angles ")[1].split(" deg")[0])
+    assert angle == pytest.approx(20.0, abs=0.05)
+    assert with_error(0.000899768, 6.59e-07) == "0.00089977 +- 6.6e-07"
+    assert with_error(-2.5e-3, 1.2e-4) == "-0.00250 +- 0.00012"
+    assert with_error(12345.0, 10.0) == "12345 +- 10"

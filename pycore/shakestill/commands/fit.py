@@ -80,7 +80,7 @@ def _cmd_fit(args) -> int:
     if args.json:
         print(json.dumps(jsonable(result), indent=2, allow_nan=False))
     else:
-        sys.stdout.write(fit_text(result))
+        sys.stdout.write(fit_text(result, log.reference))
         if args.output:
             print(f"wrote the fitted rig to {args.output}")
     return 0 if res.converged else 1
@@ -131,7 +131,7 @@ def fit_job(rig, warnings, request: dict):
     result = fit_dict(res)
     svg, axes = fit_svg(res, f"{rig.title or 'Rig'}: logged and fitted angles", log.reference)
     yield 1.0, {"stage": "done", "result": result, "fitted_rig": rig_to_dict(res.rig),
-                "svg": svg, "axes": axes, "report_text": fit_text(result),
+                "svg": svg, "axes": axes, "report_text": fit_text(result, log.reference),
                 "warnings": problems_json(warnings),
                 "cautions": list(CAUTIONS)}
 

@@ -106,8 +106,24 @@ def loads_text(result: dict) -> str:
     return "\n".join(out + _safety()) + "\n"
 
 
-def fit_text(result: dict) -> str:
-    """Words for a fit to a logged run (the dict of ``fit.fit_dict``)."""
+def with_error(value: float, error: float) -> str:
+    """``value +- error`` with the error to two significant digits and the value to the same
+    decimal place (common practice, no source): 0.000899768, 6.59e-07 -> 0.00089977 +- 6.6e-07."""
+    if not error > 0 or not math.isfinite(value):
+        return f"{value:.6g} +- {error:.2g}"
+    digits = math.floor(math.log10(abs(value))) - math.floor(math.log10(error)) + 2 \
+        if value != 0 else 2
+    return f"{value:#.{max(digits, 1)}g}".rstrip(".") + f" +- {error:.2g}"
+
+
+def _wrapped(angle: float) -> float:
+    """The angle in (-pi, pi]."""
+    return math.pi - (math.pi - angle) % (2 * math.pi)
+
+
+def fit_text(result: dict, reference: str = "inverted") -> str:
+    """Words for a fit to a logged run (the dict of ``fit.fit_dict``); the start angles are
+    given from the log's own zero, ``reference`` ("hanging" or "inverted")."""
     out = [f"Fit to a logged run: {result['samples']} samples, {result['iterations']} "
            f"iteration(s), {result['simulations']} simulations"]
     if not result["converged"]:
@@ -117,10 +133,14 @@ def fit_text(result: dict) -> str:
     out.append("Fitted numbers (start -> fitted +- standard error):")
     for p in result["parameters"]:
         err = p["std_error"]
-        spread = "not determined by this log" if not math.isfinite(err) else f"+- {err:.3g}"
-        out.append(f"  {p['path']}: {p['start']:.6g} -> {p['value']:.6g} {spread}")
-    out.append("Start of the run (fitted, from the upward vertical): angles "
-               + ", ".join(f"{math.degrees(q):.3f} deg" for q in result["initial_angles_rad"])
+        fitted = (f"{p['value']:.6g} (not determined by this log)" if not math.isfinite(err)
+                  else with_error(p["value"], err))
+        out.append(f"  {p['path']}: {p['start']:.6g} -> {fitted}")
+    zero = math.pi if reference == "hanging" else 0.0
+    where = "the hanging position" if reference == "hanging" else "the upward vertical"
+    out.append(f"Start of the run (fitted, from {where}, the log's zero): angles "
+               + ", ".join(f"{math.degrees(_wrapped(q - zero)):.3f} deg"
+                           for q in result["initial_angles_rad"])
                + "; rates " + ", ".join(f"{w:.4f} rad/s" for w in result["initial_rates_rad_s"]))
     out.append("A fit describes this run: check the fitted rig against another logged run "
                "before relying on it.")
