@@ -37,13 +37,15 @@ from .dynamics import Model, model, planar_field_rhs
 
 COMPLEX_STEP = 1e-20  # imaginary perturbation: far below round-off of the real part
 NEWTON_TOLERANCE = 1e-11  # rad, rad/s: accepted size of the last Newton correction
-MAX_NEWTON = 12  # a converging Newton here needs 2-5 iterations
+LOOSE_TOLERANCE = 1e-6  # searches (edges, tolerance): Newton's last correction accepted
+MAX_NEWTON = 12
+STALL_AFTER, STALL_RATIO = 3, 0.5  # after 3 iterations each correction must halve at least  # a converging Newton here needs 2-5 iterations
 MAX_CORRECTION = 0.3  # rad: a longer Newton step is cut to this (stays in the basin)
 MIN_ORBIT_STEPS = 48  # steps per cycle: the wobble is read at the step points
 STEP_CHECK = 1e-9  # accepted change of P(x0) - x0 when the step count is doubled
 MAX_ORBIT_STEPS = 4000
 MIN_TILT_STEP_DEG = 1e-3  # continuation gives up (no orbit nearby) below this step
-FAR_LEAN = 1.2  # rad: an "orbit" leaning further than this is not near the vertical
+FAR_LEAN = math.pi / 2  # rad: an orbit leaning past horizontal is not near its vertical
 
 
 @dataclass(frozen=True)
@@ -119,10 +121,16 @@ class Shooter:
         return real, mono
 
 
-def _newton(sh: Shooter, x0, *, tol: float = NEWTON_TOLERANCE, max_iterations: int = MAX_NEWTON):
-    """(x, states, monodromy, iterations, ok) of Newton shooting from x0."""
+def _newton(sh: Shooter, x0, *, tol: float = NEWTON_TOLERANCE, max_iterations: int = MAX_NEWTON,
+            loose: bool = False):
+    """(x, states, monodromy, iterations, ok) of Newton shooting from x0.
+
+    ``loose``: stop at a correction below ``LOOSE_TOLERANCE`` and keep that iterate's
+    cycle and monodromy (one cycle fewer; lean and multipliers to about 1e-6), for searches.
+    """
     x = list(x0)
     size = len(x)
+    last = math.inf
     for it in range(1, max_iterations + 1):
         states, mono = sh.cycle_with_monodromy(x)
         resid = [a - b for a, b in zip(states[-1], x)]
@@ -134,6 +142,12 @@ def _newton(sh: Shooter, x0, *, tol: float = NEWTON_TOLERANCE, max_iterations: i
         big = max(abs(v) for v in dx[:sh.n])
         if not all(math.isfinite(v) for v in dx):
             return x, states, mono, it, False
+        if loose and max(abs(v) for v in dx) <= LOOSE_TOLERANCE * (1.0 + max(map(abs, x))):
+            return x, states, mono, it, True
+        size_dx = max(abs(v) for v in dx)
+        if it > STALL_AFTER and size_dx > STALL_RATIO * last:
+            return x, states, mono, it, False  # not contracting: no orbit near this start
+        last = size_dx
         if big > MAX_CORRECTION:
             dx = [v * MAX_CORRECTION / big for v in dx]
         x = [a + b for a, b in zip(x, dx)]
@@ -158,7 +172,8 @@ def solve_orbit(rig: Rig, equilibrium: str, *, start=None, steps: int | None = N
 
     ``start`` is a state (q..., q'...) at phase 0; default the equilibrium itself.
     With ``verify`` the step count is doubled until P(x0) - x0 moves less than
-    ``STEP_CHECK`` (at most ``MAX_ORBIT_STEPS``), which is reported as the error estimate.
+    ``STEP_CHECK`` (at most ``MAX_ORBIT_STEPS``), which is reported as the error estimate;
+    without it Newton stops loosely (``_newton``), for searches over many orbits.
     """
     base = _base(equilibrium)
     n = rig.n_links
@@ -167,7 +182,7 @@ def solve_orbit(rig: Rig, equilibrium: str, *, start=None, steps: int | None = N
     error = 0.0
     while True:
         sh = Shooter(rig, steps)
-        x, states, mono, its, ok = _newton(sh, x0)
+        x, states, mono, its, ok = _newton(sh, x0, loose=not verify)
         if not ok or not verify:
             break
         finer = Shooter(rig, 2 * steps).cycle(x)[-1]

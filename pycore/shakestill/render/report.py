@@ -76,6 +76,29 @@ def equilibrium_lines(name: str, r: dict, shapes=((1.0,),)) -> list[str]:
     return lines
 
 
+def tilt_lines(result: dict) -> list[str]:
+    """The drive's tilt: each held orbit's lean and wobble, and the tilt the rig tolerates."""
+    if "tilt_tolerance_deg" not in result:
+        return []
+    out = ["Drive off vertical (the pendulum holds a leaning orbit, not the equilibrium):"]
+    for name in ("inverted", "hanging"):
+        lean, wobble = result[name].get("lean_deg"), result[name].get("wobble_deg")
+        if lean is None:
+            out.append(f"  {name}: no held orbit near it")
+            continue
+        out.append(f"  {name}: mean lean " + ", ".join(f"{v:+.2f}" for v in lean)
+                   + " deg, wobble " + ", ".join(f"{v:.2f}" for v in wobble) + " deg peak-to-peak")
+    tol = result["tilt_tolerance"]
+    if result["tilt_tolerance_deg"] is None:
+        out.append(f"  tilt tolerance: none ({tol['message']})")
+    else:
+        out.append(f"  tilt tolerance: {result['tilt_tolerance_deg']:.2f} deg of drive axis "
+                   f"(lean limit {tol['max_lean_deg']:g} deg; {tol['message']})")
+    out.append("  a tilt out of the swing plane does not enter this planar model")
+    out.append("")
+    return out
+
+
 def report_text(result: dict, warnings=()) -> str:
     """The human report of ``shakestill check``."""
     est = result["estimates"]
@@ -91,6 +114,7 @@ def report_text(result: dict, warnings=()) -> str:
     for name in ("inverted", "hanging"):
         out.extend(equilibrium_lines(name, result[name], result["modes"]["shapes"]))
         out.append("")
+    out.extend(tilt_lines(result))
     out.append("Closed-form estimates (Kapitza's averaging; a guide, not the exact answer):")
     lengths = est["mode_lengths_m"]
     out.append(f"  equivalent pendulum length l_eq{' (links held in line)' if len(lengths) > 1 else ''}"
