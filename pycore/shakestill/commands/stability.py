@@ -5,20 +5,19 @@ from __future__ import annotations
 
 import json
 import sys
-from dataclasses import replace
 
 from ..equilibria.chart import chart, chart_dict, chart_steps, stroke_for_peak_accel
 from ..motion.lean import check
 from ..equilibria.floquet import stability
 from ..equilibria.runup import runup
 from ..model.drive import peak_accel_m_s2
-from ..model.rig import MAX_TILT_DEG, Problem, RigError, with_operating_point
+from ..model.rig import Problem, RigError, with_operating_point
 from ..model.rigfile import rig_to_dict
 from ..model.safety import CAUTIONS
 from ..model.units import UnitError, parse_quantity
 from ..render.chart_svg import render
 from ..render.report import jsonable, report_text, runup_text
-from .common import bad, problems_json, quantity, rig_of, rig_of_args
+from .common import problems_json, quantity, rig_of, rig_of_args, tilted
 from .jobs import DEFAULT_BUDGET_MS, JobStore
 from .table import command, op
 
@@ -38,27 +37,10 @@ def _check_arguments(p) -> None:
                                       "default 5 deg)")
 
 
-def _tilted(rig, args):
-    """The rig with the check's --tilt applied (the rig file's -90..90 deg)."""
-    text = getattr(args, "tilt", None)
-    if text is None:
-        return rig
-    try:
-        tilt = parse_quantity(text, "angle_deg")
-    except UnitError as exc:
-        raise bad("--tilt", text, str(exc)) from None
-    if not -MAX_TILT_DEG <= tilt <= MAX_TILT_DEG:  # NaN fails this too
-        raise bad("--tilt", text, f"the drive axis tilts by -{MAX_TILT_DEG:g} to "
-                                  f"{MAX_TILT_DEG:g} deg in the swing plane")
-    tilt = quantity(text, "angle_deg", "--tilt")  # a denormal is refused by REACH
-    return replace(rig, drive=replace(rig.drive, axis_tilt_deg=tilt,
-                                      given=rig.drive.given | {"axis_tilt_deg"}))
-
-
 @command("check", "stability of both equilibria at the operating point", _check_arguments)
 def _cmd_check(args) -> int:
     rig, warnings = rig_of_args(args)
-    rig = _tilted(rig, args)
+    rig = tilted(rig, args.tilt)
     result = check(rig, max_lean_deg=quantity(args.max_lean, "angle_deg", "--max-lean", above=0.0))
     if args.json:
         print(json.dumps(jsonable(result), indent=2, allow_nan=False))

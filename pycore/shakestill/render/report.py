@@ -198,3 +198,43 @@ def runup_text(result: dict) -> str:
     out.append("Safety:")
     out.extend(f"  - {c}" for c in CAUTIONS)
     return "\n".join(out) + "\n"
+
+
+def lean_text(chart: dict, title: str = "") -> str:
+    """The lean chart in words: the lean at the ends of each curve, where each stops, the
+    averaging's slope, the cautions."""
+    out = [title or "Lean chart", "=" * len(title or "Lean chart"),
+           "The held orbit's mean lean per link (deg) when the drive axis is tilted in the "
+           "swing plane; a tilt out of that plane does not enter this planar model.", ""]
+    for by, axis, unit in (("by_tilt", "tilt_deg", "deg of tilt"),
+                           ("by_speed", "speed_rpm", "rpm")):
+        if by == "by_speed":
+            out.append(f"Against speed at {chart['speed_tilt_deg']:g} deg of tilt, stroke "
+                       f"{_mm(chart['stroke_m'])}:")
+        else:
+            out.append("Against the drive's tilt:")
+        for name in ("inverted", "hanging"):
+            curve = chart[by][name]
+            held = [(x, v) for x, v in zip(chart[axis], curve["lean_deg"]) if v is not None]
+            if not held:
+                out.append(f"  {name}: no held orbit on this axis")
+                continue
+            (x0, v0), (x1, v1) = held[0], held[-1]
+            leans = lambda v: ", ".join(f"{a:+.2f}" for a in v)  # noqa: E731
+            out.append(f"  {name}: {leans(v0)} deg at {x0:g} {unit} .. {leans(v1)} deg at "
+                       f"{x1:g} {unit}")
+            for end in curve["ends"]:
+                if end:
+                    why = "unstable" if end["why"] == "unstable" else "no orbit found (the lean runs away)"
+                    out.append(f"    stops at {end['at']:g} {unit}: {why}")
+        out.append("")
+    est = chart["estimate"]
+    out.append(f"Kapitza's averaging (one equivalent link, kappa = {est['kappa']:.3g}): lean per "
+               "degree of tilt about "
+               + (f"{est['inverted']:.3g} inverted, " if est["inverted"] else
+                  "none inverted (kappa <= 1: not held), ")
+               + f"{est['hanging']:.3g} hanging")
+    out.append("")
+    out.append("Safety:")
+    out.extend(f"  - {c}" for c in CAUTIONS)
+    return "\n".join(out) + "\n"
