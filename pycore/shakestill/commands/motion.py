@@ -23,18 +23,28 @@ from .jobs import DEFAULT_BUDGET_MS, JobStore
 from .motion_scenario import rename_options, scenario_from_args, scenario_from_request
 from .table import JOB_KINDS, command, job_kind, op
 
+def pivot_points(motion, m) -> list:
+    """Lab positions of the pivot and each link's end per frame (the pivot's sideways
+    motion included when the drive is off vertical)."""
+    sides = motion.pivot_x_m or (0.0,) * len(motion.t_s)
+    return [points_m(m, q, y, x) for q, y, x in zip(motion.angles_rad, motion.pivot_y_m, sides)]
+
+
 def motion_csv(motion, m) -> str:
-    """Frames as CSV: time, speed, pivot height, angles, rates, link ends (m), energy."""
+    """Frames as CSV: time, speed, pivot height (and sideways position off vertical), angles,
+    rates, link ends (m), energy."""
     n = m.n
+    side = ["pivot_x_m"] if motion.pivot_x_m else []
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\n")
-    w.writerow(["t_s", "speed_rpm", "pivot_y_m"] + [f"angle{i + 1}_rad" for i in range(n)]
+    w.writerow(["t_s", "speed_rpm", "pivot_y_m"] + side + [f"angle{i + 1}_rad" for i in range(n)]
                + [f"rate{i + 1}_rad_s" for i in range(n)]
                + [c for i in range(n) for c in (f"x{i + 1}_m", f"y{i + 1}_m")] + ["energy_J"])
-    for k, t in enumerate(motion.t_s):
+    for k, (t, points) in enumerate(zip(motion.t_s, pivot_points(motion, m))):
         q = motion.angles_rad[k]
-        ends = points_m(m, q, motion.pivot_y_m[k])[1:]
+        ends = points[1:]
         w.writerow([f"{t:.10g}", f"{motion.speed_rpm[k]:.10g}", f"{motion.pivot_y_m[k]:.10g}"]
+                   + [f"{motion.pivot_x_m[k]:.10g}" for _ in side]
                    + [f"{x:.10g}" for x in q] + [f"{x:.10g}" for x in motion.rates_rad_s[k]]
                    + [f"{c:.10g}" for p in ends for c in p] + [f"{motion.energy_J[k]:.10g}"])
     return buf.getvalue()
@@ -153,16 +163,20 @@ def _simulate_job(rig, warnings, request):
             yield 0.999 * next(run), {"stage": "simulate"}
     except StopIteration as stop:
         motion = stop.value
-    points = [points_m(m, q, y) for q, y in zip(motion.angles_rad, motion.pivot_y_m)]
-    # Every stroboscopic sample is at the same drive phase, so at the same pivot height;
+    points = pivot_points(motion, m)
+    # Every stroboscopic sample is at the same drive phase, so at the same pivot position;
     # positions here let the page draw the samples without geometry of its own.
     strobe_y = m.kinematics(sc.strobe_phase_rad)[0] if sc.strobe_phase_rad is not None else 0.0
-    strobe_points = [points_m(m, q, strobe_y) for q in motion.strobe_angles_rad]
+    strobe_x = (m.planar(sc.strobe_phase_rad)[3]
+                if m.planar is not None and sc.strobe_phase_rad is not None else 0.0)
+    strobe_points = [points_m(m, q, strobe_y, strobe_x) for q in motion.strobe_angles_rad]
+    side = {"pivot_x_m": list(motion.pivot_x_m)} if motion.pivot_x_m else {}
+    strobe_side = {"pivot_x_m": strobe_x} if m.planar is not None else {}
     svg, axes = motion_svg(motion, rig.title or "Link angles") if motion.t_s else (None, None)
     strobe_svg, strobe_axes = _strobe_svg(motion) if len(motion.strobe_t_s) > 1 else (None, None)
     yield 1.0, {
         "stage": "done",
-        "frames": {"t_s": list(motion.t_s), "pivot_y_m": list(motion.pivot_y_m),
+        "frames": {"t_s": list(motion.t_s), "pivot_y_m": list(motion.pivot_y_m), **side,
                    "speed_rpm": list(motion.speed_rpm), "energy_J": list(motion.energy_J),
                    "angles_rad": [list(q) for q in motion.angles_rad],
                    "x_m": [[p[0] for p in pts] for pts in points],
@@ -171,7 +185,7 @@ def _simulate_job(rig, warnings, request):
         "strobe": {"t_s": list(motion.strobe_t_s), "phase_rad": sc.strobe_phase_rad,
                    "angles_rad": [list(q) for q in motion.strobe_angles_rad],
                    "rates_rad_s": [list(w) for w in motion.strobe_rates_rad_s],
-                   "pivot_y_m": strobe_y,
+                   "pivot_y_m": strobe_y, **strobe_side,
                    "x_m": [[p[0] for p in pts] for pts in strobe_points],
                    "y_m": [[p[1] for p in pts] for pts in strobe_points]},
         "events": [{**e.as_dict(), "link": None if e.link is None else e.link + 1}

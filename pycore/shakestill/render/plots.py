@@ -148,6 +148,8 @@ def loads_svg(result: dict) -> tuple[str, dict]:
     s = result["samples"]
     phase = [math.degrees(p) for p in s["phase_rad"]]
     series = [("drive force", phase, s["drive_force_N"])]
+    if "guide_force_N" in s:  # a drive off vertical
+        series.append(("guide (sideways)", phase, s["guide_force_N"]))
     series += [(f"link {i + 1} axial", phase, a) for i, a in enumerate(s["axial_N"])]
     return line_plot(series, title=f"Loads over {result['cycles']} drive cycle(s) at "
                                    f"{result['speed_rpm']:.0f} rpm",
