@@ -124,3 +124,22 @@ def test_simulated_knock_on_a_tilted_drive_matches_the_hand_derived_lagrangian()
         assert frames["x_m"][k][1] == pytest.approx(x + LENGTH * math.sin(frames["angles_rad"][k][0]),
                                                     abs=1e-12)
         assert frames["y_m"][k][0] == pytest.approx(y, abs=1e-12)
+
+
+def test_a_run_at_rest_off_vertical_starts_and_stays_on_the_held_orbit():
+    # With no start given, the run starts on the held orbit: the once-per-cycle samples (drive
+    # phase 0) sit at the periodic state fsolve finds for the hand-derived equation over
+    # solve_ivp, to 1e-6 rad over 20 cycles (run at rtol 1e-10).
+    period = 2 * math.pi / OMEGA
+    start = fsolve(lambda y: flow(y, 0.0, period).y[:, -1] - y, [0.05, 0.0], xtol=1e-13)
+    reply = json.loads(bridge.handle(json.dumps({"op": "simulate", "rig": rig_data(),
+                                                 "duration_s": 20 * period, "rtol": 1e-10})))
+    assert reply["ok"], reply
+    strobe = reply["strobe"]["angles_rad"]
+    assert len(strobe) >= 20
+    for q in strobe:
+        assert q[0] == pytest.approx(start[0], abs=1e-6)
+    assert reply["held_orbit"]["lean_deg"][0] == pytest.approx(
+        math.degrees(np.mean(flow(start, 0.0, period).sol(np.linspace(0, period, 400,
+                                                                      endpoint=False))[0])),
+        abs=1e-6)

@@ -9,11 +9,13 @@ import io
 import json
 import math
 import sys
+from dataclasses import replace
 
 from ..model.rig import Problem, RigError
 from ..model.safety import CAUTIONS
 from ..motion.dynamics import model, points_m
 from ..motion.loads import loads
+from ..motion.orbit import held_orbit
 from ..motion.simulation import simulate, simulate_steps
 from ..render.motion_report import loads_text, motion_text
 from ..render.plots import line_plot, loads_svg, motion_svg
@@ -50,6 +52,30 @@ def motion_csv(motion, m) -> str:
     return buf.getvalue()
 
 
+def from_held_orbit(rig, sc):
+    """(scenario, orbit): off vertical, a run that starts at rest at the rig's own speed starts
+    on the held orbit (the pendulum's motion at rest there), when there is one near the
+    reference; otherwise the scenario as given and None."""
+    if (not rig.drive.off_vertical or sc.angles_rad is not None or sc.rates_rad_s is not None
+            or sc.profile is not None):
+        return sc, None
+    orbit = held_orbit(rig, sc.reference)
+    if not orbit.found:
+        return sc, None
+    n = rig.n_links
+    return replace(sc, angles_rad=tuple(orbit.start[:n]), rates_rad_s=tuple(orbit.start[n:])), orbit
+
+
+def _held_words(orbit) -> dict:
+    """The reply's note of the held orbit a run started on (the page draws its lean)."""
+    if orbit is None:
+        return {}
+    return {"held_orbit": {"equilibrium": orbit.equilibrium,
+                           "lean_deg": [math.degrees(v) for v in orbit.lean_rad],
+                           "wobble_deg": [math.degrees(v) for v in orbit.wobble_rad],
+                           "stable": orbit.stable, "message": orbit.message}}
+
+
 def _simulate_arguments(s) -> None:
     common_arguments(s)
     s.add_argument("--duration", default="5s", help="rig time to simulate (5s)")
@@ -83,7 +109,7 @@ def _simulate_arguments(s) -> None:
 @command("simulate", "nonlinear motion with knocks, jumps and speed ramps", _simulate_arguments)
 def _cmd_simulate(args) -> int:
     rig, _ = rig_of_args(args)
-    scenario = scenario_from_args(args, rig)
+    scenario, _ = from_held_orbit(rig, scenario_from_args(args, rig))
     m = model(rig)
     try:
         motion = simulate(rig, scenario, chain_model=m)
@@ -155,7 +181,7 @@ def _op_simulate(request: dict) -> dict:
 @job_kind("simulate")
 def _simulate_job(rig, warnings, request):
     """Yields (fraction, partial reply); the last reply carries the frames."""
-    sc = scenario_from_request(request, rig)
+    sc, orbit = from_held_orbit(rig, scenario_from_request(request, rig))
     m = model(rig)
     run = simulate_steps(rig, sc, chain_model=m)
     try:
@@ -181,7 +207,8 @@ def _simulate_job(rig, warnings, request):
                    "angles_rad": [list(q) for q in motion.angles_rad],
                    "x_m": [[p[0] for p in pts] for pts in points],
                    "y_m": [[p[1] for p in pts] for pts in points]},
-        "frame_rate_hz": sc.frame_rate_hz, "links": rig.n_links,
+        "frame_rate_hz": sc.frame_rate_hz, "links": rig.n_links, **_held_words(orbit),
+        **({"axis_tilt_deg": rig.drive.axis_tilt_deg} if rig.drive.off_vertical else {}),
         "strobe": {"t_s": list(motion.strobe_t_s), "phase_rad": sc.strobe_phase_rad,
                    "angles_rad": [list(q) for q in motion.strobe_angles_rad],
                    "rates_rad_s": [list(w) for w in motion.strobe_rates_rad_s],
