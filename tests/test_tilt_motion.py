@@ -143,3 +143,26 @@ def test_a_run_at_rest_off_vertical_starts_and_stays_on_the_held_orbit():
         math.degrees(np.mean(flow(start, 0.0, period).sol(np.linspace(0, period, 400,
                                                                       endpoint=False))[0])),
         abs=1e-6)
+
+
+def test_knock_tolerance_off_vertical_knocks_the_held_orbit():
+    # The knock tolerance off vertical knocks the held orbit (its phase-0 state plus the rate
+    # step), and its edge is where solve_ivp of the hand-derived equation (DOP853, rtol 1e-10)
+    # from the fsolve orbit start plus the knock first fails to stay within the horizontal for
+    # the tolerance's run: 2% below the edge it recovers, 2% above it falls (the search is
+    # good to 1%: tolerance.RELATIVE_PRECISION).
+    from shakestill.motion.tolerance import tolerance
+    result = tolerance(ss.rig_from_dict(rig_data()))
+    assert result.stable and not result.knock.fragmented
+    period = 2 * math.pi / OMEGA
+    start = fsolve(lambda y: flow(y, 0.0, period).y[:, -1] - y, [0.05, 0.0], xtol=1e-13)
+
+    def falls(knock):
+        def over(t, y):
+            return abs(y[0]) - math.pi / 2
+        over.terminal = True
+        run = solve_ivp(lagrange_rhs, (0.0, result.run_s), [start[0], start[1] + knock],
+                        method="DOP853", rtol=1e-10, atol=1e-12, events=over)
+        return run.status == 1
+    assert not falls(0.98 * result.max_knock_rad_s)
+    assert falls(1.02 * result.max_knock_rad_s)

@@ -53,15 +53,16 @@ def motion_csv(motion, m) -> str:
 
 
 def from_held_orbit(rig, sc):
-    """(scenario, orbit): off vertical, a run that starts at rest at the rig's own speed starts
-    on the held orbit (the pendulum's motion at rest there), when there is one near the
-    reference; otherwise the scenario as given and None."""
-    if (not rig.drive.off_vertical or sc.angles_rad is not None or sc.rates_rad_s is not None
-            or sc.profile is not None):
+    """(scenario, orbit): off vertical at the rig's own speed, the held orbit near the
+    reference (None when there is none), and a run that starts at rest starts on it (the
+    pendulum's motion at rest there); otherwise the scenario as given and None."""
+    if not rig.drive.off_vertical or sc.profile is not None:
         return sc, None
     orbit = held_orbit(rig, sc.reference)
     if not orbit.found:
         return sc, None
+    if sc.angles_rad is not None or sc.rates_rad_s is not None:
+        return sc, orbit
     n = rig.n_links
     return replace(sc, angles_rad=tuple(orbit.start[:n]), rates_rad_s=tuple(orbit.start[n:])), orbit
 
@@ -225,6 +226,9 @@ def _simulate_job(rig, warnings, request):
         "warnings": problems_json(warnings), "cautions": list(CAUTIONS)}
 
 
+ANGLE_SPAN_DEG = 0.01  # the once-per-cycle plot spans at least this: finer is no motion to see
+
+
 def _strobe_svg(motion) -> tuple[str, dict]:
     """The once-per-cycle samples of each link's angle: the slow motion without the shake."""
     n = len(motion.strobe_angles_rad[0])
@@ -232,7 +236,7 @@ def _strobe_svg(motion) -> tuple[str, dict]:
                [math.degrees(q[i]) for q in motion.strobe_angles_rad]) for i in range(n)]
     return line_plot(series, title="Once per drive cycle", x_label="time (s)",
                      y_label="angle once per cycle (deg)", x_unit="s", y_unit="deg",
-                     height_px=240, cls="strobe-plot")
+                     height_px=240, cls="strobe-plot", min_span=ANGLE_SPAN_DEG)
 
 
 @op("loads")
