@@ -173,8 +173,10 @@ def _tolerance_one_way(rig: Rig, sign: float, limit: float) -> dict:
 
     orbit, lean = at(0.0, None)
     if not orbit.stable or lean >= limit:
-        why = ("the inverted orbit is not stable even with the drive vertical"
-               if not orbit.stable else f"the side motion alone leans it {lean:.3g} deg")
+        alone = rig.drive.side_stroke_m != 0.0  # without a tilt the side motion is still there
+        why = (f"the side motion alone leans it {lean:.3g} deg" if orbit.stable else
+               "with the side motion alone (no tilt) the inverted orbit is lost or unstable"
+               if alone else "the inverted orbit is not stable even with the drive vertical")
         return {"tilt_tolerance_deg": None, "limited_by": "stability", "message": why}
     good, good_lean, start = 0.0, lean, orbit.start
     step = 0.25 * limit

@@ -132,7 +132,10 @@ def _newton(sh: Shooter, x0, *, tol: float = NEWTON_TOLERANCE, max_iterations: i
     size = len(x)
     last = math.inf
     for it in range(1, max_iterations + 1):
-        states, mono = sh.cycle_with_monodromy(x)
+        cycle = _safe_cycle(sh, x)
+        if cycle is None:
+            return x, None, None, it, False
+        states, mono = cycle
         resid = [a - b for a, b in zip(states[-1], x)]
         jac = [[mono[i][k] - (1.0 if i == k else 0.0) for k in range(size)] for i in range(size)]
         try:
@@ -152,9 +155,21 @@ def _newton(sh: Shooter, x0, *, tol: float = NEWTON_TOLERANCE, max_iterations: i
             dx = [v * MAX_CORRECTION / big for v in dx]
         x = [a + b for a, b in zip(x, dx)]
         if max(abs(v) for v in dx) <= tol * (1.0 + max(abs(v) for v in x)):
-            states, mono = sh.cycle_with_monodromy(x)
-            return x, states, mono, it, True
+            cycle = _safe_cycle(sh, x)
+            return (x, *cycle, it, True) if cycle else (x, None, None, it, False)
     return x, states, mono, max_iterations, False
+
+
+def _safe_cycle(sh: Shooter, x):
+    """(states, monodromy) of one cycle, or None when the motion blows up on the way (far
+    from any orbit: the angles overflow or turn to NaN)."""
+    try:
+        states, mono = sh.cycle_with_monodromy(x)
+    except (OverflowError, ValueError, ZeroDivisionError):
+        return None
+    if not all(math.isfinite(v) for v in states[-1]):
+        return None
+    return states, mono
 
 
 def _is_damped(rig: Rig) -> bool:
@@ -185,8 +200,14 @@ def solve_orbit(rig: Rig, equilibrium: str, *, start=None, steps: int | None = N
         x, states, mono, its, ok = _newton(sh, x0, loose=not verify)
         if not ok or not verify:
             break
-        finer = Shooter(rig, 2 * steps).cycle(x)[-1]
-        error = max(abs(a - b) for a, b in zip(finer, x))
+        try:
+            finer = Shooter(rig, 2 * steps).cycle(x)[-1]
+            error = max(abs(a - b) for a, b in zip(finer, x))
+        except (OverflowError, ValueError, ZeroDivisionError):
+            error = math.inf
+        if not math.isfinite(error):  # the finer cycle blew up: not converged, say so
+            error = math.inf
+            break
         if error <= STEP_CHECK or 2 * steps > MAX_ORBIT_STEPS:
             break
         steps, x0 = 2 * steps, x
@@ -195,10 +216,12 @@ def solve_orbit(rig: Rig, equilibrium: str, *, start=None, steps: int | None = N
 
 def _summary(rig, equilibrium, x, states, mono, its, ok, steps, error, base) -> Orbit:
     n = rig.n_links
-    points = states[:-1]  # one full period of equally spaced points (periodic trapezoid)
-    mean = [sum(s[i] for s in points) / len(points) for i in range(n)]
-    lean = tuple(math.remainder(v - base, 2.0 * math.pi) for v in mean)
-    wobble = tuple(max(s[i] for s in points) - min(s[i] for s in points) for i in range(n))
+    lean = wobble = ()
+    if ok:
+        points = states[:-1]  # one full period of equally spaced points (periodic trapezoid)
+        mean = [sum(s[i] for s in points) / len(points) for i in range(n)]
+        lean = tuple(math.remainder(v - base, 2.0 * math.pi) for v in mean)
+        wobble = tuple(max(s[i] for s in points) - min(s[i] for s in points) for i in range(n))
     found = ok and max(abs(v) for v in lean) < FAR_LEAN
     rhos = tuple(eigvals(mono)) if found else ()
     biggest = max((abs(r) for r in rhos), default=math.inf)
@@ -207,7 +230,7 @@ def _summary(rig, equilibrium, x, states, mono, its, ok, steps, error, base) -> 
     notes = []
     if not ok:
         notes.append(f"no held orbit found near the {equilibrium} position: Newton shooting "
-                     f"did not converge in {MAX_NEWTON} iterations")
+                     f"did not converge (at most {MAX_NEWTON} iterations)")
     elif not found:
         notes.append(f"the only orbit found leans {math.degrees(max(map(abs, lean))):.0f} deg, "
                      f"far from the {equilibrium} position: none is held near it")

@@ -54,6 +54,11 @@ def _window_text(window, ends, fmt, down, up) -> str:
 
 
 def equilibrium_lines(name: str, r: dict, shapes=((1.0,),)) -> list[str]:
+    if r["max_multiplier"] is None:  # off vertical with no held orbit: nothing to multiply
+        lines = [f"{_NAMES[name]}: NOT HELD  (no orbit near this position with the drive off "
+                 "vertical)"]
+        lines.extend(f"  note: {msg}" for msg in r.get("messages", []))
+        return lines
     lines = [f"{_NAMES[name]}: {'STABLE' if r['stable'] else 'UNSTABLE'}"
              f"  (largest Floquet multiplier {r['max_multiplier']:.6f}; stable below 1)"]
     if r["stable"]:
