@@ -237,3 +237,36 @@ def test_cli_check_json_with_tilt_option(tmp_path, monkeypatch, capsys):
     monkeypatch.setattr("sys.argv", ["shakestill", "check", str(path), "--tilt", "95"])
     assert cli.main() != 0
     assert "--tilt" in capsys.readouterr().err
+
+
+def test_orbit_speed_window_edge_is_where_scipy_loses_the_orbit():
+    """Tilted 2 deg, the inverted orbit's low speed end is a fold: the held orbit merges with
+    an unstable one and vanishes. At 0.1% above the check's edge scipy.optimize.fsolve over
+    solve_ivp (DOP853, 1e-12) finds a periodic orbit that is stable (variational monodromy,
+    largest |multiplier| < 1); at 0.1% below it finds none from starts all over the leaning
+    range (its residual stays above 1e-6). The edge's own precision is 1e-4 (lean.EDGE_RTOL)."""
+    import warnings
+    data = tilted(ref.rig([ref.link(0.25, 0.04, [(0.025, 0.24)], 0.0, 3e-4)],
+                          ref.crank(0.024, 0.08, 2700.0), RIG_LIMITS), 2.0)
+    inv = tilt_check(ss.rig_from_dict(data))["inverted"]
+    assert inv["window_ends"]["speed_low"] == "edge"
+    edge = inv["speed_window_rpm"][0]
+    above = json.loads(json.dumps(data))
+    above["drive"]["speed_rpm"] = edge * 1.001
+    def misser(d):
+        rhs, period = planar_reference(d)
+        return lambda x: solve_ivp(rhs, (0, period), x, method="DOP853", rtol=1e-12,
+                                   atol=1e-12).y[:, -1] - x
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")  # near a fold fsolve's last steps are slow: the
+        x, rhos = reference_orbit(above, np.array([0.3, 0.0]))  # residual says it is there
+    assert np.abs(misser(above)(x)).max() < 1e-9
+    assert np.abs(rhos).max() < 1.0
+    below = json.loads(json.dumps(data))
+    below["drive"]["speed_rpm"] = edge * 0.999
+    miss = misser(below)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")  # fsolve warns that it makes no progress: the point
+        for q0 in (0.1, 0.2, 0.3, 0.4, 0.5, 0.7):
+            found = fsolve(miss, [q0, 0.0], xtol=1e-12)
+            assert np.abs(miss(found)).max() > 1e-6
