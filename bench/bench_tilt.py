@@ -6,11 +6,14 @@ and multipliers) by scipy.optimize.fsolve shooting over scipy.integrate.solve_iv
 chart over 60 tilts (inverted and hanging, plus its speed curve) is timed beside the
 same peer walking the 60 tilts of the inverted curve alone (each fsolve started from the
 last orbit, no monodromy: the cheapest fair peer).
-Run: PYTHONPATH=pycore python bench/bench_tilt.py
+The Pyodide pass (under Node.js, ``bench/pyodide_node.py``) times the same one-link check and
+lean chart and prints the ratio to CPython's figure of this run; ``--no-pyodide`` skips it.
+Run: PYTHONPATH=pycore python bench/bench_tilt.py [--no-pyodide]
 """
 
 from __future__ import annotations
 
+import json
 import sys
 import time
 from pathlib import Path
@@ -27,6 +30,24 @@ from scipy.optimize import fsolve  # noqa: E402
 from shakestill.motion.lean_chart import lean_chart  # noqa: E402
 from shakestill.motion.orbit import held_orbit  # noqa: E402
 from test_tilt import THREE, planar_reference, reference_orbit, tilted  # noqa: E402
+
+sys.path.insert(0, str(HERE))
+from pyodide_node import run_in_pyodide  # noqa: E402
+
+PYODIDE_CODE = """
+import json, time
+import shakestill as ss
+from shakestill.motion.lean_chart import lean_chart
+data, cpython = json.loads(DATA_JSON)
+rig = ss.rig_from_dict(data)
+for name, fn in (("tilted check", lambda: ss.check(rig)),
+                 ("lean chart", lambda: lean_chart(rig, tilts=61))):
+    t = time.perf_counter()
+    fn()
+    dt = time.perf_counter() - t
+    print(f"Pyodide {name}, 1 link crank, tilt 1 deg: {dt:.2f} s "
+          f"({dt / cpython[name]:.1f}x CPython's {cpython[name]:.2f} s, wall)")
+"""
 
 CHART_TILTS = 61  # 60 steps of tilt, 0 included
 
@@ -71,10 +92,28 @@ def peer_lean_walk(data, top_deg: float, count: int) -> None:
         start = fsolve(lambda x: flow(x) - x, start, xtol=1e-10)
 
 
-def chart_bench() -> None:
-    data = ref.rig([ref.link(0.25, 0.04, [(0.025, 0.24)], 0.0, 3e-4)],
+def one_link() -> dict:
+    return ref.rig([ref.link(0.25, 0.04, [(0.025, 0.24)], 0.0, 3e-4)],
                    ref.crank(0.024, 0.08, 2700.0), {"speed_rpm": [300, 3600],
                                                     "stroke_m": [0, 0.036]})
+
+
+def wall(fn) -> float:
+    t = time.perf_counter()
+    fn()
+    return time.perf_counter() - t
+
+
+def pyodide_bench() -> None:
+    data = tilted(one_link(), 1.0)
+    rig = ss.rig_from_dict(data)
+    cpython = {"tilted check": wall(lambda: ss.check(rig)),
+               "lean chart": wall(lambda: lean_chart(rig, tilts=CHART_TILTS))}
+    run_in_pyodide(PYODIDE_CODE.replace("DATA_JSON", repr(json.dumps([data, cpython]))))
+
+
+def chart_bench() -> None:
+    data = one_link()
     rig = ss.rig_from_dict(tilted(data, 1.0))
     t_chart, chart = cpu(lambda: lean_chart(rig, tilts=CHART_TILTS))
     t_tilts, _ = cpu(lambda: lean_chart(rig, tilts=CHART_TILTS, speeds=3))
@@ -89,3 +128,5 @@ def chart_bench() -> None:
 if __name__ == "__main__":
     main()
     chart_bench()
+    if "--no-pyodide" not in sys.argv:
+        pyodide_bench()
