@@ -265,6 +265,10 @@ def chart_steps(rig: Rig | Model, *, rows: int | None = None, y_axis: str = "str
     if hi < rig.limits.speed_rpm[1]:
         notes += (f"the chart stops at {hi:.4g} rpm, below the rig's highest speed: "
                   + CEILING_WORDS,)
+    if rig.drive.off_vertical:  # the map's Floquet verdicts are of the vertical positions
+        notes += ("the map is of the positions with the drive vertical: off vertical the "
+                  "check's verdict and windows are those of the held orbit, and the lean chart "
+                  "shows how far it leans",)
     order = _row_order(rows)
     marks = tongues(model)
     coarse = sorted(order[:len(set(range(0, rows, COARSE_EVERY)) | {rows - 1})])
