@@ -6,7 +6,7 @@ from __future__ import annotations
 import json
 import sys
 
-from ..model.rig import Problem, RigError
+from ..model.rig import MAX_TILT_DEG, Problem, RigError
 from ..model.safety import CAUTIONS
 from ..motion.lean_chart import DEFAULT_SPEEDS, DEFAULT_TILTS, MAX_POINTS, lean_chart_steps
 from ..render.lean_svg import lean_svg
@@ -29,11 +29,12 @@ def _lean_arguments(p) -> None:
     p.add_argument("-o", "--svg", help="write the lean chart to this SVG file")
 
 
-def _counts(tilts, speeds, problems) -> None:
+def _counts(tilts, speeds, problems, prefix: str = "") -> None:
+    """Points per axis, 3 to MAX_POINTS; ``prefix`` "--" names them as options."""
     for where, count in (("tilts", tilts), ("speeds", speeds)):
         if isinstance(count, bool) or not isinstance(count, int) or not 3 <= count <= MAX_POINTS:
-            problems.append(Problem(where, f"{count!r} is not allowed: 3 to {MAX_POINTS} "
-                                           "points"))
+            problems.append(Problem(prefix + where, f"{count!r} is not allowed: 3 to "
+                                                    f"{MAX_POINTS} points"))
 
 
 def _run(steps):
@@ -50,12 +51,12 @@ def _cmd_lean(args) -> int:
     rig = tilted(rig, args.tilt)
     top = quantity(args.max_tilt, "angle_deg", "--max-tilt", above=0.0)
     problems = []
-    _counts(args.tilts, args.speeds, problems)
-    if top is not None and top > 90.0:
-        problems.append(Problem("--max-tilt", f"{args.max_tilt!r} is not allowed: up to 90 deg"))
+    _counts(args.tilts, args.speeds, problems, "--")
+    if top is not None and top > MAX_TILT_DEG:
+        problems.append(Problem("--max-tilt", f"{args.max_tilt!r} is not allowed: up to "
+                                              f"{MAX_TILT_DEG:g} deg"))
     if problems:
-        raise RigError([Problem("--" + p.path, p.message) if not p.path.startswith("-") else p
-                        for p in problems])
+        raise RigError(problems)
     chart = _run(lean_chart_steps(rig, max_tilt_deg=top, tilts=args.tilts, speeds=args.speeds))
     if args.svg:
         write(args.svg, lean_svg(chart)[0])
@@ -71,8 +72,9 @@ def _chart_request(rig, request):
     """The lean chart's generator for a request: ``max_tilt_deg``, ``tilts``, ``speeds``."""
     r = Reader(request)
     top = r.field("max_tilt_deg", "angle_deg", None, above=0.0)
-    if top is not None and top > 90.0:
-        r.problems.append(Problem("max_tilt_deg", f"{top!r} is not allowed: up to 90 deg"))
+    if top is not None and top > MAX_TILT_DEG:
+        r.problems.append(Problem("max_tilt_deg", f"{top!r} is not allowed: up to "
+                                                  f"{MAX_TILT_DEG:g} deg"))
     tilts, speeds = request.get("tilts", DEFAULT_TILTS), request.get("speeds", DEFAULT_SPEEDS)
     _counts(tilts, speeds, r.problems)
     r.done()
