@@ -293,3 +293,36 @@ def test_a_mass_a_hair_from_its_joint_is_refused_at_once():
     assert time.perf_counter() - start < 60  # a hang bound, not a speed target
     problem = caught.value.problems[0]
     assert problem.path == "links" and "2.05e-07 m" in problem.message
+
+
+def test_a_drive_off_vertical_with_no_held_orbit_is_said_not_a_traceback():
+    # found by hand (issue 15): a 100 m side stroke leaves no orbit near either position; the
+    # check said so in JSON but its words formatted the missing multiplier and crashed. Now
+    # every entry point answers: the verdict is "not held" with Newton's reason (no orbit,
+    # so no multiplier: common practice, no source).
+    data = ss.demo_rig_dict()
+    data["drive"]["side_stroke_m"] = 100.0
+    reply = json.loads(bridge.handle(json.dumps({"op": "check", "rig": data})))
+    assert reply["ok"], reply
+    for name in ("inverted", "hanging"):
+        assert reply["result"][name]["lean_deg"] is None
+        assert reply["result"][name]["max_multiplier"] is None
+    assert "NOT HELD" in reply["report_text"]
+    assert "side motion alone" in reply["result"]["tilt_tolerance"]["message"]
+
+
+def test_a_lean_chart_walking_to_a_crawl_answers_not_overflows():
+    # found by hand (issue 15): a tilted drive at 1e6 rpm with speed limits from 1 rpm; the
+    # lean chart's speed walk reached speeds where shooting from the last orbit blew up
+    # (math range error in sin) and the op replied with an internal error. A blow-up is now
+    # a lost orbit: the curve stops there and says so (common practice, no source).
+    data = ss.demo_rig_dict()
+    data["drive"].update(axis_tilt_deg=5.0, speed_rpm=1e6)
+    data["limits"]["speed_rpm"] = [1.0, 1e6]
+    start = time.perf_counter()
+    reply = json.loads(bridge.handle(json.dumps({"op": "lean", "rig": data, "tilts": 3,
+                                                 "speeds": 9})))
+    assert time.perf_counter() - start < 60  # a hang bound, not a speed target
+    assert reply["ok"], reply
+    low_end = reply["result"]["by_speed"]["inverted"]["ends"][0]
+    assert low_end is not None and low_end["why"] in ("lost", "unstable")

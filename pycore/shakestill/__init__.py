@@ -6,7 +6,7 @@ CPython and in Pyodide. See DEVELOPERS.md for the layers.
 
 from .model.version import VERSION as __version__
 
-from .equilibria.check import check
+from .motion.lean import check  # the vertical check unless the drive is off vertical
 from .model.demo import demo_rig, demo_rig_dict
 from .model.drive import PivotState, harmonics, peak_accel_m_s2, pivot
 from .equilibria.estimates import effective_potential_J, estimates

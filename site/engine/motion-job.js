@@ -87,6 +87,25 @@ export function busyMark(cancel, holder) {
   };
 }
 
+/** Cancel stops the runner's job: a `holder` still running is marked cancelled, `words` shown. */
+export function cancelWith(cancel, runner, busy, holder, status, words) {
+  cancel.addEventListener("click", async () => {
+    await runner.stop();
+    busy(false);
+    if (holder.dataset.state === "running") holder.dataset.state = "cancelled";
+    status(words);
+  });
+}
+
+/** The rig changed: running work stops and `words` say so; true when it was running. */
+export function stopForEdit(runner, busy, status, words) {
+  if (!runner.running) return false;
+  runner.stop();
+  busy(false);
+  status(words);
+  return true;
+}
+
 /** Why a job gave no result: the rig sheet's problems (marked there), or the engine's reason. */
 export function failedWords(reply, what) {
   return reply.problems

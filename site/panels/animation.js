@@ -2,7 +2,9 @@
 // given time from the frames the core computed (`simulate` reply). Between two
 // frames the positions are blended linearly; in stroboscopic view the latest
 // once-per-cycle sample is drawn as it is. No physics here: every position
-// comes from the core; this file only maps metres to the picture.
+// comes from the core; this file only maps metres to the picture. A drive off
+// vertical (the reply's axis_tilt_deg) turns the rails and the carriage onto its
+// axis, and the held orbit's mean lean (the reply's held_orbit) is drawn dashed.
 
 const SVG_NS = "http://www.w3.org/2000/svg";
 const SIZE_PX = 400; // the picture's user space is SIZE_PX x SIZE_PX
@@ -54,6 +56,17 @@ export function sceneScale(frames) {
 
 export const toPx = (s, x, y) => [s.x0_px + x * s.px_per_m, s.y0_px - y * s.px_per_m];
 
+/** The held orbit's mean lean of the first link, dashed from the middle pivot position. */
+function leanLine(svg, reply, scale, cx, cy) {
+  const held = reply.held_orbit;
+  const lean = (held.lean_deg[0] * Math.PI) / 180;
+  const angle = held.equilibrium === "hanging" ? Math.PI + lean : lean; // from the upward vertical
+  const r = scale.reach_m * scale.px_per_m;
+  const line = el("line", { x1: cx, y1: cy, x2: cx + r * Math.sin(angle), y2: cy - r * Math.cos(angle),
+                            class: "anim-lean", "data-lean-deg": held.lean_deg[0] }, svg);
+  el("title", {}, line).textContent = `mean lean of the held orbit: ${held.lean_deg[0].toFixed(2)}°`;
+}
+
 /** Draws one run; `at(time, strobe)` moves the picture. */
 export function createAnimation(holder, label) {
   let run = null; // {frames, strobe, scale, parts}
@@ -68,12 +81,17 @@ export function createAnimation(holder, label) {
     const [cx, cy] = toPx(scale, 0, (scale.pivot_low_m + scale.pivot_high_m) / 2);
     // the swept circle about the middle pivot height, the rails, the stroke
     el("circle", { cx, cy, r: scale.reach_m * scale.px_per_m, class: "anim-reach" }, svg);
+    const tilt = reply.axis_tilt_deg || 0; // degrees, clockwise on screen as in the core's sketch
+    const guide = tilt ? el("g", { transform: `rotate(${tilt} ${cx} ${cy})`, class: "anim-axis" }, svg) : svg;
+    // the stroke bar shows the vertical travel; on a tilted axis the travel along it is longer
+    const along = tilt ? 1 / Math.cos((tilt * Math.PI) / 180) : 1;
     el("line", { x1: cx - CARRIAGE.w / 2 - 6, y1: MARGIN_PX / 2, x2: cx - CARRIAGE.w / 2 - 6,
-                 y2: SIZE_PX - MARGIN_PX / 2, class: "anim-rail" }, svg);
+                 y2: SIZE_PX - MARGIN_PX / 2, class: "anim-rail" }, guide);
     el("line", { x1: cx + CARRIAGE.w / 2 + 6, y1: MARGIN_PX / 2, x2: cx + CARRIAGE.w / 2 + 6,
-                 y2: SIZE_PX - MARGIN_PX / 2, class: "anim-rail" }, svg);
-    el("rect", { x: cx - CARRIAGE.w / 2 - 10, y: top, width: 4, height: Math.max(1, bottom - top),
-                 class: "anim-stroke" }, svg);
+                 y2: SIZE_PX - MARGIN_PX / 2, class: "anim-rail" }, guide);
+    el("rect", { x: cx - CARRIAGE.w / 2 - 10, y: cy - ((cy - top) * along),
+                 width: 4, height: Math.max(1, (bottom - top) * along), class: "anim-stroke" }, guide);
+    if (reply.held_orbit && reply.held_orbit.lean_deg.length) leanLine(svg, reply, scale, cx, cy);
     const carriage = el("rect", { width: CARRIAGE.w, height: CARRIAGE.h, rx: 3, class: "anim-carriage" }, svg);
     const n = frames.x_m[0].length - 1;
     const links = Array.from({ length: n }, () => el("line", { class: "anim-link" }, svg));
@@ -81,7 +99,8 @@ export function createAnimation(holder, label) {
     const tip = el("circle", { r: TIP_R, class: "anim-tip" }, svg);
     holder.replaceChildren(svg);
     holder.dataset.scale = JSON.stringify(scale);
-    run = { frames, strobe: reply.strobe, scale, carriage, links, joints, tip };
+    run = { frames, strobe: reply.strobe, scale, carriage, links, joints, tip, tilt,
+            sideways: Boolean(frames.pivot_x_m) };
   }
 
   /** Positions at `time`: blended frames, or the last strobe sample at or before it. */
@@ -104,10 +123,11 @@ export function createAnimation(holder, label) {
     if (!run) return null;
     const p = pose(time, strobe);
     const s = run.scale;
-    const [px, py] = toPx(s, 0, p.pivot);
+    const pts = p.x.map((x, k) => toPx(s, x, p.y[k]));
+    const [px, py] = run.sideways ? pts[0] : toPx(s, 0, p.pivot); // off vertical it moves sideways too
     run.carriage.setAttribute("x", px - CARRIAGE.w / 2);
     run.carriage.setAttribute("y", py - CARRIAGE.h / 2);
-    const pts = p.x.map((x, k) => toPx(s, x, p.y[k]));
+    if (run.tilt) run.carriage.setAttribute("transform", `rotate(${run.tilt} ${px} ${py})`);
     run.links.forEach((line, k) => {
       line.setAttribute("x1", pts[k][0]);
       line.setAttribute("y1", pts[k][1]);

@@ -80,6 +80,9 @@ export function createLoadsView(els, { engine, getRig, getEquilibrium }) {
           row("drive_force_peak", "Drive force, peak", r.drive_force_N.peak, "N"),
           row("drive_force_rms", "Drive force, RMS", r.drive_force_N.rms, "N",
             `mean ${small(r.drive_force_N.mean, r.drive_force_N.peak)} N (the weight is ${num(r.weight_N)} N)`),
+          r.guide_force_N ? row("guide_force_peak", "Sideways force on the guide, peak", r.guide_force_N.peak, "N",
+            `across the drive axis (tilted ${num(r.axis_tilt_deg)}°); mean `
+            + `${small(r.guide_force_N.mean, r.guide_force_N.peak)} N`) : null,
           row("power_peak", "Drive power, peak", r.power_W.peak, "W"),
           row("power_rms", "Drive power, RMS", r.power_W.rms, "W", `mean ${small(r.power_W.mean, r.power_W.peak)} W`),
           row("accel_peak", "Pivot acceleration, peak", r.peak_accel_m_s2, "m/s²",

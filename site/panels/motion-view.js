@@ -110,14 +110,16 @@ export function createMotionView(els, { engine, getRig }) {
     if (PLAIN.test(angleText)) {
       // angles go to the core from the upward vertical; the field is from the start position
       angle = `${Number(angleText) + (reference === "hanging" ? 180 : 0)} deg`;
-    } else if (reference === "hanging") {
+    } else if (reference === "hanging" && angleText !== "") {
       problems.push({ path: "angles_rad", message: `"${els.angle.value}" is not allowed: type degrees `
         + "from the hanging position, such as 10" });
     }
     // a length typed with a unit is read by the core: frames at the plainest rate then
     const rate = seconds === null ? MIN_FRAME_RATE_HZ : frameRate(seconds);
+    // a blank angle starts at rest: in the position, or off vertical on the orbit it holds
+    const start = angleText === "" ? {} : { angles_rad: Array(n).fill(angle) };
     return { rig, problems, request: { reference, duration_s: withUnit(durationText, "s"),
-                                       angles_rad: Array(n).fill(angle), knocks: [], frame_rate_hz: rate,
+                                       ...start, knocks: [], frame_rate_hz: rate,
                                        ...speedFields(rig) } };
   }
 

@@ -1,8 +1,9 @@
-// The work panels (map, run-up, motion, tolerance, loads, fit) made on their page elements,
+// The work panels (map, run-up, lean chart, motion, tolerance, loads, fit) made on their page elements,
 // and the two things every one of them hears: the rig changed, the check has a new result.
 
 import { createChartView } from "./chart-view.js";
 import { createFitView } from "./fit-view.js";
+import { createLeanView } from "./lean-view.js";
 import { createLoadsView } from "./loads-view.js";
 import { createMotionView } from "./motion-view.js";
 import { createRunupView } from "./runup-view.js";
@@ -86,6 +87,14 @@ export function mountPanels($, { engine, getRig, onPick, useRig, restoreRig }) {
     undo: $("fit-undo"),
   }, { engine, getRig, useRig, restoreRig });
 
+  const lean = createLeanView({
+    go: $("lean-go"),
+    cancel: $("lean-cancel"),
+    progress: $("lean-progress"),
+    status: $("lean-status"),
+    out: $("lean-chart"),
+  }, { engine, getRig });
+
   const loads = createLoadsView({ go: $("loads-go"), out: $("loads-result") },
     { engine, getRig, getEquilibrium: () => motion.reference });
 
@@ -97,6 +106,7 @@ export function mountPanels($, { engine, getRig, onPick, useRig, restoreRig }) {
       motion.rigChanged(rig);
       tolerance.rigChanged(rig);
       loads.rigChanged(rig);
+      lean.rigChanged(rig);
       fit.rigChanged(rig);
       return chart.setRig(rig);
     },

@@ -61,6 +61,29 @@ function windowRow(label, [range, ends]) {
     h("dd", {}, range, ends ? h("span", { class: "sub" }, ends) : null));
 }
 
+const degrees = (list) => list.map((v) => `${num(v, 3)}°`).join(", ");
+
+/** A drive off vertical: the held orbit's mean lean and wobble, per link. */
+function leanRows(eq) {
+  if (!Array.isArray(eq.lean_deg)) {
+    return [row("Held orbit", "none near this position", "the drive's tilt leaves nothing to hold here")];
+  }
+  return [row("Mean lean", degrees(eq.lean_deg), "of the orbit the pendulum holds, per link"),
+    row("Wobble", degrees(eq.wobble_deg), "peak to peak within a drive cycle")];
+}
+
+/** The tilt the rig tolerates, when the drive's path off vertical is given. */
+function tiltTolerance(result) {
+  if (!("tilt_tolerance_deg" in result)) return null;
+  const tol = result.tilt_tolerance || {};
+  const value = result.tilt_tolerance_deg;
+  return h("p", { class: "tilt-tolerance", "data-value": value == null ? "" : value },
+    value == null
+      ? `Tilt tolerance: none (${tol.message || "no held upright orbit"}).`
+      : `Tilt tolerance: ${num(value, 3)}° of drive axis keeps the upright orbit stable with a lean under `
+        + `${num(tol.max_lean_deg, 3)}° (${tol.message}). A tilt out of the swing plane is not modelled.`);
+}
+
 function equilibriumCard(name, eq) {
   const words = EQUILIBRIA[name];
   const stable = Boolean(eq.stable);
@@ -77,6 +100,7 @@ function equilibriumCard(name, eq) {
     ]
     : [row("Growth per drive cycle", `× ${num(eq.max_multiplier, 4)}`,
       "a small disturbance grows by this factor every revolution")];
+  if ("lean_deg" in eq) facts.push(...leanRows(eq));
   facts.push(row("Largest Floquet multiplier", num(eq.max_multiplier, 6), "stable below 1"));
   const notes = Array.isArray(eq.messages) ? eq.messages : [];
   return h("article", { class: `eq-card is-${stable ? "stable" : "unstable"}`, "data-eq": name,
@@ -205,6 +229,7 @@ export function createReport(el, strip, onCautions = () => {}, onGoto = () => {}
           ` (${num(result.peak_accel_g, 3)} g).`),
         h("div", { class: "eq-cards" },
           Object.keys(EQUILIBRIA).map((name) => equilibriumCard(name, result[name] || {}))),
+        tiltTolerance(result),
         result.converged === false
           ? h("p", { class: "eq-warning" }, "Some results did not meet their accuracy check; see the notes.")
           : null,

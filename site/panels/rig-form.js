@@ -8,8 +8,8 @@ import {
   removePointMass, setPath,
 } from "../state/draft.js";
 import {
-  DRIVE_FIELDS, GENERAL_FIELDS, LIMIT_FIELDS, LINK_FIELDS, MASS_FIELDS, WAVEFORM_NAMES,
-  describePath,
+  DRIVE_FIELDS, GENERAL_FIELDS, LEAN_LIMIT_FIELD, LIMIT_FIELDS, LINK_FIELDS, MASS_FIELDS, PATH_KEYS,
+  WAVEFORM_NAMES, describePath,
 } from "../state/rig-fields.js";
 
 const TEXT_INPUT = {
@@ -103,7 +103,11 @@ function driveGroup(draft) {
         control: "select", options: WAVEFORMS.map((w) => [w, WAVEFORM_NAMES[w]]), extraClass: "wide",
       }),
       samples, stroke, rod,
-      field(draft, "drive.speed_rpm", DRIVE_FIELDS.speed_rpm)));
+      field(draft, "drive.speed_rpm", DRIVE_FIELDS.speed_rpm)),
+    h("details", { class: "drive-path", open: PATH_KEYS.some((k) => getPath(draft, `drive.${k}`)) },
+      h("summary", {}, "Drive off vertical (tilt, sideways motion)"),
+      h("div", { class: "grid" },
+        PATH_KEYS.map((key) => field(draft, `drive.${key}`, DRIVE_FIELDS[key])))));
 }
 
 function limitsGroup(draft) {
@@ -116,7 +120,8 @@ function limitsGroup(draft) {
       h("p", { class: "hint" }, words.hint));
   });
   return group("limits", "Limits", "limits",
-    h("p", { class: "hint" }, "Windows are searched inside these ranges only."), pairs);
+    h("p", { class: "hint" }, "Windows are searched inside these ranges only."), pairs,
+    field(draft, "limits.max_lean_deg", LEAN_LIMIT_FIELD));
 }
 
 /**

@@ -4,7 +4,9 @@
 // map is the core's SVG, redrawn after every step as it fills in.
 
 import { h, replaceChildren } from "../lib/dom.js";
-import { Runner, busyMark, failedWords, num, statusLine } from "../engine/motion-job.js";
+import {
+  Runner, busyMark, cancelWith, failedWords, num, statusLine, stopForEdit,
+} from "../engine/motion-job.js";
 import { svgNode } from "./schematic-view.js";
 
 const DEG = 180 / Math.PI; // display only: the core gives radians and degrees alike
@@ -115,23 +117,16 @@ export function createToleranceView(els, { engine, getRig }) {
 
   els.go.addEventListener("click", findTolerance);
   els.basinGo.addEventListener("click", mapRecovery);
-  els.cancel.addEventListener("click", async () => {
-    await runner.stop();
-    busy(false);
-    if (els.basin.dataset.state === "running") els.basin.dataset.state = "cancelled";
-    status("Cancelled: what is shown is what was finished.");
-  });
+  cancelWith(els.cancel, runner, busy, els.basin, status, "Cancelled: what is shown is what was finished.");
 
   return {
     /** The rig changed: running work stops; shown numbers are of the old rig. */
     rigChanged(rig) {
       const key = JSON.stringify(rig);
       if (key === rigKey) return;
-      if (runner.running) {
-        runner.stop();
-        busy(false);
-        status("The rig changed: the work in progress was stopped. Start it again for the new rig.");
-      } else if (els.out.dataset.state === "fresh" || els.basin.dataset.state === "done") {
+      const stopped = stopForEdit(runner, busy, status,
+        "The rig changed: the work in progress was stopped. Start it again for the new rig.");
+      if (!stopped && (els.out.dataset.state === "fresh" || els.basin.dataset.state === "done")) {
         status("These numbers are of the rig before your last edit: work them out again.");
       }
       if (els.out.dataset.state === "fresh") els.out.dataset.state = "stale";

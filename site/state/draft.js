@@ -9,7 +9,11 @@ export const LINK_UNITS = {
   joint_damping_N_m_s: "N m s", joint_friction_N_m: "N m",
 };
 const MASS_UNITS = { mass_kg: "kg", at_m: "m" };
-const DRIVE_UNITS = { stroke_m: "m", rod_length_m: "m", speed_rpm: "rpm" };
+const DRIVE_UNITS = {
+  stroke_m: "m", rod_length_m: "m", speed_rpm: "rpm",
+  axis_tilt_deg: "deg", side_stroke_m: "m", side_phase_deg: "deg",
+};
+const LEAN_UNIT = "deg"; // limits.max_lean_deg, a single number beside the ranges
 const LIMIT_UNITS = { speed_rpm: "rpm", stroke_m: "m" };
 export const GRAVITY_UNIT = "m/s2";
 
@@ -96,6 +100,7 @@ export function draftFromRig(rig) {
     const pair = Array.isArray(limits[key]) ? limits[key] : [];
     draft.limits[key] = [asText(pair[0], unit), asText(pair[1], unit)];
   }
+  draft.limits.max_lean_deg = asText(limits.max_lean_deg, LEAN_UNIT);
   return draft;
 }
 
@@ -137,6 +142,9 @@ export function rigFromDraft(draft) {
     if (pair[0] === "" && pair[1] === "") delete limits[key];
     else limits[key] = pair;
   }
+  const lean = String(draft.limits.max_lean_deg ?? "").trim();
+  if (lean === "") delete limits.max_lean_deg;
+  else limits.max_lean_deg = lean;
   rig.limits = limits;
   return rig;
 }

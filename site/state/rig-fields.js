@@ -57,11 +57,34 @@ export const DRIVE_FIELDS = {
     label: "Speed",
     hint: "Drive speed; one pivot cycle per revolution. Units: rpm (r/min), Hz, rad/s.",
   },
+  axis_tilt_deg: {
+    label: "Axis tilt",
+    hint: "The drive's line off vertical in the swing plane, towards positive link angles; "
+      + "-90 to 90. A tilt out of the swing plane is not modelled. Units: deg, rad. Blank is 0.",
+  },
+  side_stroke_m: {
+    label: "Side stroke",
+    hint: "Sideways travel of the pivot at the drive frequency (an elliptical path), side to side. "
+      + "Units: m, mm, in. Blank is 0.",
+  },
+  side_phase_deg: {
+    label: "Side phase",
+    hint: "How far the sideways motion leads the drive's own. Units: deg, rad. Blank is 0.",
+  },
 };
+
+/** The drive's path off vertical: shown in their own group of the drive. */
+export const PATH_KEYS = ["axis_tilt_deg", "side_stroke_m", "side_phase_deg"];
 
 export const LIMIT_FIELDS = {
   speed_rpm: { label: "Speed range", hint: "What the motor can do. Units: rpm (r/min), Hz, rad/s." },
   stroke_m: { label: "Stroke range", hint: "What the mechanism can be set to. Units: m, cm, mm, in, ft." },
+};
+
+export const LEAN_LIMIT_FIELD = {
+  label: "Largest lean",
+  hint: "The lean of the held pendulum you accept when the drive is off vertical; the tilt "
+    + "tolerance is the tilt that reaches it. Units: deg. Blank is 5 deg.",
 };
 
 /** "links[1].point_masses[0].at_m" -> "Link 2, point mass 1, sits at": for the problem list. */
@@ -77,6 +100,7 @@ export function describePath(path) {
     else if (key === "samples_m") words.push(`samples${n ? `, value${n}` : ""}`);
     else {
       const known = GENERAL_FIELDS[key] || LINK_FIELDS[key] || MASS_FIELDS[key]
+        || (key === "max_lean_deg" ? LEAN_LIMIT_FIELD : null)
         || (words[0] === "Limits" ? LIMIT_FIELDS[key] : DRIVE_FIELDS[key]);
       const label = known ? known.label.toLowerCase() : key;
       words.push(index === undefined ? label : `${label} ${index === "0" ? "low" : "high"} end`);

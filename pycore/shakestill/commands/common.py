@@ -6,10 +6,11 @@ from __future__ import annotations
 import json
 import math
 import sys
+from dataclasses import replace
 
 from ..model import share
 from ..model.demo import demo_rig_dict
-from ..model.rig import Problem, RigError, outside_reach, with_operating_point
+from ..model.rig import MAX_TILT_DEG, Problem, RigError, outside_reach, with_operating_point
 from ..model.rigfile import dumps_rig, loads_rig, rig_from_dict
 from ..model.safejson import MAX_TEXT_CHARS, decode_text
 from ..model.units import UnitError, allowed_units, parse_quantity
@@ -92,6 +93,22 @@ def quantity(text: str | None, kind: str, option: str, *, minimum: float | None 
     if allowed:
         raise RigError([Problem(option, f"{text!r} is {allowed}")])
     return value
+
+
+def tilted(rig, text: str | None, option: str = "--tilt"):
+    """The rig with its drive axis tilted by ``text`` (the rig file's -90..90 deg rule)."""
+    if text is None:
+        return rig
+    try:
+        tilt = parse_quantity(text, "angle_deg")
+    except UnitError as exc:
+        raise bad(option, text, str(exc)) from None
+    if not -MAX_TILT_DEG <= tilt <= MAX_TILT_DEG:  # NaN fails this too
+        raise bad(option, text, f"the drive axis tilts by -{MAX_TILT_DEG:g} to "
+                                f"{MAX_TILT_DEG:g} deg in the swing plane")
+    tilt = quantity(text, "angle_deg", option)  # a denormal is refused by REACH
+    return replace(rig, drive=replace(rig.drive, axis_tilt_deg=tilt,
+                                      given=rig.drive.given | {"axis_tilt_deg"}))
 
 
 def bad(option: str, text: str, allowed: str) -> RigError:

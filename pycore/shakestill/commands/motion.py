@@ -9,11 +9,13 @@ import io
 import json
 import math
 import sys
+from dataclasses import replace
 
 from ..model.rig import Problem, RigError
 from ..model.safety import CAUTIONS
 from ..motion.dynamics import model, points_m
 from ..motion.loads import loads
+from ..motion.orbit import held_orbit
 from ..motion.simulation import simulate, simulate_steps
 from ..render.motion_report import loads_text, motion_text
 from ..render.plots import line_plot, loads_svg, motion_svg
@@ -23,21 +25,56 @@ from .jobs import DEFAULT_BUDGET_MS, JobStore
 from .motion_scenario import rename_options, scenario_from_args, scenario_from_request
 from .table import JOB_KINDS, command, job_kind, op
 
+def pivot_points(motion, m) -> list:
+    """Lab positions of the pivot and each link's end per frame (the pivot's sideways
+    motion included when the drive is off vertical)."""
+    sides = motion.pivot_x_m or (0.0,) * len(motion.t_s)
+    return [points_m(m, q, y, x) for q, y, x in zip(motion.angles_rad, motion.pivot_y_m, sides)]
+
+
 def motion_csv(motion, m) -> str:
-    """Frames as CSV: time, speed, pivot height, angles, rates, link ends (m), energy."""
+    """Frames as CSV: time, speed, pivot height (and sideways position off vertical), angles,
+    rates, link ends (m), energy."""
     n = m.n
+    side = ["pivot_x_m"] if motion.pivot_x_m else []
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\n")
-    w.writerow(["t_s", "speed_rpm", "pivot_y_m"] + [f"angle{i + 1}_rad" for i in range(n)]
+    w.writerow(["t_s", "speed_rpm", "pivot_y_m"] + side + [f"angle{i + 1}_rad" for i in range(n)]
                + [f"rate{i + 1}_rad_s" for i in range(n)]
                + [c for i in range(n) for c in (f"x{i + 1}_m", f"y{i + 1}_m")] + ["energy_J"])
-    for k, t in enumerate(motion.t_s):
+    for k, (t, points) in enumerate(zip(motion.t_s, pivot_points(motion, m))):
         q = motion.angles_rad[k]
-        ends = points_m(m, q, motion.pivot_y_m[k])[1:]
+        ends = points[1:]
         w.writerow([f"{t:.10g}", f"{motion.speed_rpm[k]:.10g}", f"{motion.pivot_y_m[k]:.10g}"]
+                   + [f"{motion.pivot_x_m[k]:.10g}" for _ in side]
                    + [f"{x:.10g}" for x in q] + [f"{x:.10g}" for x in motion.rates_rad_s[k]]
                    + [f"{c:.10g}" for p in ends for c in p] + [f"{motion.energy_J[k]:.10g}"])
     return buf.getvalue()
+
+
+def from_held_orbit(rig, sc):
+    """(scenario, orbit): off vertical at the rig's own speed, the held orbit near the
+    reference (None when there is none), and a run that starts at rest starts on it (the
+    pendulum's motion at rest there); otherwise the scenario as given and None."""
+    if not rig.drive.off_vertical or sc.profile is not None:
+        return sc, None
+    orbit = held_orbit(rig, sc.reference)
+    if not orbit.found:
+        return sc, None
+    if sc.angles_rad is not None or sc.rates_rad_s is not None:
+        return sc, orbit
+    n = rig.n_links
+    return replace(sc, angles_rad=tuple(orbit.start[:n]), rates_rad_s=tuple(orbit.start[n:])), orbit
+
+
+def _held_words(orbit) -> dict:
+    """The reply's note of the held orbit a run started on (the page draws its lean)."""
+    if orbit is None:
+        return {}
+    return {"held_orbit": {"equilibrium": orbit.equilibrium,
+                           "lean_deg": [math.degrees(v) for v in orbit.lean_rad],
+                           "wobble_deg": [math.degrees(v) for v in orbit.wobble_rad],
+                           "stable": orbit.stable, "message": orbit.message}}
 
 
 def _simulate_arguments(s) -> None:
@@ -73,7 +110,7 @@ def _simulate_arguments(s) -> None:
 @command("simulate", "nonlinear motion with knocks, jumps and speed ramps", _simulate_arguments)
 def _cmd_simulate(args) -> int:
     rig, _ = rig_of_args(args)
-    scenario = scenario_from_args(args, rig)
+    scenario, _ = from_held_orbit(rig, scenario_from_args(args, rig))
     m = model(rig)
     try:
         motion = simulate(rig, scenario, chain_model=m)
@@ -145,7 +182,7 @@ def _op_simulate(request: dict) -> dict:
 @job_kind("simulate")
 def _simulate_job(rig, warnings, request):
     """Yields (fraction, partial reply); the last reply carries the frames."""
-    sc = scenario_from_request(request, rig)
+    sc, orbit = from_held_orbit(rig, scenario_from_request(request, rig))
     m = model(rig)
     run = simulate_steps(rig, sc, chain_model=m)
     try:
@@ -153,25 +190,30 @@ def _simulate_job(rig, warnings, request):
             yield 0.999 * next(run), {"stage": "simulate"}
     except StopIteration as stop:
         motion = stop.value
-    points = [points_m(m, q, y) for q, y in zip(motion.angles_rad, motion.pivot_y_m)]
-    # Every stroboscopic sample is at the same drive phase, so at the same pivot height;
+    points = pivot_points(motion, m)
+    # Every stroboscopic sample is at the same drive phase, so at the same pivot position;
     # positions here let the page draw the samples without geometry of its own.
     strobe_y = m.kinematics(sc.strobe_phase_rad)[0] if sc.strobe_phase_rad is not None else 0.0
-    strobe_points = [points_m(m, q, strobe_y) for q in motion.strobe_angles_rad]
+    strobe_x = (m.planar(sc.strobe_phase_rad)[3]
+                if m.planar is not None and sc.strobe_phase_rad is not None else 0.0)
+    strobe_points = [points_m(m, q, strobe_y, strobe_x) for q in motion.strobe_angles_rad]
+    side = {"pivot_x_m": list(motion.pivot_x_m)} if motion.pivot_x_m else {}
+    strobe_side = {"pivot_x_m": strobe_x} if m.planar is not None else {}
     svg, axes = motion_svg(motion, rig.title or "Link angles") if motion.t_s else (None, None)
     strobe_svg, strobe_axes = _strobe_svg(motion) if len(motion.strobe_t_s) > 1 else (None, None)
     yield 1.0, {
         "stage": "done",
-        "frames": {"t_s": list(motion.t_s), "pivot_y_m": list(motion.pivot_y_m),
+        "frames": {"t_s": list(motion.t_s), "pivot_y_m": list(motion.pivot_y_m), **side,
                    "speed_rpm": list(motion.speed_rpm), "energy_J": list(motion.energy_J),
                    "angles_rad": [list(q) for q in motion.angles_rad],
                    "x_m": [[p[0] for p in pts] for pts in points],
                    "y_m": [[p[1] for p in pts] for pts in points]},
-        "frame_rate_hz": sc.frame_rate_hz, "links": rig.n_links,
+        "frame_rate_hz": sc.frame_rate_hz, "links": rig.n_links, **_held_words(orbit),
+        **({"axis_tilt_deg": rig.drive.axis_tilt_deg} if rig.drive.off_vertical else {}),
         "strobe": {"t_s": list(motion.strobe_t_s), "phase_rad": sc.strobe_phase_rad,
                    "angles_rad": [list(q) for q in motion.strobe_angles_rad],
                    "rates_rad_s": [list(w) for w in motion.strobe_rates_rad_s],
-                   "pivot_y_m": strobe_y,
+                   "pivot_y_m": strobe_y, **strobe_side,
                    "x_m": [[p[0] for p in pts] for pts in strobe_points],
                    "y_m": [[p[1] for p in pts] for pts in strobe_points]},
         "events": [{**e.as_dict(), "link": None if e.link is None else e.link + 1}
@@ -184,6 +226,9 @@ def _simulate_job(rig, warnings, request):
         "warnings": problems_json(warnings), "cautions": list(CAUTIONS)}
 
 
+ANGLE_SPAN_DEG = 0.01  # the once-per-cycle plot spans at least this: finer is no motion to see
+
+
 def _strobe_svg(motion) -> tuple[str, dict]:
     """The once-per-cycle samples of each link's angle: the slow motion without the shake."""
     n = len(motion.strobe_angles_rad[0])
@@ -191,7 +236,7 @@ def _strobe_svg(motion) -> tuple[str, dict]:
                [math.degrees(q[i]) for q in motion.strobe_angles_rad]) for i in range(n)]
     return line_plot(series, title="Once per drive cycle", x_label="time (s)",
                      y_label="angle once per cycle (deg)", x_unit="s", y_unit="deg",
-                     height_px=240, cls="strobe-plot")
+                     height_px=240, cls="strobe-plot", min_span=ANGLE_SPAN_DEG)
 
 
 @op("loads")

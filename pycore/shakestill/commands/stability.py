@@ -7,7 +7,7 @@ import json
 import sys
 
 from ..equilibria.chart import chart, chart_dict, chart_steps, stroke_for_peak_accel
-from ..equilibria.check import check
+from ..motion.lean import check
 from ..equilibria.floquet import stability
 from ..equilibria.runup import runup
 from ..model.drive import peak_accel_m_s2
@@ -17,7 +17,7 @@ from ..model.safety import CAUTIONS
 from ..model.units import UnitError, parse_quantity
 from ..render.chart_svg import render
 from ..render.report import jsonable, report_text, runup_text
-from .common import problems_json, quantity, rig_of, rig_of_args
+from .common import problems_json, quantity, rig_of, rig_of_args, tilted
 from .jobs import DEFAULT_BUDGET_MS, JobStore
 from .table import command, op
 
@@ -32,12 +32,16 @@ def _check_arguments(p) -> None:
     p.add_argument("--json", action="store_true", help="print the result as JSON")
     p.add_argument("--speed", help="override the drive speed, e.g. 1800rpm or 30Hz")
     p.add_argument("--stroke", help="override the stroke, e.g. 25mm")
+    p.add_argument("--tilt", help="override drive.axis_tilt_deg, e.g. 1.5 (deg) or 0.02rad")
+    p.add_argument("--max-lean", help="the lean the tilt tolerance allows (limits.max_lean_deg; "
+                                      "default 5 deg)")
 
 
 @command("check", "stability of both equilibria at the operating point", _check_arguments)
 def _cmd_check(args) -> int:
     rig, warnings = rig_of_args(args)
-    result = check(rig)
+    rig = tilted(rig, args.tilt)
+    result = check(rig, max_lean_deg=quantity(args.max_lean, "angle_deg", "--max-lean", above=0.0))
     if args.json:
         print(json.dumps(jsonable(result), indent=2, allow_nan=False))
     else:

@@ -129,6 +129,10 @@ def chart_steps(rig: Rig | Model, *, rows: int | None = None, y_axis: str = "str
     if hi < rig.limits.speed_rpm[1]:
         notes += (f"the chart stops at {hi:.4g} rpm, below the rig's highest speed: "
                   + CEILING_WORDS,)
+    if rig.drive.off_vertical:  # the map's Floquet verdicts are of the vertical positions
+        notes += ("the map is of the positions with the drive vertical: off vertical the "
+                  "check's verdict and windows are those of the held orbit, and the lean chart "
+                  "shows how far it leans",)
     marks = tongues(model)
     if rig.n_links == 1:
         steps = _row_steps(model, ys, y_axis, equilibria)

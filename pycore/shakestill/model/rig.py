@@ -32,9 +32,11 @@ REACH = {
     "torque": (1e-12, 1e5),  # N m
     "speed": (1e-2, 1e6),  # rpm
     "area": (1e-12, 100.0),  # m^2
+    "angle_deg": (1e-12, 360.0),  # deg: a drive's tilt and phase, a lean limit (one turn)
 }
 UNITS_OF_REACH = {"length": "m", "mass": "kg", "inertia": "kg m^2", "damping": "N m s",
-                  "torque": "N m", "speed": "rpm", "area": "m^2", "acceleration": "m/s^2"}
+                  "torque": "N m", "speed": "rpm", "area": "m^2", "acceleration": "m/s^2",
+                  "angle_deg": "deg"}
 
 
 def outside_reach(value: float, kind: str, *, reach: tuple | None = None,
@@ -50,6 +52,7 @@ def outside_reach(value: float, kind: str, *, reach: tuple | None = None,
     return f"outside what this method can resolve: use {span} {unit}".rstrip() + zero
 
 
+MAX_TILT_DEG = 90.0  # a drive axis tilted past horizontal is the same line turned over
 MIN_LINK_M = 1e-4  # a link or a connecting rod shorter than 0.1 mm is no pendulum or crank
 GRAVITY_REACH = (1e-3, 1e3)  # m/s^2
 
@@ -112,10 +115,21 @@ class Drive:
     carriage_mass_kg: float = 0.0  # moving mass of the carriage, for drive loads
     given: frozenset = frozenset()
     extra: tuple = ()
+    # The pivot's path off vertical, in the swing plane (a tilt out of that plane does not
+    # enter a planar model): the pivot moves by s (sin a, cos a), a = axis_tilt_deg, plus
+    # x = (side_stroke_m / 2) cos(phase + side_phase_deg) sideways (horizontal).
+    axis_tilt_deg: float = 0.0  # towards positive link angles, from vertical
+    side_stroke_m: float = 0.0  # peak-to-peak sideways sine motion at the drive frequency
+    side_phase_deg: float = 0.0  # its phase lead over the drive phase
 
     @property
     def frequency_hz(self) -> float:
         return self.speed_rpm / 60.0
+
+    @property
+    def off_vertical(self) -> bool:
+        """True when the pivot's path has any sideways part."""
+        return self.axis_tilt_deg != 0.0 or self.side_stroke_m != 0.0
 
 
 @dataclass(frozen=True)
@@ -127,6 +141,7 @@ class Limits:
     max_accel_m_s2: float | None = None  # of the pivot
     given: frozenset = frozenset()
     extra: tuple = ()
+    max_lean_deg: float | None = None  # the held orbit's mean lean a tilt may cause (None: 5)
 
 
 @dataclass(frozen=True)

@@ -58,7 +58,8 @@ def _drive_to_dict(drive: Drive) -> dict:
     if drive.waveform == "crank":
         out["rod_length_m"] = drive.rod_length_m
     out["speed_rpm"] = drive.speed_rpm
-    _put(out, "carriage_mass_kg", drive.carriage_mass_kg, drive.given, 0.0)
+    _put_zeros(out, drive, ("carriage_mass_kg", "axis_tilt_deg", "side_stroke_m",
+                            "side_phase_deg"))
     out.update(dict(drive.extra))
     return out
 
@@ -75,7 +76,7 @@ def rig_to_dict(rig: Rig) -> dict:
         limits = {}
         _put(limits, "speed_rpm", list(rig.limits.speed_rpm), rig.limits.given, None)
         _put(limits, "stroke_m", list(rig.limits.stroke_m), rig.limits.given, None)
-        for key in ("max_force_N", "max_power_W", "max_accel_m_s2"):
+        for key in ("max_force_N", "max_power_W", "max_accel_m_s2", "max_lean_deg"):
             _put(limits, key, getattr(rig.limits, key), rig.limits.given, None)
         limits.update(dict(rig.limits.extra))
         out["limits"] = limits

@@ -11,8 +11,8 @@ import json
 import math
 from typing import Any
 
-from .rig import (AIR_DENSITY, FORMAT, GRAVITY_REACH, MAX_CRANK_RATIO, MAX_LINKS, MIN_LINK_M,
-                  MIN_SAMPLES, REACH, STANDARD_GRAVITY, VERSION, WAVEFORMS, Drive, Limits, Link,
+from .rig import (AIR_DENSITY, FORMAT, GRAVITY_REACH, MAX_CRANK_RATIO, MAX_LINKS, MAX_TILT_DEG,
+                  MIN_LINK_M, MIN_SAMPLES, REACH, STANDARD_GRAVITY, VERSION, WAVEFORMS, Drive, Limits, Link,
                   PointMass, Problem, Rig, RigError, outside_reach)
 from .safejson import non_finite_problems
 from .units import UnitError, parse_quantity
@@ -109,8 +109,9 @@ _RIG_KEYS = ("format", "version", "title", "g_m_s2", "air_density_kg_m3", "links
 _LINK_KEYS = ("length_m", "rod_mass_kg", "point_masses", "extra_inertia_kg_m2",
               "joint_damping_N_m_s", "joint_friction_N_m")
 _DRIVE_KEYS = ("waveform", "stroke_m", "rod_length_m", "speed_rpm", "samples_m",
-               "carriage_mass_kg")
-_LIMIT_KEYS = ("speed_rpm", "stroke_m", "max_force_N", "max_power_W", "max_accel_m_s2")
+               "carriage_mass_kg", "axis_tilt_deg", "side_stroke_m", "side_phase_deg")
+_LIMIT_KEYS = ("speed_rpm", "stroke_m", "max_force_N", "max_power_W", "max_accel_m_s2",
+               "max_lean_deg")
 _POINT_KEYS = ("mass_kg", "at_m", "drag_coefficient", "frontal_area_m2")
 
 
@@ -200,6 +201,7 @@ def _read_drive(r: _Reader, raw: Any) -> Drive | None:
                         minimum=0.0)
     given = frozenset(k for k in _DRIVE_KEYS if k in obj)
     extra = r.extras(obj, _DRIVE_KEYS, path)
+    path_off = _read_path_off(r, obj, path)
     if waveform == "samples":
         samples = _read_samples(r, obj, path)
         stroke = None
@@ -212,9 +214,10 @@ def _read_drive(r: _Reader, raw: Any) -> Drive | None:
                 r.fail("drive.samples_m", "the samples do not move (max - min is 0 m): give a "
                                           "waveform that moves, or give drive.stroke_m")
                 stroke = None
-        if None in (speed, samples, stroke, carriage):
+        if None in (speed, samples, stroke, carriage, path_off):
             return None
-        return Drive(waveform, speed, stroke, 0.0, samples, stroke, carriage, given, extra)
+        return Drive(waveform, speed, stroke, 0.0, samples, stroke, carriage, given, extra,
+                     **path_off)
     stroke = r.number(obj, "stroke_m", path, kind="length", unit="m", minimum=0.0)
     rod = 0.0
     if waveform == "crank":
@@ -232,9 +235,26 @@ def _read_drive(r: _Reader, raw: Any) -> Drive | None:
                                      "the pivot's acceleration spike beyond the harmonics it "
                                      "resolves in seconds")
             stroke = None
-    if None in (speed, stroke, rod, carriage):
+    if None in (speed, stroke, rod, carriage, path_off):
         return None
-    return Drive(waveform, speed, stroke, rod, (), 0.0, carriage, given, extra)
+    return Drive(waveform, speed, stroke, rod, (), 0.0, carriage, given, extra, **path_off)
+
+
+def _read_path_off(r: _Reader, obj: dict, path: str) -> dict | None:
+    """The drive's tilt and sideways motion (all optional, default 0: a vertical path)."""
+    tilt = r.number(obj, "axis_tilt_deg", path, kind="angle_deg", unit="deg", default=0.0,
+                    reach=(REACH["angle_deg"][0], math.inf))  # the -90..90 below says more
+    side = r.number(obj, "side_stroke_m", path, kind="length", unit="m", default=0.0,
+                    minimum=0.0)
+    phase = r.number(obj, "side_phase_deg", path, kind="angle_deg", unit="deg", default=0.0)
+    if tilt is not None and not -MAX_TILT_DEG <= tilt <= MAX_TILT_DEG:
+        r.fail(f"{path}.axis_tilt_deg", f"{_show(obj['axis_tilt_deg'])} is not allowed: the "
+                                        f"drive axis tilts from vertical by -{MAX_TILT_DEG:g} "
+                                        f"to {MAX_TILT_DEG:g} deg in the swing plane")
+        tilt = None
+    if None in (tilt, side, phase):
+        return None
+    return {"axis_tilt_deg": tilt, "side_stroke_m": side, "side_phase_deg": phase}
 
 
 def rig_from_dict(data: Any, *, with_warnings: bool = False):
@@ -302,12 +322,14 @@ def _read_limits(r: _Reader, raw: Any, drive: Drive | None) -> Limits | None:
     stroke = r.pair(obj, "stroke_m", "limits", kind="length", unit="m", default=default_stroke)
     caps = {}
     for key, kind, unit in (("max_force_N", "force", "N"), ("max_power_W", "power", "W"),
-                            ("max_accel_m_s2", "acceleration", "m/s^2")):
+                            ("max_accel_m_s2", "acceleration", "m/s^2"),
+                            ("max_lean_deg", "angle_deg", "deg")):
         caps[key] = (r.number(obj, key, "limits", kind=kind, unit=unit, exclusive_minimum=0.0)
                      if key in obj else None)
     extra = r.extras(obj, _LIMIT_KEYS, "limits")
     return Limits(speed, stroke, caps["max_force_N"], caps["max_power_W"],
-                  caps["max_accel_m_s2"], frozenset(k for k in _LIMIT_KEYS if k in obj), extra)
+                  caps["max_accel_m_s2"], frozenset(k for k in _LIMIT_KEYS if k in obj), extra,
+                  max_lean_deg=caps["max_lean_deg"])
 
 
 def _warn_operating_point(r: _Reader, rig: Rig) -> None:

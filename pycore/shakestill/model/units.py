@@ -50,6 +50,8 @@ UNITS: dict[str, dict[str, float]] = {
     "time": {"s": 1.0, "ms": 1e-3, "min": 60.0, "h": 3600.0},
     "angle": {"rad": 1.0, "deg": math.pi / 180.0, "degrees": math.pi / 180.0,
               "°": math.pi / 180.0},
+    "angle_deg": {"deg": 1.0, "degrees": 1.0, "°": 1.0,  # fields named *_deg: a bare number
+                  "rad": 180.0 / math.pi},  # is in degrees
     "angular_rate": {"rad/s": 1.0, "deg/s": math.pi / 180.0, "rpm": 2 * math.pi / 60.0,
                      "r/min": 2 * math.pi / 60.0, "rev/s": 2 * math.pi, "hz": 2 * math.pi},
     "plain": {"": 1.0},

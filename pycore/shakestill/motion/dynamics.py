@@ -17,6 +17,12 @@ Q holds the forces that are not in the Lagrangian:
 - quadratic air drag on point masses, F = -1/2 rho C_d A |v| v with v the
   mass's velocity in the lab (still air), projected on each angle.
 
+With the drive off vertical (``drive.axis_tilt_deg``, ``drive.side_stroke_m``) the
+pivot also moves sideways by x_p(t); its acceleration x_p'' adds - x_p'' a_i cos q_i
+to the right-hand side (the fictitious force - m x_p'' of the pivot's frame, projected
+on each angle), and the vertical motion is the waveform's times cos(tilt). A vertical
+drive takes exactly the code it took before (``Model.planar`` is None).
+
 A *mode* gives each joint 0 (stuck) or the sign (+1/-1) it slides with;
 within a mode the equations are smooth. A *segment* is a stretch of time with
 a constant drive angular acceleration: phase(t) = phase0 + omega0 tau +
@@ -34,6 +40,8 @@ from ..model.linear import chain
 from ..model.rig import Drive, Rig
 
 PhaseKinematics = Callable[[float], tuple[float, float, float]]
+# phase -> (y, dy, d2y, x, dx, d2x): both coordinates of the pivot and their phase derivatives
+PlanarKinematics = Callable[[float], tuple[float, float, float, float, float, float]]
 
 
 @dataclass(frozen=True)
@@ -67,6 +75,7 @@ class Model:
     drag: tuple[tuple[int, float, float], ...]  # (link, at_m, 1/2 rho C_d A) per point mass
     g: float
     kinematics: PhaseKinematics = field(compare=False, repr=False)
+    planar: PlanarKinematics | None = field(default=None, compare=False, repr=False)
 
     @property
     def total_mass(self) -> float:
@@ -130,8 +139,34 @@ def model(rig: Rig) -> Model:
     drag = tuple((i, p.at_m, half_rho * p.drag_coefficient * p.frontal_area_m2)
                  for i, link in enumerate(rig.links) for p in link.point_masses
                  if p.drag_coefficient > 0 and p.frontal_area_m2 > 0 and half_rho > 0)
+    vertical, planar = path_kinematics(rig.drive)
     return Model(rig.n_links, ch.length_m, ch.mass_kg, ch.a_kg_m, ch.coupling, ch.damping,
-                 ch.friction_N_m, drag, rig.g_m_s2, phase_kinematics(rig.drive))
+                 ch.friction_N_m, drag, rig.g_m_s2, vertical, planar)
+
+
+def path_kinematics(drive: Drive) -> tuple[PhaseKinematics, PlanarKinematics | None]:
+    """The pivot's vertical kinematics, and both coordinates when its path is off vertical.
+
+    The waveform's displacement s moves the pivot by s (sin a, cos a), a = axis tilt;
+    the side motion adds x = (side_stroke / 2) cos(phase + side_phase).
+    """
+    base = phase_kinematics(drive)
+    if not drive.off_vertical:
+        return base, None
+    tilt = math.radians(drive.axis_tilt_deg)
+    ca, sa = math.cos(tilt), math.sin(tilt)
+    half, lead = drive.side_stroke_m / 2.0, math.radians(drive.side_phase_deg)
+    cos, sin = math.cos, math.sin
+
+    def planar(phi):
+        y, dy, d2y = base(phi)
+        c, s = cos(phi + lead), sin(phi + lead)
+        return (ca * y, ca * dy, ca * d2y,
+                sa * y + half * c, sa * dy - half * s, sa * d2y - half * c)
+
+    def vertical(phi):
+        return planar(phi)[:3]
+    return vertical, planar
 
 
 def pivot_at(m: Model, seg: Segment, t: float) -> tuple[float, float, float]:
@@ -141,16 +176,26 @@ def pivot_at(m: Model, seg: Segment, t: float) -> tuple[float, float, float]:
     return y, dy * om, d2y * om * om + dy * seg.alpha
 
 
+def pivot_side_at(m: Model, seg: Segment, t: float) -> tuple[float, float, float]:
+    """Pivot's sideways position, velocity and acceleration at time t (0 on a vertical path)."""
+    if m.planar is None:
+        return 0.0, 0.0, 0.0
+    om = seg.omega(t)
+    _, _, _, x, dx, d2x = m.planar(seg.phase(t))
+    return x, dx * om, d2x * om * om + dx * seg.alpha
+
+
 def relative_rates(w) -> list[float]:
     """r_k = q_k' - q_{k-1}' at each joint (the base does not turn)."""
     return [w[0]] + [w[k] - w[k - 1] for k in range(1, len(w))]
 
 
-def drag_forces(m: Model, q, w, v_pivot: float) -> list[tuple[int, float, float, float]]:
+def drag_forces(m: Model, q, w, v_pivot: float,
+                vx_pivot: float = 0.0) -> list[tuple[int, float, float, float]]:
     """(link, at_m, F_x, F_y) of air drag on each point mass that has it (N)."""
     out = []
     for i, at, kappa in m.drag:
-        vx = sum(m.lengths[k] * math.cos(q[k]) * w[k] for k in range(i)) + at * math.cos(q[i]) * w[i]
+        vx = vx_pivot + sum(m.lengths[k] * math.cos(q[k]) * w[k] for k in range(i)) + at * math.cos(q[i]) * w[i]
         vy = v_pivot - sum(m.lengths[k] * math.sin(q[k]) * w[k] for k in range(i)) \
             - at * math.sin(q[i]) * w[i]
         speed = math.hypot(vx, vy)
@@ -158,10 +203,10 @@ def drag_forces(m: Model, q, w, v_pivot: float) -> list[tuple[int, float, float,
     return out
 
 
-def drag_torques(m: Model, q, w, v_pivot: float) -> list[float]:
+def drag_torques(m: Model, q, w, v_pivot: float, vx_pivot: float = 0.0) -> list[float]:
     """Generalised forces of air drag on the point masses (N m per angle)."""
     out = [0.0] * m.n
-    for i, at, fx, fy in drag_forces(m, q, w, v_pivot):
+    for i, at, fx, fy in drag_forces(m, q, w, v_pivot, vx_pivot):
         for k in range(i + 1):
             arm = m.lengths[k] if k < i else at
             out[k] += arm * (math.cos(q[k]) * fx - math.sin(q[k]) * fy)
@@ -183,8 +228,13 @@ def _forces(m: Model, seg: Segment, mode, t: float, y):
             f[k] -= torque * mode[k]
             if k > 0:
                 f[k - 1] += torque * mode[k]
+    if m.planar is not None:
+        _, vx, ax = pivot_side_at(m, seg, t)
+        f = [fi - ax * m.a[i] * math.cos(q[i]) for i, fi in enumerate(f)]
+    else:
+        vx = 0.0
     if m.drag:
-        f = [a + b for a, b in zip(f, drag_torques(m, q, w, v))]
+        f = [a + b for a, b in zip(f, drag_torques(m, q, w, v, vx))]
     return M, f
 
 
@@ -216,7 +266,10 @@ def rhs(m: Model, seg: Segment, mode) -> Callable[[float, list], list]:
     """The right-hand side y' = F(t, y), y = (q, q'), for one segment and mode."""
     n, kin, g = m.n, m.kinematics, m.g
     t0, ph0, om0, al = seg.t0, seg.phase0, seg.omega0, seg.alpha
-    if n == 1 and mode[0] != 0 and not m.drag:  # the common case, written out
+    if m.planar is not None:
+        if 0 not in mode and not m.drag:
+            return planar_rhs(m, seg, mode)
+    elif n == 1 and mode[0] != 0 and not m.drag:  # the common case, written out
         sin = math.sin
         inv, a0, c0 = 1.0 / m.B[0][0], m.a[0], m.D[0][0]
         slide = -m.friction[0] * mode[0]
@@ -228,13 +281,61 @@ def rhs(m: Model, seg: Segment, mode) -> Callable[[float, list], list]:
             q, w = y
             return [w, ((g + d2y * om * om + dy * al) * a0 * sin(q) - c0 * w + slide) * inv]
         return one_link
-
-    if 0 not in mode and not m.drag:
+    elif 0 not in mode and not m.drag:
         return _chain_rhs(m, seg, mode)
 
     def general(t, y):
         return list(y[n:]) + accelerations(m, seg, mode, t, y)[0]
     return general
+
+
+def _sliding_torques(m: Model, mode) -> list[float]:
+    """Constant joint torques of the sliding joints: -T_k s_k on link k, +T_k s_k on k-1."""
+    slide = [0.0] * m.n
+    for k, torque in enumerate(m.friction):
+        if torque > 0:
+            slide[k] -= torque * mode[k]
+            if k > 0:
+                slide[k - 1] += torque * mode[k]
+    return slide
+
+
+def planar_rhs(m: Model, seg: Segment, mode):
+    """1 to 3 links on a pivot moving off vertical, nothing stuck, no drag."""
+    kin, g = m.planar, m.g
+    t0, ph0, om0, al = seg.t0, seg.phase0, seg.omega0, seg.alpha
+    field_rhs = planar_field_rhs(m, _sliding_torques(m, mode))
+
+    def tilted_rhs(t, y):
+        tau = t - t0
+        om = om0 + al * tau
+        _, dy, d2y, _, dx, d2x = kin(ph0 + tau * (om0 + 0.5 * al * tau))
+        return field_rhs(g + d2y * om * om + dy * al, d2x * om * om + dx * al, y)
+    return tilted_rhs
+
+
+def planar_field_rhs(m: Model, slide=None, *, sin=math.sin, cos=math.cos):
+    """(G, X, y) -> y' with G = g + y_p'' and X = x_p'' the pivot frame's field, no drag.
+
+    ``sin``/``cos`` may be ``cmath``'s, so that a complex-step derivative runs through
+    the same equations (``orbit`` takes the monodromy that way).
+    """
+    n, B, D, a = m.n, m.B, m.D, m.a
+    slide = slide or [0.0] * n
+    idx = range(n)
+
+    def field_rhs(G, X, y):
+        w = y[n:]
+        s = [sin(x) for x in y[:n]]
+        c = [cos(x) for x in y[:n]]
+        f = [a[i] * (G * s[i] - X * c[i]) + slide[i]
+             - sum(B[i][j] * (s[i] * c[j] - c[i] * s[j]) * w[j] * w[j] + D[i][j] * w[j]
+                   for j in idx) for i in idx]
+        if n == 1:
+            return [w[0], f[0] / B[0][0]]
+        M = [[B[i][j] * (c[i] * c[j] + s[i] * s[j]) for j in idx] for i in idx]
+        return list(w) + _solve_spd(M, f)
+    return field_rhs
 
 
 def _chain_rhs(m: Model, seg: Segment, mode):
@@ -244,13 +345,7 @@ def _chain_rhs(m: Model, seg: Segment, mode):
     t0, ph0, om0, al = seg.t0, seg.phase0, seg.omega0, seg.alpha
     B, D, a = m.B, m.D, m.a
     sin, cos = math.sin, math.cos
-    # constant joint torques of the sliding joints: -T_k s_k on link k, +T_k s_k on k-1
-    slide = [0.0] * n
-    for k, torque in enumerate(m.friction):
-        if torque > 0:
-            slide[k] -= torque * mode[k]
-            if k > 0:
-                slide[k - 1] += torque * mode[k]
+    slide = _sliding_torques(m, mode)
     idx = range(n)
 
     def chain_rhs(t, y):
@@ -297,9 +392,9 @@ def energy_J(m: Model, y) -> float:
     return kinetic + m.g * sum(a * math.cos(x) for a, x in zip(m.a, q))
 
 
-def points_m(m: Model, q, y_pivot: float) -> list[tuple[float, float]]:
+def points_m(m: Model, q, y_pivot: float, x_pivot: float = 0.0) -> list[tuple[float, float]]:
     """Lab positions of the pivot, each further joint and the chain's tip (m)."""
-    x, y = 0.0, y_pivot
+    x, y = x_pivot, y_pivot
     out = [(x, y)]
     for length, angle in zip(m.lengths, q):
         x += length * math.sin(angle)

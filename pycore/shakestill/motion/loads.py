@@ -11,6 +11,12 @@ so the pivot's reaction on the pendulum is R = M (g + y_p'') y_hat +
 sum_i a_i u_i'' - F_drag and the drive force is R_y + m_carriage (g + y_p'').
 The axial load in link i is the force at its joint along u_i (positive:
 compression, as when it is held up inverted).
+
+With the drive off vertical the pivot also accelerates sideways by x_p'', which adds
+M x_p'' to R_x; the carriage (moving with the pivot) needs m_carriage (x_p'', g + y_p'').
+Their sum F is split along the drive axis e = (sin a, cos a), the drive force F . e,
+and across it, n = (cos a, -sin a): the sideways force the guide takes, F . n
+(positive towards positive link angles). The power is F . v_pivot.
 """
 
 from __future__ import annotations
@@ -19,8 +25,9 @@ import math
 from dataclasses import replace
 
 from ..model import drive as drv
-from .dynamics import Model, Segment, accelerations, drag_forces, model, pivot_at
+from .dynamics import Model, Segment, accelerations, drag_forces, model, pivot_at, pivot_side_at
 from .scenario import REFERENCES, Scenario
+from .orbit import held_orbit
 from .simulation import simulate
 from ..model.safety import CAUTIONS
 from ..model.rig import Rig
@@ -44,20 +51,25 @@ def _second_derivative(q, w, qdd):
     return c * qdd - s * w * w, -s * qdd - c * w * w
 
 
-def cycle_forces(m: Model, seg: Segment, t: float, y, mode, carriage_kg: float) -> dict:
-    """Forces at one instant of a motion (SI): drive force, reaction, axial loads, power."""
+def cycle_forces(m: Model, seg: Segment, t: float, y, mode, carriage_kg: float,
+                 axis_tilt_rad: float = 0.0) -> dict:
+    """Forces at one instant of a motion (SI): drive force, reaction, axial loads, power,
+    and off vertical the guide's sideways force (module docstring)."""
     n = m.n
     q, w = y[:n], y[n:]
     qdd = accelerations(m, seg, mode, t, y)[0]
     _, v_piv, a_piv = pivot_at(m, seg, t)
+    _, vx_piv, ax_piv = pivot_side_at(m, seg, t)
     udd = [_second_derivative(q[k], w[k], qdd[k]) for k in range(n)]
-    drag = drag_forces(m, q, w, v_piv) if m.drag else []
+    drag = drag_forces(m, q, w, v_piv, vx_piv) if m.drag else []
     axial, joint = [], []
     for i in range(n):
         beyond = sum(m.masses[i:])
         # M_i times joint i's acceleration and weight, plus sum_{k >= i} a_k u_k'' (the
         # masses beyond link k lie beyond joint i too, so a_k is the same seen from i)
         ax = beyond * sum(m.lengths[j] * udd[j][0] for j in range(i))
+        if m.planar is not None:
+            ax += beyond * ax_piv
         ay = beyond * (m.g + a_piv + sum(m.lengths[j] * udd[j][1] for j in range(i)))
         ax += sum(m.a[k] * udd[k][0] for k in range(i, n))
         ay += sum(m.a[k] * udd[k][1] for k in range(i, n))
@@ -67,13 +79,19 @@ def cycle_forces(m: Model, seg: Segment, t: float, y, mode, carriage_kg: float) 
         axial.append(ax * math.sin(q[i]) + ay * math.cos(q[i]))
     reaction = joint[0]
     force = reaction[1] + carriage_kg * (m.g + a_piv)
+    extra = {}
+    if m.planar is not None:  # split the pivot's whole force along and across the axis
+        fx, fy = reaction[0] + carriage_kg * ax_piv, force
+        sa, ca = math.sin(axis_tilt_rad), math.cos(axis_tilt_rad)
+        force = fx * sa + fy * ca
+        extra = {"guide_force_N": fx * ca - fy * sa, "power_W": fx * vx_piv + fy * v_piv}
     centripetal = math.hypot(sum(m.a[k] * w[k] ** 2 * math.sin(q[k]) for k in range(n)),
                              sum(m.a[k] * w[k] ** 2 * math.cos(q[k]) for k in range(n)))
-    tip_vx = sum(m.lengths[k] * math.cos(q[k]) * w[k] for k in range(n))
+    tip_vx = vx_piv + sum(m.lengths[k] * math.cos(q[k]) * w[k] for k in range(n))
     tip_vy = v_piv - sum(m.lengths[k] * math.sin(q[k]) * w[k] for k in range(n))
     return {"drive_force_N": force, "reaction_N": reaction, "axial_N": axial,
             "power_W": force * v_piv, "centripetal_N": centripetal,
-            "tip_speed_m_s": math.hypot(tip_vx, tip_vy), "pivot_accel_m_s2": a_piv}
+            "tip_speed_m_s": math.hypot(tip_vx, tip_vy), "pivot_accel_m_s2": a_piv, **extra}
 
 
 def loads(rig: Rig, *, equilibrium: str = "inverted", knock_rad_s: float = 0.0,
@@ -96,6 +114,11 @@ def loads(rig: Rig, *, equilibrium: str = "inverted", knock_rad_s: float = 0.0,
     disturbed = knock_rad_s != 0 or angles_rad is not None or rates_rad_s is not None
     angles = tuple(angles_rad) if angles_rad is not None else (REFERENCES[equilibrium],) * n
     rates = tuple(rates_rad_s) if rates_rad_s is not None else (0.0,) * n
+    held = _held_start(rig, equilibrium, angles_rad is None and rates_rad_s is None)
+    if held:  # off vertical the periodic motion at rest is the held orbit, not the position
+        angles, rates = held[:n], held[n:]
+    elif held is not None and not disturbed:
+        disturbed = True  # no held orbit: show where the motion goes from the position
     rates = (rates[0] + knock_rad_s,) + rates[1:]
     if settle_s is None:
         settle_s = run_seconds(rig) if disturbed else 0.0
@@ -117,8 +140,9 @@ def loads(rig: Rig, *, equilibrium: str = "inverted", knock_rad_s: float = 0.0,
     seg = Segment(0.0, 0.0, rig.drive.speed_rpm * RAD_S_PER_RPM)
     first_frame = tail * points_per_cycle
     window = range(first_frame, min(first_frame + cycles * points_per_cycle, len(motion.t_s)))
+    tilt = math.radians(rig.drive.axis_tilt_deg)
     rows = [cycle_forces(m, seg, motion.t_s[k], motion.angles_rad[k] + motion.rates_rad_s[k],
-                         motion.modes[k], rig.drive.carriage_mass_kg) for k in window]
+                         motion.modes[k], rig.drive.carriage_mass_kg, tilt) for k in window]
     force = [r["drive_force_N"] for r in rows]
     power = [r["power_W"] for r in rows]
     axial = [[r["axial_N"][i] for r in rows] for i in range(n)]
@@ -127,7 +151,8 @@ def loads(rig: Rig, *, equilibrium: str = "inverted", knock_rad_s: float = 0.0,
     result = {
         "speed_rpm": rig.drive.speed_rpm, "stroke_m": rig.drive.stroke_m,
         "frequency_hz": f, "equilibrium": equilibrium,
-        "state": "rotating" if rotating else ("moving" if disturbed else "at rest"),
+        "state": "rotating" if rotating else ("moving" if disturbed else
+                                              "held orbit" if held else "at rest"),
         "settle_s": settle_cycles / f, "cycles": cycles,
         "total_mass_kg": m.total_mass, "carriage_mass_kg": rig.drive.carriage_mass_kg,
         "weight_N": (m.total_mass + rig.drive.carriage_mass_kg) * rig.g_m_s2,
@@ -149,10 +174,24 @@ def loads(rig: Rig, *, equilibrium: str = "inverted", knock_rad_s: float = 0.0,
         result["rotation"] = {"turns": list(motion.turns),
                               "tip_speed_m_s": max(r["tip_speed_m_s"] for r in rows),
                               "centripetal_load_N": max(r["centripetal_N"] for r in rows)}
+    if m.planar is not None:
+        guide = [r["guide_force_N"] for r in rows]
+        result["guide_force_N"] = _stats(guide)
+        result["samples"]["guide_force_N"] = guide
+        result["axis_tilt_deg"] = rig.drive.axis_tilt_deg
     result["flags"] = _flags(rig, result["drive_force_N"]["peak"], result["power_W"]["peak"],
                              peak_accel)
     result["cautions"] = list(CAUTIONS)
     return result
+
+
+def _held_start(rig: Rig, equilibrium: str, at_rest: bool):
+    """The held orbit's state at phase 0 for a drive off vertical started at rest; () when
+    it has none; None for a vertical drive or a given start."""
+    if not rig.drive.off_vertical or not at_rest:
+        return None
+    orbit = held_orbit(rig, equilibrium)
+    return orbit.start if orbit.found else ()
 
 
 def _flags(rig: Rig, force: float, power: float, accel: float) -> list[dict]:

@@ -87,6 +87,7 @@ class Motion:
     success: bool = True
     message: str = ""
     work: dict = field(default_factory=dict, compare=False)
+    pivot_x_m: tuple[float, ...] = ()  # per frame, a drive off vertical only (else empty)
 
 
 # ----------------------------------------------------------------------------- checks

@@ -17,7 +17,8 @@ from __future__ import annotations
 
 import math
 
-from .dynamics import Model, Segment, accelerations, energy_J, model, pivot_at, relative_rates, rhs
+from .dynamics import (Model, Segment, accelerations, energy_J, model, pivot_at, pivot_side_at,
+                       relative_rates, rhs)
 from ..numerics.integrate import IntegrationError, locate, steps
 from ..model.rig import Rig
 from ..numerics.roots import golden_max
@@ -149,7 +150,7 @@ class _Watch:
     def __init__(self, m: Model, sc: Scenario, y0):
         self.m, self.sc, self.n = m, sc, m.n
         self.ref = REFERENCES[sc.reference]
-        self.frames = {k: [] for k in ("t", "q", "w", "yp", "rpm", "E", "mode")}
+        self.frames = {k: [] for k in ("t", "q", "w", "yp", "xp", "rpm", "E", "mode")}
         self.strobe = {"t": [], "q": [], "w": [], "k": set()}
         self.events: list[Event] = []
         self.frame_dt = 1.0 / sc.frame_rate_hz if sc.frame_rate_hz > 0 else None
@@ -219,6 +220,8 @@ class _Watch:
         f["q"].append(tuple(y[:self.n]))
         f["w"].append(tuple(y[self.n:]))
         f["yp"].append(pivot_at(self.m, seg, t)[0])
+        if self.m.planar is not None:  # the pivot moves sideways too
+            f["xp"].append(pivot_side_at(self.m, seg, t)[0])
         f["rpm"].append(seg.omega(t) * 60.0 / TWO_PI)
         f["E"].append(energy_J(self.m, y))
         f["mode"].append(tuple(mode))
@@ -376,7 +379,7 @@ def simulate_steps(rig: Rig, scenario: Scenario | None = None, *,
     return Motion(tuple(f["t"]), tuple(f["q"]), tuple(f["w"]), tuple(f["yp"]), tuple(f["rpm"]),
                   tuple(f["E"]), tuple(f["mode"]), tuple(s["t"]), tuple(s["q"]), tuple(s["w"]),
                   tuple(sorted(watch.events, key=lambda e: e.t_s)), t, tuple(y),
-                  tuple(watch.turns), watch.fell, success, message, work)
+                  tuple(watch.turns), watch.fell, success, message, work, tuple(f["xp"]))
 
 
 def _advance(m, seg, mode, t, y, t_end, h, sc, watch, work):

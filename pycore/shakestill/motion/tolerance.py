@@ -3,7 +3,8 @@
 Definitions (shared with the page and the CLI):
 
 - a *knock* is an angular-rate step given to the first link at drive phase 0
-  while the pendulum rests inverted;
+  while the pendulum rests inverted (with the drive off vertical: while it holds its
+  leaning orbit, the state of that orbit at phase 0);
 - a *release* starts the first link at an angle, outer links aligned with it,
   at rest relative to the pivot at drive phase 0;
 - the pendulum has *recovered* if no link passes the horizontal during a run
@@ -24,6 +25,7 @@ import math
 from dataclasses import dataclass, field, replace
 
 from .dynamics import model
+from .orbit import held_orbit
 from ..equilibria.estimates import estimates
 from ..equilibria.floquet import stability
 from .scenario import Scenario
@@ -68,16 +70,21 @@ def recovers(rig: Rig, *, angle_rad: float = 0.0, rate_rad_s: float = 0.0,
     return run_to_end(fall_steps(rig, angle_rad, rate_rad_s, run_s, chain_model)) is None
 
 
-def fall_steps(rig: Rig, angle_rad: float, rate_rad_s: float, run_s=None, chain_model=None):
+def fall_steps(rig: Rig, angle_rad: float, rate_rad_s: float, run_s=None, chain_model=None,
+               base=None):
     """Generator: the recovery run in chunks of whole drive cycles, yielding between them.
 
     Returns (StopIteration.value) when the start first passes the horizontal (s), or None if
-    it recovers. Chunks start at drive phase 0 again, so they join into one run.
+    it recovers. Chunks start at drive phase 0 again, so they join into one run. ``base``
+    (a state at phase 0, the held orbit's) is knocked instead of the position at rest.
     """
     run = run_s or run_seconds(rig)
     m = chain_model or model(rig)
     n, f = rig.n_links, rig.drive.frequency_hz
     angles, rates = (angle_rad,) * n, (rate_rad_s,) + (0.0,) * (n - 1)
+    if base is not None:
+        angles = tuple(base[:n])
+        rates = (base[n] + rate_rad_s,) + tuple(base[n + 1:])
     t = 0.0
     while t < run:
         span = min(CHUNK_CYCLES / f, run - t)
@@ -222,7 +229,15 @@ def tolerance_steps(rig: Rig):
     derived = derive(rig)
     s = stability(derived, "inverted")
     est = estimates(derived)
-    if not s.stable:
+    base = None
+    if rig.drive.off_vertical:  # the knocks hit the leaning orbit the pendulum holds
+        orbit = held_orbit(rig, "inverted")
+        if not orbit.stable:
+            return Tolerance(False, 0.0, 0.0, None, None, est.knock_estimate_rad_s,
+                             est.crest_angle_rad, 0.0, message=orbit.message or (
+                                 "no stable upright orbit with the drive off vertical"))
+        base = orbit.start
+    elif not s.stable:
         return Tolerance(False, 0.0, 0.0, None, None, est.knock_estimate_rad_s,
                          est.crest_angle_rad, 0.0, message=(
                              f"the inverted position is unstable here (largest Floquet "
@@ -231,7 +246,7 @@ def tolerance_steps(rig: Rig):
     m = model(rig)
     rate_scale = est.knock_estimate_rad_s or math.sqrt(rig.g_m_s2 / derived.properties.l_eq_m)
     knock = yield from _scaled(edge_steps(
-        lambda x: fall_steps(rig, 0.0, x, run, m),
+        lambda x: fall_steps(rig, 0.0, x, run, m, base),
         rate_scale / SCAN_STEPS, 20 * rate_scale), 0.0, 0.5)
     crest = est.crest_angle_rad or HORIZONTAL
     release = yield from _scaled(edge_steps(

@@ -19,6 +19,7 @@ from .dop853_tableau import N_STAGES
 
 STAGE_NODES = _C[:N_STAGES]  # stage times as fractions of a step
 _WEIGHTS = tuple((i, b) for i, b in enumerate(_B) if b != 0.0)
+_STAGE_ROWS = tuple(tuple((j, a) for j, a in _A[i] if a != 0.0) for i in range(N_STAGES))
 
 
 def fundamental_matrix(B: Sequence[Sequence[float]], C: Sequence[Sequence[float]],
@@ -99,3 +100,27 @@ def _column_propagator(n: int, damped: bool):
     scope: dict = {}
     exec("\n".join(lines), scope)  # noqa: S102 - code built from the tableau above only
     return scope["run"]
+
+
+def fixed_steps(fun, t0: float, y0: Sequence, period: float, steps: int) -> list[list]:
+    """States at the ends of ``steps`` equal DOP853 steps over ``period`` (y0 first).
+
+    ``fun(t, y)`` may work on complex states (a complex-step derivative): nothing here
+    takes an absolute value.
+    """
+    h = period / steps
+    rows = _STAGE_ROWS
+    y = list(y0)
+    out = [y]
+    for k in range(steps):
+        t = t0 + k * h
+        K = []
+        for i in range(N_STAGES):
+            yi = y
+            for j, a in rows[i]:
+                yi = [u + h * a * v for u, v in zip(yi, K[j])]
+            K.append(fun(t + _C[i] * h, yi))
+        for i, b in _WEIGHTS:
+            y = [u + h * b * v for u, v in zip(y, K[i])]
+        out.append(y)
+    return out

@@ -91,6 +91,11 @@ def loads_text(result: dict) -> str:
            f"(weight {result['weight_N']:.4g} N)",
            f"  drive power: peak {p['peak']:.4g} W, mean {p['mean']:.4g} W",
            f"  peak pivot acceleration: {result['peak_accel_m_s2']:.4g} m/s^2"]
+    if "guide_force_N" in result:  # a drive off vertical: the guide takes a sideways force
+        s = result["guide_force_N"]
+        out.insert(2, f"  sideways force on the guide (across the drive axis, tilted "
+                      f"{result['axis_tilt_deg']:g} deg): peak {s['peak']:.4g} N, mean "
+                      f"{s['mean']:.4g} N")
     for link in result["links"]:
         out.append(f"  link {link['link']}: axial compression up to "
                    f"{link['max_compression_N']:.4g} N, tension up to "

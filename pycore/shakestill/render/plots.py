@@ -84,10 +84,13 @@ def _open(width: int, height: int, cls: str, title: str) -> list[str]:
             'font-family="system-ui, sans-serif">', f"<title>{esc(title)}</title>"]
 
 
-def _range(values, pad: float = 0.05) -> tuple[float, float]:
+def _range(values, pad: float = 0.05, min_span: float = 0.0) -> tuple[float, float]:
     lo, hi = min(values), max(values)
     if hi - lo < 1e-12 * max(1.0, abs(hi)):
         lo, hi = lo - 1.0, hi + 1.0
+    elif hi - lo < min_span:  # a steady value is drawn flat, not its rounding noise as waves
+        mid = 0.5 * (lo + hi)
+        lo, hi = mid - 0.5 * min_span, mid + 0.5 * min_span
     span = hi - lo
     return lo - pad * span, hi + pad * span
 
@@ -106,12 +109,13 @@ def _legend(ax: _Axes, names, swatch: bool = False) -> list[str]:
 
 def line_plot(series, *, title: str, x_label: str, y_label: str, x_unit: str = "",
               y_unit: str = "", markers=(), width_px: int = 720, height_px: int = 320,
-              cls: str = "time-plot") -> tuple[str, dict]:
-    """Lines [(label, xs, ys)] on one pair of axes; markers [(x, kind, words)] as rules."""
+              cls: str = "time-plot", min_span: float = 0.0) -> tuple[str, dict]:
+    """Lines [(label, xs, ys)] on one pair of axes; markers [(x, kind, words)] as rules; the
+    y axis spans at least ``min_span``."""
     xs_all = [x for _, xs, _ in series for x in xs]
     ys_all = [y for _, _, ys in series for y in ys]
-    ax = _Axes((min(xs_all), max(xs_all)), _range(ys_all), width_px, height_px, x_label,
-               y_label)
+    ax = _Axes((min(xs_all), max(xs_all)), _range(ys_all, min_span=min_span), width_px,
+               height_px, x_label, y_label)
     out = _open(width_px, height_px, cls, title) + ax.frame()
     for x, kind, words in markers:
         if ax.x0 <= x <= ax.x1:
@@ -148,6 +152,8 @@ def loads_svg(result: dict) -> tuple[str, dict]:
     s = result["samples"]
     phase = [math.degrees(p) for p in s["phase_rad"]]
     series = [("drive force", phase, s["drive_force_N"])]
+    if "guide_force_N" in s:  # a drive off vertical
+        series.append(("guide (sideways)", phase, s["guide_force_N"]))
     series += [(f"link {i + 1} axial", phase, a) for i, a in enumerate(s["axial_N"])]
     return line_plot(series, title=f"Loads over {result['cycles']} drive cycle(s) at "
                                    f"{result['speed_rpm']:.0f} rpm",

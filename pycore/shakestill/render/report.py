@@ -54,6 +54,11 @@ def _window_text(window, ends, fmt, down, up) -> str:
 
 
 def equilibrium_lines(name: str, r: dict, shapes=((1.0,),)) -> list[str]:
+    if r["max_multiplier"] is None:  # off vertical with no held orbit: nothing to multiply
+        lines = [f"{_NAMES[name]}: NOT HELD  (no orbit near this position with the drive off "
+                 "vertical)"]
+        lines.extend(f"  note: {msg}" for msg in r.get("messages", []))
+        return lines
     lines = [f"{_NAMES[name]}: {'STABLE' if r['stable'] else 'UNSTABLE'}"
              f"  (largest Floquet multiplier {r['max_multiplier']:.6f}; stable below 1)"]
     if r["stable"]:
@@ -76,6 +81,29 @@ def equilibrium_lines(name: str, r: dict, shapes=((1.0,),)) -> list[str]:
     return lines
 
 
+def tilt_lines(result: dict) -> list[str]:
+    """The drive's tilt: each held orbit's lean and wobble, and the tilt the rig tolerates."""
+    if "tilt_tolerance_deg" not in result:
+        return []
+    out = ["Drive off vertical (the pendulum holds a leaning orbit, not the equilibrium):"]
+    for name in ("inverted", "hanging"):
+        lean, wobble = result[name].get("lean_deg"), result[name].get("wobble_deg")
+        if lean is None:
+            out.append(f"  {name}: no held orbit near it")
+            continue
+        out.append(f"  {name}: mean lean " + ", ".join(f"{v:+.2f}" for v in lean)
+                   + " deg, wobble " + ", ".join(f"{v:.2f}" for v in wobble) + " deg peak-to-peak")
+    tol = result["tilt_tolerance"]
+    if result["tilt_tolerance_deg"] is None:
+        out.append(f"  tilt tolerance: none ({tol['message']})")
+    else:
+        out.append(f"  tilt tolerance: {result['tilt_tolerance_deg']:.2f} deg of drive axis "
+                   f"(lean limit {tol['max_lean_deg']:g} deg; {tol['message']})")
+    out.append("  a tilt out of the swing plane does not enter this planar model")
+    out.append("")
+    return out
+
+
 def report_text(result: dict, warnings=()) -> str:
     """The human report of ``shakestill check``."""
     est = result["estimates"]
@@ -91,6 +119,7 @@ def report_text(result: dict, warnings=()) -> str:
     for name in ("inverted", "hanging"):
         out.extend(equilibrium_lines(name, result[name], result["modes"]["shapes"]))
         out.append("")
+    out.extend(tilt_lines(result))
     out.append("Closed-form estimates (Kapitza's averaging; a guide, not the exact answer):")
     lengths = est["mode_lengths_m"]
     out.append(f"  equivalent pendulum length l_eq{' (links held in line)' if len(lengths) > 1 else ''}"
@@ -170,6 +199,46 @@ def runup_text(result: dict) -> str:
     if result.get("inverted", {}).get("crossings"):
         out.append("The inverted position cannot be held while the drive runs up below its lower "
                    "edge; bring it up by hand or a catch only after the speed is in its window.")
+    out.append("")
+    out.append("Safety:")
+    out.extend(f"  - {c}" for c in CAUTIONS)
+    return "\n".join(out) + "\n"
+
+
+def lean_text(chart: dict, title: str = "") -> str:
+    """The lean chart in words: the lean at the ends of each curve, where each stops, the
+    averaging's slope, the cautions."""
+    out = [title or "Lean chart", "=" * len(title or "Lean chart"),
+           "The held orbit's mean lean per link (deg) when the drive axis is tilted in the "
+           "swing plane; a tilt out of that plane does not enter this planar model.", ""]
+    for by, axis, unit in (("by_tilt", "tilt_deg", "deg of tilt"),
+                           ("by_speed", "speed_rpm", "rpm")):
+        if by == "by_speed":
+            out.append(f"Against speed at {chart['speed_tilt_deg']:g} deg of tilt, stroke "
+                       f"{_mm(chart['stroke_m'])}:")
+        else:
+            out.append("Against the drive's tilt:")
+        for name in ("inverted", "hanging"):
+            curve = chart[by][name]
+            held = [(x, v) for x, v in zip(chart[axis], curve["lean_deg"]) if v is not None]
+            if not held:
+                out.append(f"  {name}: no held orbit on this axis")
+                continue
+            (x0, v0), (x1, v1) = held[0], held[-1]
+            leans = lambda v: ", ".join(f"{a:+.2f}" for a in v)  # noqa: E731
+            out.append(f"  {name}: {leans(v0)} deg at {x0:g} {unit} .. {leans(v1)} deg at "
+                       f"{x1:g} {unit}")
+            for end in curve["ends"]:
+                if end:
+                    why = "unstable" if end["why"] == "unstable" else "no orbit found (the lean runs away)"
+                    out.append(f"    stops at {end['at']:g} {unit}: {why}")
+        out.append("")
+    est = chart["estimate"]
+    out.append(f"Kapitza's averaging (one equivalent link, kappa = {est['kappa']:.3g}): lean per "
+               "degree of tilt about "
+               + (f"{est['inverted']:.3g} inverted, " if est["inverted"] else
+                  "none inverted (kappa <= 1: not held), ")
+               + f"{est['hanging']:.3g} hanging")
     out.append("")
     out.append("Safety:")
     out.extend(f"  - {c}" for c in CAUTIONS)

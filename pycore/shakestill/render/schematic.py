@@ -1,11 +1,41 @@
-"""The rig drawn to scale as SVG: carriage, crank (if any), links and masses."""
+"""The rig drawn to scale as SVG: carriage, crank (if any), links and masses; a drive off
+vertical turns the carriage, its travel and the crank onto the tilted axis and draws the
+pivot's path."""
 
 from __future__ import annotations
 
 import math
 
+from ..model.drive import pivot as drive_pivot
 from ..model.rig import Rig
 from .svg import BOB, DRIVE, INK, ROD, esc, num
+
+
+PATH_POINTS = 48  # points of the pivot's path over one cycle
+AXIS_PX = 150  # half length of the drawn drive axis
+
+
+def _path_off_vertical(rig: Rig, cx: float, cy: float, scale: float) -> list[str]:
+    """The drive's axis, dashed and labelled with its tilt, and the pivot's path over one
+    cycle (to scale; an ellipse when there is a side stroke)."""
+    d = rig.drive
+    a, lead = math.radians(d.axis_tilt_deg), math.radians(d.side_phase_deg)
+    dx, dy = AXIS_PX * math.sin(a), AXIS_PX * math.cos(a)
+    words = f"{d.axis_tilt_deg:g} deg off vertical"
+    out = [f'<line x1="{num(cx - dx)}" y1="{num(cy + dy)}" x2="{num(cx + dx)}" '
+           f'y2="{num(cy - dy)}" stroke="{DRIVE}" stroke-dasharray="6 4">'
+           f"<title>drive axis, {esc(words)}</title></line>"]
+    pts = []
+    for k in range(PATH_POINTS + 1):
+        phi = 2 * math.pi * k / PATH_POINTS
+        s = drive_pivot(d, phi).y_m
+        x = s * math.sin(a) + d.side_stroke_m / 2 * math.cos(phi + lead)
+        pts.append(f"{num(cx + x * scale)},{num(cy - s * math.cos(a) * scale)}")
+    out.append(f'<polyline points="{" ".join(pts)}" fill="none" stroke="{INK}" '
+               'stroke-width="1.5"><title>the pivot\'s path over one cycle</title></polyline>')
+    out.append(f'<text x="{num(cx + 34)}" y="{num(cy + 26)}" font-size="11" fill="{INK}">'
+               f"axis {esc(words)}</text>")
+    return out
 
 
 def schematic(rig: Rig, *, width_px: int = 320, height_px: int = 420,
@@ -26,8 +56,11 @@ def schematic(rig: Rig, *, width_px: int = 320, height_px: int = 420,
              f'width="{width_px}" height="{height_px}" role="img" class="rig-schematic">',
              f"<title>{esc(rig.title or 'Rig')}: {len(rig.links)} link(s), drawn to scale"
              "</title>"]
-    # carriage and its travel
+    # carriage and its travel, on the drive's axis (a tilt turns them clockwise on screen)
     half = stroke / 2 * scale
+    tilt = rig.drive.axis_tilt_deg
+    if tilt:
+        parts.append(f'<g transform="rotate({num(tilt)} {num(cx)} {num(pivot_y)})">')
     parts.append(f'<rect x="{num(cx - 28)}" y="{num(pivot_y - half - 6)}" width="56" '
                  f'height="{num(2 * half + 12)}" fill="none" stroke="{DRIVE}" '
                  'stroke-dasharray="4 3"><title>carriage travel (stroke)</title></rect>')
@@ -40,6 +73,10 @@ def schematic(rig: Rig, *, width_px: int = 320, height_px: int = 420,
                      f'fill="none" stroke="{DRIVE}"/>')
         parts.append(f'<line x1="{num(cx)}" y1="{num(crank_y - r)}" x2="{num(cx)}" '
                      f'y2="{num(pivot_y)}" stroke="{DRIVE}" stroke-width="3"/>')
+    if tilt:
+        parts.append("</g>")
+    if rig.drive.off_vertical:
+        parts.extend(_path_off_vertical(rig, cx, pivot_y, scale))
     # links
     x, y = cx, pivot_y
     for link, angle in zip(rig.links, angles):

@@ -1,0 +1,209 @@
+"""The check with the drive off vertical: the held orbit's lean, wobble and stability, its
+windows, and the tilt a rig tolerates.
+
+``check(rig)`` is the check of ``equilibria.check`` for a vertical drive, byte for
+byte, when the rig file gives none of ``drive.axis_tilt_deg``, ``side_stroke_m``,
+``side_phase_deg``. With any of them given each equilibrium gains ``lean_deg`` and
+``wobble_deg`` (per link), and the top level ``tilt_tolerance_deg``; off vertical the
+equilibrium's multipliers, stability and windows are those of the held orbit
+(``orbit``). On an exactly vertical path the orbit is the equilibrium, so the
+vertical numbers (Hill's determinant for one link) are kept as they are.
+
+Windows of the orbit (bounded cost): the vertical windows are found first; each
+end that is an edge is then moved to where the orbit loses stability or ceases
+to exist, searched from the vertical edge in steps of ``EDGE_STEP`` (at most
+``EDGE_PROBES`` of them) and bisected to ``EDGE_RTOL``. An orbit edge further
+than that from the vertical one is reported at the last probe, with a message.
+"""
+
+from __future__ import annotations
+
+import cmath
+import math
+from dataclasses import replace
+
+from ..equilibria.check import check as vertical_check
+from ..model.linear import EQUILIBRIA
+from ..model.rig import Rig, with_operating_point
+from .orbit import Orbit, held_orbit, orbit_steps, solve_orbit
+
+DEFAULT_MAX_LEAN_DEG = 5.0  # issue 15: the lean a rig builder accepts unless told otherwise
+TILT_FIELDS = ("axis_tilt_deg", "side_stroke_m", "side_phase_deg")
+EDGE_STEP = 0.02  # relative step of the probes around a vertical window edge
+EDGE_PROBES = 6  # probes each way before the search stops (bounds the check's time)
+EDGE_RTOL = 1e-4  # relative precision of an orbit window edge
+MAX_TOLERANCE_DEG = 90.0  # the largest tilt the rig file allows
+TOLERANCE_TOL_DEG = 1e-3  # precision of the tilt tolerance
+
+
+def wants_orbit(rig: Rig) -> bool:
+    """True when the rig file gives any of the drive's off-vertical fields."""
+    return any(k in rig.drive.given for k in TILT_FIELDS) or rig.drive.off_vertical
+
+
+def check(rig: Rig, *, max_lean_deg: float | None = None) -> dict:
+    """The check JSON; with a tilt set, of the held orbits (module docstring)."""
+    result = vertical_check(rig)
+    if not wants_orbit(rig):
+        return result
+    limit = max_lean_deg or rig.limits.max_lean_deg or DEFAULT_MAX_LEAN_DEG
+    for name in EQUILIBRIA:
+        entry = result[name]
+        orbit = held_orbit(rig, name)
+        entry["lean_deg"] = [math.degrees(v) for v in orbit.lean_rad] if orbit.found else None
+        entry["wobble_deg"] = [math.degrees(v) for v in orbit.wobble_rad] if orbit.found else None
+        entry["orbit"] = {"found": orbit.found, "converged": orbit.converged,
+                          "iterations": orbit.iterations, "steps": orbit.steps,
+                          "error_estimate": orbit.error_estimate}
+        if orbit.message:
+            entry["messages"].append(orbit.message)
+        if rig.drive.off_vertical:
+            _use_orbit(rig, name, entry, orbit)
+    tol = tilt_tolerance(rig, max_lean_deg=limit)
+    result["tilt_tolerance_deg"] = tol["tilt_tolerance_deg"]
+    result["tilt_tolerance"] = tol
+    result["converged"] = all(result[n]["converged"] for n in EQUILIBRIA)
+    return result
+
+
+def _use_orbit(rig: Rig, name: str, entry: dict, orbit: Orbit) -> None:
+    """The equilibrium's verdict, multipliers and windows become the orbit's."""
+    entry["stable"] = orbit.stable
+    entry["converged"] = entry["converged"] and orbit.converged
+    entry["multipliers"] = [[z.real, z.imag] for z in orbit.multipliers]
+    entry["max_multiplier"] = orbit.max_multiplier if orbit.found else None
+    entry["method"] = "orbit"
+    if orbit.stable:
+        biggest = max(orbit.multipliers, key=abs)
+        nu = abs(cmath.phase(biggest)) / (2 * math.pi)
+        entry["slow_frequency_hz"] = nu * rig.drive.frequency_hz
+    else:
+        entry["slow_frequency_hz"] = None
+    for axis, key, ends in (("speed", "speed_window_rpm", ("speed_low", "speed_high")),
+                            ("stroke", "stroke_window_m", ("stroke_low", "stroke_high"))):
+        window = entry[key]
+        if not orbit.stable or window is None:
+            entry[key] = None
+            continue
+        window = list(window)
+        for side, end in enumerate(ends):
+            if entry["window_ends"][end] == "edge":
+                window[side], note = _orbit_edge(rig, name, axis, window[side], orbit)
+                if note:
+                    entry["messages"].append(note)
+        entry[key] = window
+    op = {"speed": rig.drive.speed_rpm, "stroke": rig.drive.stroke_m}
+    win = {"speed": entry["speed_window_rpm"], "stroke": entry["stroke_window_m"]}
+    for axis in ("speed", "stroke"):
+        for side, word in ((0, "down"), (1, "up")):
+            end = win[axis][side] if win[axis] else None
+            value = None if end is None or op[axis] == 0 else abs(end - op[axis]) / op[axis] * 100
+            entry["margins_percent"][f"{axis}_{word}"] = value
+
+
+def _holds(rig: Rig, name: str, axis: str, value: float, start, steps: int):
+    """(stable, orbit) of the held orbit at another speed or stroke."""
+    moved = with_operating_point(rig, **{f"{axis}_rpm" if axis == "speed" else "stroke_m": value})
+    orbit = solve_orbit(moved, name, start=start, steps=steps, verify=False)
+    return orbit.stable, orbit
+
+
+def _orbit_edge(rig: Rig, name: str, axis: str, edge: float, op_orbit: Orbit):
+    """The orbit's window end near a vertical window edge (module docstring)."""
+    op = rig.drive.speed_rpm if axis == "speed" else rig.drive.stroke_m
+    inward = 1.0 if op > edge else -1.0
+    steps = max(op_orbit.steps, orbit_steps(rig, name))
+    start = op_orbit.start
+    stable, _ = _holds(rig, name, axis, edge, start, steps)
+    # from the vertical edge, probe outward while the orbit holds, or inward until it does
+    good, bad = (edge, None) if stable else (None, edge)
+    toward = -inward if stable else inward
+    for k in range(1, EDGE_PROBES + 1):
+        value = edge * (1.0 + toward * EDGE_STEP * k)
+        if toward == inward and (value - op) * inward >= 0:
+            good = op  # the operating point itself holds
+            break
+        ok, trial = _holds(rig, name, axis, value, start, steps)
+        if ok:
+            good, start = value, trial.start
+            if toward == inward:
+                break
+        else:
+            bad = value
+            if toward != inward:
+                break
+    if good is None or bad is None:
+        return edge, (f"the held orbit's {axis} window end near {edge:.6g} was not bracketed "
+                      f"within {EDGE_PROBES * EDGE_STEP:.0%}: the vertical edge is given")
+    while abs(good - bad) > EDGE_RTOL * abs(good):
+        mid = 0.5 * (good + bad)
+        ok, trial = _holds(rig, name, axis, mid, start, steps)
+        if ok:
+            good, start = mid, trial.start
+        else:
+            bad = mid
+    return good, ""
+
+
+def tilt_tolerance(rig: Rig, *, max_lean_deg: float = DEFAULT_MAX_LEAN_DEG) -> dict:
+    """The largest axis tilt for which the inverted orbit stays stable and leans less than
+    ``max_lean_deg`` (every link), the rig's side motion kept as given.
+
+    Walks the tilt up from 0 by continuation (the step aimed by a secant on the lean,
+    at most doubling), then bisects the last step to ``TOLERANCE_TOL_DEG``. Without
+    side motion the answer holds for both signs (mirror symmetry); with it both
+    signs are walked and the smaller is given.
+    """
+    signs = (1.0,) if rig.drive.side_stroke_m == 0.0 else (1.0, -1.0)
+    found = [_tolerance_one_way(rig, s, max_lean_deg) for s in signs]
+    best = min(found, key=lambda f: (f["tilt_tolerance_deg"] is None, f["tilt_tolerance_deg"]))
+    if any(f["tilt_tolerance_deg"] is None for f in found):
+        best = next(f for f in found if f["tilt_tolerance_deg"] is None)
+    return dict(best, max_lean_deg=max_lean_deg)
+
+
+def _tolerance_one_way(rig: Rig, sign: float, limit: float) -> dict:
+    steps = orbit_steps(rig, "inverted")
+
+    def at(tilt, start):
+        tilted = replace(rig, drive=replace(rig.drive, axis_tilt_deg=sign * tilt))
+        o = solve_orbit(tilted, "inverted", start=start, steps=steps, verify=False)
+        lean = max(abs(math.degrees(v)) for v in o.lean_rad) if o.found else math.inf
+        return o, lean
+
+    orbit, lean = at(0.0, None)
+    if not orbit.stable or lean >= limit:
+        alone = rig.drive.side_stroke_m != 0.0  # without a tilt the side motion is still there
+        why = (f"the side motion alone leans it {lean:.3g} deg" if orbit.stable else
+               "with the side motion alone (no tilt) the inverted orbit is lost or unstable"
+               if alone else "the inverted orbit is not stable even with the drive vertical")
+        return {"tilt_tolerance_deg": None, "limited_by": "stability", "message": why}
+    good, good_lean, start = 0.0, lean, orbit.start
+    step = 0.25 * limit
+    while True:
+        nxt = min(MAX_TOLERANCE_DEG, good + step)
+        trial, lean = at(nxt, start)
+        if trial.stable and lean < limit:
+            slope = (lean - good_lean) / (nxt - good)
+            good, good_lean, start = nxt, lean, trial.start
+            if good >= MAX_TOLERANCE_DEG:
+                return {"tilt_tolerance_deg": MAX_TOLERANCE_DEG, "limited_by": "none",
+                        "message": "the inverted orbit holds at any tilt up to horizontal"}
+            aim = (limit - good_lean) / slope if slope > 0 else step
+            step = max(TOLERANCE_TOL_DEG, min(2.0 * step, 1.05 * aim))
+            continue
+        bad = nxt
+        break
+    while bad - good > TOLERANCE_TOL_DEG:
+        mid = 0.5 * (good + bad)
+        trial, lean = at(mid, start)
+        if trial.stable and lean < limit:
+            good, start, good_lean = mid, trial.start, lean
+        else:
+            bad = mid
+    final, lean = at(bad, start)
+    limited = "lean" if final.found and final.stable else "stability"
+    return {"tilt_tolerance_deg": good, "limited_by": limited,
+            "message": (f"beyond {good:.3g} deg the lean passes {limit:g} deg"
+                        if limited == "lean" else
+                        f"beyond {good:.3g} deg the inverted orbit is lost or unstable")}

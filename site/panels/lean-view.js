@@ -1,0 +1,81 @@
+// The lean chart: the core's `lean` motion job (the held orbit's mean lean against the
+// drive's tilt, and against speed at the operating stroke), stepped with progress and
+// Cancel; the picture and the words are the core's, the cautions stay beside them.
+
+import { h, replaceChildren } from "../lib/dom.js";
+import {
+  Runner, busyMark, cancelWith, failedWords, num, statusLine, stopForEdit,
+} from "../engine/motion-job.js";
+import { svgNode } from "./schematic-view.js";
+
+/** Where a curve stops, in words (the core says where and why). */
+function endWords(name, axis, unit, end) {
+  const why = end.why === "unstable" ? "the orbit is unstable there" : "no orbit is found (the lean runs away)";
+  return h("li", {}, `${name} against ${axis}: stops at ${num(end.at, 4)} ${unit}: ${why}.`);
+}
+
+/**
+ * @param {object} els {go, cancel, progress, status, out}
+ * @param {object} deps {engine, getRig()}
+ */
+export function createLeanView(els, { engine, getRig }) {
+  const runner = new Runner(engine);
+  let rigKey = "";
+  const status = statusLine(els.status, els.progress);
+  const busy = busyMark(els.cancel, els.out);
+
+  async function draw() {
+    const rig = getRig();
+    if (!rig) return;
+    rigKey = JSON.stringify(rig);
+    busy(true);
+    els.out.dataset.state = "running";
+    status("Drawing the lean chart: following the held orbit as the tilt and the speed change…", 0);
+    const reply = await runner.start("lean", { rig },
+      (step) => status(`Drawing the lean chart: ${Math.round(step.fraction * 100)}%`, step.fraction));
+    if (reply === null) return;
+    busy(false);
+    if (!reply.ok) {
+      els.out.dataset.state = "failed";
+      status(failedWords(reply, "lean chart"));
+      return;
+    }
+    show(reply);
+    status("Lean chart drawn.", 1);
+    if (JSON.stringify(getRig()) !== rigKey) els.out.dataset.state = "stale";
+  }
+
+  function show(reply) {
+    const r = reply.result;
+    els.out.dataset.state = "fresh";
+    els.out.dataset.result = JSON.stringify(r);
+    els.out.dataset.axes = JSON.stringify(reply.axes);
+    const ends = [];
+    for (const [by, axis, unit] of [["by_tilt", "tilt", "°"], ["by_speed", "speed", "rpm"]]) {
+      for (const name of ["inverted", "hanging"]) {
+        for (const end of r[by][name].ends) if (end) ends.push(endWords(name, axis, unit, end));
+      }
+    }
+    replaceChildren(els.out,
+      svgNode(reply.svg, "Lean chart: mean lean against the drive's tilt and against speed"),
+      ends.length ? h("ul", { class: "eq-notes" }, ends) : null,
+      h("p", { class: "safety-pointer" }, "A leaning pendulum sweeps further than an upright one: "
+        + "guard the whole space it can reach and read ", h("a", { href: "#safety-h" }, "Before you run the rig"),
+      " first."),
+      h("details", { class: "report-text" }, h("summary", {}, "The same in the command line's words"),
+        h("pre", {}, reply.report_text)));
+  }
+
+  els.go.addEventListener("click", draw);
+  cancelWith(els.cancel, runner, busy, els.out, status, "Cancelled: no lean chart was drawn.");
+
+  return {
+    /** The rig changed: running work stops; a shown chart is of the old rig. */
+    rigChanged(rig) {
+      if (JSON.stringify(rig) === rigKey) return;
+      stopForEdit(runner, busy, status,
+        "The rig changed: the lean chart in progress was stopped. Draw it again for the new rig.");
+      if (els.out.dataset.state === "fresh") els.out.dataset.state = "stale";
+    },
+  };
+}
