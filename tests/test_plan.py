@@ -226,3 +226,29 @@ def test_corners_bound_every_interior_rig():
                 checked += 1
     assert checked >= 10
     assert len(rig_set(rig).rigs) == 4
+
+
+def test_cli_bridge_and_job_agree_and_name_bad_fields(tmp_path, capsys):
+    # The three front doors give the same JSON (exact equality; common practice, no source).
+    import json as js
+    from shakestill import bridge
+    from shakestill.cli import main
+    data = tip_rig(0.2, 0.1, 1000, {"speed_rpm": [300, 1500], "stroke_m": [0.0, 0.3]},
+                   {"links[0].point_masses[0].at_m": "+-3%"})
+    path = tmp_path / "rig.json"
+    path.write_text(js.dumps(data))
+    assert main(["plan", str(path), "--json"]) == 0
+    cli = js.loads(capsys.readouterr().out)
+    reply = js.loads(bridge.handle(js.dumps({"op": "plan", "rig": data})))
+    assert reply["ok"] and reply["result"] == cli
+    for key in ("speed_rpm", "stroke_m", "worst_margin_percent", "binding", "robust_region",
+                "sensitivity"):
+        assert key in cli
+    job = js.loads(bridge.handle(js.dumps({"op": "motion_job_start", "kind": "plan", "rig": data})))
+    step = {"done": False}
+    while not step["done"]:
+        step = js.loads(bridge.handle(js.dumps({"op": "motion_job_step", "job": job["job"],
+                                                "budget_ms": 5000})))
+    assert step["result"] == cli
+    bad = js.loads(bridge.handle(js.dumps({"op": "plan", "rig": data, "for": "sideways"})))
+    assert not bad["ok"] and bad["problems"][0]["path"] == "for"
