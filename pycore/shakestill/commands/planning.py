@@ -27,10 +27,24 @@ def _plan_arguments(p) -> None:
     p.add_argument("--json", action="store_true", help="print the result as JSON")
 
 
+ROWS = (4, 400)  # stroke rows of each rig's chart a plan may ask for
+WEIGHTS = (0.01, 100.0)  # a stroke weight outside these makes one margin all that counts
+
+
+def _check(rows, weight, rows_at: str, weight_at: str) -> None:
+    problems = []
+    if rows is not None and not (isinstance(rows, int) and ROWS[0] <= rows <= ROWS[1]):
+        problems.append(Problem(rows_at, f"{rows!r} is not allowed: use a whole number of "
+                                         f"{ROWS[0]} to {ROWS[1]} rows"))
+    if not WEIGHTS[0] <= weight <= WEIGHTS[1]:
+        problems.append(Problem(weight_at, f"{weight!r} is not allowed: use a stroke weight from "
+                                           f"{WEIGHTS[0]:g} to {WEIGHTS[1]:g}"))
+    if problems:
+        raise RigError(problems)
+
+
 def _steps(rig, target: str, weight: float, rows):
     """(fraction, stage) while working; the plan's plain data at the end (fraction 1)."""
-    if rows is not None and not 4 <= rows <= 400:
-        raise RigError([Problem("rows", f"{rows!r} is not allowed: use 4 to 400 rows")])
     for fraction, stage, result in plan_steps(rig, equilibria=FOR_CHOICES[target], rows=rows,
                                               stroke_weight=weight):
         if result is None:
@@ -44,6 +58,7 @@ def _steps(rig, target: str, weight: float, rows):
 def _cmd_plan(args) -> int:
     rig, warnings = rig_of_args(_no_override(args))
     weight = quantity(args.stroke_weight, "plain", "--stroke-weight", above=0.0) or 1.0
+    _check(args.rows, weight, "--rows", "--stroke-weight")
     show = progress(sys.stderr.isatty() and not args.json)
     for fraction, what in _steps(rig, args.target, weight, args.rows):
         if fraction < 1.0:
@@ -65,14 +80,17 @@ def _no_override(args):
 def _request(request: dict):
     rig, warnings = rig_of(request)
     target = request.get("for", "inverted")
-    if target not in FOR_CHOICES:
-        raise RigError([Problem("for", f"{target!r} is not allowed: use inverted, hanging or "
-                                       "both")])
+    if not isinstance(target, str) or target not in FOR_CHOICES:
+        raise RigError([Problem("for", f"{str(target)[:40]!r} is not allowed: use inverted, "
+                                       "hanging or both")])
     r = Reader(request)
     weight = r.field("stroke_weight", "plain", 1.0, above=0.0)
-    rows = r.field("rows", "plain", None, minimum=4.0)
+    rows = r.field("rows", "plain", None, minimum=0.0)
     r.done()
-    return rig, warnings, target, weight, None if rows is None else int(rows)
+    if rows is not None and rows <= 1e6 and rows == int(rows):
+        rows = int(rows)
+    _check(rows, weight, "rows", "stroke_weight")
+    return rig, warnings, target, weight, rows
 
 
 @op("plan")
@@ -87,11 +105,15 @@ def _op_plan(request: dict) -> dict:
 
 @job_kind("plan")
 def plan_job(rig, warnings, request: dict):
-    """Yields (fraction, partial reply); the last reply is the ``plan`` op's."""
+    """The request checked at once, then a generator of (fraction, partial reply); its last
+    reply is the ``plan`` op's."""
     _, _, target, weight, rows = _request(request)
-    for fraction, what in _steps(rig, target, weight, rows):
-        if fraction < 1.0:
-            yield fraction, {"stage": what}
-        else:
-            yield 1.0, {"result": what, "report_text": plan_text(what, warnings),
-                        "cautions": list(CAUTIONS), "stage": "done"}
+
+    def steps():
+        for fraction, what in _steps(rig, target, weight, rows):
+            if fraction < 1.0:
+                yield fraction, {"stage": what}
+            else:
+                yield 1.0, {"result": what, "report_text": plan_text(what, warnings),
+                            "cautions": list(CAUTIONS), "stage": "done"}
+    return steps()

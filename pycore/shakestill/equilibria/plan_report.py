@@ -4,6 +4,7 @@ sensitivity table and the run-up advice."""
 
 from __future__ import annotations
 
+from ..model.derived import Model, as_model, derive
 from ..model.rig import Rig, with_operating_point
 from ..model.rigfile import rig_to_dict
 from ..model.spreads import OPERATING_PATHS, number_at, split_path, with_number
@@ -16,35 +17,41 @@ EDGES = (("speed", -1, "speed_low_rpm"), ("speed", 1, "speed_high_rpm"),
          ("stroke", -1, "stroke_low_m"), ("stroke", 1, "stroke_high_m"))
 
 
-def _edges(rig: Rig, eq: str, speed: float, stroke: float) -> dict:
+def _edges(model: Model, eq: str, speed: float, stroke: float) -> dict:
     out = {}
     for axis, direction, name in EDGES:
-        out[name] = nearest_edge(rig, eq, axis, speed, stroke, direction, MARGIN_CAP / 100)[0]
+        out[name] = nearest_edge(model, eq, axis, speed, stroke, direction, MARGIN_CAP / 100)[0]
     return out
 
 
-def sensitivity(rig: Rig, equilibria, speed: float, stroke: float) -> list[dict]:
+def sensitivity(rig: Rig | Model, equilibria, speed: float, stroke: float) -> list[dict]:
     """How far each stability edge nearest the point moves per unit change (SI) of each
     uncertain number, by central differences on exact edges of the nominal rig; also the
     move across half the spread (what the spread is worth). For the speed and the stroke
-    the point itself moves: the edges across the line move with the boundary's slope."""
+    the point itself moves: the edges across the line move with the boundary's slope. Each
+    perturbed rig is derived once for its four edges."""
+    model = as_model(rig)
+    rig = model.rig
     out = []
     for s in rig.spreads:
         value = number_at(rig, s.path)
         lo, hi = s.range(value)
         h = SENSITIVITY_STEP * (abs(value) or (hi - lo) / 2 or 1.0)
         row = {"path": s.path, "spread": s.text, "value": value, "low": lo, "high": hi}
+        idle = split_path(s.path)[-1][0] in IDLE
+        moved = {} if idle or s.path in OPERATING_PATHS else {
+            sign: derive(with_number(rig, s.path, value + sign * h)) for sign in (-1, 1)}
         for eq in equilibria:
-            if split_path(s.path)[-1][0] in IDLE:
+            if idle:
                 row[eq] = {"note": "does not enter the linear stability"}
                 continue
             if s.path in OPERATING_PATHS:  # the point itself moves: the edges' slope
                 dv, ds = (h, 0.0) if s.path == "drive.speed_rpm" else (0.0, h)
-                up = _edges(rig, eq, speed + dv, stroke + ds)
-                down = _edges(rig, eq, speed - dv, stroke - ds)
+                up = _edges(model, eq, speed + dv, stroke + ds)
+                down = _edges(model, eq, speed - dv, stroke - ds)
             else:
-                up = _edges(with_number(rig, s.path, value + h), eq, speed, stroke)
-                down = _edges(with_number(rig, s.path, value - h), eq, speed, stroke)
+                up = _edges(moved[+1], eq, speed, stroke)
+                down = _edges(moved[-1], eq, speed, stroke)
             per = {}
             for _, _, name in EDGES:
                 if up[name] is None or down[name] is None:
@@ -76,8 +83,10 @@ def region_dict(p: Plan, rig: Rig) -> dict:
     return out
 
 
-def plan_dict(p: Plan, rig: Rig, *, factor: float = DEFAULT_FACTOR) -> dict:
+def plan_dict(p: Plan, rig: Rig | Model, *, factor: float = DEFAULT_FACTOR) -> dict:
     """Plain data for JSON (exactly the JSON of ``shakestill plan --json``)."""
+    model = as_model(rig)
+    rig = model.rig
     out = {"for": list(p.equilibria), "speed_rpm": p.speed_rpm, "stroke_m": p.stroke_m,
            "worst_margin_percent": None, "speed_margin_percent": None,
            "stroke_margin_percent": None, "stroke_weight": p.weight,
@@ -105,9 +114,9 @@ def plan_dict(p: Plan, rig: Rig, *, factor: float = DEFAULT_FACTOR) -> dict:
                           "rig_values": p.rig_set.labels[sc.rig_index],
                           "rig": rig_to_dict(with_operating_point(
                               member, speed_rpm=p.speed_rpm, stroke_m=p.stroke_m))}
-    out["sensitivity"] = sensitivity(rig, p.equilibria, p.speed_rpm, p.stroke_m)
-    at = with_operating_point(rig, speed_rpm=p.speed_rpm, stroke_m=p.stroke_m)
-    rate = recommended_rate(at, factor=factor, equilibria=("hanging",))
+    out["sensitivity"] = sensitivity(model, p.equilibria, p.speed_rpm, p.stroke_m)
+    rate = recommended_rate(model.at(p.speed_rpm, p.stroke_m), factor=factor,
+                            equilibria=("hanging",))
     out["runup"] = {"min_rate_rpm_s": rate, "factor": factor, "from_rpm": 0.0,
                     "to_rpm": p.speed_rpm, "stroke_m": p.stroke_m,
                     "note": "the smallest ramp rate from rest that keeps a disturbance of the "
