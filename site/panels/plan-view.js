@@ -110,7 +110,7 @@ export function createPlanView(els, { engine, getRig, editSpreads, onPick, chart
     showProblems([]);
     result = reply.result;
     key = planned;
-    status(result.speed_rpm === null ? "Planned: no point inside the limits holds for every rig of the set."
+    status(result.speed_rpm === null ? "Planned: no point of the search grid holds for every rig of the set."
       : "Planned: the recommendation is below and marked on the map.", 1);
     show(reply);
   }
@@ -125,7 +125,8 @@ export function createPlanView(els, { engine, getRig, editSpreads, onPick, chart
     const parts = [];
     if (r.speed_rpm === null) {
       parts.push(h("p", { class: "runup-summary is-not-met", role: "status" },
-        "No point inside the rig's limits holds for every rig within these spreads. Narrow the spreads or widen the limits."));
+        "No point of the search grid inside the rig's limits holds for every rig within these spreads. "
+        + "Narrow the spreads, or narrow the limits to look closer (see how it was worked out)."));
     } else {
       parts.push(h("p", { class: "plan-summary", "data-key": "recommendation" },
         h("strong", {}, `Run at ${rpm(r.speed_rpm)} with a stroke of ${mm(r.stroke_m)}.`),

@@ -328,7 +328,11 @@ def plan_steps(rig: Rig | Model, *, equilibria=("inverted",), rows: int | None =
     if not grid or grid[0][0] <= 0:
         yield 1.0, "done", Plan(None, None, None, rs, tuple(equilibria), robust, unpaired,
                                 stroke_weight, evaluations, tuple(notes + [
-                                    "no point inside the limits holds for every rig of the set"]))
+                                    f"no point of the grid ({rows} strokes x {SPEED_SAMPLES} "
+                                    "speeds over the limits) holds for every rig of the set: "
+                                    "there is none inside the limits, or the robust region is "
+                                    "narrower than a grid cell (more rows or narrower limits "
+                                    "would show it)"]))
         return
     ys = [r[0] for r in next(iter(robust.values()))]
     dv = (rig.limits.speed_rpm[1] / max(rig.limits.speed_rpm[0], 1e-6)) ** (

@@ -105,7 +105,10 @@ def _where(path) -> str:
     the JSON path of the key (quoted, cut short)."""
     if isinstance(path, str) and len(path) <= MAX_PATH and split_path(path):
         return f"spreads.{path}"
-    return f"spreads[{_show(str(path))}]"
+    key, cut = str(path)[:40], len(str(path)) > 40
+    while len(json.dumps(key, ensure_ascii=False)) > 40:  # escapes count too
+        key, cut = key[:-1], True
+    return "spreads[" + json.dumps(key + ("..." if cut else ""), ensure_ascii=False) + "]"
 
 
 def _show(value) -> str:

@@ -15,7 +15,7 @@ def plan_text(result: dict, warnings=()) -> str:
     """The recommendation, what binds it, the region's size, sensitivities, run-up, cautions."""
     out = [f"Operating point for: {', '.join(result['for'])}"]
     if result["speed_rpm"] is None:
-        out.append("No point inside the limits holds for every rig of the set.")
+        out.append("No point of the search grid holds for every rig of the set (see the notes).")
     else:
         out.append(f"Run at {result['speed_rpm']:,.0f} rpm with a stroke of "
                    f"{result['stroke_m'] * 1000:.2f} mm.")
