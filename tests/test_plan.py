@@ -252,3 +252,18 @@ def test_cli_bridge_and_job_agree_and_name_bad_fields(tmp_path, capsys):
     assert step["result"] == cli
     bad = js.loads(bridge.handle(js.dumps({"op": "plan", "rig": data, "for": "sideways"})))
     assert not bad["ok"] and bad["problems"][0]["path"] == "for"
+
+
+def test_runup_without_a_rate_answers_at_the_rate_it_recommends(capsys):
+    # The recommended rate keeps the hanging pendulum's growth through every crossing under the
+    # factor (the run-up's own simulated ramp, as runup --rate reports it; common practice, no
+    # source): at that rate the report says ok, and at half of it it does not.
+    import json as js
+    from shakestill.cli import main
+    assert main(["runup", "--json"]) == 0
+    out = js.loads(capsys.readouterr().out)
+    assert out["rate_recommended"] is True and out["rate_rpm_s"] > 0
+    assert out["hanging"]["ok"] is True
+    assert main(["runup", "--json", "--rate", f"{out['rate_rpm_s'] / 2}rpm/s"]) == 0
+    half = js.loads(capsys.readouterr().out)
+    assert half["rate_recommended"] is False and half["hanging"]["ok"] is False

@@ -156,6 +156,7 @@ def _op_runup(request: dict) -> dict:
                        factor=float(request.get("factor", 10.0)))
     except (TypeError, ValueError) as exc:
         raise RigError([Problem("runup", str(exc))]) from None
+    result["rate_recommended"] = False  # as `shakestill runup --rate` (the page gives a rate)
     return {"result": result}
 
 

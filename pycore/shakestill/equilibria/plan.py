@@ -15,7 +15,10 @@ paired by order (the same tongue) and each pair's hull taken, because a tongue
 sweeps the speeds between its positions at the set's ends (edges monotone in the
 rig's numbers); rows whose counts differ fall back to the union, and the notes say
 how many. The margin is scored on that grid, then the best grid points are
-polished by a pattern search on exact edges (``windows.window``, edges to 1e-10).
+polished by a pattern search on exact edges (line walks as ``windows.window``, edges to
+1e-10). The search remembers every stretch of a line it walked and found stable (a later
+point inside it has the edge that walk found), and scores a candidate only until an edge
+closer than the best margin so far shows that it loses.
 """
 
 from __future__ import annotations
@@ -157,11 +160,16 @@ def _grid_margin(rows, j, v, vl, vh, sl, sh, weight) -> float:
 
 
 def nearest_edge(model: Rig | Model, eq: str, axis: str, speed: float, stroke: float,
-                 direction: int, reach: float):
+                 direction: int, reach: float, memo: dict | None = None):
     """(edge or None, stable at the point): the first edge met from (speed, stroke) along
     ``axis`` in ``direction`` (+1 up, -1 down), looking at most ``reach`` (a fraction of the
     start) far and never past the rig's limits; edges to EDGE_RTOL as in the windows. The
-    line moves the one derived model (``Model.at``)."""
+    line moves the one derived model (``Model.at``).
+
+    ``memo`` (a dict kept by the caller for one model set) remembers every stretch of a line
+    walked and found stable (from its start to its edge, or to where the look stopped): a later
+    point inside such a stretch has the nearest edge that walk found, without a new walk (the
+    pattern search moves one coordinate at a time, so half of its lines were walked before)."""
     model = as_model(model)
     rig = model.rig
     here = speed if axis == "speed" else stroke
@@ -170,6 +178,12 @@ def nearest_edge(model: Rig | Model, eq: str, axis: str, speed: float, stroke: f
     else:
         lo, hi = rig.limits.stroke_m[0], max_stroke_m(rig)
     stop = min(hi, here * (1 + reach)) if direction > 0 else max(lo, here * (1 - reach))
+    key = (id(model), eq, axis, stroke if axis == "speed" else speed, direction)
+    for start, end, edge in (memo.get(key, ()) if memo is not None else ()):
+        inside = (here - start) * direction >= 0 and (
+            (end - here) * direction > 0 if edge is not None else (end - here) * direction >= 0)
+        if inside and (edge is not None or (stop - end) * direction <= 0):
+            return edge, True
 
     def point(x):
         return (x, stroke) if axis == "speed" else (speed, x)
@@ -178,26 +192,33 @@ def nearest_edge(model: Rig | Model, eq: str, axis: str, speed: float, stroke: f
     s0 = probe(here)
     if not s0.stable:
         return None, False
-    if (stop - here) * direction <= 0:
-        return None, True
-    points = (speed_points(model, here, stop) if axis == "speed"
-              else stroke_points(lo, hi, here, stop))
-    for edge in walk(probe, here, s0, points):
-        return edge.x, True
-    return None, True
+    found = None
+    if (stop - here) * direction > 0:
+        points = (speed_points(model, here, stop) if axis == "speed"
+                  else stroke_points(lo, hi, here, stop))
+        found = next((e.x for e in walk(probe, here, s0, points)), None)
+    if memo is not None:
+        memo.setdefault(key, []).append((here, stop if found is None else found, found))
+    return found, True
 
 
 def exact_score(rigs: RigSet, nominal: Rig, equilibria, speed: float, stroke: float,
-                weight: float, reach: float = MARGIN_CAP / 100) -> Score:
+                weight: float, reach: float = MARGIN_CAP / 100, memo: dict | None = None,
+                floor: float = -math.inf, first: int | None = None) -> Score:
     """The margin at a point on exact edges of every rig of the set; edges farther than
-    ``reach`` (a fraction) are not looked for, so a margin above it reads as ``reach``."""
+    ``reach`` (a fraction) are not looked for, so a margin above it reads as ``reach``
+    (``memo``: see ``nearest_edge``). A search that only needs to know whether the point
+    beats a margin gives it as ``floor``: the scoring stops at the first edge closer than
+    that (the score is then an upper bound that loses), starting with rig ``first``."""
     vl, vh, sl, sh = wander(nominal, speed, stroke)
     worst = Score(min(MARGIN_CAP, 100 * reach), MARGIN_CAP, MARGIN_CAP, None, None, None)
     sides = [("speed", -1, s_at) for s_at in sorted({sl, sh})] + [
         ("speed", 1, s_at) for s_at in sorted({sl, sh})] + [
         ("stroke", -1, v_at) for v_at in sorted({vl, vh})] + [
         ("stroke", 1, v_at) for v_at in sorted({vl, vh})]
-    for i, r in enumerate(rigs.models):
+    order = sorted(range(len(rigs.models)), key=lambda k: k != first)
+    for i in order:
+        r = rigs.models[i]
         for eq in equilibria:
             for axis, direction, at in sides:
                 v, s = (speed, at) if axis == "speed" else (at, stroke)
@@ -205,7 +226,7 @@ def exact_score(rigs: RigSet, nominal: Rig, equilibria, speed: float, stroke: fl
                     sl if direction < 0 else sh)
                 base = speed if axis == "speed" else stroke
                 look = reach + abs(end - base) / base
-                edge, stable = nearest_edge(r, eq, axis, v, s, direction, look)
+                edge, stable = nearest_edge(r, eq, axis, v, s, direction, look, memo)
                 if not stable:
                     return Score(-1.0, -1.0, -1.0, i, eq, {"axis": axis, "side": "unstable",
                                                            "edge": None})
@@ -219,6 +240,8 @@ def exact_score(rigs: RigSet, nominal: Rig, equilibria, speed: float, stroke: fl
                             "edge": edge, ("at_m" if axis == "speed" else "at_rpm"): at}
                     worst = Score(m, min(worst.speed_margin, sp), min(worst.stroke_margin, st),
                                   i, eq, info)
+                    if m <= floor:
+                        return worst
                 else:
                     worst = replace(worst, speed_margin=min(worst.speed_margin, sp),
                                     stroke_margin=min(worst.stroke_margin, st))
@@ -265,7 +288,8 @@ def _polish(score, start: tuple, dv: float, ds: float, feasible, nominal) -> tup
             for cand in ((v * (1 + dv), s), (v / (1 + dv), s), (v, s + ds), (v, s - ds)):
                 if cand[1] <= 0 or not feasible(*wander(nominal, *cand)):
                     continue
-                sc = score(*cand, REACH_SLACK * max(best[0].margin, 1.0) / 100)
+                sc = score(*cand, REACH_SLACK * max(best[0].margin, 1.0) / 100,
+                           best[0].margin + 1e-9, best[0].rig_index)
                 if sc.margin > best[0].margin + 1e-9:
                     best, moved = (sc, cand), True
         dv, ds = dv / 2, ds / 2
@@ -339,8 +363,10 @@ def plan_steps(rig: Rig | Model, *, equilibria=("inverted",), rows: int | None =
         1 / (SPEED_SAMPLES - 1)) - 1
     ds = ys[1] - ys[0]
 
-    def score(v, s, reach):
-        return exact_score(rs, rig, equilibria, v, s, stroke_weight, reach)
+    memo: dict = {}  # stretches of lines already walked (exact edges, reused)
+
+    def score(v, s, reach, floor=-math.inf, first=None):
+        return exact_score(rs, rig, equilibria, v, s, stroke_weight, reach, memo, floor, first)
 
     starts = []
     for m, v, s in grid:
@@ -349,9 +375,13 @@ def plan_steps(rig: Rig | Model, *, equilibria=("inverted",), rows: int | None =
         if all(abs(math.log(v / a)) > 3 * dv or abs(s - b) > 3 * ds for a, b in starts):
             starts.append((v, s))
     yield 0.75, f"scoring the best {len(starts)} grid points on exact edges", None
-    scored = [(score(v, s, MARGIN_CAP / 100).margin, (v, s)) for v, s in starts]
+    top = (-math.inf, starts[0])  # each start only has to beat the best so far
+    for v, s in starts:
+        m = score(v, s, MARGIN_CAP / 100, top[0]).margin
+        if m > top[0]:
+            top = (m, (v, s))
     yield 0.8, "polishing the best", None
-    best = _polish(score, max(scored)[1], dv, ds, feasible, rig)
+    best = _polish(score, top[1], dv, ds, feasible, rig)
     notes.append(f"grid: {len(ys)} strokes x {SPEED_SAMPLES} speeds; the best {len(starts)} "
                  f"scored on exact edges, the best of them polished to "
                  f"1/{2 ** POLISH_HALVINGS} of a grid cell")
