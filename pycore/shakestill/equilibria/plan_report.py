@@ -8,20 +8,45 @@ from ..model.derived import Model, as_model, derive
 from ..model.rig import Rig, with_operating_point
 from ..model.rigfile import rig_to_dict
 from ..model.spreads import OPERATING_PATHS, number_at, split_path, with_number
+from .lines import Probe, edge_between, scan_settings
 from .plan import MARGIN_CAP, Plan, nearest_edge
 from .runup import DEFAULT_FACTOR, recommended_rate
 from .uncertainty import IDLE, wander
 
 SENSITIVITY_STEP = 1e-4  # relative step of the central differences (edges are to 1e-10)
+NEAR = 1e-3  # a perturbed rig's edge is looked for this close (relative) to the nominal one
 EDGES = (("speed", -1, "speed_low_rpm"), ("speed", 1, "speed_high_rpm"),
          ("stroke", -1, "stroke_low_m"), ("stroke", 1, "stroke_high_m"))
 
 
-def _edges(model: Model, eq: str, speed: float, stroke: float) -> dict:
+def _edges(model: Model, eq: str, speed: float, stroke: float, near: dict | None = None) -> dict:
+    """The four edges nearest the point; with ``near`` (the nominal rig's edges) each is
+    found between brackets NEAR around the nominal one (a step of 1e-4 moves an edge far
+    less), walking the line as for the nominal rig only where the bracket does not hold
+    one; no nominal edge, no edge (a walk to the limits for nothing)."""
     out = {}
     for axis, direction, name in EDGES:
-        out[name] = nearest_edge(model, eq, axis, speed, stroke, direction, MARGIN_CAP / 100)[0]
+        if near is None:
+            out[name] = nearest_edge(model, eq, axis, speed, stroke, direction,
+                                     MARGIN_CAP / 100)[0]
+        elif near[name] is None:
+            out[name] = None
+        else:
+            out[name] = _edge_near(model, eq, axis, speed, stroke, direction, near[name])
     return out
+
+
+def _edge_near(model: Model, eq: str, axis: str, speed: float, stroke: float, direction: int,
+               guess: float) -> float | None:
+    def point(x):
+        return (x, stroke) if axis == "speed" else (speed, x)
+    a, b = guess * (1 - NEAR), guess * (1 + NEAR)
+    probe = Probe(model, eq, point, scan_settings(model, eq, [model.at(*point(a)),
+                                                               model.at(*point(b))]))
+    sa, sb = probe(a), probe(b)
+    if sa.stable != sb.stable:
+        return edge_between(probe, (a, sa), (b, sb)).x
+    return nearest_edge(model, eq, axis, speed, stroke, direction, MARGIN_CAP / 100)[0]
 
 
 def sensitivity(rig: Rig | Model, equilibria, speed: float, stroke: float) -> list[dict]:
@@ -32,6 +57,7 @@ def sensitivity(rig: Rig | Model, equilibria, speed: float, stroke: float) -> li
     perturbed rig is derived once for its four edges."""
     model = as_model(rig)
     rig = model.rig
+    nominal = {eq: _edges(model, eq, speed, stroke) for eq in equilibria}
     out = []
     for s in rig.spreads:
         value = number_at(rig, s.path)
@@ -47,11 +73,11 @@ def sensitivity(rig: Rig | Model, equilibria, speed: float, stroke: float) -> li
                 continue
             if s.path in OPERATING_PATHS:  # the point itself moves: the edges' slope
                 dv, ds = (h, 0.0) if s.path == "drive.speed_rpm" else (0.0, h)
-                up = _edges(model, eq, speed + dv, stroke + ds)
-                down = _edges(model, eq, speed - dv, stroke - ds)
+                up = _edges(model, eq, speed + dv, stroke + ds, nominal[eq])
+                down = _edges(model, eq, speed - dv, stroke - ds, nominal[eq])
             else:
-                up = _edges(moved[+1], eq, speed, stroke)
-                down = _edges(moved[-1], eq, speed, stroke)
+                up = _edges(moved[+1], eq, speed, stroke, nominal[eq])
+                down = _edges(moved[-1], eq, speed, stroke, nominal[eq])
             per = {}
             for _, _, name in EDGES:
                 if up[name] is None or down[name] is None:
