@@ -148,7 +148,7 @@ export function createPlanView(els, { engine, getRig, editSpreads, onPick, chart
       }
     }
     parts.push(h("p", { "data-key": "region" },
-      `Robust region (hatched on the map in the stroke view, the yellow diamond marking the recommended point): ${size}; ${region.rigs} rigs bound it.`));
+      `Robust region (hatched on the map in the stroke view: upright / , hanging \\ ; the yellow diamond marks the recommended point): ${size}; ${region.rigs} rigs bound it.`));
     if (r.sensitivity.length) parts.push(sensitivityTable(r));
     parts.push(h("details", { class: "report-text" }, h("summary", {}, "How it was worked out"),
       h("ul", { class: "eq-notes" }, h("li", {}, `Metric: ${r.metric}.`),
@@ -239,15 +239,19 @@ function drawRegion(svg, axes, r) {
   const g = document.createElementNS(SVG_NS, "g");
   g.setAttribute("class", "robust-overlay");
   g.setAttribute("pointer-events", "none");
+  // one hatch per position: upright leans one way, hanging the other (both: a cross-hatch
+  // where both hold)
   const defs = document.createElementNS(SVG_NS, "defs");
-  const hatch = document.createElementNS(SVG_NS, "pattern");
-  Object.entries({ id: "robust-hatch", width: "6", height: "6", patternUnits: "userSpaceOnUse",
-    patternTransform: "rotate(45)" }).forEach(([k, v]) => hatch.setAttribute(k, v));
-  const bar = document.createElementNS(SVG_NS, "line");
-  Object.entries({ x1: "0", y1: "0", x2: "0", y2: "6", stroke: "#123a75", "stroke-width": "1.6" })
-    .forEach(([k, v]) => bar.setAttribute(k, v));
-  hatch.append(bar);
-  defs.append(hatch);
+  for (const [eq, angle] of [["inverted", 45], ["hanging", -45]]) {
+    const hatch = document.createElementNS(SVG_NS, "pattern");
+    Object.entries({ id: `robust-hatch-${eq}`, width: "6", height: "6", patternUnits: "userSpaceOnUse",
+      patternTransform: `rotate(${angle})` }).forEach(([k, v]) => hatch.setAttribute(k, v));
+    const bar = document.createElementNS(SVG_NS, "line");
+    Object.entries({ x1: "0", y1: "0", x2: "0", y2: "6", stroke: "#123a75", "stroke-width": "1.6" })
+      .forEach(([k, v]) => bar.setAttribute(k, v));
+    hatch.append(bar);
+    defs.append(hatch);
+  }
   g.append(defs);
   const rows = r.robust_region.rows;
   const clampX = (v) => Math.min(axes.x.max, Math.max(axes.x.min, v));
@@ -269,7 +273,7 @@ function drawRegion(svg, axes, r) {
     path.setAttribute("class", "robust-region");
     path.setAttribute("data-eq", eq);
     path.setAttribute("d", d);
-    path.setAttribute("fill", "url(#robust-hatch)");
+    path.setAttribute("fill", `url(#robust-hatch-${eq})`);
     path.setAttribute("fill-opacity", "0.55");
     path.setAttribute("stroke", "none");
     g.append(path);

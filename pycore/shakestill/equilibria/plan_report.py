@@ -97,7 +97,11 @@ def region_dict(p: Plan, rig: Rig) -> dict:
     lo, hi = rig.limits.speed_rpm
     box = (hi - lo) * (rows[-1][0] - rows[0][0]) if len(rows) > 1 else 0.0
     dy = (rows[-1][0] - rows[0][0]) / (len(rows) - 1) if len(rows) > 1 else 0.0
-    area = {eq: sum(b - a for r in p.robust[eq] for a, b in r[3]) * dy for eq in eqs}
+    # the trapezoid rule over the rows (the end rows stand for half a row each), so that a
+    # region filling the limits is 100% of them
+    last = len(rows) - 1
+    area = {eq: sum((0.5 if j in (0, last) else 1.0) * (b - a)
+                    for j, r in enumerate(p.robust[eq]) for a, b in r[3]) * dy for eq in eqs}
     out = {"y_axis": "stroke", "y_unit": "m", "speed_range_rpm": [lo, hi],
            "y_range": [rows[0][0], rows[-1][0]],
            "rows": [{"y": r[0], "speed_min_rpm": r[1], "speed_max_rpm": r[2],
