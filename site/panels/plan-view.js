@@ -148,7 +148,7 @@ export function createPlanView(els, { engine, getRig, editSpreads, onPick, chart
       }
     }
     parts.push(h("p", { "data-key": "region" },
-      `Robust region (hatched on the map in the stroke view: upright / , hanging \\ ; the yellow diamond marks the recommended point): ${size}; ${region.rigs} rigs bound it.`));
+      `Robust region (hatched on the map in the stroke view: upright / , hanging \\ ; the yellow diamond marks the recommended point): ${size}; ${region.rigs} rig${region.rigs === 1 ? " bounds" : "s bound"} it.`));
     if (r.sensitivity.length) parts.push(sensitivityTable(r));
     parts.push(h("details", { class: "report-text" }, h("summary", {}, "How it was worked out"),
       h("ul", { class: "eq-notes" }, h("li", {}, `Metric: ${r.metric}.`),

@@ -343,7 +343,9 @@ def plan_steps(rig: Rig | Model, *, equilibria=("inverted",), rows: int | None =
     feasible = feasible or loads_feasible(rig, rs.max_mass_kg)
     yield 0.72, "scoring the grid", None
     grid = sorted(grid_scores(rig, robust, feasible, stroke_weight), reverse=True)
-    notes = [rs.method]
+    notes = [rs.method] if rig.spreads else [
+        "the rig file gives no spreads: the plan is for the nominal rig alone (add 'spreads' "
+        "to plan for the rig as it really is)"]
     if rs.idle:
         notes.append("do not enter the linear stability: " + ", ".join(rs.idle))
     if unpaired:

@@ -37,7 +37,7 @@ def plan_text(result: dict, warnings=()) -> str:
     region = result["robust_region"]
     out.append("Robust region: " + ", ".join(
         f"{eq} {pc:.1f}% of the limits" for eq, pc in region["area_percent_of_limits"].items())
-        + f" ({region['rigs']} rigs bound it)")
+        + f" ({region['rigs']} rig{'s' if region['rigs'] != 1 else ''} bound{'' if region['rigs'] != 1 else 's'} it)")
     if result["sensitivity"]:
         out.append("Edge movement across half of each spread:")
         for row in result["sensitivity"]:
