@@ -332,7 +332,8 @@ def plan_steps(rig: Rig | Model, *, equilibria=("inverted",), rows: int | None =
     charts, evaluations = [], 0
     for k, member in enumerate(rs.models):
         last = None
-        for frac, last in chart_steps(member, rows=rows, equilibria=tuple(equilibria)):
+        for frac, last in chart_steps(member, rows=rows, equilibria=tuple(equilibria),
+                                      columns=False):  # the rows are all the region needs
             yield 0.7 * (k + frac) / len(rs.rigs), f"charting rig {k + 1} of {len(rs.rigs)}", None
         charts.append(last)
         evaluations += last.evaluations
