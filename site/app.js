@@ -27,7 +27,7 @@ const sheet = $("rig-sheet");
 
 const report = createReport($("check-report"), $("verdict-strip"),
   (cautions) => showCautions(document.querySelector(".safety .cautions"), cautions),
-  (path) => form.focus(path));
+  (path) => (String(path).startsWith("spreads") ? $("plan-spreads").focus() : form.focus(path)));
 
 const rig = createCurrentRig({
   render: () => form.render(),
@@ -78,6 +78,13 @@ const panels = mountPanels($, {
   onPick: form.typeOperatingPoint,
   useRig: (fitted) => rig.replace(fitted, null, "The fitted numbers are in the rig sheet"),
   restoreRig: () => { hideNotice(); rig.restorePrevious(); },
+  editSpreads: (spreads) => {
+    if (!rig.draft) return;
+    if (spreads) rig.draft.spreads = spreads;
+    else delete rig.draft.spreads;
+    rig.edited("spreads");
+    follow.edited();
+  },
 });
 
 keepPanelInputs(); // after the panels exist: they hear the restored values

@@ -7,8 +7,9 @@ import refsolvers as ref
 import shakestill as ss
 from shakestill.model import derived
 from shakestill.model import drive as drv
+from shakestill.model.rig import MIN_LINK_M
 
-SETTINGS = settings(max_examples=40, deadline=None,
+SETTINGS = settings(max_examples=40, deadline=None, derandomize=True,
                     suppress_health_check=[HealthCheck.too_slow])
 
 
@@ -18,7 +19,15 @@ def test_first_order_matrices_and_rates_match_numpy(data):
     # B = M^-1 K and C = M^-1 D from the chain's Lagrangian (refsolvers.chain_matrices)
     # by numpy.linalg.solve; the rates are max |eig| by numpy.linalg.eigvals.
     # 1e-9 relative to each matrix's largest entry (M can be ill-conditioned by 1e3).
-    model = derived.derive(ss.rig_from_dict(data))
+    try:
+        model = derived.derive(ss.rig_from_dict(data))
+    except ss.RigError as refused:
+        # refused only for a sway mode shorter than the model resolves: the shortest
+        # equivalent length 1 / max eig(M^-1 K) by numpy under MIN_LINK_M
+        M, _, K = ref.chain_matrices(data, "hanging")
+        shortest = 1.0 / np.max(np.abs(np.linalg.eigvals(np.linalg.solve(M, K))))
+        assert shortest < MIN_LINK_M, refused
+        return
     for eq in ("inverted", "hanging"):
         M, D, K = ref.chain_matrices(data, eq)
         want_b, want_c = np.linalg.solve(M, K), np.linalg.solve(M, D)

@@ -113,3 +113,44 @@ def test_rigs_with_any_numbers_are_checked_or_refused_cleanly(tmp_path, capsys, 
         assert json.loads(out)["inverted"]["stable"] in (True, False)
     else:
         assert "cannot go on" in err and ": " in err.splitlines()[1]
+
+
+@st.composite
+def spread_sets(draw):
+    """A rig file with 1..4 spreads: paths of its numbers (or of other things, or mangled),
+    texts from the forms' pieces (+-, %, a unit, a factor range) with odd numbers in them."""
+    data = json.loads(fc.rig_text())
+    number = st.sampled_from(["links[0].length_m", "links[0].joint_damping_N_m_s",
+                              "links[0].point_masses[0].at_m", "links[0].point_masses[0].mass_kg",
+                              "drive.speed_rpm", "drive.stroke_m", "drive.rod_length_m"])
+    path = st.one_of(number, number.map(lambda p: p.replace("0", draw(st.sampled_from(
+        ["1", "00", "9" * 30, "-1", " 0"])))), st.text(max_size=20),
+        st.sampled_from(["drive.waveform", "limits.speed_rpm", "links", "title", "g_m_s2"]))
+    amount = st.sampled_from(["2", "0", "-1", "1e308", "1e-320", "nan", "inf", "99.9999", "1e6",
+                              "0.3", ".", "1e", ""])
+    text = st.one_of(
+        st.builds(lambda a: f"+-{a}%", amount),
+        st.builds(lambda a, u: f"+-{a} {u}", amount, st.sampled_from(["mm", "m", "rpm", "kg", "g", "x"])),
+        st.builds(lambda a, b: f"{a}x..{b}x", amount, amount),
+        st.text(max_size=12), st.floats(allow_nan=True), st.none())
+    data["spreads"] = draw(st.dictionaries(path, text, min_size=1, max_size=4))
+    return data
+
+
+@settings(max_examples=60, deadline=None, derandomize=True, database=None,
+          suppress_health_check=[HealthCheck.too_slow])
+@given(spread_sets())
+def test_rigs_with_any_spreads_are_read_or_refused_by_name(data):
+    # Spreads are read or refused at a path under "spreads" (never another field, never a
+    # traceback); the rigs that load have a set of rigs the planner can chart.
+    from shakestill.equilibria.uncertainty import rig_set
+    start = time.perf_counter()
+    try:
+        rig = ss.rig_from_dict(data)
+    except ss.RigError as exc:
+        assert all(p.path.startswith("spreads") and len(p.path) < 80 for p in exc.problems), exc.problems
+    else:
+        assert all(m.rig.spreads == () for m in rig_set(rig).models)
+    reply = json.loads(bridge.handle(json.dumps({"op": "validate", "rig": data}, allow_nan=True)))
+    assert reply["ok"] in (True, False) and ("error" not in reply), reply
+    assert time.perf_counter() - start < CASE_SECONDS

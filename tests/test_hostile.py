@@ -326,3 +326,91 @@ def test_a_lean_chart_walking_to_a_crawl_answers_not_overflows():
     assert reply["ok"], reply
     low_end = reply["result"]["by_speed"]["inverted"]["ends"][0]
     assert low_end is not None and low_end["why"] in ("lost", "unstable")
+
+
+# ----------------------------------------------------------------------------- spreads, plan
+
+LONG = "x" * 100_000
+
+
+@pytest.mark.parametrize("spreads, where", [
+    ({"links[0].length_m": "1e-300x..1e300x"}, "spreads.links[0].length_m"),  # absurd factors
+    ({"links[0].length_m": "0.001x..1x"}, "spreads.links[0].length_m"),
+    ({"links[0].length_m": "+-99.99%"}, "spreads.links[0].length_m"),  # a link under MIN_LINK_M
+    ({"links[0].length_m": "+-1e308 m"}, "spreads.links[0].length_m"),  # huge amount
+    ({"links[0].length_m": "+-1e999 m"}, "spreads.links[0].length_m"),  # overflows to inf
+    ({"links[0].length_m": "+-nan%"}, "spreads.links[0].length_m"),
+    ({"links[0].length_m": 1e308}, "spreads.links[0].length_m"),  # not text
+    ({"drive.speed_rpm": "1x..100x"}, "spreads.drive.speed_rpm"),  # past REACH's 1e6 rpm
+    ({"drive.speed_rpm": "+-2e6 rpm"}, "spreads.drive.speed_rpm"),
+    ({"links[0].length_m": "+-" + " " * 100_000 + "1%"}, "spreads.links[0].length_m"),  # slow regex
+    ({LONG: "+-1%"}, 'spreads["' + "x" * 38 + '..."]'),  # unknown path, cut short
+    ({"links[0]\u0663.length_m": "+-1%"}, None),  # not a plain index
+    ({"links[00].length_m": "+-1%"}, None),  # a second spelling of links[0]
+    ({"limits.speed_rpm[0]": "+-1%"}, "spreads.limits.speed_rpm[0]"),
+    ({f"links[0].point_masses[{10 ** 12}].at_m": "+-1%"}, None),
+    ({f"k{i}": "+-1%" for i in range(30)}, "spreads"),  # more than MAX_SPREADS
+    ([float("nan")], "spreads"),
+])
+def test_hostile_spreads_are_refused_by_name_within_seconds(spreads, where):
+    # Every refusal names the spreads field (the key itself when it is a path of the file's
+    # form, else the quoted key, cut short), through the rig file and the plan op alike, and
+    # none takes more than a moment (a hang bound, not a speed target).
+    data = ss.demo_rig_dict()
+    data["drive"]["speed_rpm"] = 20_000  # so that 100x takes it past the reach
+    data["spreads"] = spreads
+    start = time.perf_counter()
+    with pytest.raises(ss.RigError) as caught:
+        ss.rig_from_dict(data)
+    paths = [p.path for p in caught.value.problems]
+    assert all(p.startswith("spreads") and len(p) < 80 for p in paths), paths
+    if where is not None:
+        assert paths == [where]
+    reply = json.loads(bridge.handle(json.dumps({"op": "plan", "rig": data}, allow_nan=True)))
+    assert reply["ok"] is False and all(p["path"].startswith(("spreads", "rig.spreads"))
+                                        for p in reply["problems"]), reply
+    assert time.perf_counter() - start < 5.0
+
+
+def test_hostile_plan_requests_are_refused_by_name():
+    data = ss.demo_rig_dict()
+    data["spreads"] = {"links[0].length_m": "+-2%"}
+    for extra, where in (({"for": ["both"]}, "for"), ({"for": "sideways"}, "for"),
+                         ({"rows": 1e300}, "rows"), ({"rows": 4.5}, "rows"), ({"rows": 2}, "rows"),
+                         ({"stroke_weight": 1e9}, "stroke_weight"),
+                         ({"stroke_weight": "nan"}, "stroke_weight")):
+        for op in ({"op": "plan"}, {"op": "motion_job_start", "kind": "plan"}):
+            reply = json.loads(bridge.handle(json.dumps({**op, "rig": data, **extra})))
+            assert reply["ok"] is False and [p["path"] for p in reply["problems"]] == [where]
+            assert len(reply["problems"][0]["message"]) < 200
+    code, _, err, _ = run(["plan", "--rows", "100000"])
+    assert code == 2 and "--rows" in err and "Traceback" not in err
+    code, _, err, _ = run(["plan", "--stroke-weight", "1e300"])
+    assert code == 2 and "--stroke-weight" in err and "Traceback" not in err
+
+
+def test_a_plan_over_limits_a_few_ulps_wide_answers_not_a_traceback():
+    # found while porting the planner: a chart row a few ulps wide spot-checked a speed that
+    # rounded past the row's end (StopIteration in chart._follow, seen as a RuntimeError)
+    data = ss.demo_rig_dict()
+    data["drive"] = {"waveform": "sine", "stroke_m": 0.024, "speed_rpm": 2700}
+    data["limits"] = {"speed_rpm": [2699.99, 2700.01], "stroke_m": [0.024, 0.0240001]}
+    data["spreads"] = {"links[0].length_m": "+-2%"}
+    reply = json.loads(bridge.handle(json.dumps({"op": "plan", "rig": data})))
+    assert reply["ok"] is True
+    assert json.loads(bridge.handle(json.dumps({"op": "job_start", "kind": "chart",
+                                                "rig": data})))["ok"]
+
+
+def test_a_plan_whose_grid_holds_no_robust_point_says_so():
+    # limits from 0.01 rpm to 1e6 rpm and 100 m of stroke: the robust region lies under the
+    # first grid row; the answer is no recommendation and the grid's words, within seconds
+    data = ss.demo_rig_dict()
+    data["drive"] = {"waveform": "sine", "stroke_m": 0.024, "speed_rpm": 2700}
+    data["limits"] = {"speed_rpm": [0.01, 1e6], "stroke_m": [0, 100]}
+    data["spreads"] = {"links[0].length_m": "+-2%"}
+    start = time.perf_counter()
+    reply = json.loads(bridge.handle(json.dumps({"op": "plan", "rig": data})))
+    assert time.perf_counter() - start < SECONDS
+    assert reply["ok"] and reply["result"]["speed_rpm"] is None
+    assert any("no point of the grid" in n for n in reply["result"]["notes"])

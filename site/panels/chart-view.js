@@ -47,6 +47,7 @@ export function createChartView(els, { engine, onPick }) {
     chart: null, // the core's chart data behind the picture
     cursor: null, // {x, y} in axis values
     operating: null, // {speed_rpm, stroke_m, peak_accel_m_s2} from the last check
+    overlay: null, // (svg, axes) -> an SVG group drawn over the map (the plan's robust region), or null
     point: { seq: 0, timer: 0, last: 0 },
   };
 
@@ -137,7 +138,17 @@ export function createChartView(els, { engine, onPick }) {
     els.note.textContent = step.chart.notes.length
       ? `How the map is made: ${step.chart.notes.join("; ")}.` : "";
     placeOperatingPoint();
+    placeOverlay();
     placeCursor();
+  }
+
+  /** The overlay over the picture, redrawn on every new picture (under the cursor). */
+  function placeOverlay() {
+    if (!state.svg) return;
+    state.svg.querySelector(":scope > .robust-overlay")?.remove();
+    const group = state.overlay && state.axes ? state.overlay(state.svg, state.axes) : null;
+    if (group) state.svg.insertBefore(group, state.svg.querySelector(":scope > .chart-cursor"));
+    els.holder.dataset.overlay = group ? "shown" : "none";
   }
 
   // ------------------------------------------------------------ marks on the picture
@@ -366,7 +377,9 @@ export function createChartView(els, { engine, onPick }) {
       const drive = { ...(rig.drive || {}) };
       delete drive.speed_rpm;
       delete drive.stroke_m;
-      const key = JSON.stringify({ ...rig, drive });
+      const nominal = { ...rig };
+      delete nominal.spreads; // the spreads do not change the nominal map
+      const key = JSON.stringify({ ...nominal, drive });
       state.rig = rig;
       if (key === state.key && els.holder.dataset.state !== "empty") return false;
       state.key = key;
@@ -375,6 +388,11 @@ export function createChartView(els, { engine, onPick }) {
     draw,
     /** Stop a running job (a new rig is coming). */
     stop: () => stop("The map will be drawn again for the changed rig."),
+    /** Draw ``overlay(svg, axes)`` over every picture (null: nothing). */
+    setOverlay(overlay) {
+      state.overlay = overlay;
+      placeOverlay();
+    },
     /** The last checked operating point (numbers from the core's check). */
     setOperatingPoint(result) {
       state.operating = { speed_rpm: result.speed_rpm, stroke_m: result.stroke_m,

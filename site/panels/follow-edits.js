@@ -73,11 +73,13 @@ export function followEdits($, { engine, rig, form, report, panels }) {
       if (!isCurrent()) return;
       if (reply.ok) {
         form.showProblems([], reply.warnings || []);
+        panels.problems([]);
         report.show(reply);
         rig.keepCheck(current, reply);
         panels.checked(reply.result);
       } else if (reply.problems) {
         form.showProblems(reply.problems, reply.warnings || []);
+        panels.problems(reply.problems);
         report.stale(reply.problems);
       } else {
         report.failed(reply.error || "the engine gave no reason");

@@ -6,14 +6,16 @@ import { createFitView } from "./fit-view.js";
 import { createLeanView } from "./lean-view.js";
 import { createLoadsView } from "./loads-view.js";
 import { createMotionView } from "./motion-view.js";
+import { createPlanView } from "./plan-view.js";
 import { createRunupView } from "./runup-view.js";
 import { createToleranceView } from "./tolerance-view.js";
 
 /**
  * ``page`` gives: engine, getRig(), onPick(point) for a point picked on the map,
- * useRig(rig) to put fitted numbers on the sheet, restoreRig() to take them back.
+ * useRig(rig) to put fitted numbers on the sheet, restoreRig() to take them back,
+ * editSpreads(spreads or null) to put the plan's spreads in the rig (an undo step).
  */
-export function mountPanels($, { engine, getRig, onPick, useRig, restoreRig }) {
+export function mountPanels($, { engine, getRig, onPick, useRig, restoreRig, editSpreads }) {
   const chart = createChartView({
     holder: $("stability-chart"),
     progress: $("chart-progress"),
@@ -25,6 +27,19 @@ export function mountPanels($, { engine, getRig, onPick, useRig, restoreRig }) {
     note: $("chart-note"),
     save: [$("chart-save-svg"), $("chart-save-png"), $("chart-save-csv")],
   }, { engine, onPick });
+
+  const plan = createPlanView({
+    form: $("plan-form"),
+    spreads: $("plan-spreads"),
+    msgs: $("plan-spreads-msgs"),
+    forInputs: document.querySelectorAll('input[name="plan-for"]'),
+    go: $("plan-go"),
+    cancel: $("plan-cancel"),
+    status: $("plan-status"),
+    progress: $("plan-progress"),
+    out: $("plan-result"),
+    use: $("plan-use"),
+  }, { engine, getRig, editSpreads, onPick, chart });
 
   const runup = createRunupView({
     form: $("runup-form"),
@@ -100,8 +115,11 @@ export function mountPanels($, { engine, getRig, onPick, useRig, restoreRig }) {
 
   return {
     chart,
+    /** The check's problems: the plan panel shows those of the spreads. */
+    problems: (problems) => plan.problems(problems),
     /** Every panel hears of a new rig; the map's own redraw is the caller's to time. */
     rigChanged(rig) {
+      plan.rigChanged(rig);
       runup.rigChanged();
       motion.rigChanged(rig);
       tolerance.rigChanged(rig);

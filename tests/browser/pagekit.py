@@ -117,3 +117,24 @@ def wait_for_rig(page, text: str, timeout: int = RESULT_TIMEOUT_MS) -> dict:
         return el.dataset.state === "fresh" && (el.dataset.rig || "").includes(text);
     }""", arg=text, timeout=timeout)
     return json.loads(page.get_attribute("#check-report", "data-result"))
+
+
+AXE = TOP / "node_modules" / "axe-core" / "axe.min.js"  # npm devDependency, pinned in package-lock
+
+
+def axe_violations(page, include: str | None = None) -> list[dict]:
+    """The axe-core audit (WCAG 2.0-2.2 A and AA rules, best practices) of the page as it is,
+    or of the part under ``include``: [{id, impact, help, nodes: [target...]}]. The page's
+    context needs ``bypass_csp=True`` (the page's CSP admits only its own scripts)."""
+    from prereq import missing
+    if not AXE.is_file():
+        missing("node_modules/axe-core is missing: `npm ci` (build_scripts/setup_env.sh) installs it")
+    if not page.evaluate("() => typeof window.axe === 'object'"):
+        page.add_script_tag(path=str(AXE))
+    found = page.evaluate("""async (include) => {
+        const result = await window.axe.run(include ? { include: [include] } : document,
+            { resultTypes: ["violations"] });
+        return result.violations.map((v) => ({ id: v.id, impact: v.impact, help: v.help,
+            nodes: v.nodes.map((n) => n.target.join(" ")) }));
+    }""", include)
+    return found

@@ -1,7 +1,7 @@
 """The commands and bridge ops of every subject, registered into one table (``table``).
 
-Subjects: ``stability`` (check, chart, runup, point, chart jobs), ``lean`` (the lean
-chart of a drive off vertical), ``motion``
+Subjects: ``stability`` (check, chart, runup, point, chart jobs), ``planning``
+(plan, the plan job), ``lean`` (the lean chart of a drive off vertical), ``motion``
 (simulate, loads, motion jobs), ``tolerance`` (tolerance, basin), ``fit``
 (fit), ``rigs`` (demo, link, validate, schematic, share links, version).
 ``common`` holds what they share (reading rigs, options and request fields);
@@ -10,7 +10,7 @@ chart of a drive off vertical), ``motion``
 """
 
 # Each subject registers itself on import; this order is the order of `shakestill --help`.
-from . import stability, lean, motion, tolerance, fit, rigs  # noqa: F401,I001
+from . import stability, planning, lean, motion, tolerance, fit, rigs  # noqa: F401,I001
 from .table import COMMANDS, JOB_KINDS, OPS
 
 __all__ = ["COMMANDS", "JOB_KINDS", "OPS"]

@@ -9,7 +9,7 @@ import sys
 from ..equilibria.chart import chart, chart_dict, chart_steps, stroke_for_peak_accel
 from ..motion.lean import check
 from ..equilibria.floquet import stability
-from ..equilibria.runup import runup
+from ..equilibria.runup import recommended_rate, runup
 from ..model.drive import peak_accel_m_s2
 from ..model.rig import Problem, RigError, with_operating_point
 from ..model.rigfile import rig_to_dict
@@ -80,7 +80,8 @@ def _cmd_chart(args) -> int:
 
 def _runup_arguments(p) -> None:
     p.add_argument("rig", nargs="?", metavar="RIG")
-    p.add_argument("--rate", required=True, help="ramp rate, e.g. 200rpm/s")
+    p.add_argument("--rate", help="ramp rate, e.g. 200rpm/s (default: the recommended one, the "
+                   "smallest rate keeping the hanging pendulum's growth under the factor)")
     p.add_argument("--from", dest="start", help="start speed (default 0: from rest)")
     p.add_argument("--to", help="end speed (default: the operating speed)")
     p.add_argument("--factor", help="largest acceptable growth of a disturbance (10)")
@@ -95,7 +96,19 @@ def _cmd_runup(args) -> int:
     start = quantity(args.start, "speed", "--from", minimum=0.0) or 0.0
     end = quantity(args.to, "speed", "--to", above=0.0)
     factor = quantity(args.factor, "plain", "--factor", above=1.0) or 10.0
+    recommended = rate is None
+    if recommended:
+        # the pendulum rests hanging while the drive runs up (it is raised once at speed)
+        need = recommended_rate(rig, start_rpm=start, end_rpm=end, factor=factor,
+                                equilibria=("hanging",))
+        if not 0 < need < float("inf"):
+            raise RigError([Problem("--rate", "no resonance of the hanging pendulum is crossed "
+                                              "(any rate will do): give --rate" if need == 0 else
+                                              "no ramp rate keeps the growth under the factor: "
+                                              "give --rate to see the crossings")])
+        rate = need
     result = runup(rig, rate_rpm_s=rate, start_rpm=start, end_rpm=end, factor=factor)
+    result["rate_recommended"] = recommended
     if args.json:
         print(json.dumps(jsonable(result), indent=2, allow_nan=False))
     else:
@@ -147,6 +160,7 @@ def _op_runup(request: dict) -> dict:
                        factor=float(request.get("factor", 10.0)))
     except (TypeError, ValueError) as exc:
         raise RigError([Problem("runup", str(exc))]) from None
+    result["rate_recommended"] = False  # as `shakestill runup --rate` (the page gives a rate)
     return {"result": result}
 
 

@@ -209,3 +209,25 @@ def runup(rig: Rig | Model, *, rate_rpm_s: float, start_rpm: float = 0.0,
             "ok": all((c.simulated_amplification or c.amplification) <= factor for c in found),
         }
     return result
+
+
+TRIAL_RATE_RPM_S = 100.0  # first ramp rate tried when recommending one (then corrected once)
+
+
+def recommended_rate(rig: Rig | Model, *, start_rpm: float = 0.0,
+                     end_rpm: float | None = None, factor: float = DEFAULT_FACTOR,
+                     equilibria=EQUILIBRIA) -> float:
+    """The smallest ramp rate (rpm/s) keeping every crossing's growth under ``factor``: the
+    minimum rates at a trial rate, then once more at that rate (the prefactor of the
+    simulated ramp depends a little on the rate). 0 when nothing is crossed."""
+    model = as_model(rig)
+    end = model.rig.drive.speed_rpm if end_rpm is None else end_rpm
+    rate = TRIAL_RATE_RPM_S
+    for _ in range(2):
+        found = [c for eq in equilibria
+                 for c in crossings(model, eq, start_rpm, end, rate, factor)[0]]
+        need = max((c.min_rate_rpm_s for c in found), default=0.0)
+        if not (need > 0 and math.isfinite(need)):
+            return need
+        rate = need
+    return rate

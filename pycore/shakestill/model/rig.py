@@ -154,6 +154,7 @@ class Rig:
     air_density_kg_m3: float = AIR_DENSITY
     given: frozenset = frozenset()
     extra: tuple = ()
+    spreads: tuple = ()  # model.spreads.Spread items: the planner's uncertainty (none: exact)
 
     @property
     def n_links(self) -> int:

@@ -13,6 +13,7 @@ from typing import Any
 from .rig import AIR_DENSITY, FORMAT, STANDARD_GRAVITY, VERSION, Drive, Link, PointMass, Rig
 from .rigread import rig_from_dict
 from .safejson import decode_text, loads_json
+from .spreads import spreads_to_dict
 
 __all__ = ["rig_from_dict", "rig_to_dict", "loads_rig", "dumps_rig", "load_rig", "save_rig"]
 
@@ -80,6 +81,8 @@ def rig_to_dict(rig: Rig) -> dict:
             _put(limits, key, getattr(rig.limits, key), rig.limits.given, None)
         limits.update(dict(rig.limits.extra))
         out["limits"] = limits
+    if "spreads" in rig.given or rig.spreads:
+        out["spreads"] = spreads_to_dict(rig.spreads)
     out.update(dict(rig.extra))
     return out
 

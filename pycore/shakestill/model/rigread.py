@@ -15,6 +15,7 @@ from .rig import (AIR_DENSITY, FORMAT, GRAVITY_REACH, MAX_CRANK_RATIO, MAX_LINKS
                   MIN_LINK_M, MIN_SAMPLES, REACH, STANDARD_GRAVITY, VERSION, WAVEFORMS, Drive, Limits, Link,
                   PointMass, Problem, Rig, RigError, outside_reach)
 from .safejson import non_finite_problems
+from .spreads import check_ranges, read_spreads
 from .units import UnitError, parse_quantity
 
 class _Reader:
@@ -105,7 +106,7 @@ def _show(value: Any) -> str:
 
 
 _RIG_KEYS = ("format", "version", "title", "g_m_s2", "air_density_kg_m3", "links", "drive",
-             "limits")
+             "limits", "spreads")
 _LINK_KEYS = ("length_m", "rod_mass_kg", "point_masses", "extra_inertia_kg_m2",
               "joint_damping_N_m_s", "joint_friction_N_m")
 _DRIVE_KEYS = ("waveform", "stroke_m", "rod_length_m", "speed_rpm", "samples_m",
@@ -295,16 +296,21 @@ def rig_from_dict(data: Any, *, with_warnings: bool = False):
     if "drive" not in obj:
         r.fail("drive", "is required: the drive's waveform, stroke and speed")
     limits = _read_limits(r, obj.get("limits", {}), drive)
+    spreads = read_spreads(obj, r.fail) if "spreads" in obj else ()
     extra = r.extras(obj, _RIG_KEYS, "")
-    # a NaN or infinity anywhere (unknown fields too) would be kept and written back
+    # a NaN or infinity anywhere (unknown fields too) would be kept and written back; in
+    # the spreads every value that is not text is named by read_spreads already
     named = tuple(p.path for p in r.problems)
     r.problems.extend(p for p in non_finite_problems(obj)
                       if not any(p.path == n or p.path.startswith((n + ".", n + "["))
-                                 for n in named))
+                                 for n in named + ("spreads",)))
     if r.problems:
         raise RigError(r.problems)
     given = frozenset(k for k in _RIG_KEYS if k in obj)
-    rig = Rig(tuple(links), drive, limits, title, g, rho, given, extra)
+    rig = Rig(tuple(links), drive, limits, title, g, rho, given, extra, spreads)
+    check_ranges(rig, r.fail, r.warn)
+    if r.problems:
+        raise RigError(r.problems)
     _warn_operating_point(r, rig)
     return (rig, r.warnings) if with_warnings else rig
 

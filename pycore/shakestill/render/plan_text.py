@@ -1,0 +1,56 @@
+"""Plain words for the plan (``shakestill plan`` without --json), for a technician at the rig."""
+
+from __future__ import annotations
+
+from ..model.safety import CAUTIONS
+
+
+def _fmt(value, unit: str) -> str:
+    if value is None:
+        return "-"
+    return f"{value * 1000:.3f} mm" if unit == "m" else f"{value:,.1f} {unit}"
+
+
+def plan_text(result: dict, warnings=()) -> str:
+    """The recommendation, what binds it, the region's size, sensitivities, run-up, cautions."""
+    out = [f"Operating point for: {', '.join(result['for'])}"]
+    if result["speed_rpm"] is None:
+        out.append("No point of the search grid holds for every rig of the set (see the notes).")
+    else:
+        out.append(f"Run at {result['speed_rpm']:,.0f} rpm with a stroke of "
+                   f"{result['stroke_m'] * 1000:.2f} mm.")
+        out.append(f"Worst-case margin: {result['worst_margin_percent']:.1f}% "
+                   f"(speed {result['speed_margin_percent']:.1f}%, stroke "
+                   f"{result['stroke_margin_percent']:.1f}%)")
+        b = result.get("binding")
+        if b:
+            e = b["edge"]
+            unit = "rpm" if e["axis"] == "speed" else "m"
+            out.append(f"Binding: the {e['side']} {e['axis']} edge of the {b['equilibrium']} "
+                       f"position at {_fmt(e['edge'], unit)}, for the rig with "
+                       + ", ".join(f"{k} = {v:.6g}" for k, v in b["rig_values"].items()
+                                   if isinstance(v, float)))
+        run = result.get("runup")
+        if run:
+            out.append(f"Run up from rest at {run['min_rate_rpm_s']:,.1f} rpm/s or faster "
+                       f"(disturbances grow at most {run['factor']:g}x through resonances).")
+    region = result["robust_region"]
+    out.append("Robust region: " + ", ".join(
+        f"{eq} {pc:.1f}% of the limits" for eq, pc in region["area_percent_of_limits"].items())
+        + f" ({region['rigs']} rig{'s' if region['rigs'] != 1 else ''} bound{'' if region['rigs'] != 1 else 's'} it)")
+    if result["sensitivity"]:
+        out.append("Edge movement across half of each spread:")
+        for row in result["sensitivity"]:
+            for eq in result["for"]:
+                per = row.get(eq, {})
+                if "note" in per:
+                    out.append(f"  {row['path']} ({row['spread']}): {per['note']}")
+                    continue
+                moves = [f"{name} {_fmt(v['over_half_spread'], 'm' if 'stroke' in name else 'rpm')}"
+                         for name, v in per.items() if v is not None]
+                out.append(f"  {row['path']} ({row['spread']}, {eq}): " + "; ".join(moves))
+    out.append("Metric: " + result["metric"])
+    out += ["Note: " + n for n in result["notes"]]
+    out += [f"Warning: {w}" for w in warnings]
+    out += ["Caution: " + c for c in CAUTIONS]
+    return "\n".join(out) + "\n"
