@@ -26,6 +26,10 @@ let busy = false;
 
 const post = (message) => self.postMessage(message);
 const stage = (words, fraction) => post({ type: "boot", stage: words, fraction });
+// Named moments of the start-up on the worker's performance timeline, for
+// bench/bench_page_load.py's phase table (a mark costs microseconds).
+const mark = (name) => performance.mark(`shakestill:${name}`);
+mark("worker");
 
 self.addEventListener("message", (event) => receive(event.data));
 boot().then(
@@ -85,6 +89,7 @@ async function boot() {
   } else {
     base = new URL("../", import.meta.url);  // this module sits in engine/
   }
+  mark("files");
   const info = await step("read build-info.json", async () => {
     const response = await fetch(new URL("build-info.json", base));
     if (!response.ok) throw new Error(`HTTP ${response.status}`);
@@ -106,9 +111,11 @@ async function boot() {
       })),
   );
 
+  mark("python");
   stage("loading micropip", 0.7);
   await step("load micropip and packaging", () => loadPackages(pyodide, PACKAGES));
 
+  mark("micropip");
   stage("installing the core", 0.8);
   // micropip finds the core in the shipped lock file, so loadPackage fetches
   // the wheel from the site's own folder and checks its sha256.
@@ -122,6 +129,7 @@ async function boot() {
     requireLoaded(pyodide, [info.name], problems);
   });
 
+  mark("installed");
   stage("starting the core", 0.9);
   return step("import the core", () => {
     const core = pyodide.pyimport("shakestill");
@@ -131,6 +139,7 @@ async function boot() {
       throw new Error(`it reports version ${version}, the site was built with ${info.version}`);
     }
     bridge = pyodide.pyimport("shakestill.bridge");
+    mark("imported");
     return version;
   });
 }
@@ -232,5 +241,6 @@ function run(request) {
     }
     return;
   }
+  if (request.op === "check" && !performance.getEntriesByName("shakestill:check").length) mark("check");
   post({ id, type: "result", reply });
 }
