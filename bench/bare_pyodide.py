@@ -9,7 +9,11 @@ the site's are measured alike in the same run.
 from __future__ import annotations
 
 import shutil
+import sys
 from pathlib import Path
+
+sys.path.insert(0, str(Path(__file__).resolve().parent.parent / "build_scripts"))
+import pins  # noqa: E402
 
 PAGE = """<!doctype html><meta charset="utf-8"><title>bare Pyodide</title>
 <script type="module">
@@ -24,9 +28,12 @@ self.postMessage(String(pyodide.runPython("1+1")));
 DONE = "html[data-bare]"
 
 
-def make_folder(site: Path, dest: Path) -> Path:
-    """dest/ with the bare page, its worker and a copy of the site's pyodide/ folder."""
-    shutil.copytree(site / "pyodide", dest / "pyodide")
+def make_folder(pyodide: Path, dest: Path) -> Path:
+    """dest/ with the bare page, its worker and the pinned Pyodide's own files as the npm
+    package has them (the site's standard library is trimmed and compiled: not bare)."""
+    (dest / "pyodide").mkdir(parents=True)
+    for name in (*pins.PYODIDE_FILES, "pyodide-lock.json"):
+        shutil.copyfile(pyodide / name, dest / "pyodide" / name)
     (dest / "index.html").write_text(PAGE)
     (dest / "bare-worker.js").write_text(WORKER)
     return dest

@@ -158,7 +158,7 @@ def main() -> None:
     from playwright.sync_api import sync_playwright
 
     with tempfile.TemporaryDirectory() as tmp:
-        bare_dir = bare_pyodide.make_folder(site, Path(tmp) / "bare")
+        bare_dir = bare_pyodide.make_folder(build_site.NODE_PYODIDE, Path(tmp) / "bare")
         server, base = serve.start(site)
         bare_server, bare_base = serve.start(bare_dir)
         samples: dict[str, list[dict]] = {"bare Pyodide": [], "served": [], "single file": []}
