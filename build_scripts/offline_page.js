@@ -42,9 +42,16 @@
     return new Response(stream).arrayBuffer();
   }
 
+  // The archive sits at the end of <body>: the parser must have read all of it first
+  // (the worker starts earlier, from its own element above this script).
+  const parsed = document.readyState === "loading"
+    ? new Promise((done) => document.addEventListener("DOMContentLoaded", done, { once: true }))
+    : Promise.resolve();
+
   // All files as one ArrayBuffer plus where each one sits in it.
   function unpack() {
     unpacked ??= (async () => {
+      await parsed;
       const buffer = await gunzip(ELEMENT);
       const files = new Map();
       let offset = 0;
