@@ -22,8 +22,10 @@ from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 
+import bytecode  # noqa: E402
 import offline  # noqa: E402
 import pins  # noqa: E402
+import stdlib  # noqa: E402
 import wheels  # noqa: E402
 
 TOP = Path(__file__).resolve().parent.parent
@@ -132,6 +134,10 @@ def build_site(site: Path = SITE) -> dict:
         shutil.copyfile(wheel, pyodide_dir / wheel.name)
         shipped[name] = (version, pyodide_dir / wheel.name, [name])
     core = wheels.build_core_wheel(pyodide_dir)
+    bytecode.compile_wheel(core, NODE_PYODIDE)
+    pip_wheels = [wheel for _, wheel, _ in shipped.values()]
+    stdlib.trimmed_stdlib(NODE_PYODIDE, [TOP / "pycore" / "shakestill", *pip_wheels],
+                          pyodide_dir / "python_stdlib.zip")
     name, version = wheels.project_name_version()
     shipped[name] = (version, core, [name])
     write_lock(original_lock, shipped, pyodide_dir / "pyodide-lock.json")

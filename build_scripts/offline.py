@@ -6,15 +6,18 @@ everything inside itself:
 
 - the page's module scripts and style sheets, bundled by esbuild and inlined
   (images they use become data: URLs);
+- the worker bundled with Pyodide's JavaScript, gzipped as base64 text in its
+  own element in <head>, ahead of everything else, so that the worker starts
+  while the browser is still parsing the rest;
 - every other file of the site (Pyodide, the wheels, the lock file,
-  build-info.json) and the worker bundled with Pyodide's JavaScript, packed
-  into one gzip archive held as base64 text in the page;
-- a prelude (offline_page.js) that unpacks the archive with
-  DecompressionStream, answers the page's own fetches of embedded files, and
-  makes `new Worker(".../worker.js", {type: "module"})` start the bundled
-  worker as a module worker from a data: URL; that worker's first module
-  (offline_worker.js) receives the files from the page and answers its
-  fetches from them.
+  build-info.json), packed into one gzip archive held as base64 text at the
+  end of the page;
+- a prelude (offline_page.js) that starts the worker from its element, unpacks
+  the archive with DecompressionStream, answers the page's own fetches of
+  embedded files, and makes `new Worker(".../worker.js", {type: "module"})`
+  hand over that worker (a module worker from a data: URL); the worker's
+  first module (offline_worker.js) receives the files from the page and
+  answers its fetches from them.
 
 The page's Content-Security-Policy is kept and widened only by the hashes of
 the inlined code, data: workers and the prelude's Trusted Types policy.
@@ -39,9 +42,9 @@ from pathlib import Path
 TOP = Path(__file__).resolve().parent.parent
 HERE = Path(__file__).resolve().parent
 ESBUILD = TOP / "node_modules" / ".bin" / "esbuild"
-WORKER_BUNDLE = "worker-bundle.js"  # path of the bundled worker inside the archive
 WORKER_SOURCE = "engine/worker.js"  # the worker's module in the site (site/engine/worker-client.js)
 DATA_ELEMENT_ID = "shakestill-embedded"
+WORKER_ELEMENT_ID = "shakestill-worker"
 
 # Files the page uses through HTML or CSS become data: URLs; these are their kinds.
 DATA_URL_LOADERS = ("svg", "png", "jpg", "jpeg", "gif", "webp", "ico", "woff", "woff2", "ttf")
@@ -113,7 +116,7 @@ def stored_zip(data: bytes) -> bytes:
     return out.getvalue()
 
 
-def archive(site: Path, worker_bundle: bytes) -> tuple[list[dict], bytes]:
+def archive(site: Path) -> tuple[list[dict], bytes]:
     """Index and gzip bytes of every file the single file needs at run time."""
     entries = []
     for path in sorted(p for p in site.rglob("*") if p.is_file()):
@@ -121,7 +124,6 @@ def archive(site: Path, worker_bundle: bytes) -> tuple[list[dict], bytes]:
         if not name.endswith(INLINED_SUFFIXES):
             data = path.read_bytes()
             entries.append((name, stored_zip(data) if name in RESTORED_ZIPS else data))
-    entries.append((WORKER_BUNDLE, worker_bundle))
     index = [{"path": name, "type": mime_type(name), "size": len(data)} for name, data in entries]
     packed = gzip.compress(b"".join(data for _, data in entries), compresslevel=9, mtime=0)
     return index, packed
@@ -165,14 +167,21 @@ def _script(code: str, kind: str = "") -> str:
     return f"<script{attr}>{safe}</script>"
 
 
-def _prelude(index: list[dict]) -> str:
+def _data_element(element_id: str, data: bytes) -> str:
+    """A non-running script element holding gzipped bytes as base64 text."""
+    packed = base64.b64encode(gzip.compress(data, compresslevel=9, mtime=0)).decode()
+    return f'<script type="application/octet-stream" id="{element_id}">{packed}</script>'
+
+
+def _prelude(index: list[dict], worker: bytes) -> str:
+    """The worker's element, then the prelude that starts it at once."""
     text = (HERE / "offline_page.js").read_text()
     for marker, value in (("[/* @INDEX@ */]", json.dumps(index)), ("@ELEMENT@", DATA_ELEMENT_ID),
-                          ("@BUNDLE@", WORKER_BUNDLE)):
+                          ("@WORKER@", WORKER_ELEMENT_ID)):
         if text.count(marker) != 1:
             raise SystemExit(f"offline_page.js must hold the marker {marker} exactly once")
         text = text.replace(marker, value)
-    return _script(text)
+    return _data_element(WORKER_ELEMENT_ID, worker) + "\n" + _script(text)
 
 
 def _csp_hash(text: str) -> str:
@@ -245,7 +254,7 @@ def build_offline(site: Path, out: Path) -> None:
     (TOP / "build").mkdir(exist_ok=True)
     with tempfile.TemporaryDirectory(dir=TOP / "build") as tmp:
         worker = bundle_worker(site, Path(tmp))
-    index, packed = archive(site, worker)
+    index, packed = archive(site)
     payload = base64.b64encode(packed).decode()
-    html = inline_page(site, (site / "index.html").read_text(), _prelude(index), payload)
+    html = inline_page(site, (site / "index.html").read_text(), _prelude(index, worker), payload)
     out.write_text(html)

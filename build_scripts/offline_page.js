@@ -1,15 +1,18 @@
-// Prelude of dist/shakestill-offline.html (a classic script, first in <head>,
-// so it runs before the page's own modules). build_scripts/offline.py fills
-// in the markers. The page's files live in one gzip archive held as base64
-// in a non-running script element. This script unpacks it on first use,
-// answers the page's fetches of those files, and turns
-// `new Worker(".../worker.js", {type: "module"})` into the bundled worker
-// started from a data: URL, the one kind of worker a page opened from disk
-// may start.
+// Prelude of dist/shakestill-offline.html (a classic script in <head>, after the
+// worker's own element and before the page's modules). build_scripts/offline.py fills
+// in the markers. The worker bundle (Pyodide's JavaScript with site/engine/worker.js)
+// is gzipped in its own element ahead of this script, so the worker starts here, while
+// the browser still parses the page and its big archive; the page's other files live
+// in one gzip archive held as base64 in a non-running element at the end of <body>.
+// This script unpacks that archive on first use, posts its files to every worker it
+// starts, answers the page's fetches of those files, and turns
+// `new Worker(".../worker.js", {type: "module"})` into the bundled worker started
+// from a data: URL, the one kind of worker a page opened from disk may start (the
+// first such call adopts the worker started here).
 (() => {
   const INDEX = [/* @INDEX@ */]; // [{path, type, size}] in archive order
   const ELEMENT = "@ELEMENT@";
-  const WORKER_BUNDLE = "@BUNDLE@"; // path of the bundled worker in the archive
+  const WORKER_ELEMENT = "@WORKER@"; // the gzipped worker bundle, parsed before this script
   const base = new URL("./", location.href).href;
   const paths = new Set(INDEX.map((entry) => entry.path));
   // The page's Trusted Types policy list names this one (offline.py edits the CSP).
@@ -31,14 +34,25 @@
     return bytes;
   }
 
+  async function gunzip(elementId) {
+    const element = document.getElementById(elementId);
+    if (!element) throw new Error("the page has lost its embedded files");
+    const stream = new Blob([decodeBase64(element.textContent.trim())]).stream()
+      .pipeThrough(new DecompressionStream("gzip"));
+    return new Response(stream).arrayBuffer();
+  }
+
+  // The archive sits at the end of <body>: the parser must have read all of it first
+  // (the worker starts earlier, from its own element above this script).
+  const parsed = document.readyState === "loading"
+    ? new Promise((done) => document.addEventListener("DOMContentLoaded", done, { once: true }))
+    : Promise.resolve();
+
   // All files as one ArrayBuffer plus where each one sits in it.
   function unpack() {
     unpacked ??= (async () => {
-      const element = document.getElementById(ELEMENT);
-      if (!element) throw new Error("the page has lost its embedded files");
-      const packed = decodeBase64(element.textContent.trim());
-      const stream = new Blob([packed]).stream().pipeThrough(new DecompressionStream("gzip"));
-      const buffer = await new Response(stream).arrayBuffer();
+      await parsed;
+      const buffer = await gunzip(ELEMENT);
       const files = new Map();
       let offset = 0;
       for (const entry of INDEX) {
@@ -71,15 +85,40 @@
   };
 
   // A data: URL of the worker's code; only what a URL may not hold is escaped.
-  function workerUrl(buffer, file) {
-    const code = new TextDecoder().decode(new Uint8Array(buffer, file.offset, file.size));
+  function workerUrl(buffer) {
+    const code = new TextDecoder().decode(buffer);
     return "data:text/javascript," + code.replace(/[%#\s]/g, encodeURIComponent);
+  }
+
+  // Starts the bundled worker, posts it the files once unpacked, and holds what it says
+  // until a page-side EmbeddedWorker takes it (port.sink).
+  function launch(name) {
+    const port = { sink: null, held: [] };
+    const deliver = (...event) => (port.sink ? port.sink(...event) : port.held.push(event));
+    port.started = gunzip(WORKER_ELEMENT).then((code) => {
+      const worker = new NativeWorker(policy.createScriptURL(workerUrl(code)), { type: "module", name });
+      worker.addEventListener("message", (event) => deliver("message", event.data));
+      worker.addEventListener("messageerror", () => deliver("messageerror"));
+      worker.addEventListener("error", (event) => {
+        event.preventDefault();
+        deliver("error", undefined, event.message);
+      });
+      // A copy of every file, so a worker started later gets them too.
+      unpack().then(
+        ({ buffer, files }) => worker.postMessage({ type: "shakestill-embedded", base,
+          buffer: buffer.slice(0), index: [...files.values()] }),
+        (error) => worker.postMessage({ type: "shakestill-embedded",
+          error: `Could not unpack the files embedded in the page: ${error.message || error}` }),
+      );
+      return worker;
+    });
+    return port;
   }
 
   // Stands for the worker at once (a constructor cannot wait for the
   // unpacking) and passes messages both ways once the real one runs.
   class EmbeddedWorker extends EventTarget {
-    constructor(options) {
+    constructor(port) {
       super();
       this.onmessage = null;
       this.onerror = null;
@@ -87,26 +126,23 @@
       this.queue = [];
       this.worker = null;
       this.closed = false;
-      unpack().then(
-        ({ buffer, files }) => this.start(buffer, files, options),
-        (error) => this.emit("message", { type: "boot-failed",
-          message: `Could not unpack the files embedded in the page: ${error.message || error}` }),
+      // After the caller has added its listeners: what the worker said so far, then the rest.
+      setTimeout(() => {
+        port.sink = (...event) => this.emit(...event);
+        for (const event of port.held.splice(0)) this.emit(...event);
+      }, 0);
+      port.started.then(
+        (worker) => this.adopt(worker),
+        (error) => setTimeout(() => this.emit("message", { type: "boot-failed",
+          message: `Could not unpack the engine embedded in the page: ${error.message || error}` }), 0),
       );
     }
 
-    start(buffer, files, options) {
-      if (this.closed) return;
-      const url = workerUrl(buffer, files.get(WORKER_BUNDLE));
-      const worker = new NativeWorker(policy.createScriptURL(url), { type: "module", name: options.name });
-      worker.addEventListener("message", (event) => this.emit("message", event.data));
-      worker.addEventListener("messageerror", () => this.emit("messageerror"));
-      worker.addEventListener("error", (event) => {
-        event.preventDefault();
-        this.emit("error", undefined, event.message);
-      });
-      // A copy of every file, so a worker started later gets them too.
-      worker.postMessage({ type: "shakestill-embedded", base, buffer: buffer.slice(0),
-                           index: [...files.values()] });
+    adopt(worker) {
+      if (this.closed) {
+        worker.terminate();
+        return;
+      }
       for (const message of this.queue) worker.postMessage(message);
       this.queue = null;
       this.worker = worker;
@@ -134,9 +170,13 @@
   }
 
   const NativeWorker = window.Worker;
+  // The engine's start-up takes seconds and needs nothing from the page: begin it now.
+  let early = launch("shakestill-engine");
   window.Worker = function Worker(url, options = {}) {
     const target = new URL(String(url), location.href);
-    if (target.pathname.endsWith("/worker.js")) return new EmbeddedWorker(options);
-    return new NativeWorker(url, options);
+    if (!target.pathname.endsWith("/worker.js")) return new NativeWorker(url, options);
+    const port = early || launch(options.name);
+    early = null;
+    return new EmbeddedWorker(port);
   };
 })();

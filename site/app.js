@@ -11,7 +11,7 @@ import { keepPanelInputs } from "./state/panel-inputs.js";
 import { draftFromRig } from "./state/draft.js";
 import { bootView } from "./engine/boot-view.js";
 import { registerServiceWorker } from "./engine/offline-copy.js";
-import { EngineClient, startEngineWorker } from "./engine/worker-client.js";
+import { EngineClient, startEngineWorkerEarly } from "./engine/worker-client.js";
 import { wireSaveButtons } from "./panels/export.js";
 import { followEdits } from "./panels/follow-edits.js";
 import { mountPanels } from "./panels/mount-panels.js";
@@ -20,6 +20,9 @@ import { createOpening } from "./panels/opening.js";
 import { createReport, showCautions } from "./panels/report-view.js";
 import { createRigForm } from "./panels/rig-form.js";
 import { wireToolbar } from "./panels/toolbar.js";
+
+// First of all: the engine's start-up takes seconds and needs nothing from the page.
+const startWorker = startEngineWorkerEarly(policy);
 
 const $ = (id) => document.getElementById(id);
 const { notice, hide: hideNotice, chip } = createNotices($);
@@ -54,7 +57,7 @@ const form = createRigForm(sheet, {
 });
 sheet.addEventListener("submit", (event) => event.preventDefault());
 
-const engine = new EngineClient(() => startEngineWorker(policy), {
+const engine = new EngineClient(startWorker, {
   ...bootView($, chip, {
     isStarting: () => engine.state === "starting",
     ready: () => opening.engineReady(() => follow.schedule(0)),

@@ -112,8 +112,33 @@ def test_lock_lists_exactly_the_shipped_wheels_with_their_real_hashes(dist):
     assert lock["info"] == original["info"]  # same interpreter ABI as the shipped Pyodide
 
 
+def _pyc_header(data: bytes) -> tuple[bytes, int]:
+    """The magic number and the flags word of a .pyc (PEP 552: 16-byte header)."""
+    return data[:4], int.from_bytes(data[4:8], "little")
+
+
+# PEP 552: flags 0b01 = hash-based and not checked against a source at import.
+UNCHECKED_HASH = 0b01
+
+
 def test_shipped_pyodide_is_the_pinned_npm_package(dist):
-    for name in pins.PYODIDE_FILES:
+    # The standard library's zip is the npm package's, trimmed and compiled: every module
+    # it holds is one of the package's, as bytecode of one interpreter, never checked
+    # against a source (there is none).
+    shipped_zip = zipfile.ZipFile(dist / "site" / "pyodide" / "python_stdlib.zip")
+    npm_zip = zipfile.ZipFile(TOP / "node_modules" / "pyodide" / "python_stdlib.zip")
+    original = set(npm_zip.namelist())
+    magics = set()
+    for name in shipped_zip.namelist():
+        if not name.endswith(".pyc"):  # a kept package's data file, as the package has it
+            assert shipped_zip.read(name) == npm_zip.read(name), name
+            continue
+        assert name[:-1] in original, name
+        magic, flags = _pyc_header(shipped_zip.read(name))
+        assert flags == UNCHECKED_HASH, name
+        magics.add(magic)
+    assert len(magics) == 1 and magics.pop()[2:] == b"\r\n"  # importlib's magic ends in CR LF
+    for name in (n for n in pins.PYODIDE_FILES if n != "python_stdlib.zip"):
         shipped = (dist / "site" / "pyodide" / name).read_bytes()
         assert shipped == (TOP / "node_modules" / "pyodide" / name).read_bytes(), name
     lock = json.loads((TOP / "package-lock.json").read_text())
@@ -125,11 +150,18 @@ def test_core_wheel_holds_every_module_and_a_valid_record(dist):
     info = json.loads((dist / "site" / "build-info.json").read_text())
     wheel = dist / "site" / "pyodide" / info["wheel"]
     assert hashlib.sha256(wheel.read_bytes()).hexdigest() == info["hash"]
-    sources = {p.relative_to(TOP / "pycore").as_posix()
+    # every module as bytecode in place of its source (build_scripts/bytecode.py), compiled
+    # by the same interpreter as the standard library's zip
+    modules = {p.relative_to(TOP / "pycore").with_suffix(".pyc").as_posix()
                for p in (TOP / "pycore" / "shakestill").rglob("*.py") if "__pycache__" not in p.parts}
+    stdlib_magic = _pyc_header(zipfile.ZipFile(dist / "site" / "pyodide" / "python_stdlib.zip")
+                               .read("json/__init__.pyc"))[0]
     with zipfile.ZipFile(wheel) as archive:
         names = set(archive.namelist())
-        assert sources <= names, f"missing from the wheel: {sorted(sources - names)}"
+        assert modules <= names, f"missing from the wheel: {sorted(modules - names)}"
+        assert not [n for n in names if n.endswith(".py")]
+        for name in modules:
+            assert _pyc_header(archive.read(name)) == (stdlib_magic, UNCHECKED_HASH), name
         record = archive.read(f"shakestill-{info['version']}.dist-info/RECORD").decode()
         checked = 0
         for line in record.splitlines():
@@ -267,8 +299,20 @@ def test_single_file_carries_the_sites_files_byte_for_byte(dist):
     for info in served.infolist():
         assert packed.read(info.filename) == served.read(info), info.filename
     assert by_path["pyodide/pyodide.asm.wasm"][:4] == b"\0asm"  # WebAssembly binary magic (WebAssembly Core spec 5.5.16)
-    bundle = by_path[offline.WORKER_BUNDLE].decode("ascii")
+
+
+def test_single_file_carries_the_worker_ahead_of_the_archive(dist):
+    # The worker starts while the browser still parses the big archive: its own element
+    # comes first in the page, before the prelude that starts it.
+    single = (dist / build_site.OFFLINE.name).read_text()
+    element = re.search(rf'<script type="application/octet-stream" id="{offline.WORKER_ELEMENT_ID}">(.*?)</script>',
+                        single, re.S)
+    bundle = gzip.decompress(base64.b64decode(element.group(1))).decode("ascii")
     assert "shakestill.bridge" in bundle  # site/engine/worker.js is in the bundle
+    assert "shakestill-embedded" in bundle  # and offline_worker.js, which receives the files
+    archive_at = single.index(f'id="{offline.DATA_ELEMENT_ID}"')
+    assert element.start() < single.index("const INDEX = ") < archive_at
+    assert element.start() < single.lower().index("<script type=\"module\"")
 
 
 def test_single_file_csp_allows_exactly_its_inline_code(dist):

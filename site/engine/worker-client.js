@@ -22,6 +22,27 @@ export function startEngineWorker(policy) {
   return new Worker(policy.createScriptURL(url), { type: "module", name: "shakestill-engine" });
 }
 
+/**
+ * Starts the engine worker now, so Python's seconds-long start-up runs while the page
+ * builds its panels; returns the `startWorker` for the EngineClient made later, which
+ * takes this worker first (or the browser's refusal, reported by the client) and starts
+ * fresh ones after that.
+ */
+export function startEngineWorkerEarly(policy) {
+  let early;
+  try {
+    early = startEngineWorker(policy);
+  } catch (error) {
+    early = error instanceof Error ? error : new Error(String(error));
+  }
+  return () => {
+    const first = early;
+    early = null;
+    if (first instanceof Error) throw first;
+    return first || startEngineWorker(policy);
+  };
+}
+
 export class EngineClient {
   /**
    * @param {() => Worker} startWorker  makes the worker (may throw: reported as a failed start)

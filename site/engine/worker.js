@@ -15,7 +15,8 @@
 
 import { loadPyodide } from "../pyodide/pyodide.mjs";
 
-// Pyodide packages loaded from the shipped lock file before the core.
+// Pyodide packages loaded from the shipped lock file before the core. loadPyodide's
+// `packages` fetches them while Python itself starts, not after.
 const PACKAGES = ["micropip", "packaging"];
 
 const queue = []; // requests received and not started yet, oldest first
@@ -26,21 +27,10 @@ let busy = false;
 
 const post = (message) => self.postMessage(message);
 const stage = (words, fraction) => post({ type: "boot", stage: words, fraction });
-
-self.addEventListener("message", (event) => receive(event.data));
-boot().then(
-  (version) => {
-    state = "ready";
-    post({ type: "ready", version });
-    pump();
-  },
-  (error) => {
-    state = "failed";
-    failure = error instanceof BootError ? error.message : `Start-up failed: ${describe(error)}`;
-    post({ type: "boot-failed", message: failure });
-    while (queue.length) refuse(queue.shift(), failure);
-  },
-);
+// Named moments of the start-up on the worker's performance timeline, for
+// bench/bench_page_load.py's phase table (a mark costs microseconds).
+const mark = (name) => performance.mark(`shakestill:${name}`);
+mark("worker");
 
 class BootError extends Error {}
 
@@ -85,7 +75,10 @@ async function boot() {
   } else {
     base = new URL("../", import.meta.url);  // this module sits in engine/
   }
-  const info = await step("read build-info.json", async () => {
+  mark("files");
+  // Python starts at once; build-info.json (needed only to install the core) and the look
+  // at the WebAssembly file run beside it, not before it.
+  const info = step("read build-info.json", async () => {
     const response = await fetch(new URL("build-info.json", base));
     if (!response.ok) throw new Error(`HTTP ${response.status}`);
     return response.json();
@@ -93,57 +86,54 @@ async function boot() {
 
   stage("loading Python", 0.05);
   const indexURL = new URL("pyodide/", base).href;
-  // loadPyodide never settles when its WebAssembly fails to download, so look first.
-  if (!host.prepare) await step("download Python (pyodide.asm.wasm)", () => reachable(new URL("pyodide.asm.wasm", indexURL)));
   const problems = [];
-  const pyodide = await step("start Python (Pyodide)", () =>
+  const starting = step("start Python (Pyodide)", () =>
     withinTime(LOAD_TIMEOUT_MS, "Python did not start within two minutes (a file may have stopped downloading)",
       loadPyodide({
         indexURL,
+        packages: PACKAGES,
         stdout: () => {},
         stderr: (text) => problems.push(text),
         ...host.pyodideOptions,
       })),
   );
+  // loadPyodide never settles when its WebAssembly fails to download, so look as well.
+  const looked = host.prepare ? null
+    : step("download Python (pyodide.asm.wasm)", () => reachable(new URL("pyodide.asm.wasm", indexURL)));
+  const [pyodide, { name, version: built, wheel }] = await Promise.all([starting, info, looked]);
 
+  mark("python");
   stage("loading micropip", 0.7);
-  await step("load micropip and packaging", () => loadPackages(pyodide, PACKAGES));
+  // loadPyodide only logs a package that failed to load (a download, a hash mismatch).
+  await step("load micropip and packaging", () => requireLoaded(pyodide, PACKAGES, problems));
 
+  mark("micropip");
   stage("installing the core", 0.8);
   // micropip finds the core in the shipped lock file, so loadPackage fetches
   // the wheel from the site's own folder and checks its sha256.
-  await step(`install ${info.wheel}`, async () => {
+  await step(`install ${wheel}`, async () => {
     const micropip = pyodide.pyimport("micropip");
     try {
-      await micropip.install(info.name, { index_urls: [] });
+      await micropip.install(name, { index_urls: [] });
     } finally {
       micropip.destroy();
     }
-    requireLoaded(pyodide, [info.name], problems);
+    requireLoaded(pyodide, [name], problems);
   });
 
+  mark("installed");
   stage("starting the core", 0.9);
   return step("import the core", () => {
     const core = pyodide.pyimport("shakestill");
     const version = core.__version__;
     core.destroy();
-    if (version !== info.version) {
-      throw new Error(`it reports version ${version}, the site was built with ${info.version}`);
+    if (version !== built) {
+      throw new Error(`it reports version ${version}, the site was built with ${built}`);
     }
     bridge = pyodide.pyimport("shakestill.bridge");
+    mark("imported");
     return version;
   });
-}
-
-// loadPackage only logs a failed download or a hash mismatch; check the result.
-async function loadPackages(pyodide, names) {
-  const errors = [];
-  await pyodide.loadPackage(names, {
-    messageCallback: () => {},
-    errorCallback: (text) => errors.push(text),
-    checkIntegrity: true,
-  });
-  requireLoaded(pyodide, names, errors);
 }
 
 function requireLoaded(pyodide, names, errors) {
@@ -232,5 +222,22 @@ function run(request) {
     }
     return;
   }
+  if (request.op === "check" && !performance.getEntriesByName("shakestill:check").length) mark("check");
   post({ id, type: "result", reply });
 }
+
+// Start last: boot() runs up to loadPyodide at once, so every declaration above must exist.
+self.addEventListener("message", (event) => receive(event.data));
+boot().then(
+  (version) => {
+    state = "ready";
+    post({ type: "ready", version });
+    pump();
+  },
+  (error) => {
+    state = "failed";
+    failure = error instanceof BootError ? error.message : `Start-up failed: ${describe(error)}`;
+    post({ type: "boot-failed", message: failure });
+    while (queue.length) refuse(queue.shift(), failure);
+  },
+);
