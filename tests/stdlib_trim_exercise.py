@@ -49,6 +49,7 @@ def exercise():
         {"op": "loads", "rig": rig, "equilibrium": "inverted"},
         {"op": "fit", "rig": rig, "log": log, "drive_stopped": True, "max_iterations": 2},
         {"op": "lean", "rig": rig, "tilts": 3, "speeds": 3},
+        {"op": "plan", "rig": rig, "rows": 4},
     ]
     jobs = [("job", {"op": "job_start", "kind": "chart", "rig": rig, "rows": 4}),
             ("motion_job", {"op": "motion_job_start", "kind": "basin", "rig": rig, "size": 3, "validate": 0})]
@@ -74,7 +75,8 @@ def exercise():
         failures.append(f"ops not exercised: {missed}")
 
     commands = [["check", "--json"], ["chart", "--rows", "4", "--json"], ["runup", "--rate", "200", "--json"],
-                ["lean", "--tilts", "3", "--speeds", "3", "--json"], ["simulate", "--duration", "0.2", "--json"],
+                ["lean", "--tilts", "3", "--speeds", "3", "--json"], ["plan", "--rows", "4", "--json"],
+                ["simulate", "--duration", "0.2", "--json"],
                 ["loads", "--json"], ["tolerance", "--json"],
                 ["fit", "--log", "/work/log.csv", "--stopped", "--json"],
                 ["demo"], ["link"], ["check"], ["chart", "--rows", "4", "-o", "/tmp/chart.svg"]]
