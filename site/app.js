@@ -20,6 +20,8 @@ import { createOpening } from "./panels/opening.js";
 import { createReport, showCautions } from "./panels/report-view.js";
 import { createRigForm } from "./panels/rig-form.js";
 import { wireToolbar } from "./panels/toolbar.js";
+import { wireUnits } from "./panels/units-view.js";
+import { displayUnits } from "./state/units.js";
 
 const $ = (id) => document.getElementById(id);
 const { notice, hide: hideNotice, chip } = createNotices($);
@@ -106,7 +108,12 @@ wireToolbar($, {
   lastCheck: rig.lastCheck,
   loadDemo: opening.loadDemo,
   getDraft: () => rig.draft,
-  getView: () => rig.view,
+  getView: () => ({ ...rig.view, units: displayUnits() }),
+});
+
+wireUnits(document.querySelectorAll('input[name="units"]'), () => {
+  report.rewrite();
+  panels.chart.draw(); // a job under way stops and starts again with the new axis
 });
 
 registerServiceWorker({ chip, notice, policy });
