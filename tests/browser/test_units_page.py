@@ -110,5 +110,5 @@ def test_a_link_carries_the_units_and_a_file_is_written_in_them(new_context, ser
     assert other.is_checked('input[name="units"][value="imperial"]')
     assert other.input_value('[data-path="drive.stroke_m"]') == "2 in"
     four_figures(shown(other.inner_text("#check-report .operating"), "in"), 2.0)
-    page.locator("#rig-sheet").scroll_into_view_if_needed()
+    other.locator("#rig-sheet").scroll_into_view_if_needed()
     shot(other, "units-link-imperial", full_page=False)
