@@ -21,6 +21,8 @@ import { createReport, showCautions } from "./panels/report-view.js";
 import { createRigForm } from "./panels/rig-form.js";
 import { wireToolbar } from "./panels/toolbar.js";
 import { wireUnits } from "./panels/units-view.js";
+import { wireSheetDrawer } from "./panels/sheet-drawer.js";
+import { markTerms } from "./panels/terms.js";
 import { displayUnits } from "./state/units.js";
 
 const $ = (id) => document.getElementById(id);
@@ -111,6 +113,8 @@ wireToolbar($, {
   getView: () => ({ ...rig.view, units: displayUnits() }),
 });
 
+markTerms();
+wireSheetDrawer(document.querySelector(".panel.sheet"), $("sheet-tab"), $("sheet-close"));
 wireUnits(document.querySelectorAll('input[name="units"]'), () => {
   report.rewrite();
   panels.chart.draw(); // a job under way stops and starts again with the new axis

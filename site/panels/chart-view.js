@@ -38,7 +38,7 @@ const strokeText = (m) => {
 };
 
 /**
- * @param {object} els  {holder, progress, status, cancel, redraw, axisInputs, readout, note}
+ * @param {object} els  {holder, progress, status, cancel, redraw, axisInputs, readout, note, table(chart)}
  * @param {object} deps {engine, onPick({speed_rpm, stroke_m}), currentRig()}
  */
 export function createChartView(els, { engine, onPick }) {
@@ -142,6 +142,7 @@ export function createChartView(els, { engine, onPick }) {
     state.axes = step.axes;
     els.holder.dataset.axes = JSON.stringify(step.axes);
     els.holder.dataset.rows = String(step.chart.rows.length);
+    els.table(step.chart); // the map's text alternative
     els.note.textContent = step.chart.notes.length
       ? `How the map is made: ${step.chart.notes.join("; ")}.` : "";
     placeOperatingPoint();

@@ -6,6 +6,7 @@
 import { h, replaceChildren } from "../lib/dom.js";
 import { describePath } from "../state/rig-fields.js";
 import { accelShown, lengthShown } from "../state/units.js";
+import { term } from "./terms.js";
 
 /** A number for reading: 4 significant figures, no trailing zeros. */
 export function num(x, digits = 4) {
@@ -103,13 +104,13 @@ function equilibriumCard(name, eq) {
         m.speed_down, m.speed_up, rpm)),
       windowRow("Stroke window", windowText(eq.stroke_window_m, [e.stroke_low, e.stroke_high],
         m.stroke_down, m.stroke_up, mm)),
-      row("Slow sway", eq.slow_frequency_hz == null ? "n/a" : hz(eq.slow_frequency_hz),
+      row(term("Slow sway", "sway"), eq.slow_frequency_hz == null ? "n/a" : hz(eq.slow_frequency_hz),
         "the slow swing riding on the fast buzz"),
     ]
-    : [row("Growth per drive cycle", `× ${num(eq.max_multiplier, 4)}`,
+    : [row([term("Growth factor", "growth"), " per drive cycle"], `× ${num(eq.max_multiplier, 4)}`,
       "a small disturbance grows by this factor every revolution")];
   if ("lean_deg" in eq) facts.push(...leanRows(eq));
-  facts.push(row("Largest Floquet multiplier", num(eq.max_multiplier, 6), "stable below 1"));
+  facts.push(row(["Largest ", term("Floquet multiplier", "floquet")], num(eq.max_multiplier, 6), "stable below 1"));
   const notes = Array.isArray(eq.messages) ? eq.messages : [];
   return h("article", { class: `eq-card is-${stable ? "stable" : "unstable"}`, "data-eq": name,
     "aria-labelledby": `eq-${name}` },
@@ -120,7 +121,8 @@ function equilibriumCard(name, eq) {
     ? h("p", { class: "eq-warning" }, "Accuracy check not met: treat this verdict with care.")
     : null,
   h("dl", { class: "facts" }, facts),
-  notes.length ? h("ul", { class: "eq-notes" }, notes.map((n) => h("li", {}, n))) : null);
+  notes.length ? h("details", { class: "how" }, h("summary", {}, "How this was computed"),
+    h("ul", { class: "eq-notes" }, notes.map((n) => h("li", {}, n)))) : null);
 }
 
 /** Kapitza's closed-form estimates beside the exact values of the same things. */

@@ -59,7 +59,7 @@ def _chart_arguments(p) -> None:
     _operating_point_options(p)
 
 
-@command("chart", "stability chart over speed x stroke (SVG, or --json)", _chart_arguments)
+@command("chart", "stability map over speed x stroke (SVG, or --json)", _chart_arguments)
 def _cmd_chart(args) -> int:
     rig, _ = rig_of_args(args)
     if args.rows is not None and not 2 <= args.rows <= 2000:

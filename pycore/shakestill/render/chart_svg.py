@@ -172,7 +172,7 @@ def chart_svg(chart, rig: Rig, *, width_px: int = 760, height_px: int = 470,
     def py(v):
         return (height_px - bottom) - (v - y0) / ((y1 - y0) or 1.0) * (height_px - bottom - top)
 
-    title = f"Stability chart: {rig.title or 'rig'} ({rig.drive.waveform} drive)"
+    title = f"Stability map: {rig.title or 'rig'} ({rig.drive.waveform} drive)"
     out = [f'<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 {width_px} {height_px}" '
            f'width="{width_px}" height="{height_px}" role="img" class="stability-chart" '
            'font-family="system-ui, sans-serif">', f"<title>{esc(title)}</title>",
