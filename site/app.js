@@ -20,6 +20,10 @@ import { createOpening } from "./panels/opening.js";
 import { createReport, showCautions } from "./panels/report-view.js";
 import { createRigForm } from "./panels/rig-form.js";
 import { wireToolbar } from "./panels/toolbar.js";
+import { wireUnits } from "./panels/units-view.js";
+import { wireSheetDrawer } from "./panels/sheet-drawer.js";
+import { markTerms } from "./panels/terms.js";
+import { displayUnits } from "./state/units.js";
 
 // First of all: the engine's start-up takes seconds and needs nothing from the page.
 const startWorker = startEngineWorkerEarly(policy);
@@ -109,7 +113,14 @@ wireToolbar($, {
   lastCheck: rig.lastCheck,
   loadDemo: opening.loadDemo,
   getDraft: () => rig.draft,
-  getView: () => rig.view,
+  getView: () => ({ ...rig.view, units: displayUnits() }),
+});
+
+markTerms();
+wireSheetDrawer(document.querySelector(".panel.sheet"), $("sheet-tab"), $("sheet-close"));
+wireUnits(document.querySelectorAll('input[name="units"]'), () => {
+  report.rewrite();
+  panels.chart.draw(); // a job under way stops and starts again with the new axis
 });
 
 registerServiceWorker({ chip, notice, policy });

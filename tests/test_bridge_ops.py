@@ -167,3 +167,17 @@ def test_a_link_carries_the_senders_check_only_while_it_stays_short():
     refused = json.loads(bridge.handle(json.dumps({"op": "share_encode", "rig": rig(),
                                                    "result": [1, 2]})))
     assert refused["ok"] is False and refused["problems"][0]["path"] == "result"
+
+
+def test_chart_job_names_its_stroke_unit_and_refuses_others():
+    # The page's display units: an imperial job labels the stroke axis in inches (1 in =
+    # 0.0254 m, NIST SP 811) with its mapping still in metres; anything else is named.
+    job = ask("job_start", kind="chart", rig=rig(), rows=3, units="imperial")["job"]
+    reply = ask("job_step", job=job, budget_ms=2000)
+    assert reply["axes"]["y"]["shown_unit"] == "in" and reply["axes"]["y"]["unit"] == "m"
+    assert "stroke (in)" in reply["svg"]
+    ask("job_cancel", job=job)
+    bad = json.loads(bridge.handle(json.dumps({"op": "job_start", "kind": "chart", "rig": rig(),
+                                               "units": "cubits"})))
+    assert bad["ok"] is False and [p["path"] for p in bad["problems"]] == ["units"]
+    assert "metric or imperial" in bad["problems"][0]["message"]

@@ -147,3 +147,37 @@ def test_boundary_leaving_through_the_side_is_painted_to_the_side():
     _, dy_px = to_px(axes, x1, y0 + 0.15 * dy)
     _, y0_px = to_px(axes, x1, y0)
     assert any(abs(x - side_x) < 1e-6 and abs(y - true_y) < abs(dy_px - y0_px) for x, y in ends)
+
+
+def _y_tick_labels(svg: str, left: float):
+    """(value, y px) of the numbers right-aligned beside the side axis."""
+    root = ET.fromstring(svg)
+    out = []
+    for t in root.iter(f"{NS}text"):
+        if t.get("text-anchor") == "end" and float(t.get("x")) == left - 8:
+            out.append((float(t.text), float(t.get("y")) - 4))
+    return out
+
+
+@pytest.mark.parametrize("units, metres_per_label", [("metric", 1e-3), ("imperial", 0.0254)])
+def test_stroke_axis_labels_sit_at_their_stroke_in_the_chosen_units(units, metres_per_label):
+    # The axis mapping stays SI; each tick's number, read in mm or in (1 in = 0.0254 m
+    # exactly, NIST SP 811 appendix B), must sit where the mapping puts that stroke.
+    rig = sine_rig()
+    svg, axes = render(chart(rig, rows=4), rig, units=units)
+    y = axes["y"]
+    assert y["unit"] == "m" and y["shown_unit"] == {"metric": "mm", "imperial": "in"}[units]
+    assert f"stroke ({y['shown_unit']})" in svg
+    left = axes["x"]["px_min"]
+    ticks = _y_tick_labels(svg, left)
+    assert len(ticks) >= 3
+    for value, py in ticks:
+        stroke_m = value * metres_per_label
+        expected = y["px_min"] + (stroke_m - y["min"]) / (y["max"] - y["min"]) * (y["px_max"] - y["px_min"])
+        assert py == pytest.approx(expected, abs=0.02)  # the SVG writes 2 decimals
+
+
+def test_units_other_than_metric_or_imperial_are_refused():
+    rig = sine_rig()
+    with pytest.raises(ValueError, match="units"):
+        render(chart(rig, rows=2), rig, units="cubits")

@@ -135,7 +135,7 @@ def test_svg_is_xml_with_title_labels_and_invertible_mapping(sine_chart):
     svg, axes = render(c, rig)
     root = ET.fromstring(svg)
     ns = "{http://www.w3.org/2000/svg}"
-    assert root.find(f"{ns}title").text.startswith("Stability chart")
+    assert root.find(f"{ns}title").text.startswith("Stability map")
     texts = [t.text for t in root.iter(f"{ns}text")]
     assert "drive speed (rpm)" in texts and "stroke (mm)" in texts
     op = root.find(f".//{ns}g[@class='operating-point']/{ns}circle")

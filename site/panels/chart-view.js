@@ -8,6 +8,7 @@ import { h, replaceChildren } from "../lib/dom.js";
 import { saveCsv, savePng, saveSvg } from "./export.js";
 import { svgNode } from "./schematic-view.js";
 import { Cancelled } from "../engine/worker-client.js";
+import { displayUnits, lengthShown } from "../state/units.js";
 
 const STEP_BUDGET_MS = 150; // one job step: short enough for a check to slip in between
 const POINT_THROTTLE_MS = 90; // read-out requests while the cursor moves
@@ -31,8 +32,13 @@ function fmt(x, digits = 6) {
   return Number.isFinite(x) ? String(Number(x.toPrecision(digits))) : "none";
 }
 
+const strokeText = (m) => {
+  const [value, unit] = lengthShown(m);
+  return `stroke ${fmt(value, 5)} ${unit}`;
+};
+
 /**
- * @param {object} els  {holder, progress, status, cancel, redraw, axisInputs, readout, note}
+ * @param {object} els  {holder, progress, status, cancel, redraw, axisInputs, readout, note, table(chart)}
  * @param {object} deps {engine, onPick({speed_rpm, stroke_m}), currentRig()}
  */
 export function createChartView(els, { engine, onPick }) {
@@ -84,7 +90,8 @@ export function createChartView(els, { engine, onPick }) {
     els.cancel.hidden = false;
     status(`Drawing the map (${AXIS_WORDS[state.yAxis]} up the side): rough picture first`, 0);
     try {
-      const started = await engine.request("job_start", { kind: "chart", rig: state.rig, y_axis: state.yAxis });
+      const started = await engine.request("job_start", { kind: "chart", rig: state.rig, y_axis: state.yAxis,
+        units: displayUnits() });
       if (!live()) {
         if (started.ok) engine.request("job_cancel", { job: started.job }).catch(() => {});
         return;
@@ -135,6 +142,7 @@ export function createChartView(els, { engine, onPick }) {
     state.axes = step.axes;
     els.holder.dataset.axes = JSON.stringify(step.axes);
     els.holder.dataset.rows = String(step.chart.rows.length);
+    els.table(step.chart); // the map's text alternative
     els.note.textContent = step.chart.notes.length
       ? `How the map is made: ${step.chart.notes.join("; ")}.` : "";
     placeOperatingPoint();
@@ -227,7 +235,7 @@ export function createChartView(els, { engine, onPick }) {
       return;
     }
     const p = pick(values);
-    const yText = "stroke_m" in p ? `stroke ${fmt(p.stroke_m * 1000, 5)} mm`
+    const yText = "stroke_m" in p ? strokeText(p.stroke_m)
       : `peak acceleration ${fmt(p.peak_accel_m_s2 / 9.80665, 4)} g`;
     replaceChildren(els.readout, h("p", { class: "readout-where" }, `Cursor: ${fmt(p.speed_rpm, 6)} rpm, ${yText}`),
       h("p", { class: "readout-wait" }, "Working out both positions at this point…"));
@@ -270,7 +278,7 @@ export function createChartView(els, { engine, onPick }) {
       eq.converged ? "" : " (not converged: treat with care)");
     replaceChildren(els.readout,
       h("p", { class: "readout-where" },
-        `At ${fmt(reply.speed_rpm, 6)} rpm, stroke ${fmt(reply.stroke_m * 1000, 5)} mm, `
+        `At ${fmt(reply.speed_rpm, 6)} rpm, ${strokeText(reply.stroke_m)}, `
         + `peak acceleration ${fmt(reply.peak_accel_m_s2 / 9.80665, 4)} g`),
       h("ul", { class: "readout-list" }, line("inverted", reply.inverted), line("hanging", reply.hanging)),
       h("p", { class: "hint" }, "Click, tap or press Enter to make this the operating point."));

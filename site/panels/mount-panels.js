@@ -2,6 +2,7 @@
 // and the two things every one of them hears: the rig changed, the check has a new result.
 
 import { createChartView } from "./chart-view.js";
+import { showMapTable } from "./map-table.js";
 import { createFitView } from "./fit-view.js";
 import { createLeanView } from "./lean-view.js";
 import { createLoadsView } from "./loads-view.js";
@@ -25,6 +26,7 @@ export function mountPanels($, { engine, getRig, onPick, useRig, restoreRig, edi
     axisInputs: document.querySelectorAll('input[name="chart-axis"]'),
     readout: $("chart-readout"),
     note: $("chart-note"),
+    table: (data) => showMapTable($("map-table"), data),
     save: [$("chart-save-svg"), $("chart-save-png"), $("chart-save-csv")],
   }, { engine, onPick });
 

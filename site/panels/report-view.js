@@ -5,6 +5,8 @@
 
 import { h, replaceChildren } from "../lib/dom.js";
 import { describePath } from "../state/rig-fields.js";
+import { accelShown, lengthShown } from "../state/units.js";
+import { term } from "./terms.js";
 
 /** A number for reading: 4 significant figures, no trailing zeros. */
 export function num(x, digits = 4) {
@@ -15,8 +17,15 @@ export function num(x, digits = 4) {
   return text.includes("e") ? text.replace(/\.?0+e/, "e") : text.replace(/(\.\d*?)0+$/, "$1").replace(/\.$/, "");
 }
 
-// Strokes are shown in millimetres, the unit a technician sets them in.
-const mm = (m) => `${num(m * 1000)} mm`;
+// Strokes and lengths in the units chosen for display: mm, or in (state/units.js).
+const mm = (m) => {
+  const [value, unit] = lengthShown(m);
+  return `${num(value)} ${unit}`;
+};
+const accel = (a) => {
+  const [value, unit] = accelShown(a);
+  return `${num(value)} ${unit}`;
+};
 const rpm = (r) => `${num(r)} rpm`;
 const hz = (f) => `${num(f)} Hz`;
 const percent = (p) => `${p.toFixed(1)}%`;
@@ -95,13 +104,13 @@ function equilibriumCard(name, eq) {
         m.speed_down, m.speed_up, rpm)),
       windowRow("Stroke window", windowText(eq.stroke_window_m, [e.stroke_low, e.stroke_high],
         m.stroke_down, m.stroke_up, mm)),
-      row("Slow sway", eq.slow_frequency_hz == null ? "n/a" : hz(eq.slow_frequency_hz),
+      row(term("Slow sway", "sway"), eq.slow_frequency_hz == null ? "n/a" : hz(eq.slow_frequency_hz),
         "the slow swing riding on the fast buzz"),
     ]
-    : [row("Growth per drive cycle", `× ${num(eq.max_multiplier, 4)}`,
+    : [row([term("Growth factor", "growth"), " per drive cycle"], `× ${num(eq.max_multiplier, 4)}`,
       "a small disturbance grows by this factor every revolution")];
   if ("lean_deg" in eq) facts.push(...leanRows(eq));
-  facts.push(row("Largest Floquet multiplier", num(eq.max_multiplier, 6), "stable below 1"));
+  facts.push(row(["Largest ", term("Floquet multiplier", "floquet")], num(eq.max_multiplier, 6), "stable below 1"));
   const notes = Array.isArray(eq.messages) ? eq.messages : [];
   return h("article", { class: `eq-card is-${stable ? "stable" : "unstable"}`, "data-eq": name,
     "aria-labelledby": `eq-${name}` },
@@ -112,7 +121,8 @@ function equilibriumCard(name, eq) {
     ? h("p", { class: "eq-warning" }, "Accuracy check not met: treat this verdict with care.")
     : null,
   h("dl", { class: "facts" }, facts),
-  notes.length ? h("ul", { class: "eq-notes" }, notes.map((n) => h("li", {}, n))) : null);
+  notes.length ? h("details", { class: "how" }, h("summary", {}, "How this was computed"),
+    h("ul", { class: "eq-notes" }, notes.map((n) => h("li", {}, n)))) : null);
 }
 
 /** Kapitza's closed-form estimates beside the exact values of the same things. */
@@ -204,6 +214,8 @@ export function createReport(el, strip, onCautions = () => {}, onGoto = () => {}
   }
 
   const hasResult = () => el.dataset.result !== undefined;
+  let shown = null; // the reply on view, to write again when the display units change
+  let problem = null; // the first problem of a stale rig, named by the strip
 
   return {
     pending() {
@@ -217,6 +229,8 @@ export function createReport(el, strip, onCautions = () => {}, onGoto = () => {}
       if (Number.isFinite(fraction)) bar.value = fraction;
     },
     show(reply) {
+      shown = reply;
+      problem = null;
       const result = reply.result;
       bar.hidden = true;
       el.dataset.result = JSON.stringify(result);
@@ -225,7 +239,7 @@ export function createReport(el, strip, onCautions = () => {}, onGoto = () => {}
         h("p", { class: "operating" },
           "At ", h("strong", {}, rpm(result.speed_rpm)), ` (${num(result.frequency_hz)} Hz) with a `,
           h("strong", {}, mm(result.stroke_m)), ` ${result.waveform || ""} stroke, the pivot's peak `
-          + "acceleration is ", h("strong", {}, `${num(result.peak_accel_m_s2)} m/s²`),
+          + "acceleration is ", h("strong", {}, accel(result.peak_accel_m_s2)),
           ` (${num(result.peak_accel_g, 3)} g).`),
         h("div", { class: "eq-cards" },
           Object.keys(EQUILIBRIA).map((name) => equilibriumCard(name, result[name] || {}))),
@@ -266,6 +280,16 @@ export function createReport(el, strip, onCautions = () => {}, onGoto = () => {}
         ? `Showing the last good result: ${n} problem${n === 1 ? "" : "s"} in the rig sheet (marked there).`
         : `No result yet: ${n} problem${n === 1 ? "" : "s"} in the rig sheet (marked there).`,
       problems[0] || null);
+      problem = problems[0] || null;
+    },
+    /** The same reply written again in the units now chosen; its state and words stay. */
+    rewrite() {
+      if (!shown) return;
+      const { state, source } = el.dataset;
+      const words = status.textContent;
+      this.show(shown);
+      if (source) el.dataset.source = source;
+      if (state !== "fresh") setState(state, words, state === "stale" ? problem : null);
     },
     failed(message) {
       bar.hidden = true;

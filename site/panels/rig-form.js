@@ -7,6 +7,7 @@ import {
   MAX_LINKS, WAVEFORMS, addLink, addPointMass, driveFieldUsed, getPath, parentPath, removeLink,
   removePointMass, setPath,
 } from "../state/draft.js";
+import { INCH_M, isImperial } from "../state/units.js";
 import {
   DRIVE_FIELDS, GENERAL_FIELDS, LEAN_LIMIT_FIELD, LIMIT_FIELDS, LINK_FIELDS, MASS_FIELDS, PATH_KEYS,
   WAVEFORM_NAMES, describePath,
@@ -279,7 +280,9 @@ export function createRigForm(root, { getDraft, onEdit, onStructure, onFocusSect
       input.dispatchEvent(new Event("input", { bubbles: true }));
     };
     put("drive.speed_rpm", `${speed_rpm} rpm`);
-    if (stroke_m !== undefined) put("drive.stroke_m", `${Number((stroke_m * 1000).toFixed(6))} mm`);
+    if (stroke_m === undefined) return;
+    put("drive.stroke_m", isImperial() ? `${Number((stroke_m / INCH_M).toFixed(6))} in`
+      : `${Number((stroke_m * 1000).toFixed(6))} mm`);
   }
 
   return { render, showProblems, focus, typeOperatingPoint };

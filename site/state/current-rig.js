@@ -6,6 +6,7 @@
 import { draftFromRig, rigFromDraft } from "./draft.js";
 import { download } from "./rig-file.js";
 import { autosave } from "./storage.js";
+import { setDisplayUnits } from "./units.js";
 
 const AUTOSAVE_OFF = "Autosave: off (this browser blocks storage; save a rig file)";
 // Typing in one field is one undo step until a pause this long; a gesture that types several
@@ -95,6 +96,8 @@ export function createCurrentRig(screen) {
     replace(next, view, what) {
       const had = rig.draft;
       if (had) autosave.keepPrevious(had, rig.view);
+      // A link carries the sender's display units: its numbers are written in them.
+      if (view && typeof view === "object") setDisplayUnits(view.units);
       rig.use(draftFromRig(next), view);
       screen.notice(`${what}.`, had ? [{ label: "Bring back my previous rig", run: rig.restorePrevious }] : []);
     },

@@ -3,6 +3,8 @@
 // The core parses that text (it is the one place that knows units); this module
 // only moves text between the draft and the rig object sent to the core.
 
+import { INCH_M, POUND_KG, exactIn, isImperial } from "./units.js";
+
 /** SI unit of each quantity field, shown after numbers that arrive without one. */
 export const LINK_UNITS = {
   length_m: "m", rod_mass_kg: "kg", extra_inertia_kg_m2: "kg m2",
@@ -43,11 +45,27 @@ function shiftDecimal(text, places) {
   return joined.replace(/^(-?)0+(?=\d)/, "$1");
 }
 
+// With imperial units chosen, lengths in inches and masses in pounds (ounces under a
+// pound), but only where a short decimal is exactly the file's number; else metric as above.
+const IMPERIAL = {
+  m: () => ["in", INCH_M],
+  kg: (value) => (Math.abs(value) < POUND_KG ? ["oz", POUND_KG / 16] : ["lb", POUND_KG]),
+};
+
+function imperialText(value, unit) {
+  if (!isImperial() || !IMPERIAL[unit] || value === 0) return null;
+  const [name, factor] = IMPERIAL[unit](value);
+  const text = exactIn(value, factor);
+  return text === null ? null : `${text} ${name}`;
+}
+
 /** A number from a file becomes "24 mm" or "0.3 kg"'s "300 g"; text stays as it is. */
 function asText(value, unit) {
   if (value === undefined || value === null) return "";
   if (typeof value !== "number") return typeof value === "string" ? value : JSON.stringify(value);
   if (!unit) return String(value);
+  const imperial = imperialText(value, unit);
+  if (imperial) return imperial;
   const smaller = SMALLER[unit];
   const plain = String(value);
   if (smaller && Math.abs(value) < 1 && !/e/i.test(plain)) {

@@ -59,7 +59,7 @@ def _chart_arguments(p) -> None:
     _operating_point_options(p)
 
 
-@command("chart", "stability chart over speed x stroke (SVG, or --json)", _chart_arguments)
+@command("chart", "stability map over speed x stroke (SVG, or --json)", _chart_arguments)
 def _cmd_chart(args) -> int:
     rig, _ = rig_of_args(args)
     if args.rows is not None and not 2 <= args.rows <= 2000:
@@ -181,8 +181,12 @@ def _op_job_start(request: dict) -> dict:
                             y_axis=request.get("y_axis", "stroke"))
     except ValueError as exc:
         raise RigError([Problem(kind, str(exc))]) from None
+    units = request.get("units", "metric")
+    if units not in ("metric", "imperial"):
+        raise RigError([Problem("units", f"{units!r} is not allowed: use metric or imperial")])
     job = _CHARTS.start(kind, _checked(steps))
     _CHARTS.jobs[job]["rig"] = rig
+    _CHARTS.jobs[job]["units"] = units  # the stroke axis's unit on the picture
     return {"job": job}
 
 
@@ -202,7 +206,7 @@ def _op_job_step(request: dict) -> dict:
                        until=lambda j: j["last"].complete)
     reply = {"fraction": 1.0 if done else job["fraction"], "done": done}
     if job["last"] is not None and (done or request.get("partial", True)):
-        svg, axes = render(job["last"], job["rig"])
+        svg, axes = render(job["last"], job["rig"], units=job["units"])
         reply.update({"svg": svg, "axes": axes, "chart": chart_dict(job["last"])})
     return reply
 

@@ -25,10 +25,10 @@ def _tolerance_arguments(t) -> None:
     t.add_argument("--refine", type=int, default=2, help="cells per map spacing (2)")
     t.add_argument("--validate", type=int, default=16, help="map points checked by full "
                    "simulation (16)")
-    t.add_argument("--svg", help="write the basin map to this SVG file (implies --map)")
+    t.add_argument("--svg", help="write the recovery map to this SVG file (implies --map)")
 
 
-@command("tolerance", "largest knock and release angle that recover; basin map",
+@command("tolerance", "knock tolerance: largest knock and release angle that recover; recovery map",
          _tolerance_arguments)
 def _cmd_tolerance(args) -> int:
     rig, _ = rig_of_args(args)

@@ -5,6 +5,7 @@ from __future__ import annotations
 
 from ..equilibria.chart import Chart, accel_lines, boundaries
 from ..model.rig import Rig
+from ..model.units import INCH
 from .svg import INK, esc, nice_ticks, num
 
 
@@ -133,24 +134,35 @@ def _carried_to_side(points, exits) -> list:
     return points
 
 
+# The stroke axis in the unit chosen for display: its name and how many make a metre
+# (1 in = 0.0254 m exactly, NIST SP 811).
+STROKE_SHOWN = {"metric": ("mm", 1000.0), "imperial": ("in", 1 / INCH)}
+
+
 def chart_svg(chart, rig: Rig, *, width_px: int = 760, height_px: int = 470,
-              boundaries: list[dict] | None = None, accel_lines: list[tuple] = ()) -> tuple[str, dict]:
+              boundaries: list[dict] | None = None, accel_lines: list[tuple] = (),
+              units: str = "metric") -> tuple[str, dict]:
     """The stability chart as SVG, and its axis mapping {x: {...}, y: {...}}.
 
-    x is speed (rpm), y stroke (mm) or peak acceleration (g). The mapping is linear:
+    x is speed (rpm), y stroke (mm, or in for ``units="imperial"``) or peak acceleration (g).
+    The mapping is linear and in SI whatever the units shown:
     px = px_min + (value - min) / (max - min) * (px_max - px_min).
     """
+    if units not in STROKE_SHOWN:
+        raise ValueError(f"units: {units!r} is not 'metric' or 'imperial'")
     left, top, right, bottom = PLOT_BOX
     x0, x1 = chart.speed_range
     y0, y1 = chart.y_range
     stroke_axis = chart.y_axis == "stroke"
-    y_scale = 1000.0 if stroke_axis else 1 / 9.80665  # shown in mm or g
+    stroke_unit, per_m = STROKE_SHOWN[units]
+    y_scale = per_m if stroke_axis else 1 / 9.80665  # shown in mm (or in) or g
     mapping = {
         "x": {"min": x0, "max": x1, "px_min": left, "px_max": width_px - right, "unit": "rpm",
               "quantity": "speed_rpm"},
         "y": {"min": y0, "max": y1, "px_min": height_px - bottom, "px_max": top,
               "unit": "m" if stroke_axis else "m/s^2",
-              "quantity": "stroke_m" if stroke_axis else "peak_accel_m_s2"},
+              "quantity": "stroke_m" if stroke_axis else "peak_accel_m_s2",
+              "shown_unit": stroke_unit if stroke_axis else "g"},
         "width_px": width_px, "height_px": height_px,
     }
 
@@ -160,7 +172,7 @@ def chart_svg(chart, rig: Rig, *, width_px: int = 760, height_px: int = 470,
     def py(v):
         return (height_px - bottom) - (v - y0) / ((y1 - y0) or 1.0) * (height_px - bottom - top)
 
-    title = f"Stability chart: {rig.title or 'rig'} ({rig.drive.waveform} drive)"
+    title = f"Stability map: {rig.title or 'rig'} ({rig.drive.waveform} drive)"
     out = [f'<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 {width_px} {height_px}" '
            f'width="{width_px}" height="{height_px}" role="img" class="stability-chart" '
            'font-family="system-ui, sans-serif">', f"<title>{esc(title)}</title>",
@@ -218,7 +230,7 @@ def chart_svg(chart, rig: Rig, *, width_px: int = 760, height_px: int = 470,
                    f'text-anchor="end" fill="{INK}">{v:g}</text>')
     out.append(f'<text x="{num((left + width_px - right) / 2)}" y="{height_px - 12}" '
                f'font-size="12" text-anchor="middle" fill="{INK}">drive speed (rpm)</text>')
-    ylabel = "stroke (mm)" if stroke_axis else "peak pivot acceleration (g)"
+    ylabel = f"stroke ({stroke_unit})" if stroke_axis else "peak pivot acceleration (g)"
     out.append(f'<text transform="translate(16 {num((top + height_px - bottom) / 2)}) rotate(-90)" '
                f'font-size="12" text-anchor="middle" fill="{INK}">{ylabel}</text>')
     lx = width_px - right + 12

@@ -69,7 +69,7 @@ def tolerance_text(result: dict, basin: dict | None = None) -> str:
         grid = basin["recovered"]
         share = sum(bool(v) for row in grid for v in row) / sum(len(row) for row in grid)
         out.append("")
-        out.append(f"Basin map: {len(basin['angles_rad'])} x {len(basin['rates_rad_s'])} starts, "
+        out.append(f"Recovery map: {len(basin['angles_rad'])} x {len(basin['rates_rad_s'])} starts, "
                    f"{share * 100:.0f}% recover; cell-to-cell mapping with "
                    f"{basin['refine']}x finer cells, {basin['cells_mapped']} cells")
         if basin.get("validation"):

@@ -7,6 +7,8 @@ import math
 from ..model.safety import CAUTIONS
 
 _NAMES = {"inverted": "Inverted (pendulum up)", "hanging": "Hanging (pendulum down)"}
+# The verdicts in the page's words (site/panels/report-view.js): (stable, unstable).
+VERDICTS = {"inverted": ("STAYS UP", "FALLS OVER"), "hanging": ("HANGS STEADY", "SWINGS UP")}
 
 
 def _rpm(x: float) -> str:
@@ -59,7 +61,8 @@ def equilibrium_lines(name: str, r: dict, shapes=((1.0,),)) -> list[str]:
                  "vertical)"]
         lines.extend(f"  note: {msg}" for msg in r.get("messages", []))
         return lines
-    lines = [f"{_NAMES[name]}: {'STABLE' if r['stable'] else 'UNSTABLE'}"
+    verdict = VERDICTS[name][0 if r["stable"] else 1]
+    lines = [f"{_NAMES[name]}: {verdict}, {'stable' if r['stable'] else 'unstable'}"
              f"  (largest Floquet multiplier {r['max_multiplier']:.6f}; stable below 1)"]
     if r["stable"]:
         m, e = r["margins_percent"], r["window_ends"]
@@ -74,7 +77,8 @@ def equilibrium_lines(name: str, r: dict, shapes=((1.0,),)) -> list[str]:
             lines.append(f"  close to an edge: only {r['nearest_margin_percent']:.1f}% of margin; "
                          "a small change of speed or stroke loses this position")
     else:
-        lines.append("  a small disturbance grows by a factor {:.3g} every drive cycle"
+        lines.append("  growth factor per drive cycle: x{:.3g} (a small disturbance grows by it "
+                     "every revolution)"
                      .format(r["max_multiplier"]))
     for msg in r.get("messages", []):
         lines.append(f"  note: {msg}")
