@@ -7,16 +7,13 @@ undo step), and the panel passes the page's accessibility checks and the axe-cor
 from __future__ import annotations
 
 import json
-import shutil
-import subprocess
-import sys
 from pathlib import Path
 
 import pytest
 import shakestill as ss  # the core on CPython: the independent reading
 from shakestill.model import share
 
-from pagekit import (ARTIFACTS, RESULT_TIMEOUT_MS, TABLET_PORTRAIT, assert_same_numbers, axe_violations, open_page, shot,
+from pagekit import (ARTIFACTS, cli_json, RESULT_TIMEOUT_MS, TABLET_PORTRAIT, assert_same_numbers, axe_violations, open_page, shot,
                      wait_for_result, wait_for_stale)
 from test_access import SMALL_TARGETS, UNNAMED, failures
 
@@ -42,14 +39,7 @@ def open_with(page, server, rig: dict) -> dict:
 
 def cli_plan(rig: dict, tmp_path: Path) -> dict:
     """`shakestill plan RIG --json`, as the command line gives it."""
-    path = tmp_path / "plan-rig.json"
-    path.write_text(json.dumps(rig))
-    exe = shutil.which("shakestill", path=str(Path(sys.executable).parent)) or shutil.which("shakestill")
-    command = [exe] if exe else [sys.executable, "-m", "shakestill.cli"]
-    done = subprocess.run([*command, "plan", str(path), "--json"], capture_output=True, text=True,
-                          timeout=600)
-    assert done.returncode == 0, done.stderr
-    return json.loads(done.stdout)
+    return cli_json("plan", rig, tmp_path, timeout=600)
 
 
 def run_plan(page) -> dict:
