@@ -25,7 +25,8 @@ from dataclasses import replace
 from ..equilibria.check import check as vertical_check
 from ..model.linear import EQUILIBRIA
 from ..model.rig import Rig, with_operating_point
-from .orbit import Orbit, held_orbit, orbit_steps, solve_orbit
+from .bracket import Point, close
+from .orbit import Orbit, held_orbit, is_damped, orbit_steps, search_steps, solve_orbit
 
 DEFAULT_MAX_LEAN_DEG = 5.0  # issue 15: the lean a rig builder accepts unless told otherwise
 TILT_FIELDS = ("axis_tilt_deg", "side_stroke_m", "side_phase_deg")
@@ -101,48 +102,62 @@ def _use_orbit(rig: Rig, name: str, entry: dict, orbit: Orbit) -> None:
             entry["margins_percent"][f"{axis}_{word}"] = value
 
 
-def _holds(rig: Rig, name: str, axis: str, value: float, start, steps: int):
-    """(stable, orbit) of the held orbit at another speed or stroke."""
+def _point(at: float, orbit: Orbit, damped: bool, lean_margin: float | None = None) -> Point:
+    """One probe of a bracket (``bracket.Point``): held or why not, and its indicators."""
+    if not orbit.found:
+        return Point(at, False, "lost", None, None, None, orbit)
+    rhos = orbit.multipliers
+    # without damping 1 - |multiplier| is 0 while held: no use (bracket docstring)
+    value = 1.0 - orbit.max_multiplier if damped else None
+    fold = abs(math.prod(1.0 - r for r in rhos))
+    pair = min(abs(a - b) for i, a in enumerate(rhos) for b in rhos[i + 1:])
+    if not orbit.stable:  # beside a lean margin, a stability value is no indicator
+        return Point(at, False, "unstable", None if lean_margin is not None else value,
+                     None, None, orbit)
+    if lean_margin is not None:
+        return Point(at, lean_margin > 0, "held" if lean_margin > 0 else "lean",
+                     lean_margin, fold, pair, orbit)
+    return Point(at, True, "held", value, fold, pair, orbit)
+
+
+def _holds(rig: Rig, name: str, axis: str, value: float, start, steps: int) -> Point:
+    """The held orbit at another speed or stroke, as a bracket point."""
     moved = with_operating_point(rig, **{f"{axis}_rpm" if axis == "speed" else "stroke_m": value})
     orbit = solve_orbit(moved, name, start=start, steps=steps, verify=False)
-    return orbit.stable, orbit
+    return _point(value, orbit, is_damped(rig))
 
 
 def _orbit_edge(rig: Rig, name: str, axis: str, edge: float, op_orbit: Orbit):
     """The orbit's window end near a vertical window edge (module docstring)."""
     op = rig.drive.speed_rpm if axis == "speed" else rig.drive.stroke_m
     inward = 1.0 if op > edge else -1.0
-    steps = max(op_orbit.steps, orbit_steps(rig, name))
-    start = op_orbit.start
-    stable, _ = _holds(rig, name, axis, edge, start, steps)
+    steps = search_steps(rig, op_orbit)
+
+    def probe(value, start):
+        return _holds(rig, name, axis, value, start, steps)
+    first = probe(edge, op_orbit.start)
     # from the vertical edge, probe outward while the orbit holds, or inward until it does
-    good, bad = (edge, None) if stable else (None, edge)
-    toward = -inward if stable else inward
+    good, bad = (first, None) if first.ok else (None, first)
+    toward = -inward if first.ok else inward
     for k in range(1, EDGE_PROBES + 1):
         value = edge * (1.0 + toward * EDGE_STEP * k)
         if toward == inward and (value - op) * inward >= 0:
-            good = op  # the operating point itself holds
+            good = _point(op, op_orbit, is_damped(rig))  # the operating point holds
             break
-        ok, trial = _holds(rig, name, axis, value, start, steps)
-        if ok:
-            good, start = value, trial.start
+        trial = probe(value, good.state.start if good else op_orbit.start)
+        if trial.ok:
+            good = trial
             if toward == inward:
                 break
         else:
-            bad = value
+            bad = trial
             if toward != inward:
                 break
     if good is None or bad is None:
         return edge, (f"the held orbit's {axis} window end near {edge:.6g} was not bracketed "
                       f"within {EDGE_PROBES * EDGE_STEP:.0%}: the vertical edge is given")
-    while abs(good - bad) > EDGE_RTOL * abs(good):
-        mid = 0.5 * (good + bad)
-        ok, trial = _holds(rig, name, axis, mid, start, steps)
-        if ok:
-            good, start = mid, trial.start
-        else:
-            bad = mid
-    return good, ""
+    good, _, _ = close(good, bad, probe, lambda p: p.state.start, rtol=EDGE_RTOL)
+    return good.at, ""
 
 
 def tilt_tolerance(rig: Rig, *, max_lean_deg: float = DEFAULT_MAX_LEAN_DEG) -> dict:
@@ -164,46 +179,45 @@ def tilt_tolerance(rig: Rig, *, max_lean_deg: float = DEFAULT_MAX_LEAN_DEG) -> d
 
 def _tolerance_one_way(rig: Rig, sign: float, limit: float) -> dict:
     steps = orbit_steps(rig, "inverted")
+    damped = is_damped(rig)
 
-    def at(tilt, start):
+    def at(tilt, start) -> Point:
         tilted = replace(rig, drive=replace(rig.drive, axis_tilt_deg=sign * tilt))
         o = solve_orbit(tilted, "inverted", start=start, steps=steps, verify=False)
         lean = max(abs(math.degrees(v)) for v in o.lean_rad) if o.found else math.inf
-        return o, lean
+        return _point(tilt, o, damped, (limit - lean) / limit if o.found else None)
 
-    orbit, lean = at(0.0, None)
-    if not orbit.stable or lean >= limit:
+    first = at(0.0, None)
+    if first.state.found:
+        steps = search_steps(replace(rig, drive=replace(rig.drive, axis_tilt_deg=0.0)),
+                             first.state)
+    if not first.ok:
+        orbit = first.state
+        lean = limit * (1.0 - first.value) if first.kind == "lean" else math.inf
         alone = rig.drive.side_stroke_m != 0.0  # without a tilt the side motion is still there
         why = (f"the side motion alone leans it {lean:.3g} deg" if orbit.stable else
                "with the side motion alone (no tilt) the inverted orbit is lost or unstable"
                if alone else "the inverted orbit is not stable even with the drive vertical")
         return {"tilt_tolerance_deg": None, "limited_by": "stability", "message": why}
-    good, good_lean, start = 0.0, lean, orbit.start
-    step = 0.25 * limit
+    good, step = first, 0.25 * limit
     while True:
-        nxt = min(MAX_TOLERANCE_DEG, good + step)
-        trial, lean = at(nxt, start)
-        if trial.stable and lean < limit:
-            slope = (lean - good_lean) / (nxt - good)
-            good, good_lean, start = nxt, lean, trial.start
-            if good >= MAX_TOLERANCE_DEG:
-                return {"tilt_tolerance_deg": MAX_TOLERANCE_DEG, "limited_by": "none",
-                        "message": "the inverted orbit holds at any tilt up to horizontal"}
-            aim = (limit - good_lean) / slope if slope > 0 else step
-            step = max(TOLERANCE_TOL_DEG, min(2.0 * step, 1.05 * aim))
-            continue
-        bad = nxt
-        break
-    while bad - good > TOLERANCE_TOL_DEG:
-        mid = 0.5 * (good + bad)
-        trial, lean = at(mid, start)
-        if trial.stable and lean < limit:
-            good, start, good_lean = mid, trial.start, lean
-        else:
-            bad = mid
-    final, lean = at(bad, start)
-    limited = "lean" if final.found and final.stable else "stability"
-    return {"tilt_tolerance_deg": good, "limited_by": limited,
-            "message": (f"beyond {good:.3g} deg the lean passes {limit:g} deg"
+        nxt = min(MAX_TOLERANCE_DEG, good.at + step)
+        trial = at(nxt, good.state.start)
+        if not trial.ok:
+            bad = trial
+            break
+        lean = limit * (1.0 - trial.value)
+        slope = (lean - limit * (1.0 - good.value)) / (nxt - good.at)
+        good = trial
+        if good.at >= MAX_TOLERANCE_DEG:
+            return {"tilt_tolerance_deg": MAX_TOLERANCE_DEG, "limited_by": "none",
+                    "message": "the inverted orbit holds at any tilt up to horizontal"}
+        aim = (limit - lean) / slope if slope > 0 else step
+        step = max(TOLERANCE_TOL_DEG, min(2.0 * step, 1.05 * aim))
+    good, bad, _ = close(good, bad, lambda t, start: at(t, start), lambda p: p.state.start,
+                         atol=TOLERANCE_TOL_DEG)
+    limited = "lean" if bad.kind == "lean" else "stability"
+    return {"tilt_tolerance_deg": good.at, "limited_by": limited,
+            "message": (f"beyond {good.at:.3g} deg the lean passes {limit:g} deg"
                         if limited == "lean" else
-                        f"beyond {good:.3g} deg the inverted orbit is lost or unstable")}
+                        f"beyond {good.at:.3g} deg the inverted orbit is lost or unstable")}

@@ -44,6 +44,8 @@ MAX_CORRECTION = 0.3  # rad: a longer Newton step is cut to this (stays in the b
 MIN_ORBIT_STEPS = 48  # steps per cycle: the wobble is read at the step points
 STEP_CHECK = 1e-9  # accepted change of P(x0) - x0 when the step count is doubled
 MAX_ORBIT_STEPS = 4000
+MIN_SEARCH_STEPS = 12  # searches (edges, tolerance) read no wobble: fewer steps do
+SEARCH_ERROR = 1e-8  # accepted one-cycle error of a search's step count (loose Newton: 1e-6)
 MIN_TILT_STEP_DEG = 1e-3  # continuation gives up (no orbit nearby) below this step
 FAR_LEAN = math.pi / 2  # rad: an orbit leaning past horizontal is not near its vertical
 
@@ -155,8 +157,9 @@ def _newton(sh: Shooter, x0, *, tol: float = NEWTON_TOLERANCE, max_iterations: i
             dx = [v * MAX_CORRECTION / big for v in dx]
         x = [a + b for a, b in zip(x, dx)]
         if max(abs(v) for v in dx) <= tol * (1.0 + max(abs(v) for v in x)):
-            cycle = _safe_cycle(sh, x)
-            return (x, *cycle, it, True) if cycle else (x, None, None, it, False)
+            # the cycle and monodromy of the last iterate stand for the new one: they
+            # differ by the correction (<= tol), far below what is read from them
+            return x, states, mono, it, True
     return x, states, mono, max_iterations, False
 
 
@@ -172,13 +175,32 @@ def _safe_cycle(sh: Shooter, x):
     return states, mono
 
 
-def _is_damped(rig: Rig) -> bool:
+def is_damped(rig: Rig) -> bool:
     return any(link.joint_damping_N_m_s > 0 for link in rig.links)
 
 
 def orbit_steps(rig: Rig, equilibrium: str) -> int:
     """Steps per cycle: the linear system's own choice, at least ``MIN_ORBIT_STEPS``."""
     return max(MIN_ORBIT_STEPS, default_steps(rig, equilibrium))
+
+
+def search_steps(rig: Rig, orbit: Orbit) -> int:
+    """Steps per cycle for the many loose solves of a search near ``orbit`` (found, at the
+    rig's drive): ``orbit.steps`` halved while one cycle from its start moves less than
+    ``SEARCH_ERROR`` from the cycle at ``orbit.steps``, at least ``MIN_SEARCH_STEPS``.
+    Searches read the lean (the mean over the step points, exact for a periodic trapezoid)
+    and the multipliers, not the wobble."""
+    steps = orbit.steps
+    try:
+        full = Shooter(rig, steps).cycle(orbit.start)[-1]
+        while steps // 2 >= MIN_SEARCH_STEPS:
+            end = Shooter(rig, steps // 2).cycle(orbit.start)[-1]
+            if not max(abs(a - b) for a, b in zip(end, full)) <= SEARCH_ERROR:
+                break
+            steps //= 2
+    except (OverflowError, ValueError, ZeroDivisionError):
+        pass
+    return steps
 
 
 def solve_orbit(rig: Rig, equilibrium: str, *, start=None, steps: int | None = None,
@@ -195,6 +217,11 @@ def solve_orbit(rig: Rig, equilibrium: str, *, start=None, steps: int | None = N
     x0 = list(start) if start is not None else [base] * n + [0.0] * n
     steps = steps or orbit_steps(rig, equilibrium)
     error = 0.0
+    coarse = max(MIN_SEARCH_STEPS, steps // 4)
+    if verify and coarse < steps:  # most Newton steps on a coarse cycle, the last on the fine
+        x, _, _, _, ok = _newton(Shooter(rig, coarse), x0, loose=True)
+        if ok:
+            x0 = x
     while True:
         sh = Shooter(rig, steps)
         x, states, mono, its, ok = _newton(sh, x0, loose=not verify)
@@ -225,8 +252,8 @@ def _summary(rig, equilibrium, x, states, mono, its, ok, steps, error, base) -> 
     found = ok and max(abs(v) for v in lean) < FAR_LEAN
     rhos = tuple(eigvals(mono)) if found else ()
     biggest = max((abs(r) for r in rhos), default=math.inf)
-    limit = 1.0 if _is_damped(rig) else 1.0 + UNDAMPED_TOLERANCE
-    stable = found and (biggest < limit if _is_damped(rig) else biggest <= limit)
+    limit = 1.0 if is_damped(rig) else 1.0 + UNDAMPED_TOLERANCE
+    stable = found and (biggest < limit if is_damped(rig) else biggest <= limit)
     notes = []
     if not ok:
         notes.append(f"no held orbit found near the {equilibrium} position: Newton shooting "
