@@ -38,9 +38,12 @@ export function followEdits($, { engine, rig, form, report, panels }) {
     mapDrawn = true;
   }
 
-  function sketch(current, isCurrent) {
+  /** The scale sketch; ``leanDeg`` (the check's inverted lean per link, off vertical) draws
+   * the links at the held orbit's mean lean. */
+  function sketch(current, isCurrent, leanDeg = null) {
     const holder = $("schematic");
-    engine.request("schematic", { rig: current }, { channel: "schematic" }).then((reply) => {
+    const request = leanDeg ? { rig: current, lean_deg: leanDeg } : { rig: current };
+    engine.request("schematic", request, { channel: "schematic" }).then((reply) => {
       if (!isCurrent()) return;
       if (reply.ok) {
         showSchematic(holder, reply.svg);
@@ -77,6 +80,8 @@ export function followEdits($, { engine, rig, form, report, panels }) {
         report.show(reply);
         rig.keepCheck(current, reply);
         panels.checked(reply.result);
+        const lean = reply.result.inverted && reply.result.inverted.lean_deg;
+        if (Array.isArray(lean)) sketch(current, isCurrent, lean); // redrawn at the lean
       } else if (reply.problems) {
         form.showProblems(reply.problems, reply.warnings || []);
         panels.problems(reply.problems);

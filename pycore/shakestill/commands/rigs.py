@@ -4,6 +4,7 @@ version, share_encode and share_decode."""
 from __future__ import annotations
 
 import json
+import math
 import sys
 
 from ..model.version import VERSION as __version__
@@ -14,6 +15,8 @@ from ..model.rigfile import dumps_rig, rig_to_dict
 from ..render.schematic import schematic
 from .common import load_source, problems_json, rig_of
 from .table import command, op
+
+MAX_LEAN_DRAWN_DEG = 90.0  # the held orbit leans less than horizontal (orbit.FAR_LEAN)
 
 
 def _demo_arguments(p) -> None:
@@ -55,8 +58,19 @@ def _op_validate(request: dict) -> dict:
 
 @op("schematic")
 def _op_schematic(request: dict) -> dict:
+    """``lean_deg`` (optional): the check's inverted lean per link, to draw the links at."""
     rig, _ = rig_of(request)
-    return {"svg": schematic(rig)}
+    lean = request.get("lean_deg")
+    if lean is not None:
+        ok = (isinstance(lean, list) and len(lean) == rig.n_links and all(
+            isinstance(v, (int, float)) and not isinstance(v, bool) and math.isfinite(v)
+            and abs(v) <= MAX_LEAN_DRAWN_DEG for v in lean))
+        if not ok:
+            raise RigError([Problem("lean_deg", f"{lean!r} is not allowed: one angle per link "
+                                                f"({rig.n_links}), each -{MAX_LEAN_DRAWN_DEG:g} "
+                                                f"to {MAX_LEAN_DRAWN_DEG:g} deg")])
+        lean = tuple(float(v) for v in lean)
+    return {"svg": schematic(rig, lean_deg=lean)}
 
 
 @op("version")

@@ -38,12 +38,27 @@ def _path_off_vertical(rig: Rig, cx: float, cy: float, scale: float) -> list[str
     return out
 
 
+def _upright(cx: float, pivot_y: float, reach_px: float, lean_deg) -> str:
+    """The upward vertical through the pivot, dashed, and the lean it is drawn at."""
+    words = ", ".join(f"{v:+.2f}" for v in lean_deg)
+    return (f'<g class="lean-reference"><line x1="{num(cx)}" y1="{num(pivot_y)}" x2="{num(cx)}" '
+            f'y2="{num(pivot_y - reach_px)}" stroke="{INK}" stroke-width="0.8" '
+            'stroke-dasharray="2 3"><title>upward vertical</title></line>'
+            f'<text x="6" y="14" font-size="11" fill="{INK}">'
+            f"links at the held orbit's mean lean {esc(words)} deg</text></g>")
+
+
 def schematic(rig: Rig, *, width_px: int = 320, height_px: int = 420,
-              angles_rad: tuple[float, ...] | None = None) -> str:
+              angles_rad: tuple[float, ...] | None = None,
+              lean_deg: tuple[float, ...] | None = None) -> str:
     """The rig drawn to scale: carriage, crank (if any), links and masses.
 
     ``angles_rad`` are link angles from the upward vertical (default: inverted).
+    ``lean_deg``: the inverted held orbit's mean angle per link (the check's ``lean_deg``):
+    the links are drawn at it beside the upward vertical, and the drawing says so.
     """
+    if lean_deg is not None:
+        angles_rad = tuple(math.radians(v) for v in lean_deg)
     angles = angles_rad or tuple(0.0 for _ in rig.links)
     reach = sum(link.length_m for link in rig.links)
     stroke = rig.drive.stroke_m
@@ -53,7 +68,9 @@ def schematic(rig: Rig, *, width_px: int = 320, height_px: int = 420,
     cx = width_px / 2
     pivot_y = height_px * 0.5 if reach * scale < height_px * 0.45 else 20 + reach * scale
     parts = [f'<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 {width_px} {height_px}" '
-             f'width="{width_px}" height="{height_px}" role="img" class="rig-schematic">',
+             f'width="{width_px}" height="{height_px}" role="img" class="rig-schematic"'
+             + ("" if lean_deg is None else
+                f' data-lean-deg="{esc(",".join(f"{v:.6g}" for v in lean_deg))}"') + ">",
              f"<title>{esc(rig.title or 'Rig')}: {len(rig.links)} link(s), drawn to scale"
              "</title>"]
     # carriage and its travel, on the drive's axis (a tilt turns them clockwise on screen)
@@ -77,6 +94,8 @@ def schematic(rig: Rig, *, width_px: int = 320, height_px: int = 420,
         parts.append("</g>")
     if rig.drive.off_vertical:
         parts.extend(_path_off_vertical(rig, cx, pivot_y, scale))
+    if lean_deg is not None:
+        parts.append(_upright(cx, pivot_y, reach * scale, lean_deg))
     # links
     x, y = cx, pivot_y
     for link, angle in zip(rig.links, angles):
