@@ -70,6 +70,42 @@ def test_the_sketch_turns_the_drive_onto_the_tilted_axis(tilted_page):
     assert page.locator('#schematic svg g[transform^="rotate(2 "]').count() == 1
 
 
+def test_the_sketch_draws_the_links_at_the_held_orbits_lean(tilted_page):
+    # Once checked, the sketch is redrawn at the check's inverted lean (which the first test
+    # holds to the command line's): the rod runs at that angle from the upward vertical
+    # (geometry: atan2 of its run over its rise, 0.01 deg for the SVG's 2 decimals).
+    page = tilted_page
+    lean = json.loads(page.get_attribute("#check-report", "data-result"))["inverted"]["lean_deg"]
+    page.wait_for_selector("#schematic svg[data-lean-deg]", timeout=RESULT_TIMEOUT_MS)
+    rod = page.evaluate("""() => { const l = document.querySelector(
+        '#schematic svg line[stroke-linecap="round"]');
+        return ['x1', 'y1', 'x2', 'y2'].map((a) => Number(l.getAttribute(a))); }""")
+    x1, y1, x2, y2 = rod
+    assert math.degrees(math.atan2(x2 - x1, y1 - y2)) == pytest.approx(lean[0], abs=0.01)
+    assert "mean lean" in page.locator("#schematic svg .lean-reference").text_content()
+
+
+def test_the_map_says_it_is_of_the_vertical_drive(tilted_page):
+    # The map is of the vertical drive; off vertical it says so on the picture, naming the
+    # rig's tilt (the core's words, tests/test_tilt_drawings.py).
+    page = tilted_page
+    page.wait_for_function("() => document.getElementById('stability-chart').dataset.state === 'done'",
+                           timeout=LONG_MS)
+    words = page.locator("#stability-chart svg .map-vertical-only").text_content()
+    assert "vertical drive" in words and "2 deg axis tilt" in words
+    # the held orbit's windows through the operating point are the check's (which the first
+    # test holds to the command line's, and tests/test_tilt_edges.py to scipy), to 1e-8
+    # relative (the bar's data carries 9 figures)
+    result = json.loads(page.get_attribute("#check-report", "data-result"))
+    for name, key, axis in (("inverted", "speed_window_rpm", "speed"),
+                            ("inverted", "stroke_window_m", "stroke"),
+                            ("hanging", "speed_window_rpm", "speed")):
+        got = page.get_attribute(f"#stability-chart svg line.held-{name}-{axis}", "data-window")
+        assert [float(v) for v in got.split(",")] == pytest.approx(result[name][key], rel=1e-8)
+    shot(page, "tilt-map-page")
+    page.locator("#stability-chart").screenshot(path=str(ARTIFACTS / "tilt-map.png"))
+
+
 def test_the_lean_chart_is_the_cores(tilted_page):
     # The page's lean chart (the `lean` motion job in Pyodide) against the `lean` op of the
     # core on CPython for the same rig: every lean to 1e-7 relative (the loose Newton of

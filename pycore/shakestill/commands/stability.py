@@ -5,9 +5,10 @@ from __future__ import annotations
 
 import json
 import sys
+from dataclasses import replace
 
 from ..equilibria.chart import chart, chart_dict, chart_steps, stroke_for_peak_accel
-from ..motion.lean import check
+from ..motion.lean import check, held_windows
 from ..equilibria.floquet import stability
 from ..equilibria.runup import recommended_rate, runup
 from ..model.drive import peak_accel_m_s2
@@ -64,7 +65,7 @@ def _cmd_chart(args) -> int:
     rig, _ = rig_of_args(args)
     if args.rows is not None and not 2 <= args.rows <= 2000:
         raise RigError([Problem("--rows", f"{args.rows} is not allowed: use 2 to 2000 rows")])
-    c = chart(rig, rows=args.rows, y_axis=args.y_axis)
+    c = _with_held_orbit(rig, chart(rig, rows=args.rows, y_axis=args.y_axis))
     svg, axes = render(c, rig)
     if args.output:
         with open(args.output, "w", encoding="utf-8") as fh:
@@ -184,10 +185,26 @@ def _op_job_start(request: dict) -> dict:
     units = request.get("units", "metric")
     if units not in ("metric", "imperial"):
         raise RigError([Problem("units", f"{units!r} is not allowed: use metric or imperial")])
-    job = _CHARTS.start(kind, _checked(steps))
+    job = _CHARTS.start(kind, _checked(_held_orbit_last(rig, steps)))
     _CHARTS.jobs[job]["rig"] = rig
     _CHARTS.jobs[job]["units"] = units  # the stroke axis's unit on the picture
     return {"job": job}
+
+
+def _with_held_orbit(rig, c):
+    """Off vertical, the finished map carries the held orbit's windows (the check's)."""
+    return replace(c, held_orbit=held_windows(rig)) if rig.drive.off_vertical else c
+
+
+def _held_orbit_last(rig, steps):
+    """A chart's steps; off vertical the last one is held back (not complete) until the held
+    orbit's windows are on it."""
+    for fraction, c in steps:
+        if c.complete and rig.drive.off_vertical:
+            yield fraction, replace(c, complete=False)
+            yield 1.0, _with_held_orbit(rig, c)
+            return
+        yield fraction, c
 
 
 def _checked(steps):

@@ -48,6 +48,11 @@ class Chart:
     notes: tuple[str, ...]
     # equilibrium -> edges traced in y at fixed speeds where the rows cannot place them
     columns: dict = field(default_factory=dict)
+    # a drive off vertical: the rig's tilt (deg) and side stroke (m) that this map leaves out
+    off_vertical: tuple[float, float] | None = None
+    # off vertical: the held orbit's windows through the operating point (motion.lean's
+    # held_windows, set by the command: this layer knows no orbits)
+    held_orbit: dict | None = None
 
 
 def _y_range(rig: Rig, y_axis: str) -> tuple[float, float]:
@@ -131,8 +136,11 @@ def chart_steps(rig: Rig | Model, *, rows: int | None = None, y_axis: str = "str
                   + CEILING_WORDS,)
     if rig.drive.off_vertical:  # the map's Floquet verdicts are of the vertical positions
         notes += ("the map is of the positions with the drive vertical: off vertical the "
-                  "check's verdict and windows are those of the held orbit, and the lean chart "
-                  "shows how far it leans",)
+                  "check's verdict and windows are those of the held orbit (on the stroke view, "
+                  "bars through the operating point), and the lean chart shows how far it "
+                  "leans",)
+    off_vertical = ((rig.drive.axis_tilt_deg, rig.drive.side_stroke_m)
+                    if rig.drive.off_vertical else None)
     marks = tongues(model)
     if rig.n_links == 1:
         steps = _row_steps(model, ys, y_axis, equilibria)
@@ -144,7 +152,7 @@ def chart_steps(rig: Rig | Model, *, rows: int | None = None, y_axis: str = "str
             done[j] = row
             total += row.evaluations
         partial = Chart(y_axis, (lo, hi), (y0, y1), tuple(done[i] for i in sorted(done)),
-                        marks, total, False, notes)
+                        marks, total, False, notes, off_vertical=off_vertical)
         yield (k + 1) / (rows + 1), partial
     traced, speeds = {}, column_speeds((lo, hi)) if columns else []
     for eq in equilibria if columns else ():
@@ -265,6 +273,10 @@ def chart_dict(c: Chart) -> dict:
         "evaluations": c.evaluations,
         "complete": c.complete,
         "notes": list(c.notes),
+        # off vertical only (a vertical rig's JSON is unchanged): what this map is of
+        **({"drive_as_mapped": "vertical", "rig_axis_tilt_deg": c.off_vertical[0],
+            "rig_side_stroke_m": c.off_vertical[1]} if c.off_vertical else {}),
+        **({"held_orbit": c.held_orbit} if c.held_orbit is not None else {}),
     }
 
 

@@ -67,6 +67,15 @@ def check(rig: Rig, *, max_lean_deg: float | None = None) -> dict:
     return result
 
 
+def held_windows(rig: Rig) -> dict:
+    """Per equilibrium, the held orbit's verdict and windows through the operating point (the
+    check's, off vertical), for drawing on the vertical drive's stability map."""
+    result = check(rig)
+    return {name: {"stable": result[name]["stable"], "lean_deg": result[name]["lean_deg"],
+                   "speed_window_rpm": result[name]["speed_window_rpm"],
+                   "stroke_window_m": result[name]["stroke_window_m"]} for name in EQUILIBRIA}
+
+
 def _use_orbit(rig: Rig, name: str, entry: dict, orbit: Orbit) -> None:
     """The equilibrium's verdict, multipliers and windows become the orbit's."""
     entry["stable"] = orbit.stable

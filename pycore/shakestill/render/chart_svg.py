@@ -204,6 +204,8 @@ def chart_svg(chart, rig: Rig, *, width_px: int = 760, height_px: int = 470,
                        f'text-anchor="middle" fill="#5a3b00">{esc(t["label"])}'
                        "<title>hanging resonance of this order (drive near 2 f0 / n)</title>"
                        "</text>")
+    if chart.held_orbit and stroke_axis:
+        out.append(_held_bars(chart.held_orbit, rig, px, py))
     # operating point
     op_y = rig.drive.stroke_m if stroke_axis else None
     if op_y is None:
@@ -248,8 +250,61 @@ def chart_svg(chart, rig: Rig, *, width_px: int = 760, height_px: int = 470,
     out.append(f'<circle cx="{lx + 7}" cy="{y + 7}" r="5" fill="none" stroke="#b0122b" '
                f'stroke-width="2"/><text x="{lx + 20}" y="{y + 11}" font-size="11" '
                f'fill="{INK}">operating point</text>')
+    if chart.held_orbit and stroke_axis:
+        for k, name in enumerate(HELD_OFFSET_PX):
+            yk = y + 27 + 20 * k
+            out.append(f'<line x1="{lx}" y1="{yk}" x2="{lx + 14}" y2="{yk}" '
+                       f'stroke="{EDGE_INK[name]}" stroke-width="3"/><text x="{lx + 20}" '
+                       f'y="{yk + 4}" font-size="11" fill="{INK}">held orbit, {name}</text>')
+    if chart.off_vertical:
+        out.append(_vertical_only(chart.off_vertical, left, top, width_px - left - right - 8))
     out.append("</svg>")
     return "".join(out), mapping
+
+
+HELD_OFFSET_PX = {"inverted": -3, "hanging": 3}  # the two equilibria's bars side by side
+
+
+def _held_bars(held: dict, rig: Rig, px, py) -> str:
+    """The held orbit's windows through the operating point, each a bar along its axis
+    (speed at the operating stroke, stroke at the operating speed), per equilibrium."""
+    out = ['<g class="held-orbit-windows">']
+    sx, sy = px(rig.drive.speed_rpm), py(rig.drive.stroke_m)
+    for name, w in held.items():
+        if not w["stable"]:
+            continue
+        ink, off = EDGE_INK[name], HELD_OFFSET_PX[name]
+        for axis, window, unit, scale in (("speed", w["speed_window_rpm"], "rpm", 1.0),
+                                          ("stroke", w["stroke_window_m"], "mm", 1000.0)):
+            if not window:
+                continue
+            a, b = window
+            if axis == "speed":
+                x1, y1, x2, y2 = px(a), sy + off, px(b), sy + off
+            else:
+                x1, y1, x2, y2 = sx + off, py(a), sx + off, py(b)
+            words = (f"held orbit, {name}: stable from {a * scale:.4g} to {b * scale:.4g} "
+                     f"{unit} at the operating {'stroke' if axis == 'speed' else 'speed'}")
+            out.append(f'<line class="held-{name}-{axis}" x1="{num(x1)}" y1="{num(y1)}" '
+                       f'x2="{num(x2)}" y2="{num(y2)}" stroke="{ink}" stroke-width="3" '
+                       f'stroke-linecap="square" data-window="{a:.9g},{b:.9g}">'
+                       f"<title>{esc(words)}</title></line>")
+    out.append("</g>")
+    return "".join(out)
+
+
+def _vertical_only(off: tuple[float, float], left: int, top: int, width: int) -> str:
+    """The plain words on a map of a rig whose drive is off vertical: what it is of."""
+    tilt, side = off
+    what = " and ".join(w for w in (f"{tilt:g} deg axis tilt" if tilt else "",
+                                    f"{side * 1000:g} mm side stroke" if side else "") if w)
+    lines = (f"Drawn for a vertical drive: the rig's {what} is not in this map.",
+             "The bars through the operating point are the held orbit's windows (the check's).")
+    text = "".join(f'<text x="{left + 10}" y="{top + 34 + 14 * k}" font-size="11" '
+                   f'fill="#5a3b00">{esc(line)}</text>' for k, line in enumerate(lines))
+    return (f'<g class="map-vertical-only"><rect x="{left + 4}" y="{top + 22}" width="{width}" '
+            f'height="34" rx="3" fill="#fff8e1" stroke="#b07a00" stroke-width="0.8"/>{text}'
+            "</g>")
 
 
 def render(c: Chart, rig: Rig, **options) -> tuple[str, dict]:
