@@ -8,12 +8,17 @@ same peer walking the 60 tilts of the inverted curve alone (each fsolve started 
 last orbit, no monodromy: the cheapest fair peer).
 The Pyodide pass (under Node.js, ``bench/pyodide_node.py``) times the same one-link check and
 lean chart and prints the ratio to CPython's figure of this run; ``--no-pyodide`` skips it.
-Run: PYTHONPATH=pycore python bench/bench_tilt.py [--no-pyodide]
+``--before PATH`` also times the same figures of another copy of the core (PATH: its
+``pycore``, e.g. main's worktree) beside this one, alternating, in fresh processes, two rounds,
+the smaller CPU time of each kept: before/after figures from one run.
+Run: PYTHONPATH=pycore python bench/bench_tilt.py [--no-pyodide] [--before PATH]
 """
 
 from __future__ import annotations
 
 import json
+import os
+import subprocess
 import sys
 import time
 from pathlib import Path
@@ -60,6 +65,46 @@ RIGS = {
                                                {"speed_rpm": [300, 3600], "stroke_m": [0, 0.01]}),
                                        1.0),
 }
+
+
+FIGURES_CODE = """
+import json, sys, time
+import shakestill as ss
+from shakestill.motion.lean_chart import lean_chart
+rigs = json.loads(sys.argv[1])
+out = {}
+for name, data in rigs.items():
+    rig = ss.rig_from_dict(data)
+    t = time.process_time()
+    ss.check(rig)
+    out["check, " + name] = time.process_time() - t
+rig = ss.rig_from_dict(rigs["1 link crank, tilt 1 deg"])
+t = time.process_time()
+lean_chart(rig, tilts=61)
+out["lean chart, 1 link crank, 61 tilts + 42 speeds"] = time.process_time() - t
+print(json.dumps(out))
+"""
+
+
+def figures(pycore: str) -> dict:
+    """The check and lean chart CPU seconds of the core at ``pycore``, in a fresh process."""
+    env = dict(os.environ, PYTHONPATH=pycore)
+    run = subprocess.run([sys.executable, "-c", FIGURES_CODE, json.dumps(RIGS)], env=env,
+                         capture_output=True, text=True, check=True)
+    return json.loads(run.stdout)
+
+
+def before_after(before: str) -> None:
+    here = str(HERE.parent / "pycore")
+    best: dict = {}
+    for _ in range(2):  # alternating rounds: a load spike hits both sides alike
+        for side, path in (("before", before), ("after", here)):
+            for key, value in figures(path).items():
+                best.setdefault(key, {}).setdefault(side, []).append(value)
+    print(f"{'figure':48s} {'before':>8s} {'after':>8s}  ratio  (min of 2 rounds, CPU s)")
+    for key, sides in best.items():
+        b, a = min(sides["before"]), min(sides["after"])
+        print(f"{key:48s} {b:8.2f} {a:8.2f}  {b / a:4.1f}x")
 
 
 def cpu(fn):
@@ -126,6 +171,8 @@ def chart_bench() -> None:
 
 
 if __name__ == "__main__":
+    if "--before" in sys.argv:
+        before_after(sys.argv[sys.argv.index("--before") + 1])
     main()
     chart_bench()
     if "--no-pyodide" not in sys.argv:

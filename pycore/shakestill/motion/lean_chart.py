@@ -22,7 +22,7 @@ from dataclasses import replace
 from ..equilibria.estimates import estimates
 from ..model.linear import EQUILIBRIA
 from ..model.rig import MAX_TILT_DEG, Rig, with_operating_point
-from .orbit import orbit_steps, solve_orbit
+from .orbit import orbit_steps, search_steps, solve_orbit
 
 DEFAULT_TILTS = 61  # points on the tilt axis, 0 included
 DEFAULT_SPEEDS = 41  # points on the speed axis, across the speed limits
@@ -46,16 +46,18 @@ def _slopes(rig: Rig) -> dict:
             "hanging": kappa / (kappa + 1.0)}
 
 
-def _walk(rig: Rig, name: str, points, move, steps: int, end: dict):
+def _walk(rig: Rig, name: str, points, move, steps: tuple[int, int], end: dict):
     """Yields (lean_deg, wobble_deg, stable) along ``points``; ``move(rig, value)`` is the rig
-    at one point. The walk stops where the orbit is lost or unstable (the pendulum holds no
-    orbit there), noting it in ``end``; the points past it are None."""
+    at one point; ``steps`` (Newton's, the reading's: ``_steps``). The walk stops where the
+    orbit is lost or unstable (the pendulum holds no orbit there), noting it in ``end``; the
+    points past it are None."""
     start = None
     for value in points:
         if end:
             yield None, None, None
             continue
-        o = solve_orbit(move(rig, value), name, start=start, steps=steps, verify=False)
+        o = solve_orbit(move(rig, value), name, start=start, steps=steps[0], verify=False,
+                        read_steps=steps[1])
         if not o.stable:
             end.update(at=value, why="unstable" if o.found else "lost")
             yield None, None, None
@@ -63,6 +65,16 @@ def _walk(rig: Rig, name: str, points, move, steps: int, end: dict):
         start = o.start
         yield ([math.degrees(v) for v in o.lean_rad], [math.degrees(v) for v in o.wobble_rad],
                True)
+
+
+def _steps(rig: Rig, name: str, steps: int) -> tuple[int, int]:
+    """(Newton's steps, the reading's): Newton on the fewest steps that keep the held
+    orbit's cycle at the rig's tilt (``SPEED_TILT_DEG`` when vertical: at no tilt the orbit
+    is the equilibrium, exact at any step count) within ``orbit.SEARCH_ERROR``; lean and
+    wobble read at ``steps``."""
+    at = _tilted(rig, rig.drive.axis_tilt_deg or SPEED_TILT_DEG)
+    o = solve_orbit(at, name, steps=steps, verify=False)
+    return (search_steps(at, replace(o, steps=steps)) if o.found else steps), steps
 
 
 def _tilted(rig: Rig, tilt: float) -> Rig:
@@ -107,7 +119,7 @@ def lean_chart_steps(rig: Rig, *, max_tilt_deg: float | None = None,
            "side_stroke_m": rig.drive.side_stroke_m,
            "estimate": _slopes(rig), "by_tilt": {}, "by_speed": {}}
     for name in EQUILIBRIA:
-        steps = orbit_steps(rig, name)
+        steps = _steps(rig, name, orbit_steps(rig, name))
         items, end = [], {}
         for item in _walk(rig, name, tilt_axis, _tilted, steps, end):
             items.append(item)
@@ -116,7 +128,8 @@ def lean_chart_steps(rig: Rig, *, max_tilt_deg: float | None = None,
         out["by_tilt"][name] = _curve(items, [None, end])
         base = _tilted(rig, speed_tilt)
         # the step count of the fastest speed on the axis holds for the slower ones
-        steps = max(steps, orbit_steps(_at_speed(rig, speed_axis[-1]), name))
+        fastest = orbit_steps(_at_speed(rig, speed_axis[-1]), name)
+        steps = (max(steps[0], fastest // (steps[1] // steps[0])), max(steps[1], fastest))
         sides = []  # from the operating speed outwards, each side its own walk
         for points in (speed_axis[op_index::-1], speed_axis[op_index:]):
             items, end = [], {}

@@ -204,13 +204,15 @@ def search_steps(rig: Rig, orbit: Orbit) -> int:
 
 
 def solve_orbit(rig: Rig, equilibrium: str, *, start=None, steps: int | None = None,
-                verify: bool = True) -> Orbit:
+                verify: bool = True, read_steps: int | None = None) -> Orbit:
     """Newton shooting for the held orbit at the rig's own drive, from ``start``.
 
     ``start`` is a state (q..., q'...) at phase 0; default the equilibrium itself.
     With ``verify`` the step count is doubled until P(x0) - x0 moves less than
     ``STEP_CHECK`` (at most ``MAX_ORBIT_STEPS``), which is reported as the error estimate;
     without it Newton stops loosely (``_newton``), for searches over many orbits.
+    ``read_steps``: lean and wobble are read from one cycle at that many steps (a loose
+    Newton on fewer ``steps``, the wobble at the step points of a finer cycle).
     """
     base = _base(equilibrium)
     n = rig.n_links
@@ -238,6 +240,11 @@ def solve_orbit(rig: Rig, equilibrium: str, *, start=None, steps: int | None = N
         if error <= STEP_CHECK or 2 * steps > MAX_ORBIT_STEPS:
             break
         steps, x0 = 2 * steps, x
+    if ok and read_steps and read_steps != steps:
+        try:
+            states = Shooter(rig, read_steps).cycle(x)
+        except (OverflowError, ValueError, ZeroDivisionError):
+            ok = False
     return _summary(rig, equilibrium, x, states, mono, its, ok, steps, error, base)
 
 
