@@ -26,7 +26,8 @@ from ..equilibria.check import check as vertical_check
 from ..model.linear import EQUILIBRIA
 from ..model.rig import Rig, with_operating_point
 from .bracket import Point, close
-from .orbit import Orbit, held_orbit, is_damped, orbit_steps, search_steps, solve_orbit
+from .orbit import (MIN_SEARCH_STEPS, Orbit, held_orbit, is_damped, orbit_steps, search_steps,
+                    solve_orbit, steps_hold)
 
 DEFAULT_MAX_LEAN_DEG = 5.0  # issue 15: the lean a rig builder accepts unless told otherwise
 TILT_FIELDS = ("axis_tilt_deg", "side_stroke_m", "side_phase_deg")
@@ -129,18 +130,24 @@ def _point(at: float, orbit: Orbit, damped: bool, lean_margin: float | None = No
     return Point(at, True, "held", value, fold, pair, orbit)
 
 
+def _moved(rig: Rig, axis: str, value: float) -> Rig:
+    return with_operating_point(rig, **{f"{axis}_rpm" if axis == "speed" else "stroke_m": value})
+
+
 def _holds(rig: Rig, name: str, axis: str, value: float, start, steps: int) -> Point:
     """The held orbit at another speed or stroke, as a bracket point."""
-    moved = with_operating_point(rig, **{f"{axis}_rpm" if axis == "speed" else "stroke_m": value})
-    orbit = solve_orbit(moved, name, start=start, steps=steps, verify=False)
+    orbit = solve_orbit(_moved(rig, axis, value), name, start=start, steps=steps, verify=False)
     return _point(value, orbit, is_damped(rig))
 
 
-def _orbit_edge(rig: Rig, name: str, axis: str, edge: float, op_orbit: Orbit):
-    """The orbit's window end near a vertical window edge (module docstring)."""
+def _orbit_edge(rig: Rig, name: str, axis: str, edge: float, op_orbit: Orbit,
+                steps: int | None = None):
+    """The orbit's window end near a vertical window edge (module docstring), searched on
+    ``search_steps``; again on the orbit's own count if those do not hold at the end."""
     op = rig.drive.speed_rpm if axis == "speed" else rig.drive.stroke_m
     inward = 1.0 if op > edge else -1.0
-    steps = search_steps(rig, op_orbit)
+    full = op_orbit.steps
+    steps = steps or search_steps(rig, op_orbit)
 
     def probe(value, start):
         return _holds(rig, name, axis, value, start, steps)
@@ -166,6 +173,8 @@ def _orbit_edge(rig: Rig, name: str, axis: str, edge: float, op_orbit: Orbit):
         return edge, (f"the held orbit's {axis} window end near {edge:.6g} was not bracketed "
                       f"within {EDGE_PROBES * EDGE_STEP:.0%}: the vertical edge is given")
     good, _, _ = close(good, bad, probe, lambda p: p.state.start, rtol=EDGE_RTOL)
+    if steps < full and not steps_hold(_moved(rig, axis, good.at), good.state.start, steps, full):
+        return _orbit_edge(rig, name, axis, edge, op_orbit, full)
     return good.at, ""
 
 
@@ -186,20 +195,28 @@ def tilt_tolerance(rig: Rig, *, max_lean_deg: float = DEFAULT_MAX_LEAN_DEG) -> d
     return dict(best, max_lean_deg=max_lean_deg)
 
 
-def _tolerance_one_way(rig: Rig, sign: float, limit: float) -> dict:
-    steps = orbit_steps(rig, "inverted")
+def _tolerance_one_way(rig: Rig, sign: float, limit: float, coarse: bool = True) -> dict:
+    """One sign of tilt (``tilt_tolerance``): on ``orbit.MIN_SEARCH_STEPS`` (``coarse``) when
+    they hold at the end found, else again on the full count (at no tilt the orbit may be
+    the equilibrium itself, exact at any count: only the end can tell)."""
+    full = orbit_steps(rig, "inverted")
+    steps = MIN_SEARCH_STEPS if coarse and MIN_SEARCH_STEPS < full else full
     damped = is_damped(rig)
 
+    def tilted(tilt):
+        return replace(rig, drive=replace(rig.drive, axis_tilt_deg=sign * tilt))
+
     def at(tilt, start) -> Point:
-        tilted = replace(rig, drive=replace(rig.drive, axis_tilt_deg=sign * tilt))
-        o = solve_orbit(tilted, "inverted", start=start, steps=steps, verify=False)
+        o = solve_orbit(tilted(tilt), "inverted", start=start, steps=steps, verify=False)
         lean = max(abs(math.degrees(v)) for v in o.lean_rad) if o.found else math.inf
         return _point(tilt, o, damped, (limit - lean) / limit if o.found else None)
 
+    def again(end: Point) -> bool:  # the coarse count does not hold at this end
+        return steps < full and not steps_hold(tilted(end.at), end.state.start, steps, full)
+
     first = at(0.0, None)
-    if first.state.found:
-        steps = search_steps(replace(rig, drive=replace(rig.drive, axis_tilt_deg=0.0)),
-                             first.state)
+    if not first.ok and steps < full:  # said on the full count, as every answer is
+        return _tolerance_one_way(rig, sign, limit, coarse=False)
     if not first.ok:
         orbit = first.state
         lean = limit * (1.0 - first.value) if first.kind == "lean" else math.inf
@@ -219,12 +236,16 @@ def _tolerance_one_way(rig: Rig, sign: float, limit: float) -> dict:
         slope = (lean - limit * (1.0 - good.value)) / (nxt - good.at)
         good = trial
         if good.at >= MAX_TOLERANCE_DEG:
+            if again(good):
+                return _tolerance_one_way(rig, sign, limit, coarse=False)
             return {"tilt_tolerance_deg": MAX_TOLERANCE_DEG, "limited_by": "none",
                     "message": "the inverted orbit holds at any tilt up to horizontal"}
         aim = (limit - lean) / slope if slope > 0 else step
         step = max(TOLERANCE_TOL_DEG, min(2.0 * step, 1.05 * aim))
     good, bad, _ = close(good, bad, lambda t, start: at(t, start), lambda p: p.state.start,
                          atol=TOLERANCE_TOL_DEG)
+    if again(good):
+        return _tolerance_one_way(rig, sign, limit, coarse=False)
     limited = "lean" if bad.kind == "lean" else "stability"
     return {"tilt_tolerance_deg": good.at, "limited_by": limited,
             "message": (f"beyond {good.at:.3g} deg the lean passes {limit:g} deg"

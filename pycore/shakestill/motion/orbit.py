@@ -184,22 +184,26 @@ def orbit_steps(rig: Rig, equilibrium: str) -> int:
     return max(MIN_ORBIT_STEPS, default_steps(rig, equilibrium))
 
 
+def steps_hold(rig: Rig, start, steps: int, full: int) -> bool:
+    """True when one cycle from ``start`` at ``steps`` ends within ``SEARCH_ERROR`` of the
+    cycle at ``full`` steps."""
+    try:
+        a, b = Shooter(rig, steps).cycle(start)[-1], Shooter(rig, full).cycle(start)[-1]
+    except (OverflowError, ValueError, ZeroDivisionError):
+        return False
+    return max(abs(x - y) for x, y in zip(a, b)) <= SEARCH_ERROR
+
+
 def search_steps(rig: Rig, orbit: Orbit) -> int:
     """Steps per cycle for the many loose solves of a search near ``orbit`` (found, at the
-    rig's drive): ``orbit.steps`` halved while one cycle from its start moves less than
-    ``SEARCH_ERROR`` from the cycle at ``orbit.steps``, at least ``MIN_SEARCH_STEPS``.
-    Searches read the lean (the mean over the step points, exact for a periodic trapezoid)
-    and the multipliers, not the wobble."""
+    rig's drive): ``orbit.steps`` halved while ``steps_hold`` from its start, at least
+    ``MIN_SEARCH_STEPS``. Searches read the lean (the mean over the step points, exact for
+    a periodic trapezoid) and the multipliers, not the wobble; a search checks the count
+    again at the end it finds."""
     steps = orbit.steps
-    try:
-        full = Shooter(rig, steps).cycle(orbit.start)[-1]
-        while steps // 2 >= MIN_SEARCH_STEPS:
-            end = Shooter(rig, steps // 2).cycle(orbit.start)[-1]
-            if not max(abs(a - b) for a, b in zip(end, full)) <= SEARCH_ERROR:
-                break
-            steps //= 2
-    except (OverflowError, ValueError, ZeroDivisionError):
-        pass
+    while steps // 2 >= MIN_SEARCH_STEPS and steps_hold(rig, orbit.start, steps // 2,
+                                                          orbit.steps):
+        steps //= 2
     return steps
 
 
