@@ -167,3 +167,17 @@ def test_undamped_window_edges_are_a_modes_mathieu_edges(make, equilibrium):
             assert err < 1e-8
             checked += 1
     assert checked >= 1
+
+
+@pytest.mark.parametrize("equilibrium", ["inverted", "hanging"])
+def test_undamped_crank_near_its_dead_point_falls_back_to_the_chains_monodromy(equilibrium):
+    # r/l = 0.906: each sway mode's Hill band (82 rows x 80 harmonics) is over MAX_HILL_WORK,
+    # which refused the check although the chain's RK monodromy answers. Reference:
+    # scipy.integrate.solve_ivp monodromy of the whole chain (DOP853, rtol 1e-12) and
+    # numpy.linalg.eigvals; every multiplier to 1e-8 relative.
+    data = _two(drive=ref.crank(0.145, 0.08, 2000.0))
+    data["limits"] = {"speed_rpm": [300.0, 6000.0], "stroke_m": [0.0, 0.15]}
+    got = ss.stability(ss.rig_from_dict(data), equilibrium)
+    assert got.method == "monodromy" and got.converged
+    want = ref.multipliers(ref.monodromy(data, equilibrium))
+    assert ref.same_multipliers(got.multipliers, want, 1e-8) < 1e-8

@@ -33,6 +33,10 @@ MAX_HILL_WORK = 4_000_000  # rows x band width^2 of one Hill determinant (about 
 # stroke of 1e5 pendulum lengths asked for 8,000 rows of a crank's band and half a minute
 
 
+class HillTooLarge(OutOfReach):
+    """Hill's determinant would exceed MAX_HILL_WORK; another exact method may still answer."""
+
+
 @dataclass(frozen=True)
 class Stability:
     """Floquet stability of one equilibrium at one operating point."""
@@ -169,7 +173,7 @@ def _hill_stability(m: Model, equilibrium: str, settings: Settings, verify: bool
         R = max(settings.truncation or default_truncation(form.theta0, form.theta),
                 len(form.theta))
         if (2 * R + 1) * (2 * len(form.theta) + 1) ** 2 > MAX_HILL_WORK:
-            raise OutOfReach([Problem("drive.stroke_m", "outside what this method can resolve: "
+            raise HillTooLarge([Problem("drive.stroke_m", "outside what this method can resolve: "
                                       f"Hill's determinant would need {R} rows at a stroke of "
                                       f"{m.rig.drive.stroke_m:g} m, "
                                       f"{m.rig.drive.stroke_m / m.properties.l_eq_m:.3g} times "
@@ -352,8 +356,13 @@ def stability(rig: Rig | Model, equilibrium: str, speed_rpm: float | None = None
             return _rk_trace_stability(m, equilibrium, settings, modal=rig.n_links > 1)
         if rig.n_links == 1:
             return _hill_stability(m, equilibrium, settings, verify)
-        if settings.method == "modal" or (settings.method is None and modes_decouple(m)):
+        if settings.method == "modal":
             return _hill_stability(m, equilibrium, settings, verify, modal=True)
+        if settings.method is None and modes_decouple(m):
+            try:
+                return _hill_stability(m, equilibrium, settings, verify, modal=True)
+            except HillTooLarge:  # a crank near its dead point: the modes' band is too wide,
+                pass  # the chain's RK monodromy (the modes' own choice) still answers
         return _rk_stability(m, equilibrium, settings, verify)
     except ArithmeticError as exc:  # eigenvalues that did not converge, an overflow
         raise OutOfReach([Problem("links", f"outside what this method can resolve at "
