@@ -111,8 +111,10 @@ def test_map_appears_for_the_demo_rig(map_page):
     # Independent reading: the same job run to the end by the core on CPython.
     start = bridge.call({"op": "job_start", "kind": "chart", "rig": ss.rig_to_dict(ss.demo_rig()),
                          "y_axis": "stroke"})
-    step = bridge.call({"op": "job_step", "job": start["job"], "budget_ms": 1e9})
-    assert step["done"]
+    # Step until done: one step works at most MAX_BUDGET_MS (5 s) of wall clock, which a loaded
+    # machine (parallel test workers) can spend before the chart is finished.
+    while not (step := bridge.call({"op": "job_step", "job": start["job"], "budget_ms": 5000}))["done"]:
+        assert step["ok"], step
     assert int(page.get_attribute(CHART, "data-rows")) == len(step["chart"]["rows"])
     assert_same_numbers(axes_of(page), step["axes"], rel=1e-12, where="axes")
     assert page.errors == []
