@@ -121,3 +121,14 @@ def test_ops_take_units_for_their_words_and_name_a_bad_one():
         bad = json.loads(handle(json.dumps({"op": op, "rig": rig, "units": "cubits",
                                             "rate_rpm_s": 20})))
         assert not bad["ok"] and bad["problems"][0]["path"] == "units", op
+
+
+def test_runup_and_lean_words_and_picture_give_the_stroke_in_inches():
+    runup = json.loads(run_cli("runup", "--rate", "20", "--json").stdout)
+    words = run_cli("runup", "--rate", "20", "--units", "imperial").stdout
+    within_last_digit(number_before(words, "in", "stroke"), runup["stroke_m"] / IN, 3)
+    small = ("--tilts", "3", "--speeds", "3", "--tilt", "1")
+    lean = json.loads(run_cli("lean", *small, "--json").stdout)
+    done = run_cli("lean", *small, "--units", "imperial")
+    within_last_digit(number_before(done.stdout, "in", "stroke"), lean["stroke_m"] / IN, 3)
+    assert " mm" not in done.stdout
