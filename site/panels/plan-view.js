@@ -54,9 +54,10 @@ function rigWords(values) {
   if (values.values && typeof values.values === "object") {
     return Object.entries(values.values).map(([k, v]) => `${k} ${num(v, 4)}`).join(", ");
   }
-  const named = { equivalent_length_m: ["equivalent length", "m"], damping_rate_1_s: ["damping rate", "1/s"] };
+  const named = { equivalent_length_m: "equivalent length", damping_rate_1_s: "damping rate" };
   return Object.entries(values).filter(([, v]) => typeof v === "number")
-    .map(([k, v]) => (named[k] ? `${named[k][0]} ${num(v, 4)} ${named[k][1]}` : `${k} ${num(v, 4)}`)).join(", ");
+    .map(([k, v]) => (k === "equivalent_length_m" ? `${named[k]} ${mm(v)}`
+      : k === "damping_rate_1_s" ? `${named[k]} ${num(v, 4)} 1/s` : `${k} ${num(v, 4)}`)).join(", ");
 }
 
 /** A stroke in the display units: mm or in (state/units.js). */
