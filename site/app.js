@@ -120,7 +120,9 @@ markTerms();
 wireSheetDrawer(document.querySelector(".panel.sheet"), $("sheet-tab"), $("sheet-close"));
 wireUnits(document.querySelectorAll('input[name="units"]'), () => {
   report.rewrite();
+  panels.unitsChanged(); // the run-up, plan, loads and fit write their numbers again
   panels.chart.draw(); // a job under way stops and starts again with the new axis
+  follow.schedule(0); // the check again: its command-line words in the new units
 });
 
 registerServiceWorker({ chip, notice, policy });

@@ -9,7 +9,9 @@ import { h, replaceChildren } from "../lib/dom.js";
 import { LINK_UNITS } from "../state/draft.js";
 import { Runner, busyMark, failedWords, num, statusLine } from "../engine/motion-job.js";
 import { LINK_FIELDS } from "../state/rig-fields.js";
+import { shown } from "../state/units.js";
 import { svgNode } from "./schematic-view.js";
+import { registerCsv } from "./export.js";
 
 const DEG = 180 / Math.PI; // display only: the core's misfit is in radians
 const SAMPLE_URL = "sample-decay.csv";
@@ -18,11 +20,41 @@ const MAX_FILE_BYTES = 16 * 1024 * 1024; // a larger file would stall the page; 
 const FIT_FIELDS = /^(log|reference|parameters|max_iterations|drive_stopped)(\b|$)/;
 const PATH = /^links\[(\d+)\]\.(\w+)$/;
 
-/** "links[0].joint_damping_N_m_s" -> {name: "Link 1: joint damping", unit: "N m s"}. */
+// The kind of each fitted number, for the display units (state/units.js).
+const KINDS = { joint_damping_N_m_s: "damping", joint_friction_N_m: "torque", extra_inertia_kg_m2: "inertia",
+  length_m: "length", rod_mass_kg: "mass" };
+
+/** "links[0].joint_damping_N_m_s" -> {name: "Link 1: joint damping", kind: "damping"}. */
 function describe(path) {
   const m = PATH.exec(path);
-  if (!m || !LINK_FIELDS[m[2]]) return { name: path, unit: "" };
-  return { name: `Link ${Number(m[1]) + 1}: ${LINK_FIELDS[m[2]].label.toLowerCase()}`, unit: LINK_UNITS[m[2]] };
+  if (!m || !LINK_FIELDS[m[2]]) return { name: path, kind: null };
+  return { name: `Link ${Number(m[1]) + 1}: ${LINK_FIELDS[m[2]].label.toLowerCase()}`, kind: KINDS[m[2]] || null,
+    si: LINK_UNITS[m[2]] };
+}
+
+/** A fitted number in the display units: [number, unit]; SI as given when its kind is unknown. */
+function inUnits(value, what) {
+  return what.kind ? shown(value, what.kind) : [value, what.si || ""];
+}
+
+/** The fitted numbers' table, in the display units (data-* keep the SI numbers). */
+function fitTable(res) {
+  return h("table", { class: "est-table fit-table" },
+    h("caption", { class: "visually-hidden" }, "Fitted numbers"),
+    h("thead", {}, h("tr", {}, h("th", { scope: "col" }, "Number"),
+      h("th", { scope: "col" }, "Before the fit"), h("th", { scope: "col" }, "Fitted ± standard error"))),
+    h("tbody", {}, res.parameters.map((p) => {
+      const what = describe(p.path);
+      const [start, unit] = inUnits(p.start, what);
+      const [value] = inUnits(p.value, what);
+      const known = p.std_error !== null && Number.isFinite(p.std_error);
+      const [error] = known ? inUnits(p.std_error, what) : [null];
+      return h("tr", { "data-path": p.path }, h("th", { scope: "row" }, what.name),
+        h("td", { "data-start": p.start }, `${num(start)} ${unit}`),
+        h("td", { "data-value": p.value, "data-std-error": known ? p.std_error : "", "data-unit": unit },
+          `${num(value)} ${unit} `,
+          known ? `± ${num(error, 2)} ${unit}` : h("span", { class: "fit-unknown" }, "(not determined by this log)")));
+    })));
 }
 
 /** Where a problem is, in words: "Data row 12, column angle_deg". */
@@ -52,6 +84,9 @@ export function createFitView(els, { engine, getRig, useRig, restoreRig }) {
     reply: null, // the fit on show
     previousLog: null, // log text replaced by a file or the sample, to bring back
   };
+
+  // the plot's numbers (the core's CSV: every sample, logged and fitted, from the log's zero)
+  registerCsv(els.plot.id, () => state.reply?.csv || null);
 
   // ------------------------------------------------------------ the log
 
@@ -167,19 +202,7 @@ export function createFitView(els, { engine, getRig, useRig, restoreRig }) {
     state.appliedKey = "";
     els.out.dataset.result = JSON.stringify(res);
     replaceChildren(els.out,
-      h("table", { class: "est-table fit-table" },
-        h("caption", { class: "visually-hidden" }, "Fitted numbers"),
-        h("thead", {}, h("tr", {}, h("th", { scope: "col" }, "Number"),
-          h("th", { scope: "col" }, "Before the fit"), h("th", { scope: "col" }, "Fitted ± standard error"))),
-        h("tbody", {}, res.parameters.map((p) => {
-          const { name, unit } = describe(p.path);
-          const known = p.std_error !== null && Number.isFinite(p.std_error);
-          return h("tr", { "data-path": p.path }, h("th", { scope: "row" }, name),
-            h("td", { "data-start": p.start }, `${num(p.start)} ${unit}`),
-            h("td", { "data-value": p.value, "data-std-error": known ? p.std_error : "" },
-              `${num(p.value)} ${unit} `,
-              known ? `± ${num(p.std_error, 2)} ${unit}` : h("span", { class: "fit-unknown" }, "(not determined by this log)")));
-        }))),
+      fitTable(res),
       h("dl", { class: "facts fit-facts" },
         h("div", { class: "row", "data-key": "rms" }, h("dt", {}, "Misfit (RMS angle)"),
           h("dd", { "data-start": res.rms_start_rad, "data-value": res.rms_rad },
@@ -245,6 +268,11 @@ export function createFitView(els, { engine, getRig, useRig, restoreRig }) {
   });
 
   return {
+    /** The display units changed: the fitted numbers are written again in them. */
+    unitsChanged() {
+      const table = els.out.querySelector("table.fit-table");
+      if (state.reply && table) table.replaceWith(fitTable(state.reply.result));
+    },
     /** The rig changed: a running fit stops; a fit on show is marked as of its own rig. */
     rigChanged(rig) {
       const key = JSON.stringify(rig);

@@ -3,6 +3,7 @@
 // rig, and the map redraws a few seconds after the last edit. Newer edits supersede older
 // replies (a sequence number), and the engine's cancellation is not an error.
 
+import { displayUnits } from "../state/units.js";
 import { Cancelled } from "../engine/worker-client.js";
 import { showSchematic } from "./schematic-view.js";
 
@@ -69,7 +70,7 @@ export function followEdits($, { engine, rig, form, report, panels }) {
     sketch(current, isCurrent);
     mapFollows(current);
     report.running();
-    engine.request("check", { rig: current }, {
+    engine.request("check", { rig: current, units: displayUnits() }, {
       channel: "check",
       onProgress: (p) => isCurrent() && report.progress(p),
     }).then((reply) => {

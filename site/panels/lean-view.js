@@ -7,11 +7,32 @@ import {
   Runner, busyMark, cancelWith, failedWords, num, statusLine, stopForEdit,
 } from "../engine/motion-job.js";
 import { svgNode } from "./schematic-view.js";
+import { registerCsv } from "./export.js";
+import { displayUnits } from "../state/units.js";
 
 /** Where a curve stops, in words (the core says where and why). */
 function endWords(name, axis, unit, end) {
   const why = end.why === "unstable" ? "the orbit is unstable there" : "no orbit is found (the lean runs away)";
   return h("li", {}, `${name} against ${axis}: stops at ${num(end.at, 4)} ${unit}: ${why}.`);
+}
+
+/** The chart's curves as CSV: one row per point, link and position (the core's numbers). */
+function leanCsv(r) {
+  const rows = [];
+  for (const [by, axis] of [["by_tilt", "tilt"], ["by_speed", "speed"]]) {
+    const xs = axis === "tilt" ? r.tilt_deg : r.speed_rpm;
+    for (const name of ["inverted", "hanging"]) {
+      const curve = r[by][name];
+      xs.forEach((x, k) => {
+        const lean = curve.lean_deg[k];
+        if (!Array.isArray(lean)) return; // no held orbit there
+        lean.forEach((v, link) => rows.push([axis, axis === "tilt" ? x : r.speed_tilt_deg,
+          axis === "speed" ? x : r.operating_speed_rpm, name, link + 1, v,
+          Array.isArray(curve.wobble_deg?.[k]) ? curve.wobble_deg[k][link] : ""]));
+      });
+    }
+  }
+  return { header: ["curve", "tilt_deg", "speed_rpm", "equilibrium", "link", "lean_deg", "wobble_deg"], rows };
 }
 
 /**
@@ -21,6 +42,8 @@ function endWords(name, axis, unit, end) {
 export function createLeanView(els, { engine, getRig }) {
   const runner = new Runner(engine);
   let rigKey = "";
+  let shown = null; // the chart's result on show
+  registerCsv(els.out.id, () => shown && leanCsv(shown));
   const status = statusLine(els.status, els.progress);
   const busy = busyMark(els.cancel, els.out);
 
@@ -31,9 +54,11 @@ export function createLeanView(els, { engine, getRig }) {
     busy(true);
     els.out.dataset.state = "running";
     status("Drawing the lean chart: following the held orbit as the tilt and the speed change…", 0);
-    const reply = await runner.start("lean", { rig },
+    const asked = displayUnits(); // the units of the words the core writes
+    const reply = await runner.start("lean", { rig, units: asked },
       (step) => status(`Drawing the lean chart: ${Math.round(step.fraction * 100)}%`, step.fraction));
     if (reply === null) return;
+    reply.units = asked;
     busy(false);
     if (!reply.ok) {
       els.out.dataset.state = "failed";
@@ -47,6 +72,7 @@ export function createLeanView(els, { engine, getRig }) {
 
   function show(reply) {
     const r = reply.result;
+    shown = r;
     els.out.dataset.state = "fresh";
     els.out.dataset.result = JSON.stringify(r);
     els.out.dataset.axes = JSON.stringify(reply.axes);
@@ -62,7 +88,7 @@ export function createLeanView(els, { engine, getRig }) {
       h("p", { class: "safety-pointer" }, "A leaning pendulum sweeps further than an upright one: "
         + "guard the whole space it can reach and read ", h("a", { href: "#safety-h" }, "Before you run the rig"),
       " first."),
-      h("details", { class: "report-text" }, h("summary", {}, "The same in the command line's words"),
+      h("details", { class: "report-text" }, h("summary", {}, `The same in the command line's words (${reply.units || "metric"} units)`),
         h("pre", {}, reply.report_text)));
   }
 

@@ -6,13 +6,30 @@ import { h, replaceChildren } from "../lib/dom.js";
 import { num } from "../engine/motion-job.js";
 import { svgNode } from "./schematic-view.js";
 import { Cancelled } from "../engine/worker-client.js";
+import { STANDARD_GRAVITY, displayUnits, quantityText, unitOf } from "../state/units.js";
+import { registerCsv } from "./export.js";
+
+const say = (si, kind, digits = 4) => quantityText(si, kind, (v) => num(v, digits));
 
 /** A mean that is rounding noise beside the peak reads as 0. */
-const small = (v, peak) => (Math.abs(v) < 1e-9 * Math.abs(peak) ? "0" : num(v, 3));
+const small = (v, peak, kind) => (Math.abs(v) < 1e-9 * Math.abs(peak) ? `0 ${unitOf(kind)}` : say(v, kind, 3));
 
-function row(key, name, value, unit, note = "") {
+/** A row of the table: ``data-value`` keeps the SI number, the cell shows the chosen units. */
+function row(key, name, value, kind, note = "") {
   return h("tr", { "data-key": key }, h("th", { scope: "row" }, name),
-    h("td", { "data-value": value }, `${num(value)} ${unit}`), h("td", {}, note));
+    h("td", { "data-value": value, "data-unit": unitOf(kind) }, say(value, kind)), h("td", {}, note));
+}
+
+/** The samples over the cycle as CSV (SI, as the command line's --json): phase, forces. */
+function samplesCsv(result) {
+  const s = result && result.samples;
+  if (!s || !Array.isArray(s.phase_rad)) return null;
+  const guide = Array.isArray(s.guide_force_N);
+  const header = ["phase_rad", "drive_force_N", ...(guide ? ["guide_force_N"] : []),
+    ...s.axial_N.map((_, i) => `link${i + 1}_axial_N`)];
+  const rows = s.phase_rad.map((p, k) => [p, s.drive_force_N[k], ...(guide ? [s.guide_force_N[k]] : []),
+    ...s.axial_N.map((a) => a[k])]);
+  return { header, rows };
 }
 
 /**
@@ -22,6 +39,8 @@ function row(key, name, value, unit, note = "") {
 export function createLoadsView(els, { engine, getRig, getEquilibrium }) {
   let seq = 0;
   let rigKey = "";
+  let shownReply = null; // the loads on show: their samples are the CSV, their numbers follow the units
+  registerCsv(els.out.id, () => samplesCsv(shownReply?.result));
 
   async function run() {
     const rig = getRig();
@@ -34,7 +53,7 @@ export function createLoadsView(els, { engine, getRig, getEquilibrium }) {
     replaceChildren(els.out, h("p", { class: "empty" }, "Working out the loads over one drive cycle…"));
     let reply;
     try {
-      reply = await engine.request("loads", { rig, equilibrium }, { channel: "loads" });
+      reply = await engine.request("loads", { rig, equilibrium, units: displayUnits() }, { channel: "loads" });
     } catch (err) {
       if (err instanceof Cancelled) return;
       reply = { ok: false, error: err.message };
@@ -54,8 +73,10 @@ export function createLoadsView(els, { engine, getRig, getEquilibrium }) {
   }
 
   function show(reply) {
+    shownReply = reply;
     const r = reply.result;
     els.out.dataset.state = "fresh";
+    els.out.dataset.units = displayUnits();
     els.out.dataset.result = JSON.stringify({ ...r, samples: undefined });
     const exceeded = r.flags.filter((f) => f.exceeded);
     const flags = exceeded.length
@@ -71,27 +92,28 @@ export function createLoadsView(els, { engine, getRig, getEquilibrium }) {
     replaceChildren(els.out,
       flags,
       within.length ? h("ul", { class: "eq-notes" }, within) : null,
-      h("p", {}, `At ${num(r.speed_rpm)} rpm and ${num(r.stroke_m * 1000)} mm stroke, pendulum ${r.state} `
-        + `(${r.equilibrium}); total moving mass ${num(r.total_mass_kg)} kg, carriage ${num(r.carriage_mass_kg)} kg.`),
+      h("p", {}, `At ${num(r.speed_rpm)} rpm and ${say(r.stroke_m, "length")} stroke, pendulum ${r.state} `
+        + `(${r.equilibrium}); total moving mass ${say(r.total_mass_kg, "mass")}, carriage `
+        + `${say(r.carriage_mass_kg, "mass")}.`),
       h("table", { class: "est-table loads-table" },
         h("thead", {}, h("tr", {}, h("th", { scope: "col" }, "Over one cycle"), h("th", { scope: "col" }, "Value"),
           h("th", { scope: "col" }, "Note"))),
         h("tbody", {},
-          row("drive_force_peak", "Drive force, peak", r.drive_force_N.peak, "N"),
-          row("drive_force_rms", "Drive force, RMS", r.drive_force_N.rms, "N",
-            `mean ${small(r.drive_force_N.mean, r.drive_force_N.peak)} N (the weight is ${num(r.weight_N)} N)`),
-          r.guide_force_N ? row("guide_force_peak", "Sideways force on the guide, peak", r.guide_force_N.peak, "N",
+          row("drive_force_peak", "Drive force, peak", r.drive_force_N.peak, "force"),
+          row("drive_force_rms", "Drive force, RMS", r.drive_force_N.rms, "force",
+            `mean ${small(r.drive_force_N.mean, r.drive_force_N.peak, "force")} (the weight is ${say(r.weight_N, "force")})`),
+          r.guide_force_N ? row("guide_force_peak", "Sideways force on the guide, peak", r.guide_force_N.peak, "force",
             `across the drive axis (tilted ${num(r.axis_tilt_deg)}°); mean `
-            + `${small(r.guide_force_N.mean, r.guide_force_N.peak)} N`) : null,
-          row("power_peak", "Drive power, peak", r.power_W.peak, "W"),
-          row("power_rms", "Drive power, RMS", r.power_W.rms, "W", `mean ${small(r.power_W.mean, r.power_W.peak)} W`),
-          row("accel_peak", "Pivot acceleration, peak", r.peak_accel_m_s2, "m/s²",
-            `${num(r.peak_accel_m_s2 / 9.80665, 3)} g`),
+            + `${small(r.guide_force_N.mean, r.guide_force_N.peak, "force")}`) : null,
+          row("power_peak", "Drive power, peak", r.power_W.peak, "power"),
+          row("power_rms", "Drive power, RMS", r.power_W.rms, "power", `mean ${small(r.power_W.mean, r.power_W.peak, "power")}`),
+          row("accel_peak", "Pivot acceleration, peak", r.peak_accel_m_s2, "accel",
+            `${num(r.peak_accel_m_s2 / STANDARD_GRAVITY, 3)} g`),
           r.links.flatMap((l) => [
-            row(`link${l.link}_tension`, `Link ${l.link}, largest pull (tension)`, l.max_tension_N, "N"),
-            row(`link${l.link}_compression`, `Link ${l.link}, largest push (compression)`, l.max_compression_N, "N")]),
-          rot ? [row("tip_speed", "In rotation: tip speed, largest", rot.tip_speed_m_s, "m/s"),
-            row("centripetal", "In rotation: centripetal load, largest", rot.centripetal_load_N, "N")] : [])),
+            row(`link${l.link}_tension`, `Link ${l.link}, largest pull (tension)`, l.max_tension_N, "force"),
+            row(`link${l.link}_compression`, `Link ${l.link}, largest push (compression)`, l.max_compression_N, "force")]),
+          rot ? [row("tip_speed", "In rotation: tip speed, largest", rot.tip_speed_m_s, "velocity"),
+            row("centripetal", "In rotation: centripetal load, largest", rot.centripetal_load_N, "force")] : [])),
       reply.svg ? h("div", { class: "chart plot" }, svgNode(reply.svg, "Loads over one drive cycle")) : null,
       h("p", { class: "safety-pointer" }, "These loads come from a model. Guard the drive and the swept space, "
         + "and read ", h("a", { href: "#safety-h" }, "Before you run the rig"), " first; local rules come first."),
@@ -102,6 +124,11 @@ export function createLoadsView(els, { engine, getRig, getEquilibrium }) {
   els.go.addEventListener("click", run);
 
   return {
+    /** The display units changed: loads on show are worked out again in them (the core's
+     * plot and words follow the units; a quick op). */
+    unitsChanged() {
+      if (shownReply && els.out.dataset.state === "fresh") run();
+    },
     /** The rig changed: shown loads are of the old rig. */
     rigChanged(rig) {
       if (JSON.stringify(rig) !== rigKey && els.out.dataset.state === "fresh") els.out.dataset.state = "stale";

@@ -10,7 +10,7 @@ import { h, replaceChildren } from "../lib/dom.js";
 import { createAnimation, frameIndex } from "./animation.js";
 import { Runner, busyMark, num, statusLine, withUnit } from "../engine/motion-job.js";
 import { svgNode } from "./schematic-view.js";
-import { download } from "../state/rig-file.js";
+import { registerCsv } from "./export.js";
 
 const FRAMES_PER_CYCLE = 24; // frames per drive cycle: slow motion shows each shake smoothly
 const MIN_FRAME_RATE_HZ = 60; // at least one frame per screen refresh in real time
@@ -234,7 +234,6 @@ export function createMotionView(els, { engine, getRig }) {
 
   function show(reply, request, rigKey, startAt) {
     state.shown = { reply, request, rigKey };
-    els.saveCsv.disabled = !reply.csv;
     const end = reply.summary.end_t_s;
     els.anim.dataset.request = JSON.stringify(request);
     els.anim.dataset.summary = JSON.stringify(reply.summary);
@@ -379,9 +378,8 @@ export function createMotionView(els, { engine, getRig }) {
   });
   els.strobe.addEventListener("change", () => seek(state.time));
   els.knockGo.addEventListener("click", knockNow);
-  // the run's frames as the command line's `simulate -o` writes them
-  els.saveCsv.addEventListener("click", () => state.shown?.reply.csv
-    && download("motion.csv", state.shown.reply.csv, "text/csv"));
+  // the run's frames as the command line's `simulate -o` writes them (saved by export.js)
+  registerCsv(els.plot.id, () => state.shown?.reply.csv || null);
   els.cancel.addEventListener("click", async () => {
     await runner.stop();
     busy(false);

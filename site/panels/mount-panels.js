@@ -70,7 +70,6 @@ export function mountPanels($, { engine, getRig, onPick, useRig, restoreRig, edi
     strobe: $("motion-strobe"),
     events: $("motion-events"),
     plot: $("motion-plot"),
-    saveCsv: $("motion-save-csv"),
     msgs: { angle: $("motion-angle-msg"), duration: $("motion-duration-msg"), knock: $("motion-knock-msg") },
   }, { engine, getRig });
 
@@ -122,13 +121,17 @@ export function mountPanels($, { engine, getRig, onPick, useRig, restoreRig, edi
     /** Every panel hears of a new rig; the map's own redraw is the caller's to time. */
     rigChanged(rig) {
       plan.rigChanged(rig);
-      runup.rigChanged();
+      runup.rigChanged(rig);
       motion.rigChanged(rig);
       tolerance.rigChanged(rig);
       loads.rigChanged(rig);
       lean.rigChanged(rig);
       fit.rigChanged(rig);
       return chart.setRig(rig);
+    },
+    /** The display units changed: each panel with numbers on show writes them again. */
+    unitsChanged() {
+      for (const panel of [runup, plan, loads, fit, lean]) panel.unitsChanged?.();
     },
     /** The check's result marks the operating point on the map and in the motion panel. */
     checked(result) {

@@ -7,6 +7,7 @@
 
 import { h, replaceChildren } from "../lib/dom.js";
 import { Runner, busyMark, num, statusLine } from "../engine/motion-job.js";
+import { displayUnits, lengthShown, unitOf } from "../state/units.js";
 
 const SVG_NS = "http://www.w3.org/2000/svg";
 const EDGE_WORDS = {
@@ -53,12 +54,17 @@ function rigWords(values) {
   if (values.values && typeof values.values === "object") {
     return Object.entries(values.values).map(([k, v]) => `${k} ${num(v, 4)}`).join(", ");
   }
-  const named = { equivalent_length_m: ["equivalent length", "m"], damping_rate_1_s: ["damping rate", "1/s"] };
+  const named = { equivalent_length_m: "equivalent length", damping_rate_1_s: "damping rate" };
   return Object.entries(values).filter(([, v]) => typeof v === "number")
-    .map(([k, v]) => (named[k] ? `${named[k][0]} ${num(v, 4)} ${named[k][1]}` : `${k} ${num(v, 4)}`)).join(", ");
+    .map(([k, v]) => (k === "equivalent_length_m" ? `${named[k]} ${mm(v)}`
+      : k === "damping_rate_1_s" ? `${named[k]} ${num(v, 4)} 1/s` : `${k} ${num(v, 4)}`)).join(", ");
 }
 
-const mm = (m) => `${num(m * 1000, 5)} mm`;
+/** A stroke in the display units: mm or in (state/units.js). */
+const mm = (m) => {
+  const [value, unit] = lengthShown(m);
+  return `${num(value, 5)} ${unit}`;
+};
 const rpm = (v) => `${num(v, 5)} rpm`;
 
 /**
@@ -70,6 +76,7 @@ export function createPlanView(els, { engine, getRig, editSpreads, onPick, chart
   const status = statusLine(els.status, els.progress);
   const busy = busyMark(els.cancel, els.out);
   let result = null; // the last plan's result
+  let shownReply = null; // its reply, written again when the display units change
   let key = ""; // the rig it was for (planKey)
 
   const target = () => [...els.forInputs].find((i) => i.checked)?.value || "inverted";
@@ -94,9 +101,11 @@ export function createPlanView(els, { engine, getRig, editSpreads, onPick, chart
     els.out.dataset.state = "running";
     setOverlay();
     status("Planning: charting every rig that bounds the spreads…", 0);
-    const reply = await runner.start("plan", { rig, for: target() },
+    const asked = displayUnits(); // the units of the words the core writes
+    const reply = await runner.start("plan", { rig, for: target(), units: asked },
       (step) => status(`Planning: ${step.stage} (${Math.round(step.fraction * 100)}%)`, step.fraction));
     if (reply === null) return; // cancelled or superseded
+    reply.units = asked;
     busy(false);
     if (!reply.ok) {
       els.out.dataset.state = "failed";
@@ -116,6 +125,7 @@ export function createPlanView(els, { engine, getRig, editSpreads, onPick, chart
   }
 
   function show(reply) {
+    shownReply = reply;
     const r = reply.result;
     els.out.dataset.state = "fresh";
     els.out.dataset.result = JSON.stringify(r);
@@ -150,10 +160,10 @@ export function createPlanView(els, { engine, getRig, editSpreads, onPick, chart
     parts.push(h("p", { "data-key": "region" },
       `Robust region (hatched on the map in the stroke view: upright / , hanging \\ ; the yellow diamond marks the recommended point): ${size}; ${region.rigs} rig${region.rigs === 1 ? " bounds" : "s bound"} it.`));
     if (r.sensitivity.length) parts.push(sensitivityTable(r));
-    parts.push(h("details", { class: "report-text" }, h("summary", {}, "How it was worked out"),
+    parts.push(h("details", { class: "how" }, h("summary", {}, "How this was computed"),
       h("ul", { class: "eq-notes" }, h("li", {}, `Metric: ${r.metric}.`),
         ...r.notes.map((n) => h("li", {}, `${n}.`)))),
-    h("details", { class: "report-text" }, h("summary", {}, "The same in the command line's words"),
+    h("details", { class: "report-text" }, h("summary", {}, `The same in the command line's words (${reply.units || "metric"} units)`),
       h("pre", {}, reply.report_text)));
     replaceChildren(els.out, ...parts);
     els.use.disabled = r.speed_rpm === null;
@@ -174,7 +184,7 @@ export function createPlanView(els, { engine, getRig, editSpreads, onPick, chart
             // below the edges' own precision (1e-10 relative, over a 1e-4 step) a move reads as none
             const speedEdge = name.startsWith("speed");
             const tiny = Math.abs(v.over_half_spread) < (speedEdge ? 0.01 : 1e-7);
-            const moved = tiny ? (speedEdge ? "≈ 0 rpm" : "≈ 0 mm")
+            const moved = tiny ? (speedEdge ? "≈ 0 rpm" : `≈ 0 ${unitOf("length")}`)
               : speedEdge ? rpm(v.over_half_spread) : mm(v.over_half_spread);
             return h("td", { "data-edge": name, "data-value": v.per_unit }, moved);
           });
@@ -228,6 +238,15 @@ export function createPlanView(els, { engine, getRig, editSpreads, onPick, chart
     },
     /** The check's problems: those of the spreads are shown under the box. */
     problems: showProblems,
+    /** The display units changed: the plan on show is written again in them (the command
+     * line's words below stay in the units it was worked out in, as their summary says). */
+    unitsChanged() {
+      if (!shownReply || !["fresh", "stale"].includes(els.out.dataset.state)) return;
+      const state = els.out.dataset.state;
+      show(shownReply);
+      els.out.dataset.state = state;
+      setOverlay();
+    },
   };
 }
 
@@ -290,7 +309,7 @@ function drawRegion(svg, axes, r) {
     diamond.setAttribute("d", "M0 -9L9 0L0 9L-9 0Z");
     Object.entries({ fill: "#ffd23f", stroke: "#111", "stroke-width": "2" }).forEach(([k, v]) => diamond.setAttribute(k, v));
     const title = document.createElementNS(SVG_NS, "title");
-    title.textContent = `Recommended: ${num(r.speed_rpm, 5)} rpm, ${num(r.stroke_m * 1000, 5)} mm`;
+    title.textContent = `Recommended: ${num(r.speed_rpm, 5)} rpm, ${mm(r.stroke_m)}`;
     mark.append(title, diamond);
     g.append(mark);
   }

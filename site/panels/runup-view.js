@@ -4,6 +4,7 @@
 
 import { h, replaceChildren } from "../lib/dom.js";
 import { Cancelled } from "../engine/worker-client.js";
+import { lengthShown } from "../state/units.js";
 
 const NAMES = { inverted: "Inverted (upright)", hanging: "Hanging" };
 
@@ -52,6 +53,8 @@ function crossingItem(c, result) {
  */
 export function createRunupView(els, { engine, getRig }) {
   let seq = 0;
+  let shown = null; // the run-up on show, written again when the display units change
+  let rigKey = ""; // the rig it is for
 
   async function run() {
     const rig = getRig();
@@ -66,6 +69,7 @@ export function createRunupView(els, { engine, getRig }) {
     replaceChildren(els.messages, problems.map((p) => h("p", { class: "msg is-problem" }, p)));
     if (problems.length) return;
     const mine = ++seq;
+    rigKey = JSON.stringify(rig);
     els.out.dataset.state = "running";
     replaceChildren(els.out, h("p", { class: "empty" }, "Working out the run-up…"));
     let reply;
@@ -88,6 +92,8 @@ export function createRunupView(els, { engine, getRig }) {
   }
 
   function show(result) {
+    shown = result;
+    const [stroke, unit] = lengthShown(result.stroke_m);
     els.out.dataset.state = "fresh";
     els.out.dataset.result = JSON.stringify(result);
     const all = ["inverted", "hanging"].flatMap((eq) => result[eq].crossings);
@@ -98,10 +104,11 @@ export function createRunupView(els, { engine, getRig }) {
           ? `Not met for ${bad.map((eq) => NAMES[eq].toLowerCase()).join(" and ")}: see below before you start the drive.`
           : `Every crossing stays within ×${n(result.factor)} at ${n(result.rate_rpm_s)} rpm/s.`),
       h("p", {}, `Run-up from ${n(result.start_rpm)} to ${n(result.end_rpm)} rpm at the stroke of `
-        + `${n(result.stroke_m * 1000)} mm; the run-down passes the same intervals in reverse, with the same growth at the same rate.`),
+        + `${n(stroke)} ${unit}; the run-down passes the same intervals in reverse, with the same growth at the same rate.`),
       all.length ? h("ol", { class: "crossings" }, all.map((c) => crossingItem(c, result)))
         : h("p", {}, "No unstable interval is crossed on the way."),
-      h("p", { class: "hint" }, `How this is worked out: ${result.note}.`));
+      h("details", { class: "how" }, h("summary", {}, "How this was computed"),
+        h("p", { class: "hint" }, `${result.note}.`)));
   }
 
   els.form.addEventListener("submit", (event) => {
@@ -110,9 +117,16 @@ export function createRunupView(els, { engine, getRig }) {
   });
 
   return {
-    /** The rig changed: a shown result is of the old rig. */
-    rigChanged() {
-      if (els.out.dataset.state === "fresh") {
+    /** The display units changed: the run-up on show is written again in them. */
+    unitsChanged() {
+      if (!shown) return;
+      const state = els.out.dataset.state;
+      show(shown);
+      els.out.dataset.state = state;
+    },
+    /** The rig changed: a shown result is of the old rig (the same rig checked again is not). */
+    rigChanged(rig) {
+      if (JSON.stringify(rig) !== rigKey && els.out.dataset.state === "fresh") {
         els.out.dataset.state = "stale";
         els.messages.replaceChildren(h("p", { class: "msg" }, "The rig has changed since this run-up: check it again."));
       }

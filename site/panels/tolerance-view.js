@@ -8,6 +8,7 @@ import {
   Runner, busyMark, cancelWith, failedWords, num, statusLine, stopForEdit,
 } from "../engine/motion-job.js";
 import { svgNode } from "./schematic-view.js";
+import { registerCsv } from "./export.js";
 
 const DEG = 180 / Math.PI; // display only: the core gives radians and degrees alike
 
@@ -19,6 +20,13 @@ export function createToleranceView(els, { engine, getRig }) {
   const runner = new Runner(engine);
   let result = null; // the last tolerance result, whose edges the map marks
   let rigKey = "";
+  let basin = null; // the recovery map on show (so far, while it fills in)
+  // its cells as CSV: one row per start (SI, as the core gives them); blank: not yet mapped
+  registerCsv(els.basin.id, () => basin && {
+    header: ["release_angle_rad", "rate_rad_s", "recovered"],
+    rows: basin.recovered.flatMap((cells, j) => cells.map((ok, i) => [basin.angles_rad[i],
+      basin.rates_rad_s[j], ok === null ? "" : ok ? 1 : 0])),
+  });
 
   const status = statusLine(els.status, els.progress);
   const busy = busyMark(els.cancel, els.out);
@@ -71,10 +79,11 @@ export function createToleranceView(els, { engine, getRig }) {
               `${num(result.max_release_angle_rad * DEG)}° (${num(result.max_release_angle_rad)} rad)`),
             h("td", { "data-value": est.release_angle_rad },
               `${num(est.release_angle_rad * DEG)}° (${num(est.release_angle_rad)} rad) (estimate)`)))),
-      h("ul", { class: "eq-notes" }, edgeNote("Knock", result.knock), edgeNote("Release", result.release),
-        est.note ? h("li", {}, `Estimate: ${est.note}.`) : null,
-        h("li", {}, "A knock is a sudden turning rate given to the first link at drive phase 0; recovered "
-          + "means no link passes the horizontal in a run of at least 10 s.")),
+      h("p", { class: "hint" }, "A knock is a sudden turning rate given to the first link at drive phase 0; "
+        + "recovered means no link passes the horizontal in a run of at least 10 s."),
+      h("details", { class: "how" }, h("summary", {}, "How this was computed"),
+        h("ul", { class: "eq-notes" }, edgeNote("Knock", result.knock), edgeNote("Release", result.release),
+          est.note ? h("li", {}, `Estimate: ${est.note}.`) : null)),
       h("details", { class: "report-text" }, h("summary", {}, "The same in the command line's words"),
         h("pre", {}, reply.report_text)));
   }
@@ -106,12 +115,14 @@ export function createToleranceView(els, { engine, getRig }) {
   }
 
   function showMap(step, mapState) {
+    basin = step.basin || null;
     els.basin.replaceChildren(svgNode(step.svg, "Recovery map over start angle and rate"));
     els.basin.dataset.state = mapState;
     els.basin.dataset.axes = JSON.stringify(step.axes);
     if (mapState === "done") {
       els.basin.dataset.recovered = JSON.stringify(step.basin.recovered);
-      els.basin.append(h("p", { class: "hint" }, `${step.basin.method}; ${step.basin.message}.`));
+      els.basin.append(h("details", { class: "how" }, h("summary", {}, "How this was computed"),
+        h("p", { class: "hint" }, `${step.basin.method}; ${step.basin.message}.`)));
     }
   }
 

@@ -14,6 +14,7 @@ from ..model.rig import MAX_TILT_DEG, Problem, RigError, outside_reach, with_ope
 from ..model.rigfile import dumps_rig, loads_rig, rig_from_dict
 from ..model.safejson import MAX_TEXT_CHARS, decode_text
 from ..model.units import UnitError, allowed_units, parse_quantity
+from ..render.shown import SYSTEMS
 
 # ----------------------------------------------------------------------------- command line
 
@@ -129,6 +130,13 @@ def write(path: str, text: str) -> None:
         fh.write(text)
 
 
+def units_argument(p) -> None:
+    """--units: the words and pictures in metric or imperial (JSON stays SI)."""
+    p.add_argument("--units", choices=SYSTEMS, default="metric",
+                   help="units of the report and pictures: metric (mm, kg, N) or imperial "
+                        "(in, lb, lbf); --json stays SI")
+
+
 def common_arguments(p) -> None:
     """RIG, --speed, --stroke and --json, as most commands take them."""
     p.add_argument("rig", nargs="?", metavar="RIG")
@@ -142,6 +150,14 @@ def common_arguments(p) -> None:
 
 def problems_json(items) -> list[dict]:
     return [{"path": p.path, "message": p.message} for p in items]
+
+
+def units_of(request: dict) -> str:
+    """A request's display ``units`` ("metric" by default or "imperial"), or a named problem."""
+    units = request.get("units", "metric")
+    if units not in SYSTEMS:
+        raise RigError([Problem("units", f"{units!r} is not allowed: use metric or imperial")])
+    return units
 
 
 def rig_of(request: dict):

@@ -22,7 +22,7 @@ from ..model.rig import Problem, RigError
 from ..model.rigfile import rig_to_dict, save_rig
 from ..model.safety import CAUTIONS
 from ..render.motion_report import fit_text
-from ..render.plots import fit_svg
+from ..render.plots import fit_csv, fit_svg
 from ..render.report import jsonable
 from .common import problems_json, progress, read_text, rig_of, rig_of_args, write
 from .motion import last_reply
@@ -131,7 +131,8 @@ def fit_job(rig, warnings, request: dict):
     result = fit_dict(res)
     svg, axes = fit_svg(res, f"{rig.title or 'Rig'}: logged and fitted angles", log.reference)
     yield 1.0, {"stage": "done", "result": result, "fitted_rig": rig_to_dict(res.rig),
-                "svg": svg, "axes": axes, "report_text": fit_text(result, log.reference),
+                "svg": svg, "axes": axes, "csv": fit_csv(res, log.reference),
+                "report_text": fit_text(result, log.reference),
                 "warnings": problems_json(warnings),
                 "cautions": list(CAUTIONS)}
 

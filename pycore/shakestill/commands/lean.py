@@ -12,7 +12,7 @@ from ..motion.lean_chart import DEFAULT_SPEEDS, DEFAULT_TILTS, MAX_POINTS, lean_
 from ..render.lean_svg import lean_svg
 from ..render.report import jsonable, lean_text
 from .common import (Reader, common_arguments, problems_json, quantity, rig_of, rig_of_args,
-                     tilted, write)
+                     tilted, units_argument, units_of, write)
 from .table import command, job_kind, op
 
 
@@ -27,6 +27,7 @@ def _lean_arguments(p) -> None:
     p.add_argument("--speeds", type=int, default=DEFAULT_SPEEDS,
                    help=f"points on the speed axis ({DEFAULT_SPEEDS})")
     p.add_argument("-o", "--svg", help="write the lean chart to this SVG file")
+    units_argument(p)
 
 
 def _counts(tilts, speeds, problems, prefix: str = "") -> None:
@@ -59,12 +60,12 @@ def _cmd_lean(args) -> int:
         raise RigError(problems)
     chart = _run(lean_chart_steps(rig, max_tilt_deg=top, tilts=args.tilts, speeds=args.speeds))
     if args.svg:
-        write(args.svg, lean_svg(chart)[0])
+        write(args.svg, lean_svg(chart, args.units)[0])
     if args.json:
         print(json.dumps(jsonable(dict(chart, cautions=list(CAUTIONS))), indent=2,
                          allow_nan=False))
     else:
-        sys.stdout.write(lean_text(chart, rig.title))
+        sys.stdout.write(lean_text(chart, rig.title, args.units))
     return 0
 
 
@@ -81,25 +82,27 @@ def _chart_request(rig, request):
     return lean_chart_steps(rig, max_tilt_deg=top, tilts=tilts, speeds=speeds)
 
 
-def _reply(chart, warnings) -> dict:
-    svg, axes = lean_svg(chart)
-    return {"result": chart, "svg": svg, "axes": axes, "report_text": lean_text(chart),
+def _reply(chart, warnings, units: str) -> dict:
+    svg, axes = lean_svg(chart, units)
+    return {"result": chart, "svg": svg, "axes": axes, "report_text": lean_text(chart, units=units),
             "warnings": problems_json(warnings), "cautions": list(CAUTIONS)}
 
 
 @op("lean")
 def _op_lean(request: dict) -> dict:
     rig, warnings = rig_of(request)
-    return _reply(_run(_chart_request(rig, request)), warnings)
+    units = units_of(request)
+    return _reply(_run(_chart_request(rig, request)), warnings, units)
 
 
 @job_kind("lean")
 def _lean_job(rig, warnings, request):
     """Yields (fraction, partial reply); the last reply carries the chart."""
     steps = _chart_request(rig, request)
+    units = units_of(request)
     try:
         while True:
             yield 0.999 * next(steps), {"stage": "lean"}
     except StopIteration as stop:
         chart = stop.value
-    yield 1.0, dict(_reply(chart, warnings), stage="done")
+    yield 1.0, dict(_reply(chart, warnings, units), stage="done")

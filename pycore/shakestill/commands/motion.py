@@ -20,7 +20,8 @@ from ..motion.simulation import simulate, simulate_steps
 from ..render.motion_report import loads_text, motion_text
 from ..render.plots import line_plot, loads_svg, motion_svg
 from ..render.report import jsonable
-from .common import Reader, bad, common_arguments, problems_json, quantity, rig_of, rig_of_args, write
+from .common import (Reader, bad, common_arguments, problems_json, quantity, rig_of, rig_of_args,
+                     units_argument, units_of, write)
 from .jobs import DEFAULT_BUDGET_MS, JobStore
 from .motion_scenario import rename_options, scenario_from_args, scenario_from_request
 from .table import JOB_KINDS, command, job_kind, op
@@ -147,6 +148,7 @@ def _loads_arguments(ld) -> None:
                     "max(10 s, 20 slow periods)")
     ld.add_argument("--cycles", type=int, default=1, help="drive cycles in the window (1)")
     ld.add_argument("--svg", help="write the loads over the cycle to this SVG file")
+    units_argument(ld)
 
 
 @command("loads", "drive force, power and link loads over a cycle", _loads_arguments)
@@ -158,11 +160,11 @@ def _cmd_loads(args) -> int:
     result = loads(rig, equilibrium="hanging" if args.hanging else "inverted",
                    knock_rad_s=knock, cycles=args.cycles)
     if args.svg:
-        write(args.svg, loads_svg(result)[0])
+        write(args.svg, loads_svg(result, args.units)[0])
     if args.json:
         print(json.dumps(jsonable(result), indent=2, allow_nan=False))
     else:
-        sys.stdout.write(loads_text(result))
+        sys.stdout.write(loads_text(result, args.units))
     return 0
 
 
@@ -252,9 +254,10 @@ def _op_loads(request: dict) -> dict:
         r.problems.append(Problem("equilibrium", f"{equilibrium!r} is not allowed: use "
                                                  "\"inverted\" or \"hanging\""))
     r.done()
+    units = units_of(request)
     result = loads(rig, equilibrium=equilibrium, knock_rad_s=knock, cycles=cycles)
-    svg, axes = loads_svg(result)
-    return {"result": result, "svg": svg, "axes": axes, "report_text": loads_text(result),
+    svg, axes = loads_svg(result, units)
+    return {"result": result, "svg": svg, "axes": axes, "report_text": loads_text(result, units),
             "warnings": problems_json(warnings)}
 
 

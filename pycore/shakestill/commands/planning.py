@@ -12,7 +12,7 @@ from ..model.rig import Problem, RigError
 from ..model.safety import CAUTIONS
 from ..render.plan_text import plan_text
 from ..render.report import jsonable
-from .common import Reader, progress, quantity, rig_of, rig_of_args
+from .common import Reader, progress, quantity, rig_of, rig_of_args, units_argument, units_of
 from .table import command, job_kind, op
 
 
@@ -25,6 +25,7 @@ def _plan_arguments(p) -> None:
     p.add_argument("--rows", type=int, help="stroke rows of each rig's chart (40; 12 for "
                    "several links)")
     p.add_argument("--json", action="store_true", help="print the result as JSON")
+    units_argument(p)
 
 
 ROWS = (4, 400)  # stroke rows of each rig's chart a plan may ask for
@@ -68,7 +69,7 @@ def _cmd_plan(args) -> int:
     if args.json:
         print(json.dumps(jsonable(what), indent=2, allow_nan=False))
     else:
-        sys.stdout.write(plan_text(what, warnings))
+        sys.stdout.write(plan_text(what, warnings, args.units))
     return 0
 
 
@@ -90,16 +91,16 @@ def _request(request: dict):
     if rows is not None and rows <= 1e6 and rows == int(rows):
         rows = int(rows)
     _check(rows, weight, "rows", "stroke_weight")
-    return rig, warnings, target, weight, rows
+    return rig, warnings, target, weight, rows, units_of(request)
 
 
 @op("plan")
 def _op_plan(request: dict) -> dict:
-    rig, warnings, target, weight, rows = _request(request)
+    rig, warnings, target, weight, rows, units = _request(request)
     result = None
     for _, result in _steps(rig, target, weight, rows):
         pass
-    return {"result": result, "report_text": plan_text(result, warnings),
+    return {"result": result, "report_text": plan_text(result, warnings, units),
             "cautions": list(CAUTIONS)}
 
 
@@ -107,13 +108,13 @@ def _op_plan(request: dict) -> dict:
 def plan_job(rig, warnings, request: dict):
     """The request checked at once, then a generator of (fraction, partial reply); its last
     reply is the ``plan`` op's."""
-    _, _, target, weight, rows = _request(request)
+    _, _, target, weight, rows, units = _request(request)
 
     def steps():
         for fraction, what in _steps(rig, target, weight, rows):
             if fraction < 1.0:
                 yield fraction, {"stage": what}
             else:
-                yield 1.0, {"result": what, "report_text": plan_text(what, warnings),
+                yield 1.0, {"result": what, "report_text": plan_text(what, warnings, units),
                             "cautions": list(CAUTIONS), "stage": "done"}
     return steps()

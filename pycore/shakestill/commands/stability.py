@@ -18,7 +18,8 @@ from ..model.safety import CAUTIONS
 from ..model.units import UnitError, parse_quantity
 from ..render.chart_svg import render
 from ..render.report import jsonable, report_text, runup_text
-from .common import problems_json, quantity, rig_of, rig_of_args, tilted
+from .common import (problems_json, quantity, rig_of, rig_of_args, tilted, units_argument,
+                     units_of)
 from .jobs import DEFAULT_BUDGET_MS, JobStore
 from .table import command, op
 
@@ -36,6 +37,7 @@ def _check_arguments(p) -> None:
     p.add_argument("--tilt", help="override drive.axis_tilt_deg, e.g. 1.5 (deg) or 0.02rad")
     p.add_argument("--max-lean", help="the lean the tilt tolerance allows (limits.max_lean_deg; "
                                       "default 5 deg)")
+    units_argument(p)
 
 
 @command("check", "stability of both equilibria at the operating point", _check_arguments)
@@ -46,7 +48,7 @@ def _cmd_check(args) -> int:
     if args.json:
         print(json.dumps(jsonable(result), indent=2, allow_nan=False))
     else:
-        sys.stdout.write(report_text(result, warnings))
+        sys.stdout.write(report_text(result, warnings, args.units))
     return 0
 
 
@@ -57,6 +59,7 @@ def _chart_arguments(p) -> None:
     p.add_argument("--rows", type=int, help="rows across the y range (120; 30 for several links)")
     p.add_argument("--y-axis", choices=("stroke", "accel"), default="stroke",
                    help="stroke, or peak pivot acceleration")
+    units_argument(p)
     _operating_point_options(p)
 
 
@@ -66,7 +69,7 @@ def _cmd_chart(args) -> int:
     if args.rows is not None and not 2 <= args.rows <= 2000:
         raise RigError([Problem("--rows", f"{args.rows} is not allowed: use 2 to 2000 rows")])
     c = _with_held_orbit(rig, chart(rig, rows=args.rows, y_axis=args.y_axis))
-    svg, axes = render(c, rig)
+    svg, axes = render(c, rig, units=args.units)
     if args.output:
         with open(args.output, "w", encoding="utf-8") as fh:
             fh.write(svg)
@@ -87,6 +90,7 @@ def _runup_arguments(p) -> None:
     p.add_argument("--to", help="end speed (default: the operating speed)")
     p.add_argument("--factor", help="largest acceptable growth of a disturbance (10)")
     p.add_argument("--json", action="store_true", help="print the result as JSON")
+    units_argument(p)
     _operating_point_options(p)
 
 
@@ -113,15 +117,17 @@ def _cmd_runup(args) -> int:
     if args.json:
         print(json.dumps(jsonable(result), indent=2, allow_nan=False))
     else:
-        sys.stdout.write(runup_text(result))
+        sys.stdout.write(runup_text(result, args.units))
     return 0
 
 
 @op("check")
 def _op_check(request: dict) -> dict:
     rig, warnings = rig_of(request)
+    units = units_of(request)
     result = check(rig)
-    return {"rig": rig_to_dict(rig), "result": result, "report_text": report_text(result, warnings),
+    return {"rig": rig_to_dict(rig), "result": result,
+            "report_text": report_text(result, warnings, units),
             "warnings": problems_json(warnings), "cautions": list(CAUTIONS)}
 
 
@@ -162,7 +168,7 @@ def _op_runup(request: dict) -> dict:
     except (TypeError, ValueError) as exc:
         raise RigError([Problem("runup", str(exc))]) from None
     result["rate_recommended"] = False  # as `shakestill runup --rate` (the page gives a rate)
-    return {"result": result}
+    return {"result": result, "report_text": runup_text(result, units_of(request))}
 
 
 # The chart is long work: job_start, then job_step repeatedly (each call does about
@@ -182,9 +188,7 @@ def _op_job_start(request: dict) -> dict:
                             y_axis=request.get("y_axis", "stroke"))
     except ValueError as exc:
         raise RigError([Problem(kind, str(exc))]) from None
-    units = request.get("units", "metric")
-    if units not in ("metric", "imperial"):
-        raise RigError([Problem("units", f"{units!r} is not allowed: use metric or imperial")])
+    units = units_of(request)
     job = _CHARTS.start(kind, _checked(_held_orbit_last(rig, steps)))
     _CHARTS.jobs[job]["rig"] = rig
     _CHARTS.jobs[job]["units"] = units  # the stroke axis's unit on the picture

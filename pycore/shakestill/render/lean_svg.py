@@ -8,6 +8,7 @@ Only the held (stable) orbits are drawn: a curve stops where its orbit is lost o
 from __future__ import annotations
 
 from .plots import line_plot
+from .shown import text
 from .svg import INK, esc
 
 PANEL_HEIGHT = 300  # px per panel
@@ -38,22 +39,24 @@ def _estimates(chart: dict) -> list:
     return out
 
 
-def lean_svg(chart: dict) -> tuple[str, dict]:
-    """(svg, {"tilt": axes, "speed": axes}) of a ``motion.lean_chart`` result."""
+def lean_svg(chart: dict, units: str = "metric") -> tuple[str, dict]:
+    """(svg, {"tilt": axes, "speed": axes}) of a ``motion.lean_chart`` result; the stroke in
+    the captions in ``units``."""
     n = chart["links"]
+    stroke = text(chart["stroke_m"], "length", units, ".4g")
     panels, axes = [], {}
     tilt_series = _series(chart, "tilt_deg", "by_tilt", n)
     if n == 1:
         tilt_series += _estimates(chart)
     op_tilt = chart["operating_tilt_deg"]
     captions = ("held orbits; est.: Kapitza's averaging" if n == 1 else "held orbits",
-                f"at {chart['speed_tilt_deg']:g} deg tilt, stroke {chart['stroke_m'] * 1000:g} mm")
+                f"at {chart['speed_tilt_deg']:g} deg tilt, stroke {stroke}")
     specs = (
         ("tilt", tilt_series, "Mean lean of the held orbit against the drive's tilt",
          "drive axis tilt (deg)", "deg", [(op_tilt, "knock", f"this rig: {op_tilt:g} deg")]),
         ("speed", _series(chart, "speed_rpm", "by_speed", n),
          f"Mean lean against speed at {chart['speed_tilt_deg']:g} deg of tilt, stroke "
-         f"{chart['stroke_m'] * 1000:g} mm", "drive speed (rpm)", "rpm",
+         f"{stroke}", "drive speed (rpm)", "rpm",
          [(chart["operating_speed_rpm"], "knock", "operating speed")]),
     )
     for k, (key, series, title, x_label, x_unit, markers) in enumerate(specs):

@@ -8,6 +8,7 @@ from __future__ import annotations
 import math
 
 from ..model.safety import CAUTIONS
+from .shown import length_text, text
 
 
 def _safety() -> list[str]:
@@ -82,28 +83,32 @@ def tolerance_text(result: dict, basin: dict | None = None) -> str:
     return "\n".join(out + _safety()) + "\n"
 
 
-def loads_text(result: dict) -> str:
+def loads_text(result: dict, units: str = "metric") -> str:
+    """Words for a loads result; forces, power, lengths and speeds in ``units``."""
+    def q(value: float, kind: str) -> str:
+        return text(value, kind, units)
+
     f, p = result["drive_force_N"], result["power_W"]
     out = [f"Loads over {result['cycles']} drive cycle(s) at {result['speed_rpm']:,.0f} rpm, "
-           f"stroke {result['stroke_m'] * 1000:.2f} mm, pendulum {result['state']} "
+           f"stroke {length_text(result['stroke_m'], units)}, pendulum {result['state']} "
            f"({result['equilibrium']})",
-           f"  drive force: peak {f['peak']:.4g} N, RMS {f['rms']:.4g} N, mean {f['mean']:.4g} N "
-           f"(weight {result['weight_N']:.4g} N)",
-           f"  drive power: peak {p['peak']:.4g} W, mean {p['mean']:.4g} W",
-           f"  peak pivot acceleration: {result['peak_accel_m_s2']:.4g} m/s^2"]
+           f"  drive force: peak {q(f['peak'], 'force')}, RMS {q(f['rms'], 'force')}, mean "
+           f"{q(f['mean'], 'force')} (weight {q(result['weight_N'], 'force')})",
+           f"  drive power: peak {q(p['peak'], 'power')}, mean {q(p['mean'], 'power')}",
+           f"  peak pivot acceleration: {q(result['peak_accel_m_s2'], 'acceleration')}"]
     if "guide_force_N" in result:  # a drive off vertical: the guide takes a sideways force
         s = result["guide_force_N"]
         out.insert(2, f"  sideways force on the guide (across the drive axis, tilted "
-                      f"{result['axis_tilt_deg']:g} deg): peak {s['peak']:.4g} N, mean "
-                      f"{s['mean']:.4g} N")
+                      f"{result['axis_tilt_deg']:g} deg): peak {q(s['peak'], 'force')}, mean "
+                      f"{q(s['mean'], 'force')}")
     for link in result["links"]:
         out.append(f"  link {link['link']}: axial compression up to "
-                   f"{link['max_compression_N']:.4g} N, tension up to "
-                   f"{link['max_tension_N']:.4g} N")
+                   f"{q(link['max_compression_N'], 'force')}, tension up to "
+                   f"{q(link['max_tension_N'], 'force')}")
     if result["rotation"]:
         r = result["rotation"]
-        out.append(f"  ROTATING: tip speed up to {r['tip_speed_m_s']:.3g} m/s, centripetal load "
-                   f"up to {r['centripetal_load_N']:.4g} N")
+        out.append(f"  ROTATING: tip speed up to {text(r['tip_speed_m_s'], 'velocity', units, '.3g')}"
+                   f", centripetal load up to {q(r['centripetal_load_N'], 'force')}")
     for flag in result["flags"]:
         out.append(("  LIMIT: " if flag["exceeded"] else "  limit: ") + flag["message"])
     if not result["success"]:

@@ -3,22 +3,24 @@
 from __future__ import annotations
 
 from ..model.safety import CAUTIONS
+from .shown import length_text
 
 
-def _fmt(value, unit: str) -> str:
+def _fmt(value, unit: str, units: str = "metric") -> str:
     if value is None:
         return "-"
-    return f"{value * 1000:.3f} mm" if unit == "m" else f"{value:,.1f} {unit}"
+    return length_text(value, units, ".3f") if unit == "m" else f"{value:,.1f} {unit}"
 
 
-def plan_text(result: dict, warnings=()) -> str:
-    """The recommendation, what binds it, the region's size, sensitivities, run-up, cautions."""
+def plan_text(result: dict, warnings=(), units: str = "metric") -> str:
+    """The recommendation, what binds it, the region's size, sensitivities, run-up, cautions;
+    strokes in ``units``."""
     out = [f"Operating point for: {', '.join(result['for'])}"]
     if result["speed_rpm"] is None:
         out.append("No point of the search grid holds for every rig of the set (see the notes).")
     else:
         out.append(f"Run at {result['speed_rpm']:,.0f} rpm with a stroke of "
-                   f"{result['stroke_m'] * 1000:.2f} mm.")
+                   f"{length_text(result['stroke_m'], units)}.")
         out.append(f"Worst-case margin: {result['worst_margin_percent']:.1f}% "
                    f"(speed {result['speed_margin_percent']:.1f}%, stroke "
                    f"{result['stroke_margin_percent']:.1f}%)")
@@ -27,7 +29,7 @@ def plan_text(result: dict, warnings=()) -> str:
             e = b["edge"]
             unit = "rpm" if e["axis"] == "speed" else "m"
             out.append(f"Binding: the {e['side']} {e['axis']} edge of the {b['equilibrium']} "
-                       f"position at {_fmt(e['edge'], unit)}, for the rig with "
+                       f"position at {_fmt(e['edge'], unit, units)}, for the rig with "
                        + ", ".join(f"{k} = {v:.6g}" for k, v in b["rig_values"].items()
                                    if isinstance(v, float)))
         run = result.get("runup")
@@ -46,7 +48,7 @@ def plan_text(result: dict, warnings=()) -> str:
                 if "note" in per:
                     out.append(f"  {row['path']} ({row['spread']}): {per['note']}")
                     continue
-                moves = [f"{name} {_fmt(v['over_half_spread'], 'm' if 'stroke' in name else 'rpm')}"
+                moves = [f"{name} {_fmt(v['over_half_spread'], 'm' if 'stroke' in name else 'rpm', units)}"
                          for name, v in per.items() if v is not None]
                 out.append(f"  {row['path']} ({row['spread']}, {eq}): " + "; ".join(moves))
     out.append("Metric: " + result["metric"])

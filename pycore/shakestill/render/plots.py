@@ -11,6 +11,7 @@ from __future__ import annotations
 import math
 
 from ..fit.logfile import REFERENCE_ANGLE
+from .shown import shown
 from .svg import INK, esc, nice_ticks
 
 LINE_COLOURS = ("#2f6690", "#c2571a", "#5b8e3e", "#8a4f9e")  # one per link / series
@@ -147,18 +148,24 @@ def motion_svg(motion, title: str = "Link angles") -> tuple[str, dict]:
                      markers=markers, cls="motion-plot")
 
 
-def loads_svg(result: dict) -> tuple[str, dict]:
-    """Drive force and link axial loads (N) over the cycles of a loads result."""
+def loads_svg(result: dict, units: str = "metric") -> tuple[str, dict]:
+    """Drive force and link axial loads (N, or lbf in imperial ``units``) over the cycles of
+    a loads result; the axis mapping is in the unit drawn."""
     s = result["samples"]
+    per, unit = shown(1.0, "force", units)
     phase = [math.degrees(p) for p in s["phase_rad"]]
-    series = [("drive force", phase, s["drive_force_N"])]
+
+    def force(values):
+        return [v * per for v in values]
+
+    series = [("drive force", phase, force(s["drive_force_N"]))]
     if "guide_force_N" in s:  # a drive off vertical
-        series.append(("guide (sideways)", phase, s["guide_force_N"]))
-    series += [(f"link {i + 1} axial", phase, a) for i, a in enumerate(s["axial_N"])]
+        series.append(("guide (sideways)", phase, force(s["guide_force_N"])))
+    series += [(f"link {i + 1} axial", phase, force(a)) for i, a in enumerate(s["axial_N"])]
     return line_plot(series, title=f"Loads over {result['cycles']} drive cycle(s) at "
                                    f"{result['speed_rpm']:.0f} rpm",
-                     x_label="drive phase (deg)", y_label="force (N; axial: + compression)",
-                     x_unit="deg", y_unit="N", cls="loads-plot")
+                     x_label="drive phase (deg)", y_label=f"force ({unit}; axial: + compression)",
+                     x_unit="deg", y_unit=unit, cls="loads-plot")
 
 
 def basin_svg(basin, *, knock_rad_s: float | None = None,
@@ -205,20 +212,39 @@ _ZERO_WORDS = {"hanging": "angle from hanging straight down (deg)",
                "inverted": "angle from upward vertical (deg)"}
 
 
+def _fit_series(result, reference: str):
+    """(times, [(name, degrees)]) of the fit's logged and fitted angles, from the log's zero,
+    every sample (the plot thins them)."""
+    zero = REFERENCE_ANGLE[reference]
+
+    def degrees(rows, i):
+        return [math.degrees(math.remainder(q[i] - zero, 2 * math.pi)) for q in rows]
+
+    series = []
+    for i in range(len(result.measured_rad[0])):
+        series.append((f"link {i + 1} logged", degrees(result.measured_rad, i)))
+        series.append((f"link {i + 1} fitted model", degrees(result.model_rad, i)))
+    return list(result.t_s), series
+
+
 def fit_svg(result, title: str = "Logged and fitted angles",
             reference: str = "inverted") -> tuple[str, dict]:
     """Each link's logged angle and the fitted model's, in degrees against time, measured
     from the log's own zero (``reference``: "hanging" or "inverted")."""
-    zero, label = REFERENCE_ANGLE[reference], _ZERO_WORDS[reference]
     every = max(1, math.ceil(len(result.t_s) / FIT_PLOT_POINTS))
-    ts = result.t_s[::every]
-
-    def degrees(rows, i):
-        return [math.degrees(math.remainder(q[i] - zero, 2 * math.pi)) for q in rows[::every]]
-
-    series = []
-    for i in range(len(result.measured_rad[0])):
-        series.append((f"link {i + 1} logged", ts, degrees(result.measured_rad, i)))
-        series.append((f"link {i + 1} fitted model", ts, degrees(result.model_rad, i)))
-    return line_plot(series, title=title, x_label="time (s)", y_label=label, x_unit="s",
+    ts, series = _fit_series(result, reference)
+    return line_plot([(name, ts[::every], ys[::every]) for name, ys in series], title=title,
+                     x_label="time (s)", y_label=_ZERO_WORDS[reference], x_unit="s",
                      y_unit="deg", cls="fit-plot")
+
+
+def fit_csv(result, reference: str = "inverted") -> str:
+    """The fit plot's numbers as CSV, every sample: t_s, then per link the logged and the
+    fitted angle (deg, from the log's zero)."""
+    ts, series = _fit_series(result, reference)
+    names = [name.replace(" fitted model", "_fitted_deg").replace(" logged", "_logged_deg")
+             .replace("link ", "link") for name, _ in series]
+    lines = [",".join(["t_s", *names])]
+    lines += [",".join([f"{t:.10g}", *(f"{ys[k]:.10g}" for _, ys in series)])
+              for k, t in enumerate(ts)]
+    return "\n".join(lines) + "\n"

@@ -5,6 +5,7 @@ from __future__ import annotations
 import math
 
 from ..model.safety import CAUTIONS
+from .shown import length_text, text
 
 _NAMES = {"inverted": "Inverted (pendulum up)", "hanging": "Hanging (pendulum down)"}
 # The verdicts in the page's words (site/panels/report-view.js): (stable, unstable).
@@ -15,8 +16,8 @@ def _rpm(x: float) -> str:
     return f"{x:,.0f} rpm"
 
 
-def _mm(x: float) -> str:
-    return f"{x * 1000:.2f} mm"
+def _mm(x: float, units: str = "metric") -> str:
+    return length_text(x, units)
 
 
 def shape_words(shape: tuple[float, ...]) -> str:
@@ -55,7 +56,7 @@ def _window_text(window, ends, fmt, down, up) -> str:
     return f"{fmt(lo)} ({lo_kind}{below}) to {fmt(hi)} ({hi_kind}{above})"
 
 
-def equilibrium_lines(name: str, r: dict, shapes=((1.0,),)) -> list[str]:
+def equilibrium_lines(name: str, r: dict, shapes=((1.0,),), units: str = "metric") -> list[str]:
     if r["max_multiplier"] is None:  # off vertical with no held orbit: nothing to multiply
         lines = [f"{_NAMES[name]}: NOT HELD  (no orbit near this position with the drive off "
                  "vertical)"]
@@ -71,7 +72,8 @@ def equilibrium_lines(name: str, r: dict, shapes=((1.0,),)) -> list[str]:
             r["speed_window_rpm"], (e["speed_low"], e["speed_high"]), _rpm,
             m["speed_down"], m["speed_up"]))
         lines.append("  stroke window: " + _window_text(
-            r["stroke_window_m"], (e["stroke_low"], e["stroke_high"]), _mm,
+            r["stroke_window_m"], (e["stroke_low"], e["stroke_high"]),
+            lambda x: _mm(x, units),
             m["stroke_down"], m["stroke_up"]))
         if r.get("close_to_edge"):
             lines.append(f"  close to an edge: only {r['nearest_margin_percent']:.1f}% of margin; "
@@ -108,28 +110,29 @@ def tilt_lines(result: dict) -> list[str]:
     return out
 
 
-def report_text(result: dict, warnings=()) -> str:
-    """The human report of ``shakestill check``."""
+def report_text(result: dict, warnings=(), units: str = "metric") -> str:
+    """The human report of ``shakestill check``; lengths and accelerations in ``units``
+    ("metric" or "imperial")."""
     est = result["estimates"]
     out = []
     if result.get("title"):
         out.append(result["title"])
         out.append("=" * len(result["title"]))
     out.append(f"Drive: {result['waveform']}, {_rpm(result['speed_rpm'])} "
-               f"({result['frequency_hz']:.2f} Hz), stroke {_mm(result['stroke_m'])}")
-    out.append(f"Peak pivot acceleration: {result['peak_accel_m_s2']:.1f} m/s^2 "
+               f"({result['frequency_hz']:.2f} Hz), stroke {_mm(result['stroke_m'], units)}")
+    out.append(f"Peak pivot acceleration: {text(result['peak_accel_m_s2'], 'acceleration', units, '.1f')} "
                f"({result['peak_accel_g']:.1f} g)")
     out.append("")
     for name in ("inverted", "hanging"):
-        out.extend(equilibrium_lines(name, result[name], result["modes"]["shapes"]))
+        out.extend(equilibrium_lines(name, result[name], result["modes"]["shapes"], units))
         out.append("")
     out.extend(tilt_lines(result))
     out.append("Closed-form estimates (Kapitza's averaging; a guide, not the exact answer):")
     lengths = est["mode_lengths_m"]
     out.append(f"  equivalent pendulum length l_eq{' (links held in line)' if len(lengths) > 1 else ''}"
-               f": {est['l_eq_m'] * 1000:.1f} mm")
+               f": {length_text(est['l_eq_m'], units, '.1f')}")
     if len(lengths) > 1:
-        out.extend(f"  mode {k + 1}: equivalent length {length * 1000:.1f} mm, "
+        out.extend(f"  mode {k + 1}: equivalent length {length_text(length, units, '.1f')}, "
                    f"{shape_words(shape)}"
                    for k, (length, shape) in enumerate(zip(lengths, result["modes"]["shapes"])))
     binds = (lambda mode: f" (mode {mode} binds)" if len(lengths) > 1 else "")
@@ -140,7 +143,7 @@ def report_text(result: dict, warnings=()) -> str:
     out.append("  inverted slow sway about " + (f"{inv:.3f} Hz" if inv else "none (estimate: "
                                                 "unstable)")
                + f"; hanging about {est['hanging_slow_frequency_hz']:.3f} Hz")
-    out.append(f"  inverted lost above a stroke of about {_mm(est['max_stroke_estimate_m'])} "
+    out.append(f"  inverted lost above a stroke of about {_mm(est['max_stroke_estimate_m'], units)} "
                "at any speed" + binds(est["max_stroke_mode"]))
     if est["effective_barrier_J"] > 0:
         out.append(f"  knock it survives, about {est['knock_estimate_rad_s']:.2f} rad/s; release "
@@ -176,10 +179,10 @@ def jsonable(obj):
     return obj
 
 
-def runup_text(result: dict) -> str:
-    """Words for a run-up result."""
+def runup_text(result: dict, units: str = "metric") -> str:
+    """Words for a run-up result (the stroke in ``units``)."""
     out = [f"Run-up at {result['rate_rpm_s']:g} rpm/s from {result['start_rpm']:,.0f} to "
-           f"{result['end_rpm']:,.0f} rpm, stroke {_mm(result['stroke_m'])} "
+           f"{result['end_rpm']:,.0f} rpm, stroke {_mm(result['stroke_m'], units)} "
            f"(acceptable growth: x{result['factor']:g})"]
     for name in ("inverted", "hanging"):
         r = result.get(name)
@@ -209,7 +212,7 @@ def runup_text(result: dict) -> str:
     return "\n".join(out) + "\n"
 
 
-def lean_text(chart: dict, title: str = "") -> str:
+def lean_text(chart: dict, title: str = "", units: str = "metric") -> str:
     """The lean chart in words: the lean at the ends of each curve, where each stops, the
     averaging's slope, the cautions."""
     out = [title or "Lean chart", "=" * len(title or "Lean chart"),
@@ -219,7 +222,7 @@ def lean_text(chart: dict, title: str = "") -> str:
                            ("by_speed", "speed_rpm", "rpm")):
         if by == "by_speed":
             out.append(f"Against speed at {chart['speed_tilt_deg']:g} deg of tilt, stroke "
-                       f"{_mm(chart['stroke_m'])}:")
+                       f"{_mm(chart['stroke_m'], units)}:")
         else:
             out.append("Against the drive's tilt:")
         for name in ("inverted", "hanging"):
