@@ -41,7 +41,8 @@ MODULES = [
 # The fast engine tests that exercise those modules (the slow long-run cases and the
 # Pyodide/browser passes are left out: each mutant re-runs the tests that reach it).
 TESTS = [
-    "tests/test_check_fields.py", "tests/test_estimates_modes.py", "tests/test_windows.py", "tests/test_ref_kapitza.py",
+    "tests/test_check_fields.py", "tests/test_estimates_modes.py", "tests/test_windows.py",
+    "tests/test_ref_kapitza.py",
     "tests/test_ref_mathieu.py", "tests/test_hill.py", "tests/test_ref_crank.py",
     "tests/test_ref_monodromy.py", "tests/test_loads.py", "tests/test_fit.py",
     "tests/test_stability_chart.py", "tests/test_runup.py", "tests/test_modal_charts.py",
