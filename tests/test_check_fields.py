@@ -180,7 +180,7 @@ def test_the_floquet_fields_and_the_rig_echo_follow_the_references(rpm, upright)
         mu = _floquet_reference(data, eq)
         assert got["stable"] is stable, eq
         assert got["converged"] is True, eq
-        order = lambda z: (z.real, z.imag)  # noqa: E731 (one order for both lists)
+        order = lambda z: (z.real, z.imag)  # one order for both lists
         assert sorted((complex(re, im) for re, im in got["multipliers"]), key=order) == \
             pytest.approx(sorted(mu, key=order), abs=1e-7), eq
         assert got["max_multiplier"] == pytest.approx(max(abs(mu)), abs=1e-7), eq
