@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import math
 
+import numpy as np
 import pytest
 from scipy import special
 from scipy.optimize import brentq
@@ -138,3 +139,87 @@ def test_the_report_words_carry_the_same_numbers():
     assert f"to {hi:,.0f} rpm (rig limit, {inv['margins_percent']['speed_up']:.1f}% above)" in text
     assert f"({result['peak_accel_g']:.1f} g)" in text
     assert f"inverted needs more than about {result['estimates']['kapitza_min_speed_rpm']:,.0f} rpm" in text
+
+
+def _floquet_reference(data, eq):
+    """Multipliers of one turn from scipy.integrate.solve_ivp (tests/refsolvers.py)."""
+    return np.linalg.eigvals(ref.monodromy(data, eq))
+
+
+@pytest.mark.parametrize("rpm, upright", [(3000.0, True), (1500.0, False)])
+def test_the_floquet_fields_and_the_rig_echo_follow_the_references(rpm, upright):
+    """Kills: a Floquet field renamed or dropped, the slow sway or the multipliers read from
+    the wrong place, the windows kept for an unstable point, the rig's own numbers echoed
+    wrong. Multipliers: eigenvalues of the solve_ivp monodromy (rtol 1e-12; the engine's to
+    1e-7); the slow sway of a point stable in the Kapitza regime: |arg mu| f / (2 pi) (the
+    Floquet exponent, common practice, no source); mass properties: tests/refsolvers.py
+    (parallel-axis theorem). At 1500 rpm the tip mass is below its Kapitza speed
+    (Landau & Lifshitz, sec. 30: (A w)^2 < 2 g l): upright is unstable, windows null."""
+    length, stroke = 0.25, 0.02
+    data = ref.rig([ref.link(length, 0.0, [(0.1, length)], damping=2e-4)],
+                   ref.sine(stroke, rpm), title="Echo rig")
+    result = ss.check(ss.rig_from_dict(data))
+    assert result["title"] == "Echo rig"
+    assert result["speed_rpm"] == rpm and result["stroke_m"] == stroke
+    assert result["waveform"] == "sine" and result["frequency_hz"] == pytest.approx(rpm / 60)
+    assert result["limits"] == {"speed_rpm": [10.0, 60000.0], "stroke_m": [0.0, 0.5]}
+    props = ref.properties(data)
+    for key in ("total_mass_kg", "first_moment_kg_m", "inertia_about_pivot_kg_m2", "l_eq_m"):
+        assert result["properties"][key] == pytest.approx(props[key], rel=1e-12), key
+    assert result["properties"]["hanging_frequencies_hz"] == [
+        pytest.approx(props["hanging_frequency_hz"], rel=1e-9)]
+    # centre of mass: first moment over mass (definition); one link has no modes to couple
+    assert result["properties"]["centre_of_mass_m"] == pytest.approx(
+        props["first_moment_kg_m"] / props["total_mass_kg"], rel=1e-12)
+    assert result["modes"]["equivalent_lengths_m"] == [pytest.approx(length, rel=1e-12)]
+    assert result["modes"]["damping_coupling"] == 0.0
+    assert result["converged"] is True
+    f = rpm / 60
+    for eq, stable in (("hanging", True), ("inverted", upright)):
+        got = result[eq]
+        mu = _floquet_reference(data, eq)
+        assert got["stable"] is stable, eq
+        assert got["converged"] is True, eq
+        order = lambda z: (z.real, z.imag)  # one order for both lists
+        assert sorted((complex(re, im) for re, im in got["multipliers"]), key=order) == \
+            pytest.approx(sorted(mu, key=order), abs=1e-7), eq
+        assert got["max_multiplier"] == pytest.approx(max(abs(mu)), abs=1e-7), eq
+        if stable:
+            assert max(abs(mu)) < 1.0  # the joint damping makes the point strictly stable
+            slow = abs(np.angle(mu[0])) * f / (2 * math.pi)
+            assert got["slow_frequency_hz"] == pytest.approx(slow, rel=1e-6), eq
+            assert got["sway_modes_hz"] == [pytest.approx(slow, rel=1e-6)], eq
+            assert got["speed_window_rpm"][0] < rpm < got["speed_window_rpm"][1], eq
+            assert got["stroke_window_m"][0] < stroke < got["stroke_window_m"][1], eq
+            assert got["messages"] == [], eq
+            # the two scans' sentences, speed then stroke, joined once (the report prints them)
+            speed_words, stroke_words = got["scan"].split("; ")
+            assert speed_words.startswith("scanned every") and "speed" in speed_words, eq
+            assert stroke_words.startswith("scanned") and "strokes" in stroke_words, eq
+        else:
+            assert max(abs(mu)) > 1.0
+            assert got["slow_frequency_hz"] is None and got["sway_modes_hz"] is None
+            assert got["speed_window_rpm"] is None and got["stroke_window_m"] is None
+            assert got["nearest_margin_percent"] is None and got["close_to_edge"] is False
+            assert len(got["messages"]) == 1 and "unstable" in got["messages"][0]
+        assert got["method"] in ("hill", "monodromy"), eq
+        # a converged result's error estimate is within the 1e-7 held to above
+        assert 0.0 <= got["error_estimate"] < 1e-7, eq
+        assert got["evaluations"] >= 3, eq  # the point itself, and each window's probes
+
+
+def test_a_rig_at_rest_has_no_stroke_margins():
+    """Kills: a margin taken as a per cent of a zero stroke (a crash) or of the wrong zero.
+    A still pivot (stroke 0, a valid rig file) leaves a plain pendulum: hanging stable with
+    the frequency sqrt(g / l) / (2 pi) (tip mass, any mechanics text), the stroke margins
+    null because there is no stroke to take a per cent of (the report's definition)."""
+    length = 0.25
+    data = ref.rig([ref.link(length, 0.0, [(0.1, length)])], ref.sine(0.0, 3000.0))
+    hanging = ss.check(ss.rig_from_dict(data))["hanging"]
+    assert hanging["stable"] is True
+    assert hanging["slow_frequency_hz"] == pytest.approx(
+        math.sqrt(G / length) / (2 * math.pi), rel=1e-6)
+    assert hanging["margins_percent"]["stroke_down"] is None
+    assert hanging["margins_percent"]["stroke_up"] is None
+    assert hanging["margins_percent"]["speed_up"] == pytest.approx(
+        (60000.0 - 3000.0) / 3000.0 * 100, rel=1e-9)  # the rig limit, no edge above
