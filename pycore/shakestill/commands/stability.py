@@ -56,7 +56,7 @@ def _chart_arguments(p) -> None:
     p.add_argument("rig", nargs="?", metavar="RIG")
     p.add_argument("-o", "--output", help="write the SVG to this file")
     p.add_argument("--json", action="store_true", help="print rows, edges, boundaries as JSON")
-    p.add_argument("--rows", type=int, help="rows across the y range (120; 30 for several links)")
+    p.add_argument("--rows", type=int, help="rows across the y range (default 120, any link count)")
     p.add_argument("--y-axis", choices=("stroke", "accel"), default="stroke",
                    help="stroke, or peak pivot acceleration")
     units_argument(p)
