@@ -181,3 +181,27 @@ def test_units_other_than_metric_or_imperial_are_refused():
     rig = sine_rig()
     with pytest.raises(ValueError, match="units"):
         render(chart(rig, rows=2), rig, units="cubits")
+
+
+def test_acceleration_labels_name_their_line_and_never_overprint():
+    # A small-stroke chart crowds the constant-acceleration lines at the right-hand edge.
+    # Each label kept must sit at its own line's end: for a sine drive the peak acceleration
+    # is (stroke/2) w^2 (common practice, no source), so the g line meets the right edge at
+    # stroke = 2 g G / w^2 (or leaves through the top). Labels 10 px high closer than 11 px
+    # would overprint; none may sit on the speed axis.
+    data = ss.rig_to_dict(sine_rig())
+    data["limits"] = {"speed_rpm": [600, 6000], "stroke_m": [0.0, 0.004]}
+    data["drive"]["stroke_m"] = 0.002
+    rig = ss.rig_from_dict(data)
+    svg, axes = render(chart(rig, rows=12), rig)
+    root = ET.fromstring(svg)
+    labels = [(float(t.get("y")), float(t.text[:-2])) for t in root.iter(NS + "text")
+              if t.text and t.text.endswith(" g") and t.get("text-anchor") == "end"]
+    assert len(labels) >= 3
+    ys = sorted(y for y, _ in labels)
+    assert min(b - a for a, b in zip(ys, ys[1:])) >= 11
+    assert ys[-1] <= axes["y"]["px_min"] - 2
+    w = 2 * math.pi * 6000 / 60
+    for y, g_value in labels:
+        stroke = min(2 * g_value * G / w ** 2, 0.004)
+        assert y - 11 == pytest.approx(to_px(axes, 6000, stroke)[1], abs=1.0)

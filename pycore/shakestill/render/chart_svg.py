@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import math
 
 from ..equilibria.chart import Chart, accel_lines, boundaries
 from ..model.rig import Rig
@@ -139,6 +140,23 @@ def _carried_to_side(points, exits) -> list:
 STROKE_SHOWN = {"metric": ("mm", 1000.0), "imperial": ("in", 1 / INCH)}
 
 
+ACCEL_LABEL_GAP_PX = 11  # one 10 px line of text: closer labels would overprint
+
+
+def _accel_labels(accel_lines, px, py, axis_y: float) -> list[str]:
+    """Labels at the lines' right-hand ends, top down; a label that would overprint the one
+    above it or the speed axis is left out (its line keeps the value as a tooltip)."""
+    ends = sorted((py(ly) + 11, px(lx) - 2, g) for g, pts in accel_lines for lx, ly in pts[-1:])
+    out, last = [], -math.inf
+    for y, x, g_value in ends:
+        if y - last < ACCEL_LABEL_GAP_PX or y > axis_y - 2:
+            continue
+        out.append(f'<text x="{num(x)}" y="{num(y)}" font-size="10" '
+                   f'text-anchor="end" fill="#333">{esc(f"{g_value:g} g")}</text>')
+        last = y
+    return out
+
+
 def chart_svg(chart, rig: Rig, *, width_px: int = 760, height_px: int = 470,
               boundaries: list[dict] | None = None, accel_lines: list[tuple] = (),
               units: str = "metric") -> tuple[str, dict]:
@@ -193,10 +211,8 @@ def chart_svg(chart, rig: Rig, *, width_px: int = 760, height_px: int = 470,
     for g_value, points in accel_lines:
         pts = " ".join(f"{num(px(x))},{num(py(y))}" for x, y in points)
         out.append(f'<polyline points="{pts}" fill="none" stroke="#555" stroke-width="0.8" '
-                   'stroke-dasharray="3 3"/>')
-        lx, ly = points[-1]
-        out.append(f'<text x="{num(px(lx) - 2)}" y="{num(py(ly) + 11)}" font-size="10" '
-                   f'text-anchor="end" fill="#333">{esc(f"{g_value:g} g")}</text>')
+                   f'stroke-dasharray="3 3"><title>{esc(f"{g_value:g} g")}</title></polyline>')
+    out.extend(_accel_labels(accel_lines, px, py, height_px - bottom))
     for t in chart.tongues:
         if x0 <= t["speed_rpm"] <= x1:
             tx = min(max(px(t["speed_rpm"]), left + 14), width_px - right - 14)
