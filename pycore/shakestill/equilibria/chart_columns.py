@@ -11,6 +11,7 @@ or peak acceleration) to the rows' precision.
 
 from __future__ import annotations
 
+from bisect import bisect_right
 from dataclasses import dataclass
 
 from ..model.derived import Model
@@ -41,12 +42,12 @@ def column_edges(model: Model, rows: tuple[Row, ...], y_axis: str, equilibrium: 
     """(edges between neighbouring rows that the rows' own edges do not explain, ordered by
     speed then y; stability evaluations spent)."""
     found, count = [], 0
-    for below, above in zip(rows, rows[1:]):
-        for x in speeds:
+    verdicts = [_verdicts(row, equilibrium, speeds) for row in rows]
+    for k, (below, above) in enumerate(zip(rows, rows[1:])):
+        for x, stable_below, stable_above in zip(speeds, verdicts[k], verdicts[k + 1]):
             if not (max(below.speed_min, above.speed_min) <= x <= min(below.speed_max,
                                                                      above.speed_max)):
                 continue
-            stable_below, stable_above = _holds(below, equilibrium, x), _holds(above, equilibrium, x)
             if stable_below == stable_above or _swept(below, above, equilibrium, x):
                 continue
             edge, spent = _trace(model, y_axis, equilibrium, x, below.y, above.y)
@@ -57,8 +58,15 @@ def column_edges(model: Model, rows: tuple[Row, ...], y_axis: str, equilibrium: 
     return tuple(found), count
 
 
-def _holds(row: Row, equilibrium: str, x: float) -> bool:
-    return any(a <= x <= b for a, b in row.stable_intervals(equilibrium))
+def _verdicts(row: Row, equilibrium: str, speeds: list[float]) -> list[bool]:
+    """The row's verdict at each of the (ascending) speeds: inside a closed stable interval."""
+    intervals = row.stable_intervals(equilibrium)
+    starts = [a for a, _ in intervals]
+    out = []
+    for x in speeds:
+        k = bisect_right(starts, x) - 1  # the last interval starting at or below x
+        out.append(k >= 0 and x <= intervals[k][1])
+    return out
 
 
 def _swept(below: Row, above: Row, equilibrium: str, x: float) -> bool:

@@ -11,7 +11,7 @@ since the links do not change.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, replace
+from dataclasses import dataclass
 
 from ..numerics.linalg import inverse, matmul
 from ..numerics.symeig import generalized_eigh
@@ -19,7 +19,7 @@ from . import drive as drv
 from .linear import EQUILIBRIA, Chain, LinearModel, chain, linear_model
 from .modes import Modes, modes_of
 from .properties import RigProperties, properties_of
-from .rig import MIN_LINK_M, OutOfReach, Problem, Rig, with_operating_point
+from .rig import MIN_LINK_M, OutOfReach, Problem, Rig, swapped, with_operating_point
 
 Matrix = tuple[tuple[float, ...], ...]
 
@@ -61,8 +61,8 @@ class Model:
         if rig is self.rig:
             return self
         if rig.drive.stroke_m == self.rig.drive.stroke_m:  # the cycle's shape is speed-free
-            return replace(self, rig=rig)
-        return replace(self, rig=rig, harmonics=drv.harmonics(rig.drive))
+            return swapped(self, rig=rig)
+        return swapped(self, rig=rig, harmonics=drv.harmonics(rig.drive))
 
 
 def _freeze(rows) -> Matrix:

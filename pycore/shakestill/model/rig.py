@@ -7,7 +7,7 @@ from __future__ import annotations
 
 import math
 
-from dataclasses import dataclass, replace
+from dataclasses import dataclass
 
 FORMAT = "shakestill-rig"
 VERSION = 1
@@ -169,7 +169,17 @@ def with_operating_point(rig: Rig, *, speed_rpm: float | None = None,
         changes["speed_rpm"] = float(speed_rpm)
     if stroke_m is not None:
         changes["stroke_m"] = float(stroke_m)
-    return replace(rig, drive=replace(rig.drive, **changes)) if changes else rig
+    return swapped(rig, drive=swapped(rig.drive, **changes)) if changes else rig
+
+
+def swapped(obj, **changes):
+    """``dataclasses.replace`` for the hot path of scans (a chart asks for thousands of
+    operating points): the same frozen object with some fields swapped, without re-running
+    ``__init__`` (a quarter of the time it takes). Only for fields whose new values need
+    no checking, as the operating point's floats here."""
+    new = object.__new__(type(obj))
+    new.__dict__.update(obj.__dict__, **changes)
+    return new
 
 
 def max_stroke_m(rig: Rig) -> float:
