@@ -159,6 +159,31 @@ def test_chart_column_edges_lie_on_mathieu_curves(tmp_path, capsys):
             assert (above, below) == ((True, False) if gained else (False, True)), (rpm, y)
 
 
+def test_chart_accel_axis_by_the_drive_formulas(tmp_path, capsys):
+    # y = peak pivot acceleration: sine (stroke / 2) w^2; slider-crank r w^2 (1 + r / l) at top
+    # dead centre (exact there); the range ends at the stroke limit and the top speed
+    w_top = 3600.0 * math.pi / 30.0
+    demo = ref.rig([ref.link(0.25, 0.04, [(0.025, 0.24)], 0.0, 3e-4)],
+                   ref.crank(0.024, 0.08, 2700.0), SINE1["limits"])
+    out = run(tmp_path, capsys, demo, "chart", "--json", "--rows", "4", "--y-axis", "accel")
+    r = 0.036 / 2
+    assert abs(out["y_range"][1] / (r * w_top ** 2 * (1 + r / 0.08)) - 1) < 1e-12
+    assert np.allclose([row["y"] for row in out["rows"]], np.linspace(0, out["y_range"][1], 4),
+                       rtol=1e-12, atol=0)  # evenly spaced rows (numpy.linspace)
+    out = run(tmp_path, capsys, SINE1, "chart", "--json", "--rows", "6", "--y-axis", "accel")
+    assert abs(out["y_range"][1] / (0.036 / 2 * w_top ** 2) - 1) < 1e-12
+    # every traced edge of the undamped sine rig, mapped back to stroke = 2 accel / w^2, lies
+    # on a Mathieu transition curve (scipy.special)
+    l_eq = ref.properties(SINE1)["l_eq_m"]
+    points = [p[:2] for p in out["column_edges"]["inverted"]]
+    points += [p for b in out["boundaries"] for p in b["points"]]
+    assert len(points) > 10
+    for rpm, accel in points:
+        w = rpm * math.pi / 30.0
+        a, q = ref.mathieu_aq(l_eq, G, 2 * accel / w ** 2, rpm, "inverted")
+        assert ref.transition_q_error(a, q) < 1e-6, (rpm, accel)
+
+
 # ------------------------------------------------------------------ plan
 
 def test_plan_margins_and_binding_edge_against_mathieu(tmp_path, capsys):
@@ -183,6 +208,18 @@ def test_plan_margins_and_binding_edge_against_mathieu(tmp_path, capsys):
     vals = out["binding"]["rig_values"]
     assert abs(vals["equivalent_length_m"] / l_eq - 1) < 1e-12
     assert vals["damping_rate_1_s"] == 0.0  # SINE1 has no damping
+    # the words carry the same numbers, rounded as printed
+    text = run(tmp_path, capsys, SINE1, "plan", "--rows", "12")
+    worst, sp, st = re.findall(r"Worst-case margin: ([\d.]+)% \(speed ([\d.]+)%, stroke ([\d.]+)%\)",
+                               text)[0]
+    assert (float(worst), float(sp), float(st)) == tuple(round(out[k], 1) for k in (
+        "worst_margin_percent", "speed_margin_percent", "stroke_margin_percent"))
+    rpm, mm = re.findall(r"Run at ([\d,]+) rpm with a stroke of ([\d.]+) mm", text)[0]
+    assert float(rpm.replace(",", "")) == round(speed) and float(mm) == round(1000 * stroke, 2)
+    at = re.findall(r"edge of the inverted position at ([\d,.]+) rpm", text)[0]
+    assert float(at.replace(",", "")) == round(edge["edge"], 1)
+    length = re.findall(r"equivalent_length_m = ([\d.]+)", text)[0]
+    assert float(length) == float(f"{l_eq:.6g}")
 
 
 def test_plan_damping_rate_and_two_link_modal_lengths(tmp_path, capsys):
@@ -288,3 +325,27 @@ def test_lean_wobble_kappa_and_words_against_shooting_and_kapitza(tmp_path, caps
                           text)[0]
         assert float(a) == round(out["by_speed"][eq]["lean_deg"][0][0], 2)
         assert float(b) == round(out["by_speed"][eq]["lean_deg"][-1][0], 2)
+
+
+def test_simulate_two_links_against_solve_ivp(tmp_path, capsys):
+    from test_motion import lagrange_rhs  # independent chain equations by virtual work
+    out = run(tmp_path, capsys, TWO, "simulate", "--json", "--duration", "0.4s",
+              "--angle", "0.3rad", "--angle=-0.2rad", "--rate", "0rad/s", "--rate", "40rad/s",
+              "--rtol", "1e-11")
+    sol = solve_ivp(lagrange_rhs(TWO), (0, 0.4), [0.3, -0.2, 0.0, 40.0], method="DOP853",
+                    rtol=1e-12, atol=1e-12, dense_output=True)  # scipy.integrate.solve_ivp
+    assert np.allclose(out["end_state"], sol.y[:, -1], rtol=0, atol=1e-6)  # issue's 1e-6 bound
+    tt = np.linspace(0, 0.4, 40001)
+    q = sol.sol(tt)[:2]
+    # fell: some link leaves the band of 90 deg about upright; turns: largest |angle change| /
+    # 2 pi per link (sampled every 10 us: within 1e-3 turn)
+    assert out["fell"] is bool(np.any(np.abs(q) > math.pi / 2))
+    start = np.array([[0.3], [-0.2]])
+    assert np.allclose(out["turns"], np.max(np.abs(q - start), axis=1) / (2 * math.pi),
+                       rtol=0, atol=1e-3)
+    # the events' times: first leaving the band, first full turn of link 2 (the 10 us sampling)
+    dev = np.abs(q - start)
+    kinds = {e["kind"]: e for e in out["events"]}
+    assert out["fell"] and abs(kinds["fell"]["t_s"] - tt[np.argmax(np.abs(q).max(axis=0) > math.pi / 2)]) < 2e-5
+    assert kinds["rotation"]["link"] == 1
+    assert abs(kinds["rotation"]["t_s"] - tt[np.argmax(dev[1] >= 2 * math.pi)]) < 2e-5
