@@ -235,6 +235,33 @@ def test_plan_damping_rate_and_two_link_modal_lengths(tmp_path, capsys):
     assert np.allclose(got, want, rtol=1e-9, atol=0)
 
 
+def test_plan_with_spreads_wander_set_and_binding_edge(tmp_path, capsys):
+    # a 0.1 kg point mass at 0.2 m +-3 % on a massless rod, speed +-2 %, stroke +-1 mm
+    data = ref.rig([ref.link(0.5, 0.0, [(0.1, 0.2)])], ref.sine(0.1, 1000.0),
+                   {"speed_rpm": [300.0, 1500.0], "stroke_m": [0.0, 0.3]})
+    data["spreads"] = {"links[0].point_masses[0].at_m": "+-3%", "drive.speed_rpm": "+-2%",
+                       "drive.stroke_m": "+-1 mm"}
+    out = run(tmp_path, capsys, data, "plan", "--json", "--rows", "12")
+    v, s = out["speed_rpm"], out["stroke_m"]
+    # the operating point's wander is the spread about it (arithmetic, common practice)
+    assert np.allclose(out["wander"]["speed_rpm"], [0.98 * v, 1.02 * v], rtol=1e-12, atol=0)
+    assert np.allclose(out["wander"]["stroke_m"], [s - 1e-3, s + 1e-3], rtol=0, atol=1e-15)
+    # a point mass: the equivalent length is the bob's distance, so the set's extremes are
+    # 0.2 (1 -+ 0.03) m (physical pendulum I / (m c), common practice)
+    lengths = sorted(r["equivalent_length_m"] for r in out["set"]["rigs"])
+    assert np.allclose(lengths, [0.194, 0.206], rtol=1e-12, atol=0)
+    # the binding edge: the Mathieu window's end (scipy.special) of the binding rig at the
+    # worst end of the wander, 1e-6 relative (edges to 1e-8)
+    b = out["binding"]
+    l_eq, e = b["rig_values"]["equivalent_length_m"], b["edge"]
+    assert l_eq in (lengths[0], lengths[1])
+    if e["axis"] == "speed":
+        window = ref.speed_window(l_eq, G, e["at_m"], v, "inverted", [300.0, 1500.0])
+    else:
+        window = ref.stroke_window(l_eq, G, s, e["at_rpm"], "inverted", [0.0, 0.3])
+    assert abs(e["edge"] / window[0 if e["side"] == "low" else 1] - 1) < 1e-6
+
+
 # ------------------------------------------------------------------ simulate
 
 def test_simulate_fall_turns_end_state_and_strobe_against_solve_ivp(tmp_path, capsys):
