@@ -111,6 +111,8 @@ def test_tolerance_edges_by_own_bisection_over_solve_ivp(fast_tolerance, key, st
     # the engine's recovering value and first failure bracket the same edge: a recovering
     # value above our first fall, or a failure below our last recovery, would be wrong
     assert edge["value"] <= hi and edge["first_failure"] >= lo, (edge, lo, hi)
+    # and each end is what it says: the value recovers, the first failure falls (solve_ivp)
+    assert not fall(edge["value"]) and fall(edge["first_failure"])
     # and the stated precision is the relative width of that bracket (numpy arithmetic)
     assert edge["first_failure"] - edge["value"] <= edge["precision"] * edge["value"] * (1 + 1e-9)
 
