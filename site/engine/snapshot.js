@@ -33,7 +33,8 @@ export function snapshotsPossible(host) {
 const entryURL = (base, key) => new URL(`snapshot/${encodeURIComponent(key)}`, base).href;
 
 /**
- * The stored snapshot for this build as {bytes, drop()}, or null when there is none. Entries
+ * The stored snapshot for this build as {bytes, drop()}, or null when there is none; `bytes`
+ * is a promise, so loadPyodide unpacks it while it loads its own JavaScript. Entries
  * of other builds are deleted (`note` says so). `infoPromise` is awaited only when the cache
  * holds something, so a first visit's plain boot never waits for build-info.json here.
  */
@@ -52,15 +53,10 @@ export async function findSnapshot(base, infoPromise, note) {
     }
   }
   if (!found) return null;
-  const drop = () => cache.delete(found);
-  try {
-    const response = await cache.match(found);
-    const plain = response.body.pipeThrough(new DecompressionStream("gzip"));
-    return { bytes: new Uint8Array(await new Response(plain).arrayBuffer()), drop };
-  } catch (error) {
-    await drop();
-    throw error;
-  }
+  const response = await cache.match(found);
+  const plain = response.body.pipeThrough(new DecompressionStream("gzip"));
+  return { bytes: new Response(plain).arrayBuffer().then((buffer) => new Uint8Array(buffer)),
+    drop: () => cache.delete(found) };
 }
 
 /** Imports the whole core and returns the snapshot's bytes (Python must be idle). */
@@ -79,7 +75,7 @@ export function takeSnapshot(pyodide) {
   }
 }
 
-/** Options for loadPyodide that restore `bytes` instead of starting Python afresh. */
+/** Options for loadPyodide that restore `bytes` (or a promise of them) instead of starting afresh. */
 export const restoreOptions = (bytes) => ({ _loadSnapshot: bytes, _snapshotDeserializer: () => null });
 
 /** Gzips `bytes` and keeps them under this build's key; resolves to the gzipped size. */

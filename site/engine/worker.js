@@ -164,10 +164,11 @@ async function restore(base, indexURL, info) {
   try {
     found = await findSnapshot(base, info, note);
   } catch (error) {
-    note(`The stored snapshot could not be read (${describe(error)}); deleted it, plain start.`);
+    note(`The snapshot store could not be read (${describe(error)}); plain start.`);
     return "";
   }
   if (!found) return "";
+  found.bytes.catch(() => {}); // a damaged entry rejects inside loadPyodide, handled below
   stage("restoring Python from this browser's copy", 0.1);
   try {
     const pyodide = await withinTime(LOAD_TIMEOUT_MS, "the snapshot did not start within two minutes",
