@@ -6,7 +6,10 @@ Uses the built dist/ (python build_scripts/build_site.py). For the served
 site (dist/site/ on 127.0.0.1) and the single file (opened from disk):
 a cold first visit in a fresh browser profile, then a second visit in the
 same profile (the served site then answers from its service worker; it is
-also timed with the network gone). The page shows a marked cached verdict
+also timed with the network gone). The served site's second visit is timed
+twice: "snapshot", Python restored from the memory snapshot the cold visit
+left in Cache Storage (site/engine/snapshot.js), then "second" (and
+"offline") with that snapshot deleted, a plain start. The page shows a marked cached verdict
 first and writes the engine's own check result as JSON to data-result of
 #check-report with data-state="fresh".
 
@@ -45,6 +48,8 @@ FLAGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-
 VERDICT = "#check-report[data-result]"  # any verdict on screen, a marked cached one included
 RESULT = "#check-report[data-state=fresh]"  # the engine's own result
 READY = "#chip-engine[data-state=ready]"  # the page's engine chip once the worker is ready
+SNAPSHOT_KEPT = "#chip-engine[data-snapshot]"  # the worker kept (or failed to keep) a snapshot
+SNAPSHOT_CACHE = "snapshot-of-shakestill-v1"  # site/engine/snapshot.js CACHE
 TIMEOUT_MS = 120_000
 # The worker's marks in the order of start-up; each phase ends at its mark.
 MARKS = ("worker", "files", "python", "micropip", "installed", "imported", "check")
@@ -85,6 +90,7 @@ def first_result(page, url: str, visit: str) -> dict:
     result = time.perf_counter() - start
     row = {"verdict": verdict, **phases(page), "ready": ready, "result": result}
     row["check result"] = json.loads(page.get_attribute("#check-report", "data-result"))
+    row["started"] = page.get_attribute("#chip-engine", "data-started")
     return {visit: row}
 
 
@@ -103,10 +109,18 @@ def visits(playwright, url: str, served: bool) -> tuple[dict, list[str]]:
         rows = first_result(page, url, "cold")
         if served:  # the service worker must hold everything before the second visit counts
             page.wait_for_selector("html[data-offline=ready]", state="attached", timeout=TIMEOUT_MS)
+            # ...and the snapshot the first visit leaves (site/engine/snapshot.js)
+            page.wait_for_selector(SNAPSHOT_KEPT, state="attached", timeout=TIMEOUT_MS)
+            page.close()
+            page = context.new_page()
+            rows.update(first_result(page, url, "snapshot"))
+            # the plain second (and offline) visit: without the snapshot
+            page.evaluate("(name) => caches.delete(name)", SNAPSHOT_CACHE)
         page.close()
         page = context.new_page()
         rows.update(first_result(page, url, "second"))
         if served:
+            page.evaluate("(name) => caches.delete(name)", SNAPSHOT_CACHE)
             page.close()
             context.set_offline(True)
             page = context.new_page()
@@ -188,6 +202,14 @@ def main() -> None:
             print(f"  {name}, {visit}: first fresh result / bare Pyodide boot ({visit}) = {ratio:.2f} "
                   "(target <= 1.3)")
         print(f"  {name}, second visit: engine ready {medians[name]['second']['ready']:.2f} s (target <= 1.5)")
+    snap, plain = medians["served"]["snapshot"], medians["served"]["second"]
+    starts = [rows["snapshot"]["started"] for rows in samples["served"]]
+    print(f"  served, second visit from the snapshot (started from it in "
+          f"{starts.count('snapshot')}/{len(starts)} runs): engine ready {snap['ready']:.2f} s "
+          f"(target <= 1.5), plain second {plain['ready']:.2f} s, ratio {snap['ready'] / plain['ready']:.2f}; "
+          f"result {snap['result']:.2f} s, / bare Pyodide second {snap['result'] / bare['second']['result']:.2f}")
+    same = all(rows["snapshot"]["check result"] == rows["second"]["check result"] for rows in samples["served"])
+    print(f"  served: check result from the snapshot equal to the plain second visit's in every run: {same}")
     served, one = medians["served"], medians["single file"]
     print(f"  ratio single file / served, cold result: {one['cold']['result'] / served['cold']['result']:.2f}")
     result = samples["served"][0]["cold"]["check result"]

@@ -120,6 +120,13 @@ def write_demo_verdict(site: Path) -> None:
     (site / DEMO_VERDICT).write_text(json.dumps({"rig": rig, "reply": reply}, sort_keys=True) + "\n")
 
 
+def snapshot_key(pyodide_dir: Path, core: Path) -> str:
+    """The key of a browser's memory snapshot (site/engine/snapshot.js): one is only good for
+    the exact Pyodide, WebAssembly, standard library and core it was taken from."""
+    parts = [wheels.sha256_of(pyodide_dir / name)[:16] for name in ("pyodide.asm.wasm", "python_stdlib.zip")]
+    return "-".join([pins.PYODIDE_VERSION, *parts, wheels.sha256_of(core)[:16]])
+
+
 def build_site(site: Path = SITE) -> dict:
     """Build dist/site/; returns build-info.json's contents."""
     if site.exists():
@@ -144,7 +151,8 @@ def build_site(site: Path = SITE) -> dict:
 
     write_demo_verdict(site)
     info = {"name": name, "version": version, "wheel": core.name,
-            "hash": wheels.sha256_of(core), "pyodide": pins.PYODIDE_VERSION}
+            "hash": wheels.sha256_of(core), "pyodide": pins.PYODIDE_VERSION,
+            "snapshot": snapshot_key(pyodide_dir, core)}
     (site / "build-info.json").write_text(json.dumps(info, indent=1, sort_keys=True) + "\n")
     info["cache"] = write_service_worker(site)
     return info

@@ -48,14 +48,18 @@ export function bootView($, chip, { isStarting, ready, failed }) {
       if (Number.isFinite(fraction)) $("boot-progress").value = fraction;
       chip("chip-engine", `Engine: starting ${Math.round((fraction || 0) * 100)}%`, "starting");
     },
-    onReady: (version) => {
+    onReady: (version, { started = "plain", log = [] } = {}) => {
       clearTimeout(stallTimer);
+      // How Python started, for tests and the curious (site/engine/snapshot.js).
+      $("chip-engine").dataset.started = started;
+      $("chip-engine").dataset.bootLog = JSON.stringify(log);
       $("boot").hidden = true;
       $("boot-failed").hidden = true;
       $("version").textContent = `engine ${version}`;
       chip("chip-engine", `Engine: ready (${version})`, "ready");
       ready(version);
     },
+    onSnapshot: ({ state }) => { $("chip-engine").dataset.snapshot = state; },
     onFail: (message, wasReady) => {
       clearTimeout(stallTimer);
       $("boot").hidden = true;

@@ -46,11 +46,12 @@ export function startEngineWorkerEarly(policy) {
 export class EngineClient {
   /**
    * @param {() => Worker} startWorker  makes the worker (may throw: reported as a failed start)
-   * @param {object} hooks  onBoot({stage, fraction}), onReady(version), onFail(message)
+   * @param {object} hooks  onBoot({stage, fraction}), onReady(version, {started, log}),
+   *   onFail(message), onSnapshot({state}) (the worker kept a snapshot for the next visit)
    */
   constructor(startWorker, { onBoot = () => {}, onReady = () => {}, onFail = () => {},
-    onRestart = () => {} } = {}) {
-    this.hooks = { onBoot, onReady, onFail, onRestart };
+    onRestart = () => {}, onSnapshot = () => {} } = {}) {
+    this.hooks = { onBoot, onReady, onFail, onRestart, onSnapshot };
     this.startWorker = startWorker;
     this.nextId = 1;
     this.pending = new Map(); // id -> {message, resolve, reject, onProgress, sent}
@@ -122,8 +123,11 @@ export class EngineClient {
       case "ready":
         this.state = "ready";
         this.version = msg.version;
-        this.hooks.onReady(msg.version);
+        this.hooks.onReady(msg.version, { started: msg.started, log: msg.log || [] });
         for (const job of this.pending.values()) this.post(job);
+        return;
+      case "snapshot":
+        this.hooks.onSnapshot(msg);
         return;
       case "boot-failed":
         this.fail(msg.message || "the engine could not start");

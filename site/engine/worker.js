@@ -14,6 +14,7 @@
 // {id, type: "result", reply}, {id, type: "error", message}.
 
 import { loadPyodide } from "../pyodide/pyodide.mjs";
+import { findSnapshot, restoreOptions, snapshotsPossible, storeSnapshot, takeSnapshot } from "./snapshot.js";
 
 // Pyodide packages loaded from the shipped lock file before the core. loadPyodide's
 // `packages` fetches them while Python itself starts, not after.
@@ -24,6 +25,15 @@ let state = "booting"; // "booting" | "ready" | "failed"
 let failure = "";
 let bridge = null;
 let busy = false;
+// How Python started ("plain" or "snapshot") and the start-up's notes, sent with "ready".
+let started = "plain";
+const bootLog = [];
+const note = (words) => bootLog.push(words);
+// {pyodide, base, key} while this visit should leave a snapshot for the next one.
+let snapshotDue = null;
+let lastWork = 0;
+// Quiet time after the last request before the snapshot is taken (it holds Python ~0.5 s).
+const SNAPSHOT_IDLE_MS = 1000;
 
 const post = (message) => self.postMessage(message);
 const stage = (words, fraction) => post({ type: "boot", stage: words, fraction });
@@ -84,8 +94,13 @@ async function boot() {
     return response.json();
   });
 
-  stage("loading Python", 0.05);
   const indexURL = new URL("pyodide/", base).href;
+  const keep = snapshotsPossible(host);
+  if (keep) {
+    const version = await restore(base, indexURL, info);
+    if (version) return version;
+  }
+  stage("loading Python", 0.05);
   const problems = [];
   const starting = step("start Python (Pyodide)", () =>
     withinTime(LOAD_TIMEOUT_MS, "Python did not start within two minutes (a file may have stopped downloading)",
@@ -94,13 +109,14 @@ async function boot() {
         packages: PACKAGES,
         stdout: () => {},
         stderr: (text) => problems.push(text),
+        ...(keep ? { _makeSnapshot: true } : {}),
         ...host.pyodideOptions,
       })),
   );
   // loadPyodide never settles when its WebAssembly fails to download, so look as well.
   const looked = host.prepare ? null
     : step("download Python (pyodide.asm.wasm)", () => reachable(new URL("pyodide.asm.wasm", indexURL)));
-  const [pyodide, { name, version: built, wheel }] = await Promise.all([starting, info, looked]);
+  const [pyodide, { name, version: built, wheel, snapshot }] = await Promise.all([starting, info, looked]);
 
   mark("python");
   stage("loading micropip", 0.7);
@@ -132,8 +148,71 @@ async function boot() {
     }
     bridge = pyodide.pyimport("shakestill.bridge");
     mark("imported");
+    // The private API may be gone in another Pyodide: then there is simply no snapshot.
+    if (keep && typeof pyodide.makeMemorySnapshot === "function") snapshotDue = { pyodide, base, key: snapshot };
     return version;
   });
+}
+
+/**
+ * Starts Python from this browser's snapshot of the same build; the core's version answer
+ * proves it works. Returns the version, or "" after noting why a plain start follows (a
+ * snapshot that failed is deleted).
+ */
+async function restore(base, indexURL, info) {
+  let found;
+  try {
+    found = await findSnapshot(base, info, note);
+  } catch (error) {
+    note(`The snapshot store could not be read (${describe(error)}); plain start.`);
+    return "";
+  }
+  if (!found) return "";
+  found.bytes.catch(() => {}); // a damaged entry rejects inside loadPyodide, handled below
+  stage("restoring Python from this browser's copy", 0.1);
+  try {
+    const pyodide = await withinTime(LOAD_TIMEOUT_MS, "the snapshot did not start within two minutes",
+      loadPyodide({ indexURL, stdout: () => {}, stderr: () => {}, ...restoreOptions(found.bytes) }));
+    mark("python");
+    const { version: built } = await info;
+    const restored = pyodide.pyimport("shakestill.bridge");
+    const answer = JSON.parse(restored.handle('{"op": "version"}'));
+    if (answer.ok !== true || answer.version !== built) {
+      throw new Error(`it answers ${JSON.stringify(answer)}, the site was built with ${built}`);
+    }
+    bridge = restored;
+    mark("imported");
+    started = "snapshot";
+    note("Started from the snapshot this browser keeps.");
+    return built;
+  } catch (error) {
+    await found.drop().catch(() => {});
+    note(`The stored snapshot did not start (${describe(error)}); deleted it, plain start.`);
+    return "";
+  }
+}
+
+// Once the page has its first result and has been quiet a moment, leave a snapshot behind.
+function snapshotWhenIdle() {
+  if (!snapshotDue) return;
+  const wait = lastWork + SNAPSHOT_IDLE_MS - performance.now();
+  if (busy || queue.length || wait > 0) {
+    setTimeout(snapshotWhenIdle, Math.max(wait, 100));
+    return;
+  }
+  const { pyodide, base, key } = snapshotDue;
+  snapshotDue = null;
+  let bytes;
+  try {
+    bytes = takeSnapshot(pyodide);
+  } catch (error) {
+    post({ type: "snapshot", state: "failed", message: describe(error) });
+    return;
+  }
+  storeSnapshot(base, key, bytes).then(
+    (packed) => post({ type: "snapshot", state: "stored", bytes: bytes.length, packed }),
+    (error) => post({ type: "snapshot", state: "failed", message: describe(error) }),
+  );
 }
 
 function requireLoaded(pyodide, names, errors) {
@@ -224,6 +303,8 @@ function run(request) {
   }
   if (request.op === "check" && !performance.getEntriesByName("shakestill:check").length) mark("check");
   post({ id, type: "result", reply });
+  lastWork = performance.now();
+  if (request.op === "check" && snapshotDue) setTimeout(snapshotWhenIdle, SNAPSHOT_IDLE_MS);
 }
 
 // Start last: boot() runs up to loadPyodide at once, so every declaration above must exist.
@@ -231,7 +312,7 @@ self.addEventListener("message", (event) => receive(event.data));
 boot().then(
   (version) => {
     state = "ready";
-    post({ type: "ready", version });
+    post({ type: "ready", version, started, log: bootLog });
     pump();
   },
   (error) => {
