@@ -21,10 +21,11 @@ from typing import Callable, Iterator
 
 from ..model.derived import Model, derive
 from ..model.rig import Link, PointMass
-from .chart_rows import CHART_RTOL, Row, line_edges, predict, row_line, row_settings
+from .chart_rows import (CHART_RTOL, CHART_SPEED_STEP, Row, line_edges, predict, row_line,
+                         row_settings)
 from .confirm import confirm_edges
 from .floquet import modes_decouple
-from .lines import Edge, Probe
+from .lines import Edge, Probe, speed_points, walk
 
 RowSteps = Iterator[tuple[int, Row | None]]
 
@@ -88,14 +89,30 @@ def chain_row(model: Model, rows: list[Row], y_axis: str, equilibria, coupled: b
         point = row_line(model.rig, y_axis, first.y)[0]
         exact = Probe(model, eq, point, row_settings(model, point, lo, hi, eq, modal=False))
         aimed = _corrected(predicted, near, eq)
-        confirmed = confirm_edges(exact, aimed, at_lo[eq], lo, hi, rtol=CHART_RTOL)
+        prefix: list[Edge] = []
+        confirmed = confirm_edges(exact, aimed, at_lo[eq], lo, hi, rtol=CHART_RTOL,
+                                  prefix=prefix)
         if confirmed is None:  # follow the exact neighbours where they agree, else walk
             guide = predict(near[0][0], near[1][0], eq, first.y) if len(near) == 2 else None
-            s0, confirmed = line_edges(exact, lo, hi, guide)
-            at_lo[eq] = s0.stable
+            confirmed = _walk_on(exact, prefix, hi) if guide is None and prefix else None
+            if confirmed is None:
+                s0, confirmed = line_edges(exact, lo, hi, guide)
+                at_lo[eq] = s0.stable
         edges[eq] = confirmed
         count += exact.count
     return Row(first.y, lo, hi, edges, at_lo, count), predicted
+
+
+def _walk_on(exact: Probe, prefix: list[Edge], hi: float) -> tuple[Edge, ...] | None:
+    """The confirmed edges, then an exact walk from just past the last of them (a prediction
+    refused part-way: only the rest of the row is walked), or None if the verdict there is
+    not the one that edge gained."""
+    start = prefix[-1].x * (1 + 1e-6)  # edges are placed to CHART_RTOL (1e-8)
+    s = exact(start)
+    if not start < hi or s.stable != prefix[-1].gained:
+        return None
+    points = speed_points(exact.model, start, hi, step=CHART_SPEED_STEP)
+    return tuple(prefix) + tuple(walk(exact, start, s, points, rtol=CHART_RTOL))
 
 
 def _corrected(predicted: Row, near: tuple[tuple[Row, Row], ...], eq: str) -> tuple[Edge, ...]:

@@ -21,16 +21,17 @@ CONFIRM_HALF_WIDTHS = (5e-5, 1e-3, 2e-2)
 
 
 def confirm_edges(exact: Probe, predicted: tuple[Edge, ...], stable_at_lo: bool, lo: float,
-                  hi: float, *, rtol: float) -> tuple[Edge, ...] | None:
-    """The predicted row's edges confirmed and placed by ``exact``, or None."""
+                  hi: float, *, rtol: float, prefix: list | None = None) -> tuple[Edge, ...] | None:
+    """The predicted row's edges confirmed and placed by ``exact``, or None; then the edges
+    confirmed before the first refused one are left in ``prefix`` (if given)."""
     if not predicted:  # one verdict for a row without edges
         return () if exact((lo * hi) ** 0.5).stable == stable_at_lo else None
     found, state, last = [], stable_at_lo, lo
     for edge in predicted:
-        if edge.gained == state:
-            return None
-        placed = place_edge(exact, edge, state, last, hi, rtol)
+        placed = None if edge.gained == state else place_edge(exact, edge, state, last, hi, rtol)
         if placed is None:
+            if prefix is not None:
+                prefix[:] = found
             return None
         found.append(placed)
         state, last = edge.gained, placed.x
