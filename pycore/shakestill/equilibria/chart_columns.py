@@ -16,9 +16,9 @@ from dataclasses import dataclass
 
 from ..model.derived import Model
 from .chart_rows import CHART_MIN_STEPS, CHART_RTOL, CHART_STEP_PHASE, Row, stroke_for_peak_accel
-from .confirm import place_edge
+from .confirm import place_edge, tight_edge
 from .floquet import modes_decouple
-from .lines import Edge, Probe, edge_between, scan_settings
+from .lines import Probe, edge_between, scan_settings
 
 COLUMNS = 200  # speeds, evenly spaced over the chart, at which such edges are traced
 
@@ -87,7 +87,8 @@ def _trace(model: Model, y_axis: str, equilibrium: str, x: float, y0: float, y1:
     couple the modes: found on the modes, then confirmed and placed by the exact monodromy
     (module ``confirm``), as the rows are, aimed by the dampers' shift of the same edge at
     the last speed traced in this row gap (``shifts``, updated here): the shift changes
-    slowly with speed, so the tightest bracket usually confirms it."""
+    slowly with speed, so the tightest bracket there usually confirms it; where it does not,
+    the modal edge is confirmed as the rows' edges are (an aim that missed costs two verdicts)."""
     rig = model.rig
     if y_axis == "stroke":
         def point(y):
@@ -104,8 +105,11 @@ def _trace(model: Model, y_axis: str, equilibrium: str, x: float, y0: float, y1:
     edge = edge_between(probe, a, b, rtol=CHART_RTOL)
     if coupled:
         key = gap, edge.gained
-        aim = Edge(edge.x * shifts.get(key, 1.0), edge.gained)
-        placed = place_edge(exact, aim, a[1].stable, y0, y1, CHART_RTOL)
+        placed = None
+        if key in shifts:  # one tight bracket where the shift points; the modal edge if not
+            placed = tight_edge(exact, edge.x * shifts[key], a[1].stable, edge.gained, y0, y1)
+        if placed is None:
+            placed = place_edge(exact, edge, a[1].stable, y0, y1, CHART_RTOL)
         if placed is None:
             a, b = (y0, exact(y0)), (y1, exact(y1))
             placed = edge_between(exact, a, b, rtol=CHART_RTOL) if \

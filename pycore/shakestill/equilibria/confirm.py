@@ -91,3 +91,9 @@ def _secant(a: float, fa: float, b: float, fb: float) -> float:
     if fa == fb:
         return 0.5 * (a + b)
     return min(b, max(a, a - fa * (b - a) / (fb - fa)))
+
+
+def tight_edge(exact: Probe, aim: float, before: bool, gained: bool, last: float,
+               hi: float) -> Edge | None:
+    """The edge in the tightest bracket about ``aim`` if its two verdicts confirm it."""
+    return _tight(exact, aim, before, gained, last, hi)[0]
