@@ -181,3 +181,34 @@ def test_undamped_crank_near_its_dead_point_falls_back_to_the_chains_monodromy(e
     assert got.method == "monodromy" and got.converged
     want = ref.multipliers(ref.monodromy(data, equilibrium))
     assert ref.same_multipliers(got.multipliers, want, 1e-8) < 1e-8
+
+
+@pytest.mark.parametrize("drive", [ref.sine(0.012, 2000.0), ref.crank(0.012, 0.05, 2000.0)],
+                         ids=["sine", "crank"])
+def test_damped_three_link_chart_edges_against_solve_ivp(drive):
+    # The rows between computed rows aim their confirmation by the dampers' shift of the
+    # neighbours' edges, follow the exact neighbours where the modes are not borne out, and
+    # the column traces aim by the last shift in their row gap: every placed edge must still
+    # be exact. Reference: scipy.integrate.solve_ivp monodromy of the whole chain (DOP853,
+    # rtol 1e-11) and numpy.linalg.eigvals: the verdict 1e-4 relative (the chart's target)
+    # either side of up to 12 row edges and 6 column edges, each side the one the edge says.
+    data = _three(damping=3e-4, drive=drive)
+    rig = ss.rig_from_dict(data)
+    c = chart(rig, rows=24)
+    rng = random.Random(5)
+    picked = []
+    for eq in ("inverted", "hanging"):
+        rows = [(row, e) for row in c.rows for e in row.edges[eq]
+                if all(f is e or abs(f.x - e.x) > 1e-3 * e.x for f in row.edges[eq])]
+        picked += [(eq, row.y, e.x, e.gained, "speed")
+                   for row, e in rng.sample(rows, min(6, len(rows)))]
+    assert len(picked) >= 8
+    cols = [(eq, e) for eq in ("inverted", "hanging") for e in c.columns.get(eq, ())]
+    assert len(cols) >= 6
+    picked += [(eq, e.y, e.speed_rpm, e.gained, "stroke") for eq, e in rng.sample(cols, 6)]
+    for eq, y, x, gained, along in picked:
+        sides = []
+        for f in (1 - 1e-4, 1 + 1e-4):
+            speed, stroke = (x * f, y) if along == "speed" else (x, y * f)
+            sides.append(_ref_max_multiplier(data, eq, speed, stroke) < 1)
+        assert sides == [not gained, gained], (eq, along, x, y)

@@ -16,7 +16,7 @@ from dataclasses import dataclass
 
 from ..model.derived import Model
 from .chart_rows import CHART_MIN_STEPS, CHART_RTOL, CHART_STEP_PHASE, Row, stroke_for_peak_accel
-from .confirm import place_edge
+from .confirm import place_edge, tight_edge
 from .floquet import modes_decouple
 from .lines import Probe, edge_between, scan_settings
 
@@ -42,6 +42,7 @@ def column_edges(model: Model, rows: tuple[Row, ...], y_axis: str, equilibrium: 
     """(edges between neighbouring rows that the rows' own edges do not explain, ordered by
     speed then y; stability evaluations spent)."""
     found, count = [], 0
+    shifts: dict = {}  # (row gap, gained) -> exact / modal y of the last edge traced there
     verdicts = [_verdicts(row, equilibrium, speeds) for row in rows]
     for k, (below, above) in enumerate(zip(rows, rows[1:])):
         for x, stable_below, stable_above in zip(speeds, verdicts[k], verdicts[k + 1]):
@@ -50,7 +51,7 @@ def column_edges(model: Model, rows: tuple[Row, ...], y_axis: str, equilibrium: 
                 continue
             if stable_below == stable_above or _swept(below, above, equilibrium, x):
                 continue
-            edge, spent = _trace(model, y_axis, equilibrium, x, below.y, above.y)
+            edge, spent = _trace(model, y_axis, equilibrium, x, below.y, above.y, shifts, k)
             count += spent
             if edge is not None:
                 found.append(edge)
@@ -79,11 +80,15 @@ def _swept(below: Row, above: Row, equilibrium: str, x: float) -> bool:
     return False
 
 
-def _trace(model: Model, y_axis: str, equilibrium: str, x: float, y0: float, y1: float):
+def _trace(model: Model, y_axis: str, equilibrium: str, x: float, y0: float, y1: float,
+           shifts: dict, gap: int):
     """The edge between y0 and y1 at speed x by root finding, or None if the exact verdicts
     at the ends agree after all (a point on a row's edge). Several links whose dampers
     couple the modes: found on the modes, then confirmed and placed by the exact monodromy
-    (module ``confirm``), as the rows are."""
+    (module ``confirm``), as the rows are, aimed by the dampers' shift of the same edge at
+    the last speed traced in this row gap (``shifts``, updated here): the shift changes
+    slowly with speed, so the tightest bracket there usually confirms it; where it does not,
+    the modal edge is confirmed as the rows' edges are (an aim that missed costs two verdicts)."""
     rig = model.rig
     if y_axis == "stroke":
         def point(y):
@@ -99,11 +104,18 @@ def _trace(model: Model, y_axis: str, equilibrium: str, x: float, y0: float, y1:
         return None, probe.count
     edge = edge_between(probe, a, b, rtol=CHART_RTOL)
     if coupled:
-        placed = place_edge(exact, edge, a[1].stable, y0, y1, CHART_RTOL)
+        key = gap, edge.gained
+        placed = None
+        if key in shifts:  # one tight bracket where the shift points; the modal edge if not
+            placed = tight_edge(exact, edge.x * shifts[key], a[1].stable, edge.gained, y0, y1)
+        if placed is None:
+            placed = place_edge(exact, edge, a[1].stable, y0, y1, CHART_RTOL)
         if placed is None:
             a, b = (y0, exact(y0)), (y1, exact(y1))
             placed = edge_between(exact, a, b, rtol=CHART_RTOL) if \
                 a[1].stable != b[1].stable else None
+        if placed is not None and edge.x != 0.0:
+            shifts[key] = placed.x / edge.x
         edge = placed
     count = probe.count + (exact.count if coupled else 0)
     return (None if edge is None else ColumnEdge(x, edge.x, edge.gained)), count

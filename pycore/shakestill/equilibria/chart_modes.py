@@ -21,10 +21,11 @@ from typing import Callable, Iterator
 
 from ..model.derived import Model, derive
 from ..model.rig import Link, PointMass
-from .chart_rows import CHART_RTOL, Row, line_edges, row_line, row_settings
+from .chart_rows import (CHART_RTOL, CHART_SPEED_STEP, Row, line_edges, predict, row_line,
+                         row_settings)
 from .confirm import confirm_edges
 from .floquet import modes_decouple
-from .lines import Edge, Probe
+from .lines import Edge, Probe, speed_points, walk
 
 RowSteps = Iterator[tuple[int, Row | None]]
 
@@ -47,17 +48,27 @@ def modal_row_steps(model: Model, speed_min: float, y_axis: str, equilibria,
     """(row index, chain row) in the order ``row_steps`` computes each mode's rows."""
     walkers = [row_steps(mode) for mode in mode_models(model, speed_min)]
     coupled = not modes_decouple(model)
+    done: dict[int, tuple[Row, Row]] = {}  # row index -> (chain row, its modes' prediction)
     for computed in zip(*walkers):
         j = computed[0][0]
         rows = [row for _, row in computed]
         if any(row is None for row in rows):
             yield j, None
-        else:
-            yield j, chain_row(model, rows, y_axis, equilibria, coupled)
+            continue
+        below = max((i for i in done if i < j), default=None)
+        above = min((i for i in done if i > j), default=None)
+        near = tuple(done[i] for i in (below, above) if i is not None)
+        row, predicted = chain_row(model, rows, y_axis, equilibria, coupled, near)
+        done[j] = row, predicted
+        yield j, row
 
 
-def chain_row(model: Model, rows: list[Row], y_axis: str, equilibria, coupled: bool) -> Row:
-    """The chain's row from its modes' rows (confirmed exactly when ``coupled``)."""
+def chain_row(model: Model, rows: list[Row], y_axis: str, equilibria, coupled: bool,
+              near: tuple[tuple[Row, Row], ...] = ()) -> tuple[Row, Row]:
+    """(the chain's row, its modes' prediction) from its modes' rows, confirmed exactly when
+    ``coupled``. ``near``: the nearest computed (chain row, prediction) below and above, whose
+    exact-to-modal shift corrects the prediction, and which the exact walk follows where the
+    prediction is not borne out."""
     first = rows[0]
     lo, hi = first.speed_min, first.speed_max
     edges, at_lo, count = {}, {}, sum(r.evaluations for r in rows)
@@ -71,16 +82,62 @@ def chain_row(model: Model, rows: list[Row], y_axis: str, equilibria, coupled: b
             if b < hi:
                 found.append(Edge(b, False))
         edges[eq] = tuple(found)
-        if coupled:
-            point = row_line(model.rig, y_axis, first.y)[0]
-            exact = Probe(model, eq, point, row_settings(model, point, lo, hi, eq, modal=False))
-            confirmed = confirm_edges(exact, edges[eq], at_lo[eq], lo, hi, rtol=CHART_RTOL)
+    predicted = Row(first.y, lo, hi, dict(edges), dict(at_lo), count)
+    if not coupled:
+        return predicted, predicted
+    for eq in equilibria:
+        point = row_line(model.rig, y_axis, first.y)[0]
+        exact = Probe(model, eq, point, row_settings(model, point, lo, hi, eq, modal=False))
+        aimed = _corrected(predicted, near, eq)
+        prefix: list[Edge] = []
+        confirmed = confirm_edges(exact, aimed, at_lo[eq], lo, hi, rtol=CHART_RTOL,
+                                  prefix=prefix)
+        if confirmed is None:  # follow the exact neighbours where they agree, else walk
+            guide = predict(near[0][0], near[1][0], eq, first.y) if len(near) == 2 else None
+            confirmed = _walk_on(exact, prefix, hi) if guide is None and prefix else None
             if confirmed is None:
-                s0, confirmed = line_edges(exact, lo, hi)
+                s0, confirmed = line_edges(exact, lo, hi, guide)
                 at_lo[eq] = s0.stable
-            edges[eq] = confirmed
-            count += exact.count
-    return Row(first.y, lo, hi, edges, at_lo, count)
+        edges[eq] = confirmed
+        count += exact.count
+    return Row(first.y, lo, hi, edges, at_lo, count), predicted
+
+
+def _walk_on(exact: Probe, prefix: list[Edge], hi: float) -> tuple[Edge, ...] | None:
+    """The confirmed edges, then an exact walk from just past the last of them (a prediction
+    refused part-way: only the rest of the row is walked), or None if the verdict there is
+    not the one that edge gained."""
+    start = prefix[-1].x * (1 + 1e-6)  # edges are placed to CHART_RTOL (1e-8)
+    s = exact(start)
+    if not start < hi or s.stable != prefix[-1].gained:
+        return None
+    points = speed_points(exact.model, start, hi, step=CHART_SPEED_STEP)
+    return tuple(prefix) + tuple(walk(exact, start, s, points, rtol=CHART_RTOL))
+
+
+def _corrected(predicted: Row, near: tuple[tuple[Row, Row], ...], eq: str) -> tuple[Edge, ...]:
+    """The modes' edges moved by the exact-to-modal ratio of the same edges in the nearest
+    rows (interpolated in y), where those rows have the same edges as this one: the dampers'
+    shift of an edge (up to ~1e-3) changes slowly from row to row, so the aim lands well
+    inside the tightest confirmation bracket. Unchanged where no neighbour matches."""
+    own = predicted.edges[eq]
+    kinds = [e.gained for e in own]
+    shifts = []
+    for exact, modal in near:
+        e, m = exact.edges[eq], modal.edges[eq]
+        if [x.gained for x in e] == kinds == [x.gained for x in m] and \
+                exact.stable_at_min[eq] == predicted.stable_at_min[eq] and \
+                exact.speed_min == predicted.speed_min:
+            shifts.append((exact.y, [a.x / b.x for a, b in zip(e, m)]))
+    if not shifts:
+        return own
+    if len(shifts) == 1 or shifts[0][0] == shifts[1][0]:
+        ratios = shifts[0][1]
+    else:
+        (y0, r0), (y1, r1) = shifts
+        t = (predicted.y - y0) / (y1 - y0)
+        ratios = [a + t * (b - a) for a, b in zip(r0, r1)]
+    return tuple(Edge(e.x * r, e.gained) for e, r in zip(own, ratios))
 
 
 def _intersection(interval_sets: list[list[list[float]]]) -> list[tuple[float, float]]:

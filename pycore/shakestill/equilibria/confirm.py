@@ -1,13 +1,16 @@
 """Edges predicted cheaply, confirmed and placed by the exact method.
 
 Several links with joint dampers do not split exactly into sway modes (the
-dampers couple them), but the modes' own Hill determinants still put every
-edge within about 1e-4 of the exact one. A row found that way is taken over
+dampers couple them), but the modes' own Hill determinants still put most
+edges within about 1e-3 of the exact one (the caller corrects that by the
+neighbours' shift where it can). A row found that way is taken over
 by the exact monodromy at a few points: a verdict on each side of every
 predicted edge, as close as CONFIRM_HALF_WIDTHS allow (one verdict in a row
 without edges); away from the edges the modes' verdict stands. The edge is
 then placed in its confirmed bracket (the secant of the exact margin when the
-bracket is already within the chart's precision, else Brent's method). A prediction the exact method
+bracket is already within the chart's precision; a tight bracket that misses
+is re-aimed by its secant, a wider one aims a tight one by its secant, and
+Brent's method closes it only if that misses). A prediction the exact method
 does not bear out returns None, and the caller walks the row exactly.
 """
 
@@ -18,19 +21,21 @@ from .lines import Edge, Probe, edge_between
 # Relative half-widths of the brackets tried around a predicted edge, tightest first; a
 # bracket of 1e-4 relative width already holds the edge to the chart's 1e-4 target.
 CONFIRM_HALF_WIDTHS = (5e-5, 1e-3, 2e-2)
+AIMS = 2  # tightest brackets re-aimed by the margin's secant before the wider ones
 
 
 def confirm_edges(exact: Probe, predicted: tuple[Edge, ...], stable_at_lo: bool, lo: float,
-                  hi: float, *, rtol: float) -> tuple[Edge, ...] | None:
-    """The predicted row's edges confirmed and placed by ``exact``, or None."""
+                  hi: float, *, rtol: float, prefix: list | None = None) -> tuple[Edge, ...] | None:
+    """The predicted row's edges confirmed and placed by ``exact``, or None; then the edges
+    confirmed before the first refused one are left in ``prefix`` (if given)."""
     if not predicted:  # one verdict for a row without edges
         return () if exact((lo * hi) ** 0.5).stable == stable_at_lo else None
     found, state, last = [], stable_at_lo, lo
     for edge in predicted:
-        if edge.gained == state:
-            return None
-        placed = place_edge(exact, edge, state, last, hi, rtol)
+        placed = None if edge.gained == state else place_edge(exact, edge, state, last, hi, rtol)
         if placed is None:
+            if prefix is not None:
+                prefix[:] = found
             return None
         found.append(placed)
         state, last = edge.gained, placed.x
@@ -38,19 +43,47 @@ def confirm_edges(exact: Probe, predicted: tuple[Edge, ...], stable_at_lo: bool,
 
 
 def place_edge(exact: Probe, edge: Edge, before: bool, last: float, hi: float,
-           rtol: float) -> Edge | None:
+               rtol: float) -> Edge | None:
     """The exact edge in the tightest confirmed bracket around a predicted ``edge`` (the
-    verdict ``before`` it, nothing nearer than ``last`` or past ``hi``), or None."""
-    for half in CONFIRM_HALF_WIDTHS:
+    verdict ``before`` it, nothing nearer than ``last`` or past ``hi``), or None.
+
+    A tightest bracket that misses (both verdicts alike) is aimed again, up to AIMS times, at
+    the zero of the margin's secant through its two points; a wider bracket that confirms is
+    aimed at by its secant in the same way before Brent's method is asked to close it."""
+    aim = edge.x
+    for _ in range(1 + AIMS):
+        placed, a, b = _tight(exact, aim, before, edge.gained, last, hi)
+        if placed is not None or a is None or a[1].stable != b[1].stable or \
+                a[1].margin == b[1].margin:
+            break
+        aim = a[0] - a[1].margin * (b[0] - a[0]) / (b[1].margin - a[1].margin)
+        if not abs(aim / edge.x - 1) < CONFIRM_HALF_WIDTHS[1]:
+            break
+    if placed is not None:
+        return placed
+    for half in CONFIRM_HALF_WIDTHS[1:]:
         a, b = max(last, edge.x * (1 - half)), min(hi, edge.x * (1 + half))
         if not a < b:
             return None
         sa, sb = exact(a), exact(b)
         if sa.stable == before and sb.stable == edge.gained:
-            if half == CONFIRM_HALF_WIDTHS[0]:
-                return Edge(_secant(a, sa.margin, b, sb.margin), edge.gained)
-            return edge_between(exact, (a, sa), (b, sb), rtol=rtol)
+            placed, _, _ = _tight(exact, _secant(a, sa.margin, b, sb.margin), before,
+                                  edge.gained, a, b)
+            return placed or edge_between(exact, (a, sa), (b, sb), rtol=rtol)
     return None
+
+
+def _tight(exact: Probe, aim: float, before: bool, gained: bool, last: float, hi: float):
+    """(edge or None, (a, verdict), (b, verdict)): the tightest bracket about ``aim`` (within
+    [last, hi]) and, where its verdicts confirm, the edge by the margin's secant in it."""
+    half = CONFIRM_HALF_WIDTHS[0]
+    a, b = max(last, aim * (1 - half)), min(hi, aim * (1 + half))
+    if not a < b:
+        return None, None, None
+    sa, sb = exact(a), exact(b)
+    if sa.stable == before and sb.stable == gained:
+        return Edge(_secant(a, sa.margin, b, sb.margin), gained), (a, sa), (b, sb)
+    return None, (a, sa), (b, sb)
 
 
 def _secant(a: float, fa: float, b: float, fb: float) -> float:
@@ -58,3 +91,9 @@ def _secant(a: float, fa: float, b: float, fb: float) -> float:
     if fa == fb:
         return 0.5 * (a + b)
     return min(b, max(a, a - fa * (b - a) / (fb - fa)))
+
+
+def tight_edge(exact: Probe, aim: float, before: bool, gained: bool, last: float,
+               hi: float) -> Edge | None:
+    """The edge in the tightest bracket about ``aim`` if its two verdicts confirm it."""
+    return _tight(exact, aim, before, gained, last, hi)[0]
