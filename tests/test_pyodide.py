@@ -1,7 +1,8 @@
 """The core inside Pyodide under Node.js gives CPython's answers.
 
 Builds the site (Pyodide core, pinned wheels, the core's wheel, the rewritten
-lock file) into a temporary folder, runs the site's own worker
+lock file) into a temporary folder (or reads the dist/ that build_scripts/test.sh
+has just built from this tree, tests/fresh_dist.py), runs the site's own worker
 (site/engine/worker.js) under Node.js through tests/pyodide_run.mjs (the worker
 loads micropip and packaging from the lock, then micropip installs the core
 from its local wheel, hash in the lock), and drives it with the worker
@@ -23,6 +24,7 @@ from pathlib import Path
 
 import pytest
 
+from fresh_dist import fresh_dist
 from prereq import missing
 
 TOP = Path(__file__).resolve().parent.parent
@@ -113,9 +115,13 @@ def _decay_log(demo: dict) -> str:
 @pytest.fixture(scope="module")
 def run(tmp_path_factory):
     node = _node()
-    import build_site
-    site = tmp_path_factory.mktemp("pyodide") / "site"
-    build_site.build_site(site)
+    built = fresh_dist()  # test.sh's build of this tree, when there is one
+    if built is not None:
+        site = built / "site"
+    else:
+        import build_site
+        site = tmp_path_factory.mktemp("pyodide") / "site"
+        build_site.build_site(site)
     batches = _requests()
     done = subprocess.run(
         [node, "--no-warnings", str(TOP / "tests" / "pyodide_run.mjs"), str(site)],
