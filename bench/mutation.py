@@ -3,6 +3,7 @@
     python bench/mutation.py                 # every listed module, the fast engine tests
     python bench/mutation.py --modules equilibria/estimates.py equilibria/check.py
     python bench/mutation.py --report        # print the last run's score and survivors again
+    python bench/pinned.py                   # every module's last score, coverage, CI time
 
 mutmut expects the package under ./ or src/; the engine lives in pycore/. So this script
 stages a copy of the working tree's engine as build/mutation/src/shakestill with the tests
@@ -24,10 +25,14 @@ import re
 import shutil
 import subprocess
 import sys
+import tomllib
+from datetime import date
 from pathlib import Path
 
 TOP = Path(__file__).resolve().parent.parent
 STAGE = TOP / "build" / "mutation"
+# Each run's figures per module (committed, so `bench/pinned.py` prints the last runs).
+SCORES = TOP / "bench" / "figures" / "mutation"
 
 # The analysis modules issue 12 names (stability/floquet, estimates, check, windows, lines,
 # chart, runup, hill, loads, fit).
@@ -98,6 +103,13 @@ markers = ["pyodide: -", "browser: -", "slow: -"]
 """)
 
 
+def staged_tests() -> list[str] | None:
+    conf = STAGE / "pyproject.toml"
+    if not conf.is_file():
+        return None
+    return tomllib.loads(conf.read_text())["tool"]["mutmut"]["pytest_add_cli_args_test_selection"]
+
+
 def results() -> dict[str, str]:
     out = subprocess.run([sys.executable, "-m", "mutmut", "results", "--all", "true"],
                          cwd=STAGE, capture_output=True, text=True)
@@ -109,8 +121,42 @@ def results() -> dict[str, str]:
     return status
 
 
-def report() -> int:
+def module_of(name: str) -> str:
+    """'shakestill.motion.loads.x_cycle_forces__mutmut_3' -> 'motion/loads.py'."""
+    dotted = re.match(r"(.*?)\.x[_ǁ]", name).group(1)
+    return "/".join(dotted.split(".")[1:]) + ".py"
+
+
+def score(status: dict[str, str]) -> dict:
+    killed = sum(1 for s in status.values() if s in ("killed", "timeout"))
+    survivors = sorted(k for k, s in status.items() if s == "survived")
+    judged = [k for k in survivors if k in EQUIVALENT]
+    counts: dict[str, int] = {}
+    for s in status.values():
+        counts[s] = counts.get(s, 0) + 1
+    return {"mutants": len(status), "by_status": counts, "killed": killed, "survived": len(survivors),
+            "equivalent": len(judged), "tested": killed + len(survivors),
+            "survivors": [k for k in survivors if k not in EQUIVALENT]}
+
+
+def save(status: dict[str, str], tests: list[str]) -> None:
+    """One JSON record per module mutated in this run: bench/figures/mutation/<module>.json."""
+    by_module: dict[str, dict[str, str]] = {}
+    for name, s in status.items():
+        by_module.setdefault(module_of(name), {})[name] = s
+    SCORES.mkdir(parents=True, exist_ok=True)
+    for module, st in by_module.items():
+        if not any(s in ("killed", "timeout", "survived") for s in st.values()):
+            continue  # not run (yet)
+        rec = {"module": module, "date": date.today().isoformat(), "tests": tests, **score(st)}
+        path = SCORES / (module.replace("/", "__") + ".json")
+        path.write_text(json.dumps(rec, indent=1) + "\n")
+
+
+def report(tests: list[str] | None = None) -> int:
     status = results()
+    if tests is not None:
+        save(status, tests)
     counts: dict[str, int] = {}
     for s in status.values():
         counts[s] = counts.get(s, 0) + 1
@@ -136,8 +182,8 @@ def main() -> int:
     ap.add_argument("--jobs", type=int, default=2, help="mutmut --max-children (default 2)")
     ap.add_argument("--report", action="store_true", help="only print the last run's results")
     a = ap.parse_args()
-    if a.report:
-        return report()
+    if a.report:  # records the staged run's figures too (a run stopped part way included)
+        return report(staged_tests())
     stage(a.modules, a.tests)
     env = {k: v for k, v in os.environ.items() if k != "PYTHONPATH"}  # mutmut's src/ only
     env["PYTHONPATH"] = str(STAGE / "tests")  # the tests' own helpers (refsolvers)
@@ -145,7 +191,7 @@ def main() -> int:
                          cwd=STAGE, env=env)
     if run.returncode not in (0, 1):
         print(f"mutmut run ended with {run.returncode}", file=sys.stderr)
-    return report()
+    return report(a.tests)
 
 
 if __name__ == "__main__":
