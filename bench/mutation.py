@@ -3,6 +3,8 @@
     python bench/mutation.py                 # every listed module, the fast engine tests
     python bench/mutation.py --modules equilibria/estimates.py equilibria/check.py
     python bench/mutation.py --report        # print the last run's score and survivors again
+    python bench/mutation.py --survivors     # the last run's survivors again, on today's tests
+    python bench/mutation.py --resume        # carry on a stopped run, on today's tests
     python bench/pinned.py                   # every module's last score, coverage, CI time
 
 mutmut expects the package under ./ or src/; the engine lives in pycore/. So this script
@@ -181,14 +183,28 @@ def main() -> int:
     ap.add_argument("--tests", nargs="+", default=TESTS)
     ap.add_argument("--jobs", type=int, default=2, help="mutmut --max-children (default 2)")
     ap.add_argument("--report", action="store_true", help="only print the last run's results")
+    ap.add_argument("--survivors", action="store_true",
+                    help="re-test the last run's survivors with the working tree's tests")
+    ap.add_argument("--resume", action="store_true",
+                    help="carry on the staged run (mutants not yet tested) with today's tests")
     a = ap.parse_args()
     if a.report:  # records the staged run's figures too (a run stopped part way included)
         return report(staged_tests())
-    stage(a.modules, a.tests)
+    names: list[str] = []
+    if a.survivors or a.resume:  # new tests: copy them in; re-test the survivors, or carry on
+        names = sorted(k for k, s in results().items() if s == "survived") if a.survivors else []
+        a.tests = staged_tests() or a.tests
+        for where in (STAGE / "tests", STAGE / "mutants" / "tests"):
+            shutil.copytree(TOP / "tests", where, dirs_exist_ok=True,
+                            ignore=shutil.ignore_patterns("__pycache__", "browser"))
+        if a.survivors and not names:
+            return report(a.tests)
+    else:
+        stage(a.modules, a.tests)
     env = {k: v for k, v in os.environ.items() if k != "PYTHONPATH"}  # mutmut's src/ only
     env["PYTHONPATH"] = str(STAGE / "tests")  # the tests' own helpers (refsolvers)
-    run = subprocess.run([sys.executable, "-m", "mutmut", "run", "--max-children", str(a.jobs)],
-                         cwd=STAGE, env=env)
+    run = subprocess.run([sys.executable, "-m", "mutmut", "run", "--max-children", str(a.jobs),
+                          *names], cwd=STAGE, env=env)
     if run.returncode not in (0, 1):
         print(f"mutmut run ended with {run.returncode}", file=sys.stderr)
     return report(a.tests)
