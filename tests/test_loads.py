@@ -14,6 +14,7 @@
 """
 from __future__ import annotations
 
+import copy
 import math
 
 import numpy as np
@@ -300,7 +301,7 @@ def test_every_load_off_vertical_with_drag_is_newton_on_the_reported_motion():
     # that force times the pivot velocity, axial loads the joint forces along u_i; every
     # sample to 1e-4 of its largest value.
     tilt, side, lead, stroke, rpm, carriage = 3.0, 0.002, 30.0, 0.012, 2700.0, 0.2
-    data = ref.rig(TWO, ref.sine(stroke, rpm))
+    data = ref.rig(copy.deepcopy(TWO), ref.sine(stroke, rpm))  # TWO is shared: not in place
     data["links"][1]["point_masses"][0].update(drag_coefficient=1.0, frontal_area_m2=0.02)
     data["drive"].update(axis_tilt_deg=tilt, side_stroke_m=side, side_phase_deg=lead,
                          carriage_mass_kg=carriage)
