@@ -85,6 +85,12 @@ _L = "shakestill.motion.loads."
 EQUIVALENT.update({
     _L + "x_cycle_forces__mutmut_1": "the default of axis_tilt_rad changed: its one caller, "
                                      "loads(), always passes the rig's tilt",
+    _L + "x_cycle_forces__mutmut_40": "drag_forces() called with no drag (`or True`): it loops "
+                                      "over m.drag, so with none it returns [], the else value",
+    _L + "x_cycle_forces__mutmut_194": "the row's pivot_accel_m_s2 key renamed: loads() never "
+                                       "reads that key of a row (the reply's peak comes from "
+                                       "drive.peak_accel_m_s2)",
+    _L + "x_cycle_forces__mutmut_195": "as mutmut_194 (the unread row key renamed)",
 })
 
 

@@ -229,10 +229,15 @@ def test_air_drag_at_rest_adds_the_drag_equation_to_the_drive_force():
 def test_limit_flags_give_value_margin_and_words():
     # margin = (limit - value) / limit in per cent (common practice, no source), the value
     # being the peak the same reply reports; a limit not given raises no flag.
-    rig = tip_rig(0.02, 2400.0, limits={"max_force_N": 50.0, "max_power_W": 1e4})
+    rig = tip_rig(0.02, 2400.0, limits={"max_force_N": 50.0, "max_power_W": 1e4,
+                                        "max_accel_m_s2": 700.0})
     out = loads(rig)
     flags = {f["limit"]: f for f in out["flags"]}
-    assert set(flags) == {"max_force_N", "max_power_W"}
+    assert set(flags) == {"max_force_N", "max_power_W", "max_accel_m_s2"}
+    accel = 0.01 * (2 * math.pi * 40) ** 2  # A omega^2 = 631.7 m/s^2, below 700
+    assert flags["max_accel_m_s2"]["message"] == (f"peak pivot acceleration {accel:.4g} m/s^2 "
+                                                  "is within the limit of 700 m/s^2")
+    assert len(out["samples"]["drive_force_N"]) == 256  # the documented default per cycle
     force, power = out["drive_force_N"]["peak"], out["power_W"]["peak"]
     assert flags["max_force_N"]["value"] == force and flags["max_power_W"]["value"] == power
     assert flags["max_force_N"]["limit_value"] == 50.0
