@@ -365,16 +365,18 @@ def test_every_load_off_vertical_with_drag_is_newton_on_the_reported_motion():
 
 
 def test_a_turning_two_link_chain_reports_the_tip_speed_and_centripetal_load_of_its_frames():
-    # A two-link chain (tests' TWO) on a still pivot knocked hard enough to turn over. From the
-    # run's own frames: the tip's speed by central differences of its positions sum L_k
+    # A two-link chain (tests' TWO) knocked hard enough to turn over, on a drive tilted 5 deg
+    # (the pivot moves along (sin a, cos a) by (stroke/2) cos(omega t)). From the run's own
+    # frames: the tip's speed by central differences of its positions, pivot plus sum L_k
     # (sin q_k, cos q_k) (numpy.gradient), and the centripetal load as Newton's sum over the
     # mass elements of m_e times the velocity-squared part of their acceleration,
     # -sum_j arm_j w_j^2 (sin q_j, cos q_j); the largest over the window, to 1e-4 relative.
-    data = ref.rig(TWO, ref.sine(0.0, 600.0))
+    data = ref.rig(TWO, ref.sine(0.01, 600.0))
+    data["drive"]["axis_tilt_deg"] = 5.0
     rig = ss.rig_from_dict(data)
     points, f = 256, 10.0
-    out = loads(rig, equilibrium="hanging", knock_rad_s=25.0, settle_s=0.2, cycles=2,
-                points_per_cycle=points)
+    out = loads(rig, equilibrium="hanging", angles_rad=(math.pi,) * 2, knock_rad_s=25.0,
+                settle_s=0.2, cycles=2, points_per_cycle=points)  # not the held orbit: given
     assert out["state"] == "rotating" and max(out["rotation"]["turns"]) >= 1
     run = ss.simulate(rig, ss.Scenario(duration_s=4 / f, angles_rad=(math.pi,) * 2,
                                        rates_rad_s=(25.0, 0.0), frame_rate_hz=points * f,
@@ -382,7 +384,10 @@ def test_a_turning_two_link_chain_reports_the_tip_speed_and_centripetal_load_of_
     t, q, w = np.array(run.t_s), np.array(run.angles_rad), np.array(run.rates_rad_s)
     lengths = [lk["length_m"] for lk in TWO]
     u = [np.stack([np.sin(q[:, j]), np.cos(q[:, j])], axis=1) for j in range(2)]
-    tip = lengths[0] * u[0] + lengths[1] * u[1]
+    along = 0.005 * np.cos(2 * math.pi * f * t)
+    pivot = np.stack([along * math.sin(math.radians(5.0)), along * math.cos(math.radians(5.0))],
+                     axis=1)
+    tip = pivot + lengths[0] * u[0] + lengths[1] * u[1]
     speed = np.linalg.norm(np.gradient(tip, t, axis=0), axis=1)
     central = np.zeros((len(t), 2))
     for i, s, m, _ in elements(data):
