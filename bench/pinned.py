@@ -56,7 +56,7 @@ def coverage_lines() -> list[str]:
     return [f"Branch coverage of the engine: {rec['percent']:.1f}% ({rec['statements']} "
             f"statements, {rec['branches']} branches, {rec['missing_lines']} lines and "
             f"{rec['missing_branches']} branches not reached; {rec['date']}, "
-            f"tests exit code {rec['tests_exit']})"]
+            f"tests exit code {rec['tests_exit']})"] + ([f"  {rec['note']}"] if rec.get("note") else [])
 
 
 def ci_lines() -> list[str]:
