@@ -3,6 +3,9 @@
     python bench/mutation.py                 # every listed module, the fast engine tests
     python bench/mutation.py --modules equilibria/estimates.py equilibria/check.py
     python bench/mutation.py --report        # print the last run's score and survivors again
+    python bench/mutation.py --survivors     # the last run's survivors again, on today's tests
+    python bench/mutation.py --resume        # carry on a stopped run, on today's tests
+    python bench/pinned.py                   # every module's last score, coverage, CI time
 
 mutmut expects the package under ./ or src/; the engine lives in pycore/. So this script
 stages a copy of the working tree's engine as build/mutation/src/shakestill with the tests
@@ -24,10 +27,14 @@ import re
 import shutil
 import subprocess
 import sys
+import tomllib
+from datetime import date
 from pathlib import Path
 
 TOP = Path(__file__).resolve().parent.parent
 STAGE = TOP / "build" / "mutation"
+# Each run's figures per module (committed, so `bench/pinned.py` prints the last runs).
+SCORES = TOP / "bench" / "figures" / "mutation"
 
 # The analysis modules issue 12 names (stability/floquet, estimates, check, windows, lines,
 # chart, runup, hill, loads, fit).
@@ -73,6 +80,19 @@ EQUIVALENT: dict[str, str] = {
     _E + "x_rms_velocity_per_rad_s__mutmut_3": "as mutmut_2 (the sine shortcut skipped)",
 }
 
+# motion/loads.py, fit/fitting.py, floquet.py, hill.py (issue 12, second pass)
+_L = "shakestill.motion.loads."
+EQUIVALENT.update({
+    _L + "x_cycle_forces__mutmut_1": "the default of axis_tilt_rad changed: its one caller, "
+                                     "loads(), always passes the rig's tilt",
+    _L + "x_cycle_forces__mutmut_40": "drag_forces() called with no drag (`or True`): it loops "
+                                      "over m.drag, so with none it returns [], the else value",
+    _L + "x_cycle_forces__mutmut_194": "the row's pivot_accel_m_s2 key renamed: loads() never "
+                                       "reads that key of a row (the reply's peak comes from "
+                                       "drive.peak_accel_m_s2)",
+    _L + "x_cycle_forces__mutmut_195": "as mutmut_194 (the unread row key renamed)",
+})
+
 
 def stage(modules: list[str], tests: list[str]) -> None:
     if STAGE.exists():
@@ -98,6 +118,13 @@ markers = ["pyodide: -", "browser: -", "slow: -"]
 """)
 
 
+def staged_tests() -> list[str] | None:
+    conf = STAGE / "pyproject.toml"
+    if not conf.is_file():
+        return None
+    return tomllib.loads(conf.read_text())["tool"]["mutmut"]["pytest_add_cli_args_test_selection"]
+
+
 def results() -> dict[str, str]:
     out = subprocess.run([sys.executable, "-m", "mutmut", "results", "--all", "true"],
                          cwd=STAGE, capture_output=True, text=True)
@@ -109,8 +136,42 @@ def results() -> dict[str, str]:
     return status
 
 
-def report() -> int:
+def module_of(name: str) -> str:
+    """'shakestill.motion.loads.x_cycle_forces__mutmut_3' -> 'motion/loads.py'."""
+    dotted = re.match(r"(.*?)\.x[_ǁ]", name).group(1)
+    return "/".join(dotted.split(".")[1:]) + ".py"
+
+
+def score(status: dict[str, str]) -> dict:
+    killed = sum(1 for s in status.values() if s in ("killed", "timeout"))
+    survivors = sorted(k for k, s in status.items() if s == "survived")
+    judged = [k for k in survivors if k in EQUIVALENT]
+    counts: dict[str, int] = {}
+    for s in status.values():
+        counts[s] = counts.get(s, 0) + 1
+    return {"mutants": len(status), "by_status": counts, "killed": killed, "survived": len(survivors),
+            "equivalent": len(judged), "tested": killed + len(survivors),
+            "survivors": [k for k in survivors if k not in EQUIVALENT]}
+
+
+def save(status: dict[str, str], tests: list[str]) -> None:
+    """One JSON record per module mutated in this run: bench/figures/mutation/<module>.json."""
+    by_module: dict[str, dict[str, str]] = {}
+    for name, s in status.items():
+        by_module.setdefault(module_of(name), {})[name] = s
+    SCORES.mkdir(parents=True, exist_ok=True)
+    for module, st in by_module.items():
+        if not any(s in ("killed", "timeout", "survived") for s in st.values()):
+            continue  # not run (yet)
+        rec = {"module": module, "date": date.today().isoformat(), "tests": tests, **score(st)}
+        path = SCORES / (module.replace("/", "__") + ".json")
+        path.write_text(json.dumps(rec, indent=1) + "\n")
+
+
+def report(tests: list[str] | None = None) -> int:
     status = results()
+    if tests is not None:
+        save(status, tests)
     counts: dict[str, int] = {}
     for s in status.values():
         counts[s] = counts.get(s, 0) + 1
@@ -135,17 +196,31 @@ def main() -> int:
     ap.add_argument("--tests", nargs="+", default=TESTS)
     ap.add_argument("--jobs", type=int, default=2, help="mutmut --max-children (default 2)")
     ap.add_argument("--report", action="store_true", help="only print the last run's results")
+    ap.add_argument("--survivors", action="store_true",
+                    help="re-test the last run's survivors with the working tree's tests")
+    ap.add_argument("--resume", action="store_true",
+                    help="carry on the staged run (mutants not yet tested) with today's tests")
     a = ap.parse_args()
-    if a.report:
-        return report()
-    stage(a.modules, a.tests)
+    if a.report:  # records the staged run's figures too (a run stopped part way included)
+        return report(staged_tests())
+    names: list[str] = []
+    if a.survivors or a.resume:  # new tests: copy them in; re-test the survivors, or carry on
+        names = sorted(k for k, s in results().items() if s == "survived") if a.survivors else []
+        a.tests = staged_tests() or a.tests
+        for where in (STAGE / "tests", STAGE / "mutants" / "tests"):
+            shutil.copytree(TOP / "tests", where, dirs_exist_ok=True,
+                            ignore=shutil.ignore_patterns("__pycache__", "browser"))
+        if a.survivors and not names:
+            return report(a.tests)
+    else:
+        stage(a.modules, a.tests)
     env = {k: v for k, v in os.environ.items() if k != "PYTHONPATH"}  # mutmut's src/ only
     env["PYTHONPATH"] = str(STAGE / "tests")  # the tests' own helpers (refsolvers)
-    run = subprocess.run([sys.executable, "-m", "mutmut", "run", "--max-children", str(a.jobs)],
-                         cwd=STAGE, env=env)
+    run = subprocess.run([sys.executable, "-m", "mutmut", "run", "--max-children", str(a.jobs),
+                          *names], cwd=STAGE, env=env)
     if run.returncode not in (0, 1):
         print(f"mutmut run ended with {run.returncode}", file=sys.stderr)
-    return report()
+    return report(a.tests)
 
 
 if __name__ == "__main__":

@@ -12,4 +12,9 @@ if [ -f build_scripts/build_site.py ]; then
 fi
 # pytest-xdist: whole test files per worker (module fixtures built once). Two workers by
 # default, one per core of a CI machine; SHAKESTILL_TEST_WORKERS=0 runs serially.
-python -m pytest -n "${SHAKESTILL_TEST_WORKERS:-2}" --dist loadfile "$@"
+# The wall time of the whole run (set-up, build, tests) goes to bench/figures/ci_time.json
+# for bench/pinned.py.
+python -m pytest -n "${SHAKESTILL_TEST_WORKERS:-2}" --dist loadfile "$@" || status=$?
+printf '{"date": "%s", "wall_s": %d, "workers": "%s", "exit": %d}\n' "$(date -u +%F)" \
+  "$SECONDS" "${SHAKESTILL_TEST_WORKERS:-2}" "${status:-0}" > bench/figures/ci_time.json
+exit "${status:-0}"
