@@ -51,6 +51,7 @@ TESTS = [
 # Survivors judged equivalent (the mutant computes the same numbers), by mutmut's name, with
 # the reason; DEVELOPERS.md carries the same list.
 _C, _E = "shakestill.equilibria.check.", "shakestill.equilibria.estimates."
+_W = "shakestill.equilibria.windows.x_window__mutmut_"
 _S0 = ("window() sets s0 = probe(here) before it reads it (equilibria/windows.py): the "
        "argument passed, dropped or None, is never read")
 _UNSTABLE = ("window() returns no interval and no ends when its probe finds the operating "
@@ -71,6 +72,12 @@ EQUIVALENT: dict[str, str] = {
     _E + "x_rms_velocity_per_rad_s__mutmut_2": "the sine shortcut skipped: the 256-phase mean "
         "of sin^2 is exactly 1/2, so the sampled path gives the same RMS to rounding (1e-16)",
     _E + "x_rms_velocity_per_rad_s__mutmut_3": "as mutmut_2 (the sine shortcut skipped)",
+    _W + "11": "the notes start as None instead of '': a note is only listed when its end was "
+               "clipped, and the join skips empty notes (if n), so None and '' give the same "
+               "message",
+    _W + "98": "probe(None) for probe(here): the probe's point(None) passes speed_rpm=None "
+               "(or stroke_m=None) to stability(), which means the model's own operating "
+               "point, i.e. here: the same numbers and the same count",
 }
 
 
