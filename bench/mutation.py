@@ -87,6 +87,8 @@ EQUIVALENT: dict[str, str] = {
     _L + "stroke_points__mutmut_13": "(stop - v) / direction for * direction: " + _UNIT +
                                      ", so dividing by it is multiplying by it",
     _L + "stroke_points__mutmut_32": "direction >= 0 for > 0: " + _UNIT + ", never 0",
+    _L + "edge_between__mutmut_68": "b[0] >= a[0] for >: the two ends of a bracket are two "
+                                    "different points of the walk, never equal",
     _W + "98": "probe(None) for probe(here): the probe's point(None) passes speed_rpm=None "
                "(or stroke_m=None) to stability(), which means the model's own operating "
                "point, i.e. here: the same numbers and the same count",
