@@ -58,6 +58,11 @@ TESTS = [
 # Survivors judged equivalent (the mutant computes the same numbers), by mutmut's name, with
 # the reason; DEVELOPERS.md carries the same list.
 _C, _E = "shakestill.equilibria.check.", "shakestill.equilibria.estimates."
+_W = "shakestill.equilibria.windows.x_window__mutmut_"
+_L = "shakestill.equilibria.lines.x_"
+_TWO_N = ("a chain of N links has 2N multipliers, never 3: len < 3, <= 3 and < 4 split the "
+          "counts 2, 4, 6 alike")
+_UNIT = "direction is 1.0 or -1.0 exactly"
 _S0 = ("window() sets s0 = probe(here) before it reads it (equilibria/windows.py): the "
        "argument passed, dropped or None, is never read")
 _UNSTABLE = ("window() returns no interval and no ends when its probe finds the operating "
@@ -78,6 +83,22 @@ EQUIVALENT: dict[str, str] = {
     _E + "x_rms_velocity_per_rad_s__mutmut_2": "the sine shortcut skipped: the 256-phase mean "
         "of sin^2 is exactly 1/2, so the sampled path gives the same RMS to rounding (1e-16)",
     _E + "x_rms_velocity_per_rad_s__mutmut_3": "as mutmut_2 (the sine shortcut skipped)",
+    _W + "11": "the notes start as None instead of '': a note is only listed when its end was "
+               "clipped, and the join skips empty notes (if n), so None and '' give the same "
+               "message",
+    _L + "_closeness__mutmut_2": _TWO_N,
+    _L + "_closeness__mutmut_3": _TWO_N,
+    _L + "stroke_points__mutmut_8": "stop >= start for >: at stop == start the loop's "
+                                    "condition (stop - v) * direction > 0 is false for either "
+                                    "direction: no points either way",
+    _L + "stroke_points__mutmut_13": "(stop - v) / direction for * direction: " + _UNIT +
+                                     ", so dividing by it is multiplying by it",
+    _L + "stroke_points__mutmut_32": "direction >= 0 for > 0: " + _UNIT + ", never 0",
+    _L + "edge_between__mutmut_68": "b[0] >= a[0] for >: the two ends of a bracket are two "
+                                    "different points of the walk, never equal",
+    _W + "98": "probe(None) for probe(here): the probe's point(None) passes speed_rpm=None "
+               "(or stroke_m=None) to stability(), which means the model's own operating "
+               "point, i.e. here: the same numbers and the same count",
 }
 
 # motion/loads.py, fit/fitting.py, floquet.py, hill.py (issue 12, second pass)

@@ -15,10 +15,10 @@ principal parametric tongue while running up to 900 rpm. The references:
 
 from __future__ import annotations
 
+import contextlib
+import io
 import json
 import math
-import subprocess
-import sys
 
 import numpy as np
 import pytest
@@ -27,6 +27,8 @@ from scipy.integrate import quad, solve_ivp
 from scipy.optimize import brentq
 
 import refsolvers as R
+import shakestill as ss
+from shakestill import cli
 
 G = R.G_STANDARD
 LENGTH, STROKE, RATE, END = 0.01, 0.002, 100.0, 900.0
@@ -40,13 +42,17 @@ def rig_data():
 
 @pytest.fixture(scope="module")
 def result(tmp_path_factory):
+    # The CLI's own entry (argparse, the command, its JSON) run in this process, so that a
+    # mutation run (bench/mutation.py), which swaps the engine in this process only, sees
+    # the run-up code; a subprocess would import the installed engine instead.
     path = tmp_path_factory.mktemp("runup") / "rig.json"
     path.write_text(json.dumps(rig_data()))
-    out = subprocess.run([sys.executable, "-m", "shakestill", "runup", str(path), "--rate",
-                          f"{RATE}rpm/s", "--to", f"{END}rpm", "--json"], capture_output=True,
-                         text=True, timeout=300)
-    assert out.returncode == 0, out.stderr
-    return json.loads(out.stdout)
+    out = io.StringIO()
+    with contextlib.redirect_stdout(out):
+        code = cli.main(["runup", str(path), "--rate", f"{RATE}rpm/s", "--to", f"{END}rpm",
+                         "--json"])
+    assert code in (0, None)
+    return json.loads(out.getvalue())
 
 
 def tongue_rpm(order=1):
@@ -154,3 +160,55 @@ def test_inverted_is_unstable_from_the_low_speed_floor(result):
     assert c["speed_from_rpm"] == pytest.approx(floor, rel=1e-12)
     assert c["speed_to_rpm"] == pytest.approx(END, rel=1e-12)
     assert result["inverted"]["ok"] is False
+
+
+def test_the_json_echoes_its_inputs_and_multiplies_the_crossings(result):
+    # the inputs as given (SI and rpm), the floor by its rule (above), and the totals by hand:
+    # the product of the crossings' amplifications, the largest minimum rate
+    assert (result["rate_rpm_s"], result["factor"], result["start_rpm"], result["end_rpm"],
+            result["stroke_m"]) == (RATE, 10.0, 0.0, END, STROKE)
+    assert result["note"] == (
+        "frozen-speed (adiabatic) estimate: the product of the largest Floquet multiplier over "
+        "the cycles spent in each unstable interval; below the low-speed floor the pivot's "
+        "peak acceleration is under 0.05 g and nothing is taken to grow")
+    hanging = result["hanging"]
+    assert hanging["total_amplification"] == pytest.approx(
+        math.prod(c["amplification"] for c in hanging["crossings"]), rel=1e-15)
+    assert hanging["rundown"] == ("the run-down passes the same intervals in reverse: at the "
+                                  "same rate the same amplification")
+    # each crossing costs the scan's probes and 20 Gauss nodes: more than 20 per crossing
+    assert result["evaluations"] > 20 * 3
+
+
+def test_a_still_pivot_crosses_nothing():
+    # stroke 0: no pivot acceleration, the floor is infinite, nothing is crossed: the empty
+    # product 1, minimum rate 0, ok (hand, from the documented rule)
+    from shakestill.equilibria.runup import runup
+    data = R.rig([R.link(LENGTH, 0.0, [(0.1, LENGTH)])], R.sine(0.0, END), limits=LIMITS)
+    got = runup(ss.rig_from_dict(data), rate_rpm_s=RATE)
+    assert got["low_speed_floor_rpm"] == math.inf and got["evaluations"] == 0
+    for eq in ("hanging", "inverted"):
+        assert got[eq]["crossings"] == [] and got[eq]["total_amplification"] == 1.0
+        assert got[eq]["min_rate_rpm_s"] == 0.0 and got[eq]["ok"] is True
+
+
+@pytest.mark.parametrize("kwargs, words", [
+    ({"rate_rpm_s": 0.0}, "rate_rpm_s: 0.0 must be a finite number above 0 rpm/s"),
+    ({"rate_rpm_s": 0.5}, None),  # a slow ramp is allowed
+    ({"rate_rpm_s": math.inf}, "rate_rpm_s: inf must be a finite number above 0 rpm/s"),
+    ({"rate_rpm_s": 1.0, "factor": 1.0}, "factor: 1.0 must be a finite number above 1"),
+    ({"rate_rpm_s": 1.0, "factor": math.nan}, "factor: nan must be a finite number above 1"),
+    ({"rate_rpm_s": 1.0, "start_rpm": -1.0},
+     "start_rpm and end_rpm: speeds must be at least 0 rpm"),
+    ({"rate_rpm_s": 1.0, "end_rpm": 0.0}, "start_rpm and end_rpm: speeds must be at least 0 rpm"),
+])
+def test_bad_run_up_requests_are_named(kwargs, words):
+    from shakestill.equilibria.runup import runup
+    data = R.rig([R.link(LENGTH, 0.0, [(0.1, LENGTH)])], R.sine(0.0, END), limits=LIMITS)
+    rig = ss.rig_from_dict(data)
+    if words is None:
+        assert runup(rig, **kwargs)["rate_rpm_s"] == kwargs["rate_rpm_s"]
+    else:
+        with pytest.raises(ValueError) as err:
+            runup(rig, **kwargs)
+        assert str(err.value) == words

@@ -34,6 +34,12 @@ class Window:
         return None if self.low is None else [self.low, self.high]
 
 
+# A scan of a still pivot would only meet the zero-width bands at 2 f0 / n, where an undamped
+# pendulum's multipliers touch -1 or 1 without leaving the unit circle: no edge there.
+STILL_WORDS = ("with no stroke the pivot stands still: there is no parametric resonance and the "
+               "speed does not change stability, so the speed window is the rig's speed limits")
+
+
 def _first_edge(probe: Probe, start: float, s0: Stability, stop: float, points):
     for edge in walk(probe, start, s0, points):
         return edge.x, True
@@ -86,6 +92,9 @@ def window(rig: Rig | Model, equilibrium: str, axis: str,
     if not s0.stable:
         return Window(axis, None, None, evaluations=probe.count,
                       message="unstable at the operating point")
+    if axis == "speed" and stroke == 0.0:  # no drive term: this point stands for every speed
+        return Window(axis, *rig.limits.speed_rpm, evaluations=probe.count,
+                      resolution="not scanned: no stroke", message=STILL_WORDS)
     low, low_edge = _first_edge(probe, here, s0, lo, low_points)
     high, high_edge = _first_edge(probe, here, s0, hi, high_points)
     resolution = (f"scanned every {100 * SPEED_STEP:g}% of speed or {PHASE_STEP:g} of a tongue "
