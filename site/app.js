@@ -119,6 +119,7 @@ wireToolbar($, {
 markTerms();
 wireSheetDrawer(document.querySelector(".panel.sheet"), $("sheet-tab"), $("sheet-close"));
 wireUnits(document.querySelectorAll('input[name="units"]'), () => {
+  rig.unitsChanged(); // the sheet's numbers from a file, the demo or a link, in the new units
   report.rewrite();
   panels.unitsChanged(); // the run-up, plan, loads and fit write their numbers again
   panels.chart.draw(); // a job under way stops and starts again with the new axis

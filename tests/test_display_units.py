@@ -103,7 +103,7 @@ def test_loads_words_and_plot_in_pound_force():
 
 
 def test_every_text_command_takes_units_and_refuses_others():
-    for name in ("check", "chart", "runup", "loads", "plan", "lean"):
+    for name in ("check", "chart", "runup", "loads", "plan", "lean", "fit"):
         assert "--units" in run_cli(name, "--help").stdout, name
     bad = run_cli("check", "--units", "furlong")
     assert bad.returncode == 2 and "invalid choice: 'furlong'" in bad.stderr
@@ -132,3 +132,54 @@ def test_runup_and_lean_words_and_picture_give_the_stroke_in_inches():
     done = run_cli("lean", *small, "--units", "imperial")
     within_last_digit(number_before(done.stdout, "in", "stroke"), lean["stroke_m"] / IN, 3)
     assert " mm" not in done.stdout
+
+
+def test_loads_limit_flags_in_the_units_chosen(tmp_path):
+    rig = demo_rig_dict()
+    rig["limits"]["max_force_N"] = 1.0  # far below the drive force: exceeded
+    rig["limits"]["max_accel_m_s2"] = 1e4  # far above the pivot's: within
+    path = tmp_path / "limits.json"
+    path.write_text(json.dumps(rig))
+    flags = {f["limit"]: f for f in json.loads(run_cli("loads", str(path), "--json").stdout)["flags"]}
+    words = run_cli("loads", str(path), "--units", "imperial").stdout
+    force = re.search(r"LIMIT: peak drive force ([\d.e+-]+) lbf EXCEEDS the limit of ([\d.e+-]+) lbf", words)
+    accel = re.search(r"limit: peak pivot acceleration ([\d.e+-]+) ft/s\^2 is within the limit of "
+                      r"([\d.e+-]+) ft/s\^2", words)
+    assert force and accel, words
+    # NIST SP 811 appendix B (1 lbf = 4.4482216152605 N, 1 ft = 0.3048 m); 4 figures printed
+    assert float(force.group(1)) == pytest.approx(flags["max_force_N"]["value"] / LBF, rel=5e-4)
+    assert float(force.group(2)) == pytest.approx(1.0 / LBF, rel=5e-4)
+    assert float(accel.group(1)) == pytest.approx(flags["max_accel_m_s2"]["value"] / FT, rel=5e-4)
+    assert float(accel.group(2)) == pytest.approx(1e4 / FT, rel=5e-4)
+    assert " N " not in words.replace("lbf", "") and "m/s^2" not in words.replace("ft/s^2", "")
+    metric = run_cli("loads", str(path)).stdout  # metric words are the flags' own SI messages
+    assert all(f["message"] in metric for f in flags.values())
+
+
+def test_fit_words_in_the_units_chosen():
+    from shakestill.render.motion_report import fit_text
+
+    # A fit's result as fit_dict writes it (SI), numbers picked so the imperial ones are round
+    # by the definitions of NIST SP 811 appendix B: 0.5 lbf in s, 2 lb in^2.
+    params = [{"path": "links[0].joint_damping_N_m_s", "start": 0.25 * LBF * IN,
+               "value": 0.5 * LBF * IN, "std_error": 0.01 * LBF * IN},
+              {"path": "links[0].extra_inertia_kg_m2", "start": 1.0 * LB * IN ** 2,
+               "value": 2.0 * LB * IN ** 2, "std_error": float("inf")}]
+    result = {"samples": 100, "iterations": 4, "simulations": 12, "converged": True,
+              "message": "", "rms_start_rad": 0.1, "rms_rad": 0.01, "parameters": params,
+              "initial_angles_rad": [0.2], "initial_rates_rad_s": [0.0]}
+    words = fit_text(result, "hanging", "imperial")
+    damping = re.search(r"joint_damping_N_m_s: ([\d.e-]+) lbf in s -> ([\d.e-]+) \+- ([\d.e-]+) lbf in s",
+                        words)
+    inertia = re.search(r"extra_inertia_kg_m2: ([\d.e-]+) lb in\^2 -> ([\d.e-]+) lb in\^2 \(not determined",
+                        words)
+    assert damping and inertia, words
+    assert [float(g) for g in damping.groups()] == pytest.approx([0.25, 0.5, 0.01], rel=1e-6)
+    assert [float(g) for g in inertia.groups()] == pytest.approx([1.0, 2.0], rel=1e-6)
+    metric = fit_text(result, "hanging")
+    got = re.search(r"joint_damping_N_m_s: ([\d.e-]+) N m s -> ([\d.e-]+) \+-", metric)
+    # printed to the standard error's second figure (0.0011 N m s): half a unit of 1e-4
+    assert float(got.group(2)) == pytest.approx(0.5 * LBF * IN, abs=0.5e-4 + 1e-12)
+    bad = json.loads(handle(json.dumps({"op": "fit", "rig": demo_rig_dict(), "units": "cubits",
+                                        "log": "t_s,angle_deg\n0,1\n"})))
+    assert not bad["ok"] and bad["problems"][0]["path"] == "units"

@@ -9,7 +9,7 @@ import { h, replaceChildren } from "../lib/dom.js";
 import { LINK_UNITS } from "../state/draft.js";
 import { Runner, busyMark, failedWords, num, statusLine } from "../engine/motion-job.js";
 import { LINK_FIELDS } from "../state/rig-fields.js";
-import { shown } from "../state/units.js";
+import { displayUnits, shown } from "../state/units.js";
 import { svgNode } from "./schematic-view.js";
 import { registerCsv } from "./export.js";
 
@@ -175,7 +175,8 @@ export function createFitView(els, { engine, getRig, useRig, restoreRig }) {
     busy(true);
     els.go.disabled = true;
     status("Fitting: reading the log…", 0);
-    const reply = await runner.start("fit", { rig, ...fields },
+    const asked = displayUnits(); // the units of the words the core writes
+    const reply = await runner.start("fit", { rig, ...fields, units: asked },
       (step) => status(`Fitting (${Math.round(step.fraction * 100)}%), ${step.stage || "working"}`, step.fraction));
     if (reply === null) return; // stopped: Cancel or a rig edit
     busy(false);
@@ -189,6 +190,7 @@ export function createFitView(els, { engine, getRig, useRig, restoreRig }) {
       return;
     }
     showProblems([]);
+    reply.units = asked;
     show(reply, state.runKey);
     status(reply.result.converged ? "Fit done." : "Fit done, but it did not settle: see below.", 1);
   }
@@ -212,7 +214,8 @@ export function createFitView(els, { engine, getRig, useRig, restoreRig }) {
             ? `Yes, after ${res.iterations} iteration(s): ${res.message}.`
             : `No: ${res.message}. Treat these numbers with care.`,
           h("span", { class: "sub" }, `${res.samples} samples, ${res.simulations} simulations.`)))),
-      h("details", { class: "report-text" }, h("summary", {}, "The same in the command line's words"),
+      h("details", { class: "report-text" }, h("summary", {},
+        `The same in the command line's words (${reply.units || "metric"} units)`),
         h("pre", {}, reply.report_text)));
     els.plot.hidden = false;
     els.plot.replaceChildren(svgNode(reply.svg, "Logged and fitted angles against time"));

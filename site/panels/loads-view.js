@@ -14,6 +14,19 @@ const say = (si, kind, digits = 4) => quantityText(si, kind, (v) => num(v, digit
 /** A mean that is rounding noise beside the peak reads as 0. */
 const small = (v, peak, kind) => (Math.abs(v) < 1e-9 * Math.abs(peak) ? `0 ${unitOf(kind)}` : say(v, kind, 3));
 
+// Each limit the loads are flagged against: its words and the kind of its numbers (the core's
+// render/motion_report.py _FLAGS); the flag's own ``message`` is SI, these follow the units.
+const FLAGS = { max_force_N: ["peak drive force", "force"], max_power_W: ["peak drive power", "power"],
+  max_accel_m_s2: ["peak pivot acceleration", "accel"] };
+
+/** A flag in words in the display units: "peak drive force 12.5 lbf is within the limit of 20 lbf";
+ * in metric the core's own words, as the command line prints them. */
+function flagWords(f) {
+  const [what, kind] = FLAGS[f.limit] || [];
+  if (!kind || displayUnits() === "metric") return f.message;
+  return `${what} ${say(f.value, kind)} ${f.exceeded ? "EXCEEDS" : "is within"} the limit of ${say(f.limit_value, kind)}`;
+}
+
 /** A row of the table: ``data-value`` keeps the SI number, the cell shows the chosen units. */
 function row(key, name, value, kind, note = "") {
   return h("tr", { "data-key": key }, h("th", { scope: "row" }, name),
@@ -83,11 +96,11 @@ export function createLoadsView(els, { engine, getRig, getEquilibrium }) {
       ? h("div", { class: "runup-summary is-not-met load-flags", role: "alert" },
         h("p", {}, `${exceeded.length === 1 ? "A limit" : `${exceeded.length} limits`} of the rig sheet `
           + "exceeded: do not run the rig like this."),
-        h("ul", {}, exceeded.map((f) => h("li", { "data-limit": f.limit }, `${f.message}.`))))
+        h("ul", {}, exceeded.map((f) => h("li", { "data-limit": f.limit }, `${flagWords(f)}.`))))
       : h("p", { class: "runup-summary is-met load-flags" }, r.flags.length
         ? "Within every limit given in the rig sheet." : "No limits are given in the rig sheet, so nothing is flagged.");
     const within = r.flags.filter((f) => !f.exceeded)
-      .map((f) => h("li", { "data-limit": f.limit }, `${f.message} (margin ${num(f.margin_percent, 3)}%).`));
+      .map((f) => h("li", { "data-limit": f.limit }, `${flagWords(f)} (margin ${num(f.margin_percent, 3)}%).`));
     const rot = r.rotation;
     replaceChildren(els.out,
       flags,

@@ -5,7 +5,7 @@
 import { h, replaceChildren, slug } from "../lib/dom.js";
 import {
   MAX_LINKS, WAVEFORMS, addLink, addPointMass, driveFieldUsed, getPath, parentPath, removeLink,
-  removePointMass, setPath,
+  removePointMass, typeAt,
 } from "../state/draft.js";
 import { INCH_M, isImperial } from "../state/units.js";
 import {
@@ -134,7 +134,7 @@ export function createRigForm(root, { getDraft, onEdit, onStructure, onFocusSect
   root.addEventListener("input", (event) => {
     const path = event.target.dataset.path;
     if (!path) return;
-    setPath(getDraft(), path, event.target.value);
+    typeAt(getDraft(), path, event.target.value);
     if (path === "drive.waveform") {
       render();
       onStructure(path);

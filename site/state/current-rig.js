@@ -3,7 +3,7 @@
 // rig restored at start (a damaged one set aside, never overwritten). The screen is told
 // through the callbacks it is given; this module draws nothing itself.
 
-import { draftFromRig, rigFromDraft } from "./draft.js";
+import { draftFromRig, rewriteUnits, rigFromDraft } from "./draft.js";
 import { download } from "./rig-file.js";
 import { autosave } from "./storage.js";
 import { setDisplayUnits } from "./units.js";
@@ -109,6 +109,17 @@ export function createCurrentRig(screen) {
       rig.use(previous.draft, previous.view);
       screen.notice("Your previous rig is back (the one you just left is kept as previous).",
         [{ label: "Swap back", run: rig.restorePrevious }]);
+    },
+
+    /** The display units changed: numbers that came as SI are written in the new units (the
+     * rig itself does not move, so this is no undo step); what the user typed stays. */
+    unitsChanged() {
+      const previewed = rig.preview && rewriteUnits(rig.preview);
+      if (rig.draft && rewriteUnits(rig.draft)) {
+        settle();
+        rig.save();
+      } else if (!previewed) return;
+      screen.render();
     },
 
     /** The sheet's draft has just been edited at ``path``: one undo step per burst of typing. */

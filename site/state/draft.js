@@ -3,7 +3,7 @@
 // The core parses that text (it is the one place that knows units); this module
 // only moves text between the draft and the rig object sent to the core.
 
-import { INCH_M, POUND_KG, exactIn, isImperial } from "./units.js";
+import { FOOT_M, INCH_M, POUND_FORCE_N, POUND_KG, exactIn, isImperial } from "./units.js";
 
 /** SI unit of each quantity field, shown after numbers that arrive without one. */
 export const LINK_UNITS = {
@@ -45,26 +45,40 @@ function shiftDecimal(text, places) {
   return joined.replace(/^(-?)0+(?=\d)/, "$1");
 }
 
-// With imperial units chosen, lengths in inches and masses in pounds (ounces under a
-// pound), but only where a short decimal is exactly the file's number; else metric as above.
+// With imperial units chosen, every quantity in its imperial unit (ounces under a pound). The
+// factors are the core's own products (model/units.py), so "x lb in2" reads back as x * factor.
 const IMPERIAL = {
   m: () => ["in", INCH_M],
   kg: (value) => (Math.abs(value) < POUND_KG ? ["oz", POUND_KG / 16] : ["lb", POUND_KG]),
+  "kg m2": () => ["lb in2", POUND_KG * (INCH_M * INCH_M)],
+  "N m s": () => ["lbf in s", POUND_FORCE_N * INCH_M],
+  "N m": () => ["lbf in", POUND_FORCE_N * INCH_M],
+  [GRAVITY_UNIT]: () => ["ft/s2", FOOT_M],
 };
 
-function imperialText(value, unit) {
-  if (!isImperial() || !IMPERIAL[unit] || value === 0) return null;
+// Significant digits of a double's shortest decimal (0.3 -> 1, 0.0254 -> 3).
+const digitsOf = (value) => Math.abs(value).toExponential().split("e")[0].replace(".", "").length;
+
+/** The imperial text of an SI number: exact when a decimal of at most 12 digits is its very
+ * double, else rounded to the number's meaningful digits (two more than it has, at least 4);
+ * the draft keeps the SI number beside it (see FROM_SI), so rounding moves no rig. */
+function imperialText(value, unit, exactOnly) {
+  if (!isImperial() || !IMPERIAL[unit]) return null;
   const [name, factor] = IMPERIAL[unit](value);
-  const text = exactIn(value, factor);
-  return text === null ? null : `${text} ${name}`;
+  if (value === 0) return `0 ${name}`;
+  const exact = exactIn(value, factor);
+  if (exactOnly && exact === null) return null;
+  const digits = Math.min(12, Math.max(4, digitsOf(value) + 2));
+  return `${exact ?? String(Number((value / factor).toPrecision(digits)))} ${name}`;
 }
 
-/** A number from a file becomes "24 mm" or "0.3 kg"'s "300 g"; text stays as it is. */
-function asText(value, unit) {
+/** A number from a file becomes "24 mm" or "0.3 kg"'s "300 g"; text stays as it is.
+ * ``exactOnly``: imperial only where exact (a number the draft does not keep beside it). */
+function asText(value, unit, exactOnly = false) {
   if (value === undefined || value === null) return "";
   if (typeof value !== "number") return typeof value === "string" ? value : JSON.stringify(value);
   if (!unit) return String(value);
-  const imperial = imperialText(value, unit);
+  const imperial = imperialText(value, unit, exactOnly);
   if (imperial) return imperial;
   const smaller = SMALLER[unit];
   const plain = String(value);
@@ -74,13 +88,74 @@ function asText(value, unit) {
   return `${plain} ${unit}`;
 }
 
+// A number that arrived as SI (a file, the demo, a link) is written in the display units, and
+// the draft keeps it beside the text written for it: draft[FROM_SI][path] = [si, text, unit].
+// While the field still holds that text, the rig sent to the core carries the very number
+// (rounded inches move nothing), and a change of units writes it again in the new ones.
+// A text the user typed is never rewritten and is sent as typed.
+export const FROM_SI = "_from_si";
+const KEPT = new Set(["m", "kg", ...Object.keys(IMPERIAL)]); // bare numbers the core reads as SI
+
+function record(draft, path, value, unit) {
+  const text = asText(value, unit);
+  if (typeof value === "number" && KEPT.has(unit)) draft[FROM_SI][path] = [value, text, unit];
+  return text;
+}
+
+/** The user typed ``text`` at ``path``: it is theirs now, sent as typed, never rewritten. */
+export function typeAt(draft, path, text) {
+  setPath(draft, path, text);
+  if (draft[FROM_SI]) delete draft[FROM_SI][path];
+}
+
+/** Write the draft's numbers that came as SI again in the display units now chosen; the
+ * texts the user typed stay. True when any text changed. */
+export function rewriteUnits(draft) {
+  let changed = false;
+  for (const [path, [value, text, unit]] of Object.entries(draft?.[FROM_SI] || {})) {
+    if (getPath(draft, path) !== text) continue; // typed over: the user's own now
+    const next = asText(value, unit);
+    draft[FROM_SI][path] = [value, next, unit];
+    if (next !== text) {
+      setPath(draft, path, next);
+      changed = true;
+    }
+  }
+  return changed;
+}
+
+/** A copy of the draft with each untouched field's text replaced by its SI number. */
+function withNumbers(draft) {
+  const out = JSON.parse(JSON.stringify({ ...draft, [FROM_SI]: undefined }));
+  for (const [path, [value, text]] of Object.entries(draft[FROM_SI] || {})) {
+    if (getPath(out, path) === text) setPath(out, path, value);
+  }
+  return out;
+}
+
+/** After a link or point mass at ``index`` of the list at ``list`` is removed: its kept
+ * numbers go, those after it move down one place. */
+function dropRecords(draft, list, index) {
+  const kept = draft[FROM_SI];
+  if (!kept) return;
+  const head = `${list}[`;
+  for (const path of Object.keys(kept)) {
+    if (!path.startsWith(head)) continue;
+    const k = Number(path.slice(head.length, path.indexOf("]", head.length)));
+    const entry = kept[path];
+    delete kept[path];
+    if (k > index) kept[`${head}${k - 1}${path.slice(path.indexOf("]", head.length))}`] = entry;
+    else if (k < index) kept[path] = entry;
+  }
+}
+
 function isObject(value) {
   return value !== null && typeof value === "object" && !Array.isArray(value);
 }
 
-function textFields(obj, units) {
+function textFields(draft, prefix, obj, units) {
   const out = { ...obj };
-  for (const [key, unit] of Object.entries(units)) out[key] = asText(obj[key], unit);
+  for (const [key, unit] of Object.entries(units)) out[key] = record(draft, `${prefix}${key}`, obj[key], unit);
   return out;
 }
 
@@ -88,7 +163,7 @@ function textFields(obj, units) {
 export function samplesText(samples) {
   if (typeof samples === "string") return samples;
   if (!Array.isArray(samples)) return "";
-  return samples.map((s) => asText(s, "m")).join(", ");
+  return samples.map((s) => asText(s, "m", true)).join(", ");
 }
 
 /** Turn a rig object (from a file, the demo, a link) into a draft. Unknown fields are kept. */
@@ -97,26 +172,30 @@ export function draftFromRig(rig) {
   const draft = { ...src };
   draft.format = src.format ?? "shakestill-rig";
   draft.version = src.version ?? 1;
+  draft[FROM_SI] = {};
   draft.title = typeof src.title === "string" ? src.title : asText(src.title, "");
-  draft.g_m_s2 = asText(src.g_m_s2, GRAVITY_UNIT);
+  draft.g_m_s2 = record(draft, "g_m_s2", src.g_m_s2, GRAVITY_UNIT);
   const links = Array.isArray(src.links) ? src.links : [];
-  draft.links = links.map((link) => {
+  draft.links = links.map((link, i) => {
     const obj = isObject(link) ? link : {};
-    const out = textFields(obj, LINK_UNITS);
+    const out = textFields(draft, `links[${i}].`, obj, LINK_UNITS);
     const masses = Array.isArray(obj.point_masses) ? obj.point_masses : [];
-    out.point_masses = masses.map((p) => textFields(isObject(p) ? p : {}, MASS_UNITS));
+    out.point_masses = masses.map((p, j) => textFields(draft, `links[${i}].point_masses[${j}].`,
+      isObject(p) ? p : {}, MASS_UNITS));
     return out;
   });
-  if (draft.links.length === 0) draft.links.push({ ...textFields({}, LINK_UNITS), point_masses: [] });
+  if (draft.links.length === 0) {
+    draft.links.push({ ...textFields(draft, "links[0].", {}, LINK_UNITS), point_masses: [] });
+  }
   const drive = isObject(src.drive) ? src.drive : {};
-  draft.drive = textFields(drive, DRIVE_UNITS);
+  draft.drive = textFields(draft, "drive.", drive, DRIVE_UNITS);
   draft.drive.waveform = WAVEFORMS.includes(drive.waveform) ? drive.waveform : "sine";
   draft.drive.samples_m = samplesText(drive.samples_m);
   const limits = isObject(src.limits) ? src.limits : {};
   draft.limits = { ...limits };
   for (const [key, unit] of Object.entries(LIMIT_UNITS)) {
     const pair = Array.isArray(limits[key]) ? limits[key] : [];
-    draft.limits[key] = [asText(pair[0], unit), asText(pair[1], unit)];
+    draft.limits[key] = [0, 1].map((i) => record(draft, `limits.${key}[${i}]`, pair[i], unit));
   }
   draft.limits.max_lean_deg = asText(limits.max_lean_deg, LEAN_UNIT);
   return draft;
@@ -139,8 +218,10 @@ export function splitSamples(text) {
 }
 
 /** The rig object sent to the core: the user's texts, blanks left out, unused drive fields left out. */
-export function rigFromDraft(draft) {
+export function rigFromDraft(typed) {
+  const draft = withNumbers(typed);
   const rig = withoutBlanks(draft, ["g_m_s2"]);
+  delete rig[FROM_SI];
   rig.links = draft.links.map((link) => {
     const out = withoutBlanks(link, Object.keys(LINK_UNITS));
     out.point_masses = link.point_masses.map((p) => withoutBlanks(p, Object.keys(MASS_UNITS)));
@@ -156,7 +237,7 @@ export function rigFromDraft(draft) {
   rig.drive = drive;
   const limits = { ...draft.limits };
   for (const key of Object.keys(LIMIT_UNITS)) {
-    const pair = (draft.limits[key] || ["", ""]).map((s) => String(s).trim());
+    const pair = (draft.limits[key] || ["", ""]).map((s) => (typeof s === "number" ? s : String(s).trim()));
     if (pair[0] === "" && pair[1] === "") delete limits[key];
     else limits[key] = pair;
   }
@@ -195,14 +276,19 @@ export function setPath(obj, path, value) {
 /** A new link, copied from the one below it: a rig usually repeats its links. */
 export function addLink(draft) {
   if (draft.links.length >= MAX_LINKS) return false;
-  const last = draft.links[draft.links.length - 1];
-  draft.links.push(structuredClone(last));
+  const from = `links[${draft.links.length - 1}]`;
+  draft.links.push(structuredClone(draft.links[draft.links.length - 1]));
+  const kept = draft[FROM_SI] || {}; // the copied texts keep their SI numbers too
+  for (const [path, entry] of Object.entries(kept)) {
+    if (path.startsWith(`${from}.`)) kept[`links[${draft.links.length - 1}]${path.slice(from.length)}`] = [...entry];
+  }
   return true;
 }
 
 export function removeLink(draft, index) {
   if (draft.links.length <= 1) return false;
   draft.links.splice(index, 1);
+  dropRecords(draft, "links", index);
   return true;
 }
 
@@ -213,4 +299,5 @@ export function addPointMass(draft, linkIndex) {
 
 export function removePointMass(draft, linkIndex, massIndex) {
   draft.links[linkIndex].point_masses.splice(massIndex, 1);
+  dropRecords(draft, `links[${linkIndex}].point_masses`, massIndex);
 }

@@ -5,7 +5,7 @@ export const GENERAL_FIELDS = {
   title: { label: "Rig name", hint: "Shown on the report and used for file names." },
   g_m_s2: {
     label: "Gravity",
-    hint: "Blank means standard gravity, 9.80665 m/s2. Units: m/s2, g.",
+    hint: "Blank means standard gravity, 9.80665 m/s2. Units: m/s2, ft/s2, g.",
   },
 };
 

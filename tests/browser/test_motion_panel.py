@@ -13,6 +13,7 @@ from __future__ import annotations
 
 import json
 import math
+import re
 import shutil
 import subprocess
 import sys
@@ -515,6 +516,16 @@ def test_flags_lead_the_loads_when_a_limit_is_exceeded(new_context, server, tmp_
     first = page.locator("#loads-result > *").first
     assert first.get_attribute("role") == "alert" and "2 limits" in first.inner_text()
     assert first.locator("li").all_inner_texts() == [f"{f['message']}." for f in exceeded]
+    # In imperial the flags follow: 1 lbf = 4.4482216152605 N, 1 ft = 0.3048 m (NIST SP 811,
+    # appendix B), 4 significant figures printed.
+    page.check('input[name="units"][value="imperial"]')
+    page.wait_for_function("() => document.querySelector('#loads-result li[data-limit]')"
+                           "?.textContent.includes('lbf')")
+    words = page.locator("#loads-result > *").first.locator("li").all_inner_texts()
+    for flag, text, unit, factor in zip(exceeded, words, ["lbf", "ft/s²"], [4.4482216152605, 0.3048]):
+        numbers = [float(n.replace(",", "")) for n in re.findall(r"([\d.,]+) " + re.escape(unit), text)]
+        assert numbers == pytest.approx([flag["value"] / factor, flag["limit_value"] / factor], rel=5e-4), text
+    page.check('input[name="units"][value="metric"]')
     page.tap("#motion-run")
     wait_for_run(page)
     check_targets_and_labels(page)

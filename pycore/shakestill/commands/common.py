@@ -14,7 +14,7 @@ from ..model.rig import MAX_TILT_DEG, Problem, RigError, outside_reach, with_ope
 from ..model.rigfile import dumps_rig, loads_rig, rig_from_dict
 from ..model.safejson import MAX_TEXT_CHARS, decode_text
 from ..model.units import UnitError, allowed_units, parse_quantity
-from ..render.shown import SYSTEMS
+from ..render.shown import SYSTEMS, check_units
 
 # ----------------------------------------------------------------------------- command line
 
@@ -155,9 +155,10 @@ def problems_json(items) -> list[dict]:
 def units_of(request: dict) -> str:
     """A request's display ``units`` ("metric" by default or "imperial"), or a named problem."""
     units = request.get("units", "metric")
-    if units not in SYSTEMS:
-        raise RigError([Problem("units", f"{units!r} is not allowed: use metric or imperial")])
-    return units
+    try:
+        return check_units(units)
+    except ValueError as err:  # the words are check_units' own, less its "units: " prefix
+        raise RigError([Problem("units", str(err).removeprefix("units: "))]) from None
 
 
 def rig_of(request: dict):

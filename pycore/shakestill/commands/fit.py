@@ -24,7 +24,8 @@ from ..model.safety import CAUTIONS
 from ..render.motion_report import fit_text
 from ..render.plots import fit_csv, fit_svg
 from ..render.report import jsonable
-from .common import problems_json, progress, read_text, rig_of, rig_of_args, write
+from .common import (problems_json, progress, read_text, rig_of, rig_of_args, units_argument, units_of,
+                     write)
 from .motion import last_reply
 from .table import command, job_kind, op
 
@@ -46,6 +47,7 @@ def _fit_arguments(f) -> None:
     f.add_argument("--json", action="store_true", help="print the result as JSON")
     f.add_argument("-o", "--output", metavar="RIG", help="write the fitted rig file here")
     f.add_argument("--svg", help="write a plot of logged and fitted angles to this SVG file")
+    units_argument(f)
 
 
 @command("fit", "fit damping, friction or inertia to a run logged on the rig", _fit_arguments)
@@ -80,7 +82,7 @@ def _cmd_fit(args) -> int:
     if args.json:
         print(json.dumps(jsonable(result), indent=2, allow_nan=False))
     else:
-        sys.stdout.write(fit_text(result, log.reference))
+        sys.stdout.write(fit_text(result, log.reference, args.units))
         if args.output:
             print(f"wrote the fitted rig to {args.output}")
     return 0 if res.converged else 1
@@ -116,6 +118,7 @@ def _settings(rig, request: dict):
 @job_kind("fit")
 def fit_job(rig, warnings, request: dict):
     """Yields (fraction, partial reply); the last reply carries the fit."""
+    units = units_of(request)  # a bad one is named before any work
     log, names, most = _settings(rig, request)
     try:
         steps = fit_steps(rig, log, names, max_iterations=most)
@@ -132,7 +135,7 @@ def fit_job(rig, warnings, request: dict):
     svg, axes = fit_svg(res, f"{rig.title or 'Rig'}: logged and fitted angles", log.reference)
     yield 1.0, {"stage": "done", "result": result, "fitted_rig": rig_to_dict(res.rig),
                 "svg": svg, "axes": axes, "csv": fit_csv(res, log.reference),
-                "report_text": fit_text(result, log.reference),
+                "report_text": fit_text(result, log.reference, units),
                 "warnings": problems_json(warnings),
                 "cautions": list(CAUTIONS)}
 

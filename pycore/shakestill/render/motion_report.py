@@ -8,7 +8,7 @@ from __future__ import annotations
 import math
 
 from ..model.safety import CAUTIONS
-from .shown import length_text, text
+from .shown import length_text, shown, text, unit_of
 
 
 def _safety() -> list[str]:
@@ -110,10 +110,23 @@ def loads_text(result: dict, units: str = "metric") -> str:
         out.append(f"  ROTATING: tip speed up to {text(r['tip_speed_m_s'], 'velocity', units, '.3g')}"
                    f", centripetal load up to {q(r['centripetal_load_N'], 'force')}")
     for flag in result["flags"]:
-        out.append(("  LIMIT: " if flag["exceeded"] else "  limit: ") + flag["message"])
+        out.append(("  LIMIT: " if flag["exceeded"] else "  limit: ") + flag_text(flag, units))
     if not result["success"]:
         out.append(f"  note: {result['message']}")
     return "\n".join(out + _safety()) + "\n"
+
+
+# Each limit the loads are flagged against: its words and the kind of its numbers.
+_FLAGS = {"max_force_N": ("peak drive force", "force"), "max_power_W": ("peak drive power", "power"),
+          "max_accel_m_s2": ("peak pivot acceleration", "acceleration")}
+
+
+def flag_text(flag: dict, units: str = "metric") -> str:
+    """A loads flag in words, in the display units (the flag's own ``message`` stays SI)."""
+    what, kind = _FLAGS[flag["limit"]]
+    value, limit = text(flag["value"], kind, units), text(flag["limit_value"], kind, units)
+    return f"{what} {value} " + (f"EXCEEDS the limit of {limit}" if flag["exceeded"]
+                                 else f"is within the limit of {limit}")
 
 
 def with_error(value: float, error: float) -> str:
@@ -131,9 +144,26 @@ def _wrapped(angle: float) -> float:
     return math.pi - (math.pi - angle) % (2 * math.pi)
 
 
-def fit_text(result: dict, reference: str = "inverted") -> str:
+# The kind of each number a fit may adjust (the last name of its path), for the display units.
+_FIT_KINDS = {"joint_damping_N_m_s": "damping", "joint_friction_N_m": "torque",
+              "extra_inertia_kg_m2": "inertia", "length_m": "length", "rod_mass_kg": "mass"}
+
+
+def _fitted(p: dict, units: str) -> str:
+    """"0.2 N m s -> 0.1873 +- 0.0021 N m s": start, fitted and its standard error, in the
+    display units where the number's kind is known (else SI as the path names it)."""
+    kind = _FIT_KINDS.get(p["path"].rsplit(".", 1)[-1])
+    scale, unit = (1.0, "") if kind is None else (shown(1.0, kind, units)[0], " " + unit_of(kind, units))
+    value, err = p["value"] * scale, p["std_error"] * scale
+    fitted = (f"{value:.6g}{unit} (not determined by this log)" if not math.isfinite(err)
+              else with_error(value, err) + unit)
+    return f"{p['start'] * scale:.6g}{unit} -> {fitted}"
+
+
+def fit_text(result: dict, reference: str = "inverted", units: str = "metric") -> str:
     """Words for a fit to a logged run (the dict of ``fit.fit_dict``); the start angles are
-    given from the log's own zero, ``reference`` ("hanging" or "inverted")."""
+    given from the log's own zero, ``reference`` ("hanging" or "inverted"); the fitted
+    numbers in ``units`` (metric or imperial)."""
     out = [f"Fit to a logged run: {result['samples']} samples, {result['iterations']} "
            f"iteration(s), {result['simulations']} simulations"]
     if not result["converged"]:
@@ -142,10 +172,7 @@ def fit_text(result: dict, reference: str = "inverted") -> str:
                f"rig's own numbers, {math.degrees(result['rms_rad']):.4g} deg fitted")
     out.append("Fitted numbers (start -> fitted +- standard error):")
     for p in result["parameters"]:
-        err = p["std_error"]
-        fitted = (f"{p['value']:.6g} (not determined by this log)" if not math.isfinite(err)
-                  else with_error(p["value"], err))
-        out.append(f"  {p['path']}: {p['start']:.6g} -> {fitted}")
+        out.append(f"  {p['path']}: {_fitted(p, units)}")
     zero = math.pi if reference == "hanging" else 0.0
     where = "the hanging position" if reference == "hanging" else "the upward vertical"
     out.append(f"Start of the run (fitted, from {where}, the log's zero): angles "
