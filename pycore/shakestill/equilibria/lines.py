@@ -131,7 +131,8 @@ def speed_points(model: Rig | Model, start: float, stop: float, *, step: float =
 
 def stroke_points(lo: float, hi: float, start: float, stop: float) -> list[float]:
     """Strokes from ``start`` towards ``stop`` (start excluded, stop included), STROKE_POINTS
-    across the range [lo, hi]; never more than that many, whatever the numbers."""
+    across the range [lo, hi]; never more than STROKE_POINTS + 2 (the steps, the last of
+    which may fall short of ``stop``, and ``stop`` itself), whatever the numbers."""
     step = (hi - lo) / STROKE_POINTS
     direction = 1.0 if stop > start else -1.0
     points, v = [], start
