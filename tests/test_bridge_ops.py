@@ -119,21 +119,26 @@ def test_share_link_round_trip_keeps_every_number():
     assert back["view"]["focus"] == "drive"
 
 
-def test_sketch_is_to_scale_against_its_own_scale_bar():
+@pytest.mark.parametrize("units, metres_per_unit, unit", [
+    ("metric", 1e-3, "mm"), ("imperial", 0.0254, "in")])  # 1 in = 0.0254 m exactly (NIST SP 811)
+def test_sketch_is_to_scale_against_its_own_scale_bar(units, metres_per_unit, unit):
     # "Drawn to scale": every link's line, measured in the SVG (Pythagoras on its end points),
-    # divided by the scale bar's pixels per metre, is the link's length from the rig file;
-    # the point masses sit at their at_m along it. Coordinates are written to 0.01 px, so
-    # 0.5% of a line of some 50 px or more (common practice, no source).
+    # divided by the scale bar's pixels per metre (its label read in the units asked for), is
+    # the link's length from the rig file; the point masses sit at their at_m along it.
+    # Coordinates are written to 0.01 px, so 0.5% of a line of some 50 px or more (common
+    # practice, no source).
     import xml.etree.ElementTree as ET
     data = json.loads(json.dumps(ss.demo_rig_dict()))
     data["links"].append({"length_m": 0.12, "rod_mass_kg": 0.02,
                           "point_masses": [{"mass_kg": 0.01, "at_m": 0.1}]})
-    svg = ET.fromstring(ask("schematic", rig=data)["svg"])
+    svg = ET.fromstring(ask("schematic", rig=data, units=units)["svg"])
     ns = {"s": "http://www.w3.org/2000/svg"}
     lines = svg.findall("s:line", ns)
-    bar = lines[-1]  # the scale bar, labelled in mm in the text after it
+    bar = lines[-1]  # the scale bar, labelled in the text after it
     bar_px = float(bar.get("x2")) - float(bar.get("x1"))
-    bar_m = float(svg.findall("s:text", ns)[-1].text.split()[0]) / 1000
+    number, label_unit = svg.findall("s:text", ns)[-1].text.split()
+    assert label_unit == unit
+    bar_m = float(number) * metres_per_unit
     per_m = bar_px / bar_m
     links = [ln for ln in lines if ln.get("stroke-linecap") == "round"]
     assert len(links) == 2
@@ -145,6 +150,8 @@ def test_sketch_is_to_scale_against_its_own_scale_bar():
     top = links[1]
     y_joint, y_bob = float(top.get("y1")), float(bobs[-1].get("cy"))
     assert (y_joint - y_bob) / per_m == pytest.approx(0.1, rel=5e-3)
+    bad = json.loads(bridge.handle(json.dumps({"op": "schematic", "rig": data, "units": "cubits"})))
+    assert bad["ok"] is False and [p["path"] for p in bad["problems"]] == ["units"]
 
 
 def test_a_link_carries_the_senders_check_only_while_it_stays_short():

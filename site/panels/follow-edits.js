@@ -43,7 +43,7 @@ export function followEdits($, { engine, rig, form, report, panels }) {
    * the links at the held orbit's mean lean. */
   function sketch(current, isCurrent, leanDeg = null) {
     const holder = $("schematic");
-    const request = leanDeg ? { rig: current, lean_deg: leanDeg } : { rig: current };
+    const request = { rig: current, units: displayUnits(), ...(leanDeg ? { lean_deg: leanDeg } : {}) };
     engine.request("schematic", request, { channel: "schematic" }).then((reply) => {
       if (!isCurrent()) return;
       if (reply.ok) {

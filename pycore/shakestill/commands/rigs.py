@@ -13,7 +13,7 @@ from ..model.demo import demo_rig_dict
 from ..model.rig import Problem, RigError
 from ..model.rigfile import dumps_rig, rig_to_dict
 from ..render.schematic import schematic
-from .common import load_source, problems_json, rig_of
+from .common import load_source, problems_json, rig_of, units_of
 from .table import command, op
 
 MAX_LEAN_DRAWN_DEG = 90.0  # the held orbit leans less than horizontal (orbit.FAR_LEAN)
@@ -58,7 +58,8 @@ def _op_validate(request: dict) -> dict:
 
 @op("schematic")
 def _op_schematic(request: dict) -> dict:
-    """``lean_deg`` (optional): the check's inverted lean per link, to draw the links at."""
+    """``lean_deg`` (optional): the check's inverted lean per link, to draw the links at;
+    ``units`` (optional, "metric" or "imperial"): of the scale bar and the masses' notes."""
     rig, _ = rig_of(request)
     lean = request.get("lean_deg")
     if lean is not None:
@@ -70,7 +71,7 @@ def _op_schematic(request: dict) -> dict:
                                                 f"({rig.n_links}), each -{MAX_LEAN_DRAWN_DEG:g} "
                                                 f"to {MAX_LEAN_DRAWN_DEG:g} deg")])
         lean = tuple(float(v) for v in lean)
-    return {"svg": schematic(rig, lean_deg=lean)}
+    return {"svg": schematic(rig, lean_deg=lean, units=units_of(request))}
 
 
 @op("version")

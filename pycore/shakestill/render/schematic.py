@@ -8,6 +8,8 @@ import math
 
 from ..model.drive import pivot as drive_pivot
 from ..model.rig import Rig
+from ..model.units import INCH, OUNCE
+from .shown import check_units
 from .svg import BOB, DRIVE, INK, ROD, esc, num
 
 
@@ -48,15 +50,28 @@ def _upright(cx: float, pivot_y: float, reach_px: float, lean_deg) -> str:
             f"links at the held orbit's mean lean {esc(words)} deg</text></g>")
 
 
+# (length in m, its words): a long rig's bar, then a short one's; inches are exact (NIST SP 811)
+SCALE_BARS = {"metric": ((0.1, "100 mm"), (0.01, "10 mm")),
+              "imperial": ((4 * INCH, "4 in"), (0.5 * INCH, "0.5 in"))}
+
+
+def _mass_note(mass_kg: float, at_m: float, units: str) -> str:
+    if units == "imperial":
+        return f"{mass_kg / OUNCE:.3g} oz at {at_m / INCH:.3g} in"
+    return f"{mass_kg * 1000:g} g at {at_m * 1000:g} mm"
+
+
 def schematic(rig: Rig, *, width_px: int = 320, height_px: int = 420,
               angles_rad: tuple[float, ...] | None = None,
-              lean_deg: tuple[float, ...] | None = None) -> str:
-    """The rig drawn to scale: carriage, crank (if any), links and masses.
+              lean_deg: tuple[float, ...] | None = None, units: str = "metric") -> str:
+    """The rig drawn to scale: carriage, crank (if any), links and masses; the scale bar
+    and the masses' notes in ``units`` ("metric" or "imperial").
 
     ``angles_rad`` are link angles from the upward vertical (default: inverted).
     ``lean_deg``: the inverted held orbit's mean angle per link (the check's ``lean_deg``):
     the links are drawn at it beside the upward vertical, and the drawing says so.
     """
+    check_units(units)
     if lean_deg is not None:
         angles_rad = tuple(math.radians(v) for v in lean_deg)
     angles = angles_rad or tuple(0.0 for _ in rig.links)
@@ -109,15 +124,15 @@ def schematic(rig: Rig, *, width_px: int = 320, height_px: int = 420,
             py = y - p.at_m * scale * math.cos(angle)
             radius = 3 + 14 * (p.mass_kg / (p.mass_kg + 0.05)) ** 0.5
             parts.append(f'<circle cx="{num(px)}" cy="{num(py)}" r="{num(radius)}" fill="{BOB}">'
-                         f"<title>{esc(f'{p.mass_kg * 1000:g} g at {p.at_m * 1000:g} mm')}"
+                         f"<title>{esc(_mass_note(p.mass_kg, p.at_m, units))}"
                          "</title></circle>")
         parts.append(f'<circle cx="{num(x)}" cy="{num(y)}" r="4" fill="#fff" stroke="{INK}" '
                      'stroke-width="2"/>')
         x, y = x2, y2
-    bar = 0.1 if reach > 0.15 else 0.01
+    bar, label = SCALE_BARS[units][0 if reach > 0.15 else 1]
     parts.append(f'<line x1="10" y1="{height_px - 12}" x2="{num(10 + bar * scale)}" '
                  f'y2="{height_px - 12}" stroke="{INK}" stroke-width="2"/>')
     parts.append(f'<text x="10" y="{height_px - 18}" font-size="11" fill="{INK}">'
-                 f"{num(bar * 1000)} mm</text>")
+                 f"{label}</text>")
     parts.append("</svg>")
     return "".join(parts)
