@@ -205,3 +205,37 @@ def test_acceleration_labels_name_their_line_and_never_overprint():
     for y, g_value in labels:
         stroke = min(2 * g_value * G / w ** 2, 0.004)
         assert y - 11 == pytest.approx(to_px(axes, 6000, stroke)[1], abs=1.0)
+
+
+def test_tongue_labels_sit_over_their_tongues_and_never_overprint():
+    # Hanging double pendulum of equal point masses on equal massless links: modal
+    # frequencies w^2 = (g/l)(2 -+ sqrt 2) (any classical mechanics text; from memory), and
+    # the principal parametric resonances sit at drive frequency 2 f / n (Mathieu equation,
+    # common practice). With a low speed limit the orders crowd the left-hand side.
+    length = 0.1
+    link = {"length_m": length, "rod_mass_kg": 0.0,
+            "point_masses": [{"mass_kg": 0.05, "at_m": length}]}
+    rig = ss.rig_from_dict({
+        "format": "shakestill-rig", "version": 1, "links": [link, link],
+        "drive": {"waveform": "sine", "stroke_m": 0.002, "speed_rpm": 1500},
+        "limits": {"speed_rpm": [30, 3000], "stroke_m": [0.0, 0.004]}})
+    c = chart(rig, rows=4)
+    f = [math.sqrt(G / length * (2 + s * math.sqrt(2))) / (2 * math.pi) for s in (-1, 1)]
+    expected = {f"n={n} (mode {m + 1})": 2 * f[m] / n * 60
+                for m in (0, 1) for n in range(1, 40) if 30 <= 2 * f[m] / n * 60 <= 3000}
+    assert {t["label"]: t["speed_rpm"] for t in c.tongues} == pytest.approx(expected, rel=1e-9)
+    svg, axes = render(c, rig)
+    root = ET.fromstring(svg)
+    labels = [t for t in root.iter(NS + "text") if t.text in expected]
+    # the crowd is about 60 px wide: three lines hold three labels, the lowest orders first
+    assert sorted(t.text for t in labels) == ["n=1 (mode 1)", "n=1 (mode 2)", "n=2 (mode 1)"]
+    lines: dict = {}
+    for t in labels:
+        x, half = float(t.get("x")), len(t.text) * 3.0  # <= 6 px a character at 10 px
+        # centred over its tongue unless that would push it out of the plot
+        assert abs(x - to_px(axes, expected[t.text], 0.0)[0]) <= half + 0.5
+        lines.setdefault(t.get("y"), []).append((x - half, x + half))
+    assert len(lines) >= 2  # the crowded orders took a second line rather than overprinting
+    for spans in lines.values():
+        spans.sort()
+        assert all(b[0] >= a[1] for a, b in zip(spans, spans[1:]))

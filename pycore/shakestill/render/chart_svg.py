@@ -157,6 +157,35 @@ def _accel_labels(accel_lines, px, py, axis_y: float) -> list[str]:
     return out
 
 
+TONGUE_CHAR_PX = 6.0  # a 10 px system-ui character is at most about this wide
+TONGUE_LINES = 3  # label lines under the top edge; a label that fits on none is left out
+
+
+def _tongue_labels(tongues, px, x0: float, x1: float, left: float, right: float,
+                   top: float) -> list[str]:
+    """Tongue labels centred over their speeds (kept inside the plot), the lowest orders
+    first as they are the widest tongues; a label that would overprint one already placed on
+    a line goes to the next line down."""
+    placed: list[list[tuple[float, float]]] = [[] for _ in range(TONGUE_LINES)]
+    out = []
+    for t in sorted(tongues, key=lambda t: (t["order"], t["mode"])):
+        if not x0 <= t["speed_rpm"] <= x1:
+            continue
+        half = len(t["label"]) * TONGUE_CHAR_PX / 2
+        tx = min(max(px(t["speed_rpm"]), left + half), right - half)
+        span = (tx - half - 1, tx + half + 1)
+        line = next((i for i, spans in enumerate(placed)
+                     if all(span[1] <= a or span[0] >= b for a, b in spans)), None)
+        if line is None:
+            continue
+        placed[line].append(span)
+        out.append(f'<text x="{num(tx)}" y="{num(top + 14 + 11 * line)}" font-size="10" '
+                   f'text-anchor="middle" fill="#5a3b00">{esc(t["label"])}'
+                   "<title>hanging resonance of this order (drive near 2 f0 / n)</title>"
+                   "</text>")
+    return out
+
+
 def chart_svg(chart, rig: Rig, *, width_px: int = 760, height_px: int = 470,
               boundaries: list[dict] | None = None, accel_lines: list[tuple] = (),
               units: str = "metric") -> tuple[str, dict]:
@@ -213,13 +242,7 @@ def chart_svg(chart, rig: Rig, *, width_px: int = 760, height_px: int = 470,
         out.append(f'<polyline points="{pts}" fill="none" stroke="#555" stroke-width="0.8" '
                    f'stroke-dasharray="3 3"><title>{esc(f"{g_value:g} g")}</title></polyline>')
     out.extend(_accel_labels(accel_lines, px, py, height_px - bottom))
-    for t in chart.tongues:
-        if x0 <= t["speed_rpm"] <= x1:
-            tx = min(max(px(t["speed_rpm"]), left + 14), width_px - right - 14)
-            out.append(f'<text x="{num(tx)}" y="{num(top + 14)}" font-size="10" '
-                       f'text-anchor="middle" fill="#5a3b00">{esc(t["label"])}'
-                       "<title>hanging resonance of this order (drive near 2 f0 / n)</title>"
-                       "</text>")
+    out.extend(_tongue_labels(chart.tongues, px, x0, x1, left, width_px - right, top))
     if chart.held_orbit and stroke_axis:
         out.append(_held_bars(chart.held_orbit, rig, px, py))
     # operating point
