@@ -77,7 +77,9 @@ def test_runup_words_give_the_crossings_and_the_rate_for_them():
     words = runup_text(reply)
     lo, hi = tongue_rpm(1)
     assert f"unstable from {lo:,.0f} rpm to {hi:,.0f} rpm" in words
-    assert f"ramp at least {reply['hanging']['min_rate_rpm_s']:.3g} rpm/s" in words
+    # three significant digits (common practice, no source); this rig's rate is under 1000
+    rate = reply['hanging']['min_rate_rpm_s']
+    assert rate < 1000 and f"ramp at least {rate:.3g} rpm/s" in words
     assert "Safety:" in words
 
 

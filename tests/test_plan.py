@@ -267,6 +267,9 @@ def test_runup_without_a_rate_answers_at_the_rate_it_recommends(capsys):
     assert main(["runup", "--json", "--rate", f"{out['rate_rpm_s'] / 2}rpm/s"]) == 0
     half = js.loads(capsys.readouterr().out)
     assert half["rate_recommended"] is False and half["hanging"]["ok"] is False
+    assert main(["runup"]) == 0  # the words say the rate was chosen, and why
+    assert (f"Run-up at {out['rate_rpm_s']:.4g} rpm/s (recommended: the slowest ramp that keeps "
+            "the hanging pendulum's growth under x10)") in capsys.readouterr().out
 
 
 def test_region_size_is_the_trapezoid_integral_of_its_rows():

@@ -140,12 +140,20 @@ def test_simulated_amplification_against_solve_ivp(result):
 
 
 def test_minimum_rate_keeps_the_growth_at_the_factor(result):
-    # At the reported minimum rate the frozen estimate times the prefactor the simulation found
-    # equals the factor (common practice, no source): ln F = I / R_min + ln(prefactor).
+    # At the reported minimum rate a ramp through the crossing grows a disturbance by the
+    # factor (10) or just under it: the engine lands within 2% under it (its documented
+    # tolerance). Reference: the transfer matrix's largest singular value by solve_ivp and
+    # numpy.svd (transfer_gain above).
+    for c in result["hanging"]["crossings"]:
+        a, b, rate = c["speed_from_rpm"], c["speed_to_rpm"], c["min_rate_rpm_s"]
+        gain = transfer_gain(a, b, rate)
+        assert 10.0 / 1.02 * (1 - REL) <= gain <= 10.0 * (1 + REL)
+        # and every faster ramp stays under it (growth may wobble with the rate, so several)
+        for faster in (1.05, 1.5, 3.0):
+            assert transfer_gain(a, b, rate * faster) <= 10.0
+    # on the principal tongue a ramp 10% slower breaks the factor: the rate is the minimum
     c = principal(result)
-    integral = RATE * math.log(c["amplification"])
-    prefactor = max(math.log(c["simulated_amplification"]) - integral / RATE, 0.0)
-    assert integral / c["min_rate_rpm_s"] + prefactor == pytest.approx(math.log(10.0), rel=REL)
+    assert transfer_gain(c["speed_from_rpm"], c["speed_to_rpm"], c["min_rate_rpm_s"] / 1.1) > 10
     assert result["hanging"]["min_rate_rpm_s"] == max(x["min_rate_rpm_s"]
                                                       for x in result["hanging"]["crossings"])
 
@@ -212,3 +220,24 @@ def test_bad_run_up_requests_are_named(kwargs, words):
         with pytest.raises(ValueError) as err:
             runup(rig, **kwargs)
         assert str(err.value) == words
+
+
+def test_words_round_rates_and_cycles_as_people_read_them(result, tmp_path):
+    # The CLI's words for the same run: rates to three significant digits with thousands
+    # written out (8,100, never 8.1e+03), and a crossing shorter than half a cycle said as
+    # such; cycles in a crossing = (b^2 - a^2) / (120 R) (the ramp's phase, by hand).
+    path = tmp_path / "rig.json"
+    path.write_text(json.dumps(rig_data()))
+    out = io.StringIO()
+    with contextlib.redirect_stdout(out):
+        cli.main(["runup", str(path), "--rate", f"{RATE}rpm/s", "--to", f"{END}rpm"])
+    words = out.getvalue()
+    fast = result["inverted"]["min_rate_rpm_s"]
+    assert fast >= 1000 and f"ramp at least {float(f'{fast:.3g}'):,.0f} rpm/s" in words
+    assert "e+" not in words.split("ramp at least")[1].split("rpm/s")[0]
+    narrow = result["hanging"]["crossings"][0]
+    a, b = narrow["speed_from_rpm"], narrow["speed_to_rpm"]
+    assert (b * b - a * a) / (120 * RATE) < 0.5 and "under 1 cycle" in words
+    wide = principal(result)
+    n = (wide["speed_to_rpm"] ** 2 - wide["speed_from_rpm"] ** 2) / (120 * RATE)
+    assert f"{n:,.0f} cycles, a disturbance grows" in words

@@ -165,14 +165,51 @@ def crossings(rig: Rig | Model, equilibrium: str, start_rpm: float, end_rpm: flo
         simulated = (ramp_amplification(model, equilibrium, a, b, rate_rpm_s)
                      if cycles <= MAX_SIMULATED_CYCLES and integral / rate_rpm_s < MAX_LOG_GROWTH
                      else None)
-        # ln(simulated) ~ I / R + ln(prefactor): correct the rate once for the prefactor
-        prefactor = math.log(simulated) - integral / rate_rpm_s if simulated else 0.0
-        room = math.log(factor) - max(prefactor, 0.0)
-        min_rate = integral / room if integral > 0 and room > 0 else (math.inf if integral > 0
-                                                                       else 0.0)
+        min_rate = _min_rate(model, equilibrium, a, b, integral, factor, rate_rpm_s, simulated)
         out.append(Crossing(equilibrium, a, b, (b - a) / rate_rpm_s, frozen, cycles, peak,
                             min_rate, simulated))
     return out, probe.count + GAUSS_POINTS * len(intervals)
+
+
+RATE_STEPS = 8  # simulated ramps spent finding a crossing's minimum rate
+RATE_TOLERANCE = 0.02  # the minimum rate's growth lands within 2% under the factor
+
+
+def _min_rate(model: Model, equilibrium: str, a: float, b: float, integral: float,
+              factor: float, rate: float, simulated: float | None) -> float:
+    """The slowest ramp through [a, b] whose simulated growth is at most ``factor``.
+
+    ln(growth) is nearly I / R + ln(prefactor), a line in 1 / R; secant steps on it from the
+    simulation at ``rate``, kept inside the bracket of rates found too slow and fast enough.
+    Returns the slowest rate found fast enough (its growth within RATE_TOLERANCE under the
+    factor), or the frozen estimate corrected once where no ramp can be simulated."""
+    if integral <= 0:
+        return 0.0
+    target = math.log(factor)
+    prefactor = max(math.log(simulated) - integral / rate, 0.0) if simulated else 0.0
+    guess = integral / (target - prefactor) if target > prefactor else 10.0 * rate
+    points = [(1 / rate, math.log(simulated))] if simulated else []
+    slow, fast = 0.0, math.inf  # fastest rate found too slow, slowest found fast enough
+    for _ in range(RATE_STEPS):
+        cycles = (b * b - a * a) / 120.0 / guess
+        if cycles > MAX_SIMULATED_CYCLES or integral / guess >= MAX_LOG_GROWTH:
+            break
+        growth = math.log(ramp_amplification(model, equilibrium, a, b, guess))
+        points.append((1 / guess, growth))
+        if growth <= target:
+            fast = min(fast, guess)
+            if growth >= target - math.log1p(RATE_TOLERANCE):
+                break
+        else:
+            slow = max(slow, guess)
+        (x0, y0), (x1, y1) = points[-2:] if len(points) > 1 else ((0.0, 0.0), points[-1])
+        slope = (y1 - y0) / (x1 - x0) if x1 != x0 and y1 != y0 else integral
+        x = x1 + (target - math.log1p(RATE_TOLERANCE / 2) - y1) / slope
+        low_x, high_x = 1 / fast if fast < math.inf else 0.0, 1 / slow if slow > 0 else math.inf
+        if not low_x < x < high_x:  # outside the bracket: bisect it (in 1 / R)
+            x = (low_x + high_x) / 2 if high_x < math.inf else 2 * x1
+        guess = 1 / x
+    return fast if fast < math.inf else guess
 
 
 def runup(rig: Rig | Model, *, rate_rpm_s: float, start_rpm: float = 0.0,
@@ -211,23 +248,17 @@ def runup(rig: Rig | Model, *, rate_rpm_s: float, start_rpm: float = 0.0,
     return result
 
 
-TRIAL_RATE_RPM_S = 100.0  # first ramp rate tried when recommending one (then corrected once)
+TRIAL_RATE_RPM_S = 100.0  # first ramp rate simulated when recommending one
 
 
 def recommended_rate(rig: Rig | Model, *, start_rpm: float = 0.0,
                      end_rpm: float | None = None, factor: float = DEFAULT_FACTOR,
                      equilibria=EQUILIBRIA) -> float:
     """The smallest ramp rate (rpm/s) keeping every crossing's growth under ``factor``: the
-    minimum rates at a trial rate, then once more at that rate (the prefactor of the
-    simulated ramp depends a little on the rate). 0 when nothing is crossed."""
+    largest of the crossings' minimum rates (each found by simulated ramps). 0 when nothing
+    is crossed."""
     model = as_model(rig)
     end = model.rig.drive.speed_rpm if end_rpm is None else end_rpm
-    rate = TRIAL_RATE_RPM_S
-    for _ in range(2):
-        found = [c for eq in equilibria
-                 for c in crossings(model, eq, start_rpm, end, rate, factor)[0]]
-        need = max((c.min_rate_rpm_s for c in found), default=0.0)
-        if not (need > 0 and math.isfinite(need)):
-            return need
-        rate = need
-    return rate
+    return max((c.min_rate_rpm_s for eq in equilibria
+                for c in crossings(model, eq, start_rpm, end, TRIAL_RATE_RPM_S, factor)[0]),
+               default=0.0)

@@ -179,10 +179,21 @@ def jsonable(obj):
     return obj
 
 
+def _rate(x: float) -> str:
+    """Three significant digits, thousands written out: 239, 3,260 (never 3.26e+03)."""
+    return f"{float(f'{x:.3g}'):,.0f}" if 1000 <= x < math.inf else f"{x:.3g}"
+
+
+def _cycles(n: float) -> str:
+    return "under 1 cycle" if n < 0.5 else f"{n:,.0f} cycle" + ("" if round(n) == 1 else "s")
+
+
 def runup_text(result: dict, units: str = "metric") -> str:
     """Words for a run-up result (the stroke in ``units``)."""
-    out = [f"Run-up at {result['rate_rpm_s']:g} rpm/s from {result['start_rpm']:,.0f} to "
-           f"{result['end_rpm']:,.0f} rpm, stroke {_mm(result['stroke_m'], units)} "
+    chosen = (" (recommended: the slowest ramp that keeps the hanging pendulum's growth under "
+              f"x{result['factor']:g})" if result.get("rate_recommended") else "")
+    out = [f"Run-up at {result['rate_rpm_s']:.4g} rpm/s{chosen} from {result['start_rpm']:,.0f} "
+           f"to {result['end_rpm']:,.0f} rpm, stroke {_mm(result['stroke_m'], units)} "
            f"(acceptable growth: x{result['factor']:g})"]
     for name in ("inverted", "hanging"):
         r = result.get(name)
@@ -195,10 +206,10 @@ def runup_text(result: dict, units: str = "metric") -> str:
         for c in r["crossings"]:
             grow = c["simulated_amplification"] or c["amplification"]
             out.append(f"  unstable from {_rpm(c['speed_from_rpm'])} to {_rpm(c['speed_to_rpm'])}:"
-                       f" {c['seconds']:.2f} s, {c['cycles']:.0f} cycles, a disturbance grows "
+                       f" {c['seconds']:.2f} s, {_cycles(c['cycles'])}, a disturbance grows "
                        f"x{grow:.3g} (estimate x{c['amplification']:.3g})")
         if r["crossings"]:
-            out.append(f"  ramp at least {r['min_rate_rpm_s']:.3g} rpm/s to keep each crossing "
+            out.append(f"  ramp at least {_rate(r['min_rate_rpm_s'])} rpm/s to keep each crossing "
                        f"under x{result['factor']:g}" + ("" if r["ok"] else "  <- NOT MET"))
         out.append("  " + r["rundown"])
     out.append("")
