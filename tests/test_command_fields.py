@@ -220,8 +220,8 @@ def test_plan_margins_and_binding_edge_against_mathieu(tmp_path, capsys):
     assert float(rpm.replace(",", "")) == round(speed) and float(mm) == round(1000 * stroke, 2)
     at = re.findall(r"edge of the inverted position at ([\d,.]+) rpm", text)[0]
     assert float(at.replace(",", "")) == round(edge["edge"], 1)
-    length = re.findall(r"equivalent_length_m = ([\d.]+)", text)[0]
-    assert float(length) == float(f"{l_eq:.6g}")
+    length = re.findall(r"for the rig with equivalent length ([\d.]+) mm, damping rate 0 1/s", text)[0]
+    assert float(length) == round(1000 * l_eq, 3)
 
 
 def test_plan_damping_rate_and_two_link_modal_lengths(tmp_path, capsys):
@@ -235,6 +235,10 @@ def test_plan_damping_rate_and_two_link_modal_lengths(tmp_path, capsys):
     got = out["binding"]["rig_values"]["modal_lengths_m"]
     want = modal_lengths(TWO, out["binding"]["equilibrium"])  # scipy.linalg.eigh
     assert np.allclose(got, want, rtol=1e-9, atol=0)
+    # the words name them (no spreads: the nominal rig), in mm to 0.1 mm, as the JSON orders them
+    text = run(tmp_path, capsys, TWO, "plan", "--rows", "4")
+    words = ", ".join(f"{1000 * m:.1f} mm" for m in got)
+    assert f"for the rig with the nominal numbers (modal lengths {words})." in text
 
 
 def test_plan_with_spreads_wander_set_and_binding_edge(tmp_path, capsys):

@@ -12,6 +12,21 @@ def _fmt(value, unit: str, units: str = "metric") -> str:
     return length_text(value, units, ".3f") if unit == "m" else f"{value:,.1f} {unit}"
 
 
+def _rig_words(values: dict, units: str) -> str:
+    """What sets the binding rig apart: one link, its equivalent length and damping rate;
+    several, the spread numbers it takes and its modal lengths (longest first)."""
+    if "values" not in values:
+        return (f"equivalent length {length_text(values['equivalent_length_m'], units, '.3f')}, "
+                f"damping rate {values['damping_rate_1_s']:.4g} 1/s")
+    words = [f"{path} = {v:.6g}" for path, v in values["values"].items()]
+    modal = values.get("modal_lengths_m") or []
+    if modal:
+        words.append("modal lengths " + ", ".join(length_text(m, units, ".1f") for m in modal))
+    if not values["values"]:  # no spreads: the nominal rig binds
+        return f"the nominal numbers ({words[0]})" if words else "the nominal numbers"
+    return ", ".join(words)
+
+
 def plan_text(result: dict, warnings=(), units: str = "metric") -> str:
     """The recommendation, what binds it, the region's size, sensitivities, run-up, cautions;
     strokes in ``units``."""
@@ -30,8 +45,7 @@ def plan_text(result: dict, warnings=(), units: str = "metric") -> str:
             unit = "rpm" if e["axis"] == "speed" else "m"
             out.append(f"Binding: the {e['side']} {e['axis']} edge of the {b['equilibrium']} "
                        f"position at {_fmt(e['edge'], unit, units)}, for the rig with "
-                       + ", ".join(f"{k} = {v:.6g}" for k, v in b["rig_values"].items()
-                                   if isinstance(v, float)))
+                       f"{_rig_words(b['rig_values'], units)}.")
         run = result.get("runup")
         if run:
             out.append(f"Run up from rest at {run['min_rate_rpm_s']:,.1f} rpm/s or faster "
