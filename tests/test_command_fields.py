@@ -354,7 +354,7 @@ def test_lean_wobble_kappa_and_words_against_shooting_and_kapitza(tmp_path, caps
         a, b = re.findall(eq + r": \+([\d.]+) deg at 0 deg of tilt \.\. \+([\d.]+) deg at 2 deg",
                           text)[0]
         assert float(b) == round(out["by_tilt"][eq]["lean_deg"][2][0], 2)
-        a, b = re.findall(eq + r": \+([\d.]+) deg at 2000 rpm \.\. \+([\d.]+) deg at 3600 rpm",
+        a, b = re.findall(eq + r": \+([\d.]+) deg at 2,000 rpm \.\. \+([\d.]+) deg at 3,600 rpm",
                           text)[0]
         assert float(a) == round(out["by_speed"][eq]["lean_deg"][0][0], 2)
         assert float(b) == round(out["by_speed"][eq]["lean_deg"][-1][0], 2)

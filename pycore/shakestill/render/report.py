@@ -229,8 +229,8 @@ def lean_text(chart: dict, title: str = "", units: str = "metric") -> str:
     out = [title or "Lean chart", "=" * len(title or "Lean chart"),
            "The held orbit's mean lean per link (deg) when the drive axis is tilted in the "
            "swing plane; a tilt out of that plane does not enter this planar model.", ""]
-    for by, axis, unit in (("by_tilt", "tilt_deg", "deg of tilt"),
-                           ("by_speed", "speed_rpm", "rpm")):
+    for by, axis, unit, at in (("by_tilt", "tilt_deg", "deg of tilt", "{:g}"),
+                               ("by_speed", "speed_rpm", "rpm", "{:,.0f}")):
         if by == "by_speed":
             out.append(f"Against speed at {chart['speed_tilt_deg']:g} deg of tilt, stroke "
                        f"{_mm(chart['stroke_m'], units)}:")
@@ -244,12 +244,12 @@ def lean_text(chart: dict, title: str = "", units: str = "metric") -> str:
                 continue
             (x0, v0), (x1, v1) = held[0], held[-1]
             leans = lambda v: ", ".join(f"{a:+.2f}" for a in v)  # noqa: E731
-            out.append(f"  {name}: {leans(v0)} deg at {x0:g} {unit} .. {leans(v1)} deg at "
-                       f"{x1:g} {unit}")
+            out.append(f"  {name}: {leans(v0)} deg at {at.format(x0)} {unit} .. {leans(v1)} deg "
+                       f"at {at.format(x1)} {unit}")
             for end in curve["ends"]:
                 if end:
                     why = "unstable" if end["why"] == "unstable" else "no orbit found (the lean runs away)"
-                    out.append(f"    stops at {end['at']:g} {unit}: {why}")
+                    out.append(f"    stops at {at.format(end['at'])} {unit}: {why}")
         out.append("")
     est = chart["estimate"]
     out.append(f"Kapitza's averaging (one equivalent link, kappa = {est['kappa']:.3g}): lean per "
