@@ -23,6 +23,7 @@ import pytest
 import refsolvers as ref
 import shakestill as ss
 from shakestill.motion.loads import loads
+from shakestill.render.motion_report import loads_text
 from test_motion import TWO, elements, lagrange_rhs
 
 G = ref.G_STANDARD
@@ -47,6 +48,16 @@ def test_at_rest_needs_total_mass_times_g_plus_a_omega_squared():
     assert abs(out["drive_force_N"]["mean"] / (total * G) - 1) < 1e-9
     assert abs(out["power_W"]["mean"]) < 1e-9 * out["power_W"]["peak"]
     assert out["state"] == "at rest" and out["rotation"] is None
+
+
+def test_mean_power_at_rest_is_zero_not_rounding_noise():
+    # Over whole cycles a drive that only shakes a body at rest does no net work (energy of a
+    # periodic motion with nothing dissipated; common practice, no source): the mean is 0 W,
+    # not the 1e-14 W that summing 256 samples of +-100 W leaves, and the words say 0 W.
+    for rpm in (2400.0, 2700.0, 3100.0):
+        out = loads(tip_rig(0.02, rpm, carriage=0.35))
+        assert out["power_W"]["peak"] > 10.0 and out["power_W"]["mean"] == 0.0
+    assert "mean 0 W" in loads_text(out)
 
 
 def test_link_axial_loads_at_rest_are_the_mass_beyond_times_g_plus_accel():

@@ -22,6 +22,7 @@ and across it, n = (cos a, -sin a): the sideways force the guide takes, F . n
 from __future__ import annotations
 
 import math
+import sys
 from dataclasses import replace
 
 from ..model import drive as drv
@@ -41,8 +42,12 @@ MAX_CYCLES = 1000  # cycles averaged at most
 
 def _stats(values) -> dict:
     n = len(values)
-    return {"peak": max(abs(v) for v in values), "rms": math.sqrt(sum(v * v for v in values) / n),
-            "mean": sum(values) / n, "min": min(values), "max": max(values)}
+    peak = max(abs(v) for v in values)
+    mean = math.fsum(values) / n
+    if abs(mean) <= n * sys.float_info.epsilon * peak:  # within the samples' rounding: none
+        mean = 0.0
+    return {"peak": peak, "rms": math.sqrt(sum(v * v for v in values) / n),
+            "mean": mean, "min": min(values), "max": max(values)}
 
 
 def _second_derivative(q, w, qdd):
