@@ -70,6 +70,28 @@ def test_runup_request_crosses_the_mathieu_tongues():
     assert SHORT == 0.01  # the reference's rig (10 mm), as the tongues above assume
 
 
+def test_runup_request_without_a_rate_runs_at_the_slowest_safe_rate():
+    # No rate: the page gets the rate `shakestill runup` recommends, and at it every hanging
+    # crossing grows at most the factor by the transfer matrix's largest singular value
+    # (solve_ivp + numpy.svd, tests/test_runup.py's transfer_gain), 1e-9 relative.
+    from test_runup import transfer_gain
+    reply = ask("runup", rig=short_rig(), end_rpm=END, factor=10.0)["result"]
+    assert reply["rate_recommended"] is True
+    rate = reply["rate_rpm_s"]
+    assert rate == max(c["min_rate_rpm_s"] for c in reply["hanging"]["crossings"])
+    for c in reply["hanging"]["crossings"]:
+        assert transfer_gain(c["speed_from_rpm"], c["speed_to_rpm"], rate) <= 10.0 * (1 + 1e-9)
+    # a given rate is used as given
+    assert ask("runup", rig=short_rig(), end_rpm=END, rate_rpm_s=RATE)["result"][
+        "rate_recommended"] is False
+    # nothing crossed (no stroke): no rate to recommend, and the field is named
+    still = short_rig()
+    still["drive"]["stroke_m"] = 0.0
+    reply = json.loads(bridge.handle(json.dumps({"op": "runup", "rig": still})))
+    assert not reply["ok"] and reply["problems"][0]["path"] == "rate_rpm_s"
+    assert "no resonance of the hanging pendulum is crossed" in reply["problems"][0]["message"]
+
+
 def test_runup_words_give_the_crossings_and_the_rate_for_them():
     # The text the CLI prints: each crossing's ends in rpm (the same Mathieu tongue) and the
     # minimum rate, read back from the words.

@@ -140,20 +140,21 @@ def test_simulated_amplification_against_solve_ivp(result):
 
 
 def test_minimum_rate_keeps_the_growth_at_the_factor(result):
-    # At the reported minimum rate a ramp through the crossing grows a disturbance by the
-    # factor (10) or just under it: the engine lands within 2% under it (its documented
-    # tolerance). Reference: the transfer matrix's largest singular value by solve_ivp and
-    # numpy.svd (transfer_gain above).
+    # At the reported minimum rate a ramp through the crossing grows a disturbance by at most
+    # the factor (10), and so do faster ramps (several: through the narrow tongue, crossed in
+    # a few cycles, the growth wobbles with the rate). Reference: the transfer matrix's
+    # largest singular value by solve_ivp and numpy.svd (transfer_gain above).
     for c in result["hanging"]["crossings"]:
         a, b, rate = c["speed_from_rpm"], c["speed_to_rpm"], c["min_rate_rpm_s"]
-        gain = transfer_gain(a, b, rate)
-        assert 10.0 / 1.02 * (1 - REL) <= gain <= 10.0 * (1 + REL)
-        # and every faster ramp stays under it (growth may wobble with the rate, so several)
+        assert transfer_gain(a, b, rate) <= 10.0 * (1 + REL)
         for faster in (1.05, 1.5, 3.0):
             assert transfer_gain(a, b, rate * faster) <= 10.0
-    # on the principal tongue a ramp 10% slower breaks the factor: the rate is the minimum
+    # Through the principal tongue the growth is smooth in the rate: the engine lands within
+    # 2% under the factor (its documented tolerance), and a ramp 10% slower breaks it.
     c = principal(result)
-    assert transfer_gain(c["speed_from_rpm"], c["speed_to_rpm"], c["min_rate_rpm_s"] / 1.1) > 10
+    a, b, rate = c["speed_from_rpm"], c["speed_to_rpm"], c["min_rate_rpm_s"]
+    assert 10.0 / 1.02 * (1 - REL) <= transfer_gain(a, b, rate)
+    assert transfer_gain(a, b, rate / 1.1) > 10.0
     assert result["hanging"]["min_rate_rpm_s"] == max(x["min_rate_rpm_s"]
                                                       for x in result["hanging"]["crossings"])
 

@@ -59,11 +59,11 @@ export function createRunupView(els, { engine, getRig }) {
   async function run() {
     const rig = getRig();
     if (!rig) return;
-    const rate = readNumber(els.rate, NaN);
+    const rate = readNumber(els.rate, null); // blank: the engine recommends the rate
     const start = readNumber(els.start, 0);
     const factor = readNumber(els.factor, 10);
     const problems = [];
-    if (rate.problem || !(rate.value > 0)) problems.push(`Ramp rate: ${rate.problem || "type a rate above 0 rpm/s, such as 20"}.`);
+    if (rate.problem || (rate.value !== null && !(rate.value > 0))) problems.push(`Ramp rate: ${rate.problem || "type a rate above 0 rpm/s, such as 20, or leave it blank for the slowest safe rate"}.`);
     if (start.problem || start.value < 0) problems.push(`Start speed: ${start.problem || "the speed must be 0 rpm or more"}.`);
     if (factor.problem || !(factor.value > 1)) problems.push(`Acceptable growth: ${factor.problem || "it must be above 1 (10 is usual)"}.`);
     replaceChildren(els.messages, problems.map((p) => h("p", { class: "msg is-problem" }, p)));
@@ -83,9 +83,12 @@ export function createRunupView(els, { engine, getRig }) {
     if (mine !== seq) return;
     if (!reply.ok) {
       els.out.dataset.state = "failed";
-      replaceChildren(els.out, h("p", { class: "msg is-problem" }, reply.problems
-        ? `The run-up needs a rig without problems: ${reply.problems.map((p) => p.message).join("; ")}.`
-        : `The run-up could not be worked out: ${reply.error}`));
+      const ofRate = (reply.problems || []).filter((p) => p.path === "rate_rpm_s");
+      replaceChildren(els.out, h("p", { class: "msg is-problem" }, ofRate.length
+        ? `Ramp rate: ${ofRate.map((p) => p.message).join("; ")}.`
+        : reply.problems
+          ? `The run-up needs a rig without problems: ${reply.problems.map((p) => p.message).join("; ")}.`
+          : `The run-up could not be worked out: ${reply.error}`));
       return;
     }
     show(reply.result);
@@ -103,6 +106,9 @@ export function createRunupView(els, { engine, getRig }) {
         bad.length
           ? `Not met for ${bad.map((eq) => NAMES[eq].toLowerCase()).join(" and ")}: see below before you start the drive.`
           : `Every crossing stays within ×${n(result.factor)} at ${n(result.rate_rpm_s)} rpm/s.`),
+      result.rate_recommended
+        ? h("p", { "data-key": "recommended" }, `${n(result.rate_rpm_s)} rpm/s is the slowest ramp that keeps a disturbance of the hanging pendulum within ×${n(result.factor)} through every resonance on the way (the pendulum rests hanging while the drive runs up); ramp at least this fast.`)
+        : null,
       h("p", {}, `Run-up from ${n(result.start_rpm)} to ${n(result.end_rpm)} rpm at the stroke of `
         + `${n(stroke)} ${unit}; the run-down passes the same intervals in reverse, with the same growth at the same rate.`),
       all.length ? h("ol", { class: "crossings" }, all.map((c) => crossingItem(c, result)))

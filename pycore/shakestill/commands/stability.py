@@ -94,6 +94,22 @@ def _runup_arguments(p) -> None:
     _operating_point_options(p)
 
 
+def _rate_or_recommended(rig, rate, start, end, factor, field: str) -> tuple[float, bool]:
+    """The ramp rate given, else the slowest that keeps the hanging pendulum's growth through
+    every crossing under the factor (it rests hanging while the drive runs up and is raised
+    once at speed); (rate, whether it was recommended)."""
+    if rate is not None:
+        return rate, False
+    need = recommended_rate(rig, start_rpm=start, end_rpm=end, factor=factor,
+                            equilibria=("hanging",))
+    if not 0 < need < float("inf"):
+        raise RigError([Problem(field, "no resonance of the hanging pendulum is crossed "
+                                       "(any rate will do): give a rate" if need == 0 else
+                                       "no ramp rate keeps the growth under the factor: "
+                                       "give a rate to see the crossings")])
+    return need, True
+
+
 @command("runup", "resonances crossed while the speed ramps", _runup_arguments)
 def _cmd_runup(args) -> int:
     rig, _ = rig_of_args(args)
@@ -101,17 +117,7 @@ def _cmd_runup(args) -> int:
     start = quantity(args.start, "speed", "--from", minimum=0.0) or 0.0
     end = quantity(args.to, "speed", "--to", above=0.0)
     factor = quantity(args.factor, "plain", "--factor", above=1.0) or 10.0
-    recommended = rate is None
-    if recommended:
-        # the pendulum rests hanging while the drive runs up (it is raised once at speed)
-        need = recommended_rate(rig, start_rpm=start, end_rpm=end, factor=factor,
-                                equilibria=("hanging",))
-        if not 0 < need < float("inf"):
-            raise RigError([Problem("--rate", "no resonance of the hanging pendulum is crossed "
-                                              "(any rate will do): give --rate" if need == 0 else
-                                              "no ramp rate keeps the growth under the factor: "
-                                              "give --rate to see the crossings")])
-        rate = need
+    rate, recommended = _rate_or_recommended(rig, rate, start, end, factor, "--rate")
     result = runup(rig, rate_rpm_s=rate, start_rpm=start, end_rpm=end, factor=factor)
     result["rate_recommended"] = recommended
     if args.json:
@@ -160,14 +166,22 @@ def _op_point(request: dict) -> dict:
 @op("runup")
 def _op_runup(request: dict) -> dict:
     rig, _ = rig_of(request)
+    given = request.get("rate_rpm_s")  # none: recommend one, as `shakestill runup`
     try:
-        result = runup(rig, rate_rpm_s=float(request.get("rate_rpm_s", 0)),
-                       start_rpm=float(request.get("start_rpm", 0.0)),
-                       end_rpm=request.get("end_rpm"),
-                       factor=float(request.get("factor", 10.0)))
+        start = float(request.get("start_rpm", 0.0))
+        end, factor = request.get("end_rpm"), float(request.get("factor", 10.0))
+        given = None if given is None else float(given)
+        if not (factor > 1 and start >= 0):
+            raise ValueError(f"factor {factor!r} must be above 1 and start_rpm {start!r} at "
+                             "least 0")
     except (TypeError, ValueError) as exc:
         raise RigError([Problem("runup", str(exc))]) from None
-    result["rate_recommended"] = False  # as `shakestill runup --rate` (the page gives a rate)
+    rate, recommended = _rate_or_recommended(rig, given, start, end, factor, "rate_rpm_s")
+    try:
+        result = runup(rig, rate_rpm_s=rate, start_rpm=start, end_rpm=end, factor=factor)
+    except (TypeError, ValueError) as exc:
+        raise RigError([Problem("runup", str(exc))]) from None
+    result["rate_recommended"] = recommended
     return {"result": result, "report_text": runup_text(result, units_of(request))}
 
 

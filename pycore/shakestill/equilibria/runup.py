@@ -165,7 +165,7 @@ def crossings(rig: Rig | Model, equilibrium: str, start_rpm: float, end_rpm: flo
         simulated = (ramp_amplification(model, equilibrium, a, b, rate_rpm_s)
                      if cycles <= MAX_SIMULATED_CYCLES and integral / rate_rpm_s < MAX_LOG_GROWTH
                      else None)
-        min_rate = _min_rate(model, equilibrium, a, b, integral, factor, rate_rpm_s, simulated)
+        min_rate = _min_rate(model, equilibrium, a, b, integral, factor)
         out.append(Crossing(equilibrium, a, b, (b - a) / rate_rpm_s, frozen, cycles, peak,
                             min_rate, simulated))
     return out, probe.count + GAUSS_POINTS * len(intervals)
@@ -176,19 +176,21 @@ RATE_TOLERANCE = 0.02  # the minimum rate's growth lands within 2% under the fac
 
 
 def _min_rate(model: Model, equilibrium: str, a: float, b: float, integral: float,
-              factor: float, rate: float, simulated: float | None) -> float:
+              factor: float) -> float:
     """The slowest ramp through [a, b] whose simulated growth is at most ``factor``.
 
     ln(growth) is nearly I / R + ln(prefactor), a line in 1 / R; secant steps on it from the
-    simulation at ``rate``, kept inside the bracket of rates found too slow and fast enough.
-    Returns the slowest rate found fast enough (its growth within RATE_TOLERANCE under the
-    factor), or the frozen estimate corrected once where no ramp can be simulated."""
+    frozen estimate R = I / ln(factor), kept inside the bracket of rates found too slow and
+    fast enough. Returns the slowest rate found fast enough: its growth lands within
+    RATE_TOLERANCE under the factor where the growth is smooth in the rate; through a narrow
+    tongue crossed in a few cycles the growth wobbles with the rate and the search stops
+    after RATE_STEPS ramps. Else (no ramp can be simulated) the last rate tried. It depends
+    on the crossing alone, not on the rate a run-up is asked at."""
     if integral <= 0:
         return 0.0
     target = math.log(factor)
-    prefactor = max(math.log(simulated) - integral / rate, 0.0) if simulated else 0.0
-    guess = integral / (target - prefactor) if target > prefactor else 10.0 * rate
-    points = [(1 / rate, math.log(simulated))] if simulated else []
+    guess = integral / target
+    points: list[tuple[float, float]] = []
     slow, fast = 0.0, math.inf  # fastest rate found too slow, slowest found fast enough
     for _ in range(RATE_STEPS):
         cycles = (b * b - a * a) / 120.0 / guess
