@@ -11,6 +11,7 @@ compared to half a unit in their last printed digit.
 from __future__ import annotations
 
 import json
+import math
 import re
 import subprocess
 import sys
@@ -183,3 +184,16 @@ def test_fit_words_in_the_units_chosen():
     bad = json.loads(handle(json.dumps({"op": "fit", "rig": demo_rig_dict(), "units": "cubits",
                                         "log": "t_s,angle_deg\n0,1\n"})))
     assert not bad["ok"] and bad["problems"][0]["path"] == "units"
+
+
+def test_fit_start_that_rounds_to_zero_is_written_without_a_sign():
+    # A start angle or rate that rounds to zero at the printed digits is "0.000", never
+    # "-0.000" (common practice, no source): a fitted rate of -1e-9 rad/s from rest.
+    from shakestill.render.motion_report import fit_text
+    result = {"samples": 100, "iterations": 4, "simulations": 12, "converged": True,
+              "message": "", "rms_start_rad": 0.1, "rms_rad": 0.01, "parameters": [],
+              "initial_angles_rad": [math.pi - 1e-9], "initial_rates_rad_s": [-1e-9]}
+    words = fit_text(result, "hanging")
+    assert "angles 0.000 deg; rates 0.0000 rad/s" in words, words
+    result["initial_rates_rad_s"] = [-0.25]  # a real sign stays
+    assert "rates -0.2500 rad/s" in fit_text(result, "hanging")

@@ -34,8 +34,8 @@ def motion_text(motion, title: str = "") -> str:
         out.append("Events:")
         out.extend(f"  {e.t_s:9.4f} s  {e.kind:9s} {e.message}" for e in motion.events)
     q, w = motion.end_state[:n], motion.end_state[n:]
-    out.append("End: angles " + ", ".join(f"{math.degrees(x):.2f} deg" for x in q)
-               + "; rates " + ", ".join(f"{x:.3f} rad/s" for x in w))
+    out.append("End: angles " + ", ".join(f"{math.degrees(x):z.2f} deg" for x in q)
+               + "; rates " + ", ".join(f"{x:z.3f} rad/s" for x in w))
     return "\n".join(out + _safety()) + "\n"
 
 
@@ -176,9 +176,9 @@ def fit_text(result: dict, reference: str = "inverted", units: str = "metric") -
     zero = math.pi if reference == "hanging" else 0.0
     where = "the hanging position" if reference == "hanging" else "the upward vertical"
     out.append(f"Start of the run (fitted, from {where}, the log's zero): angles "
-               + ", ".join(f"{math.degrees(_wrapped(q - zero)):.3f} deg"
+               + ", ".join(f"{math.degrees(_wrapped(q - zero)):z.3f} deg"
                            for q in result["initial_angles_rad"])
-               + "; rates " + ", ".join(f"{w:.4f} rad/s" for w in result["initial_rates_rad_s"]))
+               + "; rates " + ", ".join(f"{w:z.4f} rad/s" for w in result["initial_rates_rad_s"]))
     out.append("A fit describes this run: check the fitted rig against another logged run "
                "before relying on it.")
     return "\n".join(out + _safety()) + "\n"
