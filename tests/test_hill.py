@@ -75,3 +75,56 @@ def test_needed_harmonics_keeps_the_trace():
     keep = needed_harmonics(theta0, theta, R, tol=1e-12)
     assert keep < len(theta)
     assert abs(hill_trace(theta0, theta[:keep], R) - hill_trace(theta0, theta, R)) <= 1e-12 * 2
+
+
+@pytest.fixture(scope="module")
+def falling_traces():
+    # theta_k = 0.8 * 0.3^k, k = 1..8, theta0 = 2.3: the trace with the first k harmonics,
+    # k = 1..8, by scipy.integrate.solve_ivp (DOP853, 1e-13), independent of Hill's determinant.
+    theta0, theta = 2.3, tuple(0.8 * 0.3 ** k for k in range(1, 9))
+    return theta0, theta, [None] + [trace_by_integration(theta0, theta[:k]) for k in range(1, 9)]
+
+
+@pytest.mark.parametrize("tol", [1e-3, 1e-4, 1e-5, 1e-6, 1e-7, 1e-8, 1e-9])
+def test_needed_harmonics_is_the_fewest(falling_traces, tol):
+    # The documented rule by hand on the solve_ivp traces: the fewest leading harmonics whose
+    # trace is within tol * max(1, |full|) of the full trace. The traces' steps (2.7e-4,
+    # 4.4e-5, 2.5e-6, 1.5e-7, 9.9e-9, 6.6e-10, 4.3e-11) lie at least 1.5x from every tol,
+    # far above solve_ivp's and Hill's own errors (~1e-11), so the answer is sharp.
+    theta0, theta, traces = falling_traces
+    full = traces[8]
+    want = min(k for k in range(1, 9) if abs(traces[k] - full) <= tol * max(1.0, abs(full)))
+    R = default_truncation(theta0, theta)
+    assert needed_harmonics(theta0, theta, R, tol=tol) == want
+
+
+@pytest.mark.parametrize("most", [2, 3, 5])
+@pytest.mark.parametrize("tol", [1e-4, 1e-5, 1e-6])
+def test_needed_harmonics_with_a_ceiling(falling_traces, most, tol):
+    # With most < H the documented rule: None when harmonic most + 1 still moves the trace by
+    # more than tol (relative to max(1, |trace|)); else the fewest k <= most within tol of the
+    # trace with most + 1 harmonics (the rest fall), or None when none is. Hand rule on the
+    # solve_ivp traces.
+    theta0, theta, traces = falling_traces
+    over = traces[most + 1]
+    scale = tol * max(1.0, abs(over))
+    if abs(traces[most] - over) > scale:
+        want = None
+    else:
+        want = min((k for k in range(1, most + 1) if abs(traces[k] - over) <= scale), default=None)
+    R = default_truncation(theta0, theta)
+    assert needed_harmonics(theta0, theta, R, tol=tol, most=most) == want
+
+
+@pytest.mark.parametrize("theta0, theta", [
+    (-2e-9, (0.3,)),       # row 0 special, theta0 < 0: sinh(pi x/2)/x by its series (x < 1e-4)
+    (2e-9, (0.3,)),        # the same with theta0 > 0: sin(pi x/2)/x by its series
+    (3.999999997, (0.3,)),  # rows +-1 special, eps = x - 2 under 1e-4: the series again
+    (1.7, (0.3, 1e-9)),    # two harmonics whose three-cycles all fall below the floor
+])
+def test_trace_next_to_the_poles(theta0, theta):
+    # Against scipy.integrate.solve_ivp (DOP853, 1e-13), which agrees with Hill's trace here
+    # to about 1e-13; tolerance 1e-11, tighter than the series' leading term (x^2/6 ~ 1e-9)
+    # would allow if it were wrong.
+    R = default_truncation(theta0, theta)
+    assert abs(hill_trace(theta0, theta, R) - trace_by_integration(theta0, theta)) < 1e-11
