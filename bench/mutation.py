@@ -114,6 +114,21 @@ EQUIVALENT.update({
     _L + "x_cycle_forces__mutmut_195": "as mutmut_194 (the unread row key renamed)",
 })
 
+# numerics/hill.py and equilibria/floquet.py (issue 12, third pass)
+_H = "shakestill.numerics.hill.x_"
+_FIRST = ("the first row of the recurrence sets f_prev, f and prev_scale before any is read "
+          "(the `first` branch), so their starting values are never read")
+EQUIVALENT.update({
+    _H + "_continuant__mutmut_3": "|c|^2 as (c * conj c).real for a real c too: float.conjugate() "
+                                  "is the float itself and float.real is itself, so c * c exactly",
+    _H + "_continuant__mutmut_7": _FIRST,
+    _H + "_continuant__mutmut_8": _FIRST,
+    _H + "_continuant__mutmut_9": _FIRST,
+    _H + "_continuant__mutmut_33": "first = None for False: both are false for the `if first`",
+    _H + "_sinhc__mutmut_9": "abs(x) <= 1e-4 for <: at x = 1e-4 exactly the series 1 + x^2/6 and "
+                             "sinh(x)/x differ by x^4/120 ~ 1e-18, below one rounding of 1.0",
+})
+
 
 def stage(modules: list[str], tests: list[str]) -> None:
     if STAGE.exists():
@@ -144,6 +159,18 @@ def staged_tests() -> list[str] | None:
     if not conf.is_file():
         return None
     return tomllib.loads(conf.read_text())["tool"]["mutmut"]["pytest_add_cli_args_test_selection"]
+
+
+def add_tests(staged: list[str], more: list[str]) -> list[str]:
+    """The staged run's test files and ``more`` (mutmut finds the new tests and maps them)."""
+    tests = staged + [t for t in more if t not in staged and (TOP / t).is_file()]
+    if tests != staged:
+        conf = STAGE / "pyproject.toml"
+        args = ", ".join(f'"{t}"' for t in tests)
+        conf.write_text(re.sub(r"(?m)^pytest_add_cli_args_test_selection = \[.*\]$",
+                               f"pytest_add_cli_args_test_selection = [{args}]",
+                               conf.read_text()))
+    return tests
 
 
 def results() -> dict[str, str]:
@@ -214,7 +241,9 @@ def report(tests: list[str] | None = None) -> int:
 def main() -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--modules", nargs="+", default=MODULES, help="paths under pycore/shakestill")
-    ap.add_argument("--tests", nargs="+", default=TESTS)
+    ap.add_argument("--tests", nargs="+", default=None,
+                    help="test files (default: TESTS); with --survivors/--resume they join "
+                         "the staged run's files")
     ap.add_argument("--jobs", type=int, default=2, help="mutmut --max-children (default 2)")
     ap.add_argument("--report", action="store_true", help="only print the last run's results")
     ap.add_argument("--survivors", action="store_true",
@@ -226,14 +255,17 @@ def main() -> int:
         return report(staged_tests())
     names: list[str] = []
     if a.survivors or a.resume:  # new tests: copy them in; re-test the survivors, or carry on
-        names = sorted(k for k, s in results().items() if s == "survived") if a.survivors else []
-        a.tests = staged_tests() or a.tests
+        # the survivors and the mutants no test reached (a new test file may reach them now)
+        names = sorted(k for k, s in results().items()
+                       if s in ("survived", "no tests")) if a.survivors else []
+        a.tests = add_tests(staged_tests() or TESTS, a.tests or [])
         for where in (STAGE / "tests", STAGE / "mutants" / "tests"):
             shutil.copytree(TOP / "tests", where, dirs_exist_ok=True,
                             ignore=shutil.ignore_patterns("__pycache__", "browser"))
         if a.survivors and not names:
             return report(a.tests)
     else:
+        a.tests = a.tests or TESTS
         stage(a.modules, a.tests)
     env = {k: v for k, v in os.environ.items() if k != "PYTHONPATH"}  # mutmut's src/ only
     env["PYTHONPATH"] = str(STAGE / "tests")  # the tests' own helpers (refsolvers)

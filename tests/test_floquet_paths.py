@@ -238,3 +238,15 @@ def test_one_harmonic_with_a_phase_is_mathieus():
     a = mathieu_a(1, q)
     theta = (-q * complex(math.cos(0.7), math.sin(0.7)),)
     assert abs(hill_trace(a, theta, default_truncation(a, theta)) + 2.0) < 1e-8
+
+
+@pytest.mark.parametrize("eq", ["inverted", "hanging"])
+def test_one_link_harmonics_setting_keeps_the_first(eq):
+    # As above for one link by Hill's determinant: one harmonic of the crank is the sine
+    # drive of the same stroke; numpy.linalg.eigvals of the sine rig's solve_ivp monodromy,
+    # 1e-7 relative.
+    crank = ref.rig([ref.link(0.30, 0.05, [(0.02, 0.30)])], ref.crank(0.02, 0.06, 2400.0))
+    res = ss.stability(ss.rig_from_dict(crank), eq, settings=Settings(harmonics=1))
+    assert res.method == "hill" and res.work["harmonics"] == 1
+    want = reference(one_link(0.0), eq)
+    assert ref.same_multipliers(res.multipliers, want, 1.0) <= MULT_REL
