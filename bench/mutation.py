@@ -127,6 +127,7 @@ EQUIVALENT.update({
     _H + "_continuant__mutmut_33": "first = None for False: both are false for the `if first`",
     _H + "_sinhc__mutmut_9": "abs(x) <= 1e-4 for <: at x = 1e-4 exactly the series 1 + x^2/6 and "
                              "sinh(x)/x differ by x^4/120 ~ 1e-18, below one rounding of 1.0",
+    _H + "_sinc__mutmut_9": "abs(x) <= 1e-4 for <: as _sinhc's (1 - x^2/6 and sin(x)/x)",
 })
 
 
