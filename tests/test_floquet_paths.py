@@ -44,7 +44,7 @@ def test_rk_trace_with_fixed_steps(eq, damping):
     res = ss.stability(ss.rig_from_dict(data), eq, settings=Settings(method="monodromy", steps=60),
                        verify=False)
     want = reference(data, eq)
-    assert res.method == "monodromy" and res.work == {"steps": 60}
+    assert res.method == "monodromy" and res.work == {"steps": 60} and res.equilibrium == eq
     assert ref.same_multipliers(res.multipliers, want, 1.0) <= MULT_REL
     top = max(abs(want))
     assert abs(res.max_multiplier - top) <= 1e-8 * max(1.0, top)
@@ -53,6 +53,11 @@ def test_rk_trace_with_fixed_steps(eq, damping):
         # margin = |trace of u| - 2 cosh(gamma T) has the verdict's sign (hand rule from
         # rho_1 rho_2 = exp(-2 gamma T)): negative exactly when stable
         assert (res.margin < 0) == res.stable
+        # and its value: the trace of u = exp(gamma t) q is exp(gamma T) tr(monodromy), gamma
+        # = c / (2 I) with I about the pivot (refsolvers.properties); solve_ivp's trace, 1e-7
+        gamma_T = damping / (2 * ref.properties(data)["inertia_about_pivot_kg_m2"]) / F_HZ
+        trace_u = math.exp(gamma_T) * np.trace(ref.monodromy(data, eq))
+        assert res.margin == pytest.approx(abs(trace_u) - 2 * math.cosh(gamma_T), abs=1e-7)
 
 
 @pytest.mark.parametrize("eq", ["inverted", "hanging"])
@@ -88,6 +93,9 @@ def test_modal_rk_with_damping_is_the_modes_prediction(eq):
     data = two_links((2e-4, 1e-4))
     res = ss.stability(ss.rig_from_dict(data), eq, settings=Settings(method="modal", steps=80),
                        verify=False)
+    assert res.equilibrium == eq and res.method == "hill (sway modes)"
+    # the verdict's sign rule: margin < 0 exactly when every multiplier is inside the circle
+    assert (res.margin < 0) == (res.max_multiplier < 1)
     prod = np.prod(np.asarray(res.multipliers))
     want = np.linalg.det(ref.monodromy(data, eq))
     assert abs(prod / want - 1) < 1e-9
@@ -122,6 +130,10 @@ def test_sway_frequencies_from_multipliers():
     rhos = [0.9 * complex(math.cos(a), s * math.sin(a)) for a in (1.1, 0.3) for s in (1, -1)]
     got = sway_frequencies_hz(rhos, 40.0)
     assert got == pytest.approx((0.3 / (2 * math.pi) * 40, 1.1 / (2 * math.pi) * 40), rel=1e-12)
+    # three pairs (three links): 0.2, 0.3, 1.1 rad, one frequency each
+    rhos += [complex(math.cos(0.2), s * math.sin(0.2)) for s in (1, -1)]
+    got = sway_frequencies_hz(rhos, 40.0)
+    assert got == pytest.approx(tuple(a / (2 * math.pi) * 40 for a in (0.2, 0.3, 1.1)), rel=1e-12)
 
 
 def test_two_link_sway_modes_match_eigvals():
