@@ -1,6 +1,7 @@
 """The command line, the bridge, share links and unit parsing, as a user meets them."""
 
 import json
+import math
 import subprocess
 import sys
 
@@ -38,13 +39,31 @@ def test_check_overrides_take_units():
 
 @pytest.mark.parametrize("args, field", [
     (("check", "--speed", "-5rpm"), "--speed"),
+    (("check", "--stroke", "-5mm"), "--stroke"),
     (("check", "--stroke", "25 furlongs"), "--stroke"),
     (("runup", "--rate", "0rpm/s"), "--rate"),
+    (("runup", "--rate", "-.5rpm/s"), "--rate"),
 ])
 def test_bad_options_name_the_field_and_exit_2(args, field):
+    # the option, the value as typed and what is allowed (not argparse's "expected one
+    # argument" for a value that starts with a minus sign)
     out = run_cli(*args)
     assert out.returncode == 2
-    assert field in out.stderr and "Traceback" not in out.stderr
+    assert f"{field}: {args[-1]!r} is not allowed" in out.stderr, out.stderr
+    assert "expected one argument" not in out.stderr and "Traceback" not in out.stderr
+
+
+def test_a_negative_value_after_its_option_is_read_as_a_value(capsys):
+    # `--angle -10deg` is the same request as `--angle=-10deg`: the same JSON, to the bit
+    from shakestill.cli import main
+    outs = []
+    for angle in (["--angle", "-10deg"], ["--angle=-10deg"]):
+        assert main(["simulate", "--json", "--duration", "0.05s", *angle]) == 0
+        outs.append(json.loads(capsys.readouterr().out))
+    assert outs[0] == outs[1]
+    # the start angle, from the upward vertical, is -10 deg (the rig file's convention)
+    assert outs[0]["strobe"]["t_s"][0] == 0.0
+    assert outs[0]["strobe"]["angles_rad"][0][0] == pytest.approx(math.radians(-10), abs=1e-12)
 
 
 def test_bad_rig_file_lists_every_problem(tmp_path):

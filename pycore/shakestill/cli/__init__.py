@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import argparse
 import os
+import re
 import sys
 
 from ..model.version import VERSION as __version__
@@ -28,8 +29,23 @@ def parser() -> argparse.ArgumentParser:
     return p
 
 
+NEGATIVE = re.compile(r"-\.?\d")  # "-5mm", "-10deg", "-.5in": a value, never an option
+
+
+def glue_negative_values(argv: list[str]) -> list[str]:
+    """``--angle -10deg`` as ``--angle=-10deg``: argparse takes a token that starts with "-"
+    and is not a bare number for an option, and says "expected one argument"."""
+    out: list[str] = []
+    for token in argv:
+        if (out and NEGATIVE.match(token) and out[-1].startswith("--") and "=" not in out[-1]):
+            out[-1] = f"{out[-1]}={token}"
+        else:
+            out.append(token)
+    return out
+
+
 def main(argv=None) -> int:
-    args = parser().parse_args(argv)
+    args = parser().parse_args(glue_negative_values(sys.argv[1:] if argv is None else list(argv)))
     try:
         return args.func(args)
     except RigError as exc:
