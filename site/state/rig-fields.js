@@ -5,16 +5,16 @@ export const GENERAL_FIELDS = {
   title: { label: "Rig name", hint: "Shown on the report and used for file names." },
   g_m_s2: {
     label: "Gravity",
-    hint: "Blank means standard gravity, 9.80665 m/s2. Units: m/s2, ft/s2, g.",
+    hint: "Blank means standard gravity, 9.80665 m/s2. Units: m/s2, g, ft/s2, in/s2.",
   },
 };
 
 export const LINK_FIELDS = {
-  length_m: { label: "Length", hint: "Joint to far end. Units: m, cm, mm, in, ft." },
+  length_m: { label: "Length", hint: "Joint to far end. Units: m, cm, mm, um, in, ft." },
   rod_mass_kg: { label: "Rod mass", hint: "The link's own mass, spread along it. Units: kg, g, lb, oz." },
   extra_inertia_kg_m2: {
     label: "Extra inertia",
-    hint: "About the link's centre of mass. Units: kg m2, kg cm2, g cm2, lb in2. Blank is 0.",
+    hint: "About the link's centre of mass. Units: kg m2, kg cm2, g cm2, lb in2, lb ft2, oz in2. Blank is 0.",
   },
   joint_damping_N_m_s: {
     label: "Joint damping",
@@ -22,13 +22,13 @@ export const LINK_FIELDS = {
   },
   joint_friction_N_m: {
     label: "Joint friction",
-    hint: "Dry friction torque at the joint. Units: N m, mN m, lbf in, ozf in. Blank is 0.",
+    hint: "Dry friction torque at the joint. Units: N m, mN m, lbf in, lbf ft, ozf in. Blank is 0.",
   },
 };
 
 export const MASS_FIELDS = {
   mass_kg: { label: "Mass", hint: "Units: kg, g, lb, oz." },
-  at_m: { label: "Sits at", hint: "Distance from this link's joint. Units: m, cm, mm, in, ft." },
+  at_m: { label: "Sits at", hint: "Distance from this link's joint. Units: m, cm, mm, um, in, ft." },
 };
 
 export const WAVEFORM_NAMES = {
@@ -39,19 +39,19 @@ export const WAVEFORM_NAMES = {
 
 export const DRIVE_FIELDS = {
   waveform: { label: "Waveform", hint: "How the pivot moves over one drive revolution." },
-  stroke_m: { label: "Stroke", hint: "Top to bottom of the pivot's travel. Units: m, cm, mm, in, ft." },
+  stroke_m: { label: "Stroke", hint: "Top to bottom of the pivot's travel. Units: m, cm, mm, um, in, ft." },
   stroke_m_samples: {
     label: "Stroke (optional)",
-    hint: "Scales the samples to this stroke; blank keeps them as given. Units: m, cm, mm, in, ft.",
+    hint: "Scales the samples to this stroke; blank keeps them as given. Units: m, cm, mm, um, in, ft.",
   },
   rod_length_m: {
     label: "Connecting rod",
-    hint: "Crank pin to wrist pin; longer than half the stroke. Units: m, cm, mm, in, ft.",
+    hint: "Crank pin to wrist pin; longer than half the stroke. Units: m, cm, mm, um, in, ft.",
   },
   samples_m: {
     label: "Samples",
     hint: "Pivot height over one cycle at equal steps, separated by commas or line breaks; "
-      + "at least 8. Each may carry its unit: m, cm, mm.",
+      + "at least 8. Each may carry its unit. Units: m, cm, mm, um, in, ft.",
   },
   speed_rpm: {
     label: "Speed",
@@ -65,7 +65,7 @@ export const DRIVE_FIELDS = {
   side_stroke_m: {
     label: "Side stroke",
     hint: "Sideways travel of the pivot at the drive frequency (an elliptical path), side to side. "
-      + "Units: m, mm, in. Blank is 0.",
+      + "Units: m, cm, mm, um, in, ft. Blank is 0.",
   },
   side_phase_deg: {
     label: "Side phase",
@@ -78,13 +78,13 @@ export const PATH_KEYS = ["axis_tilt_deg", "side_stroke_m", "side_phase_deg"];
 
 export const LIMIT_FIELDS = {
   speed_rpm: { label: "Speed range", hint: "What the motor can do. Units: rpm (r/min), Hz, rad/s." },
-  stroke_m: { label: "Stroke range", hint: "What the mechanism can be set to. Units: m, cm, mm, in, ft." },
+  stroke_m: { label: "Stroke range", hint: "What the mechanism can be set to. Units: m, cm, mm, um, in, ft." },
 };
 
 export const LEAN_LIMIT_FIELD = {
   label: "Largest lean",
   hint: "The lean of the held pendulum you accept when the drive is off vertical; the tilt "
-    + "tolerance is the tilt that reaches it. Units: deg. Blank is 5 deg.",
+    + "tolerance is the tilt that reaches it. Units: deg, rad. Blank is 5 deg.",
 };
 
 /** "links[1].point_masses[0].at_m" -> "Link 2, point mass 1, sits at": for the problem list. */

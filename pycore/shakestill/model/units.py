@@ -28,11 +28,11 @@ UNITS: dict[str, dict[str, float]] = {
     "speed": {"rpm": 1.0, "r/min": 1.0, "rev/min": 1.0, "1/min": 1.0, "hz": 60.0,
               "rev/s": 60.0, "rps": 60.0, "rad/s": RPM_PER_RAD_S},
     "inertia": {"kg m2": 1.0, "kg*m2": 1.0, "kg m^2": 1.0, "kg*m^2": 1.0,
-                "g cm2": 1e-7, "g*cm2": 1e-7, "g cm^2": 1e-7, "kg cm^2": 1e-4, "kg cm2": 1e-4,
-                "lb in^2": POUND * INCH ** 2, "lb in2": POUND * INCH ** 2,
-                "lb*in^2": POUND * INCH ** 2, "lb ft^2": POUND * FOOT ** 2,
-                "lb ft2": POUND * FOOT ** 2, "oz in^2": OUNCE * INCH ** 2,
-                "oz in2": OUNCE * INCH ** 2},
+                "kg cm2": 1e-4, "kg cm^2": 1e-4, "g cm2": 1e-7, "g*cm2": 1e-7, "g cm^2": 1e-7,
+                "lb in2": POUND * INCH ** 2, "lb in^2": POUND * INCH ** 2,
+                "lb*in^2": POUND * INCH ** 2, "lb ft2": POUND * FOOT ** 2,
+                "lb ft^2": POUND * FOOT ** 2, "oz in2": OUNCE * INCH ** 2,
+                "oz in^2": OUNCE * INCH ** 2},
     "damping": {"n m s": 1.0, "n*m*s": 1.0, "nms": 1.0, "n m s/rad": 1.0,
                 "lbf in s": POUND_FORCE * INCH, "lbf*in*s": POUND_FORCE * INCH},
     "torque": {"n m": 1.0, "n*m": 1.0, "nm": 1.0, "mn m": 1e-3, "mnm": 1e-3,
@@ -57,6 +57,10 @@ UNITS: dict[str, dict[str, float]] = {
     "plain": {"": 1.0},
 }
 
+# How the lower-case spellings above are written for people (SI symbols keep their case).
+SHOWN = {"hz": "Hz", "n m s": "N m s", "n m": "N m", "mn m": "mN m", "n": "N", "kn": "kN",
+         "w": "W", "kw": "kW", "hz/s": "Hz/s"}
+
 _NUMBER = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
 
 
@@ -65,12 +69,13 @@ class UnitError(ValueError):
 
 
 def allowed_units(kind: str) -> str:
-    """The units accepted for ``kind``, one spelling each, for messages and hints."""
+    """The units accepted for ``kind``, one spelling each as people write it, for messages
+    and the page's hints (tests/browser/test_unit_hints.py holds the hints to it)."""
     seen, names = set(), []
     for spelling, factor in UNITS[kind].items():
         if spelling and factor not in seen:
             seen.add(factor)
-            names.append(spelling)
+            names.append(SHOWN.get(spelling, spelling))
     return ", ".join(names)
 
 
