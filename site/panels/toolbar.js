@@ -102,6 +102,29 @@ export function wireToolbar($, page) {
   window.addEventListener("beforeprint", () => {
     const draft = getDraft();
     const when = new Date().toLocaleString(undefined, { dateStyle: "medium", timeStyle: "short" });
-    $("print-stamp").textContent = `Printed ${when}. Rig: ${(draft && draft.title) || "(untitled)"}.`;
+    const left = markEarlierResults($("print-earlier").checked);
+    $("print-stamp").textContent = `Printed ${when}. Rig: ${(draft && draft.title) || "(untitled)"}.`
+      + (left ? ` ${left} result${left === 1 ? "" : "s"} of an earlier rig left out.` : "");
   });
+  window.addEventListener("afterprint", () => {
+    for (const el of document.querySelectorAll("[data-earlier]")) delete el.dataset.earlier;
+  });
+}
+
+// The results a panel keeps after the rig changed (data-state "stale"): they are of an
+// earlier rig. The map has its own "incomplete" words (print.css).
+const EARLIER_RESULTS = "#check-report, #plan-result, #runup-result, #lean-chart, #loads-result, "
+  + "#basin-map, #fit-result";
+
+/** Mark each result of an earlier rig for print; returns how many are left out. */
+function markEarlierResults(keep) {
+  document.documentElement.classList.toggle("print-earlier", keep);
+  const earlier = [...document.querySelectorAll(EARLIER_RESULTS)]
+    .filter((el) => el.dataset.state === "stale");
+  for (const el of earlier) {
+    el.dataset.earlier = keep
+      ? "From an earlier rig: worked out before the last change to the sheet, not for the sheet as printed."
+      : "Left out: this was worked out for an earlier rig (work it out again, or tick \u201cPrint results of an earlier rig too\u201d).";
+  }
+  return keep ? 0 : earlier.length;
 }
