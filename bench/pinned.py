@@ -6,7 +6,7 @@ module's last run), branch coverage of the engine, and the last measured CI time
 Prints what the measuring scripts recorded under bench/figures/ (it measures nothing):
 `bench/mutation.py` writes mutation/<module>.json after each run (or with --report),
 `build_scripts/coverage.sh` writes coverage.json, `build_scripts/test.sh` writes
-ci_time.json. A module with no record says so.
+ci_time.json when run with SHAKESTILL_RECORD_CI_TIME=1 (never on an ordinary run). A module with no record says so.
 """
 
 from __future__ import annotations
@@ -62,10 +62,12 @@ def coverage_lines() -> list[str]:
 def ci_lines() -> list[str]:
     rec = _read(FIGURES / "ci_time.json")
     if not rec:
-        return ["CI time: not measured (time bash build_scripts/test.sh)"]
+        return ["CI time: not measured (SHAKESTILL_RECORD_CI_TIME=1 CI=true bash .ci/run)"]
     s = int(rec["wall_s"])
+    load = (f", load average {rec['load_start']} at the start, {rec['load_end']:.2f} at the end"
+            if "load_start" in rec and "load_end" in rec else "")
     return ([f"CI time (build_scripts/test.sh): {s // 60} min {s % 60} s wall, "
-             f"{rec['workers']} workers, exit code {rec['exit']} ({rec['date']})"]
+             f"{rec['workers']} workers, exit code {rec['exit']} ({rec['date']}{load})"]
             + ([f"  {rec['note']}"] if rec.get("note") else []))
 
 

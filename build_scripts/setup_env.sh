@@ -16,21 +16,20 @@ python -m pip install --quiet --upgrade pip
 python -m pip install --quiet -e ".[test]"
 
 # Node.js runs the Pyodide pass of the tests and the site's bundler; a fresh machine of this
-# project's kind has it, another one gets Debian's.
-if ! command -v node >/dev/null 2>&1 && command -v apt-get >/dev/null 2>&1; then
+# project's kind has it, another one gets Debian's. Chromium is Debian's too (the page tests).
+# Whatever is missing comes in one apt-get run (one package-list update, not one per package).
+apt_wanted=()
+if ! command -v node >/dev/null 2>&1; then apt_wanted+=(nodejs npm); fi
+if [ "${SHAKESTILL_NO_BROWSER:-}" != "1" ] && ! command -v chromium >/dev/null 2>&1; then
+  apt_wanted+=(chromium)
+fi
+if [ "${#apt_wanted[@]}" -gt 0 ] && command -v apt-get >/dev/null 2>&1; then
   apt-get update -qq
-  DEBIAN_FRONTEND=noninteractive apt-get install -y -qq nodejs npm >/dev/null
+  DEBIAN_FRONTEND=noninteractive apt-get install -y -qq "${apt_wanted[@]}" >/dev/null
 fi
 
 if [ -f package.json ]; then
   if [ ! -d node_modules ] || [ package-lock.json -nt node_modules ]; then
     npm ci --no-audit --no-fund --loglevel=error
-  fi
-fi
-
-if [ "${SHAKESTILL_NO_BROWSER:-}" != "1" ] && ! command -v chromium >/dev/null 2>&1; then
-  if command -v apt-get >/dev/null 2>&1; then
-    apt-get update -qq
-    DEBIAN_FRONTEND=noninteractive apt-get install -y -qq chromium >/dev/null
   fi
 fi

@@ -12,9 +12,22 @@ if [ -f build_scripts/build_site.py ]; then
 fi
 # pytest-xdist: whole test files per worker (module fixtures built once). Two workers by
 # default, one per core of a CI machine; SHAKESTILL_TEST_WORKERS=0 runs serially.
-# The wall time of the whole run (set-up, build, tests) goes to bench/figures/ci_time.json
-# for bench/pinned.py.
+# With SHAKESTILL_RECORD_CI_TIME=1 the wall time of the whole run (set-up, build, tests) and
+# the load averages at its start and end go to bench/figures/ci_time.json for bench/pinned.py
+# (SHAKESTILL_CI_NOTE adds a note); without it the tracked record is left alone, so a
+# developer's run never dirties the tree.
+load_start="$(cut -d' ' -f1 /proc/loadavg 2>/dev/null || echo null)"
 python -m pytest -n "${SHAKESTILL_TEST_WORKERS:-2}" --dist loadfile "$@" || status=$?
-printf '{"date": "%s", "wall_s": %d, "workers": "%s", "exit": %d}\n' "$(date -u +%F)" \
-  "$SECONDS" "${SHAKESTILL_TEST_WORKERS:-2}" "${status:-0}" > bench/figures/ci_time.json
+if [ "${SHAKESTILL_RECORD_CI_TIME:-}" = "1" ]; then
+  python - "$SECONDS" "${SHAKESTILL_TEST_WORKERS:-2}" "${status:-0}" "$load_start" <<'PY'
+import json, os, sys, time
+wall, workers, code, load_start = sys.argv[1:]
+rec = {"date": time.strftime("%Y-%m-%d", time.gmtime()), "wall_s": int(wall), "workers": workers,
+       "exit": int(code), "load_start": float(load_start), "load_end": os.getloadavg()[0]}
+if os.environ.get("SHAKESTILL_CI_NOTE"):
+    rec["note"] = os.environ["SHAKESTILL_CI_NOTE"]
+with open("bench/figures/ci_time.json", "w") as f:
+    f.write(json.dumps(rec) + "\n")
+PY
+fi
 exit "${status:-0}"

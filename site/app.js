@@ -23,7 +23,7 @@ import { wireToolbar } from "./panels/toolbar.js";
 import { wireUnits } from "./panels/units-view.js";
 import { wireSheetDrawer } from "./panels/sheet-drawer.js";
 import { markTerms } from "./panels/terms.js";
-import { displayUnits } from "./state/units.js";
+import { displayUnits, setDisplayUnits } from "./state/units.js";
 
 // First of all: the engine's start-up takes seconds and needs nothing from the page.
 const startWorker = startEngineWorkerEarly(policy);
@@ -128,3 +128,29 @@ wireUnits(document.querySelectorAll('input[name="units"]'), () => {
 
 registerServiceWorker({ chip, notice, policy });
 window.addEventListener("pagehide", rig.save);
+
+// Automated page tests only (navigator.webdriver is true under Playwright, never for a
+// person): the page as on a first visit to the demo rig, without starting Python again, so a
+// test module boots the engine once (tests/browser/conftest.py `demo_page`). Cleared: storage,
+// the panels' inputs (back to the page's own defaults), open dialogs, the notice, the units,
+// the undo history; then the demo rig is loaded and checked as on a first visit.
+if (navigator.webdriver) {
+  window.shakestillResetForTests = async () => {
+    localStorage.clear();
+    sessionStorage.clear();
+    for (const dialog of document.querySelectorAll("dialog[open]")) dialog.close();
+    hideNotice();
+    setDisplayUnits("metric");
+    for (const el of document.querySelectorAll("[data-keep]")) {
+      if (el.type === "radio" || el.type === "checkbox") el.checked = el.defaultChecked;
+      else if (el.tagName === "SELECT") for (const o of el.options) o.selected = o.defaultSelected;
+      else el.value = el.defaultValue;
+      el.dispatchEvent(new Event(el.tagName === "SELECT" || el.type === "radio" || el.type === "checkbox"
+        ? "change" : "input", { bubbles: true }));
+    }
+    localStorage.clear(); // the panels' inputs just saved themselves again
+    report.pending();
+    rig.forget();
+    await opening.loadDemo(false);
+  };
+}

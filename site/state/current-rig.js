@@ -134,6 +134,20 @@ export function createCurrentRig(screen) {
       settle();
     },
 
+    /** No rig, no undo history, no last check: the state of a first visit before the demo
+     * loads (the page's reset for tests, see app.js; storage is cleared by the caller). */
+    forget() {
+      rig.draft = null;
+      rig.preview = null;
+      rig.view = { v: 1, focus: "pendulum" };
+      history.past = [];
+      history.future = [];
+      history.lastPath = null;
+      checked = null;
+      screen.preview(false);
+      settle();
+    },
+
     undo: () => travel(history.past, history.future),
     redo: () => travel(history.future, history.past),
 

@@ -2,6 +2,14 @@
 Chromium driven by Playwright (never a downloaded browser), every request the
 browser makes recorded, and screenshots saved to test-artifacts/.
 
+Booting Pyodide is the slow part of a page test, so most tests take `demo_page`: one page per
+test module (booted once, at a laptop viewport) reset before each test to a first visit of the
+demo rig (`pagekit.reset_page`: storage, panel inputs, dialogs, notice, units and undo history
+cleared, the demo checked again) without starting the engine again. A test that needs a cold
+boot (start-up states, the cached verdict before the engine, a restored snapshot, a link opened
+on a fresh page, the offline file, its own viewport or context options) takes `page` or
+`new_context` and says why beside it.
+
 Missing prerequisites (dist/ not built, no Chromium, no Playwright) skip these
 tests locally with the reason; with CI=true they fail instead.
 """
@@ -13,7 +21,7 @@ from pathlib import Path
 
 import pytest
 
-from pagekit import CHROMIUM, CHROMIUM_ARGS, LAPTOP, OFFLINE, SITE, TOP
+from pagekit import CHROMIUM, CHROMIUM_ARGS, LAPTOP, OFFLINE, SITE, TOP, open_page, reset_page
 from prereq import missing
 
 
@@ -125,3 +133,29 @@ def context(new_context):
 @pytest.fixture
 def page(context):
     return context.new_page()
+
+
+@pytest.fixture(scope="module")
+def _module_page(browser, server):
+    context = browser.new_context(viewport=LAPTOP, accept_downloads=True)
+    context.recorder = Recorder()
+    context.recorder.attach(context)
+    page = context.new_page()
+    open_page(page, server.url)
+    page.evaluate("() => { window.shakestillDemoPage = true; }")  # see pagekit.reset_page
+    page.used = False
+    yield page
+    context.close()
+
+
+@pytest.fixture
+def demo_page(_module_page, server):
+    """The module's booted page, as on a first visit to the demo rig with its check done
+    (see the module's docstring). Its context's recorder starts empty for each test."""
+    page = _module_page
+    if page.used:
+        reset_page(page, server.url)
+    page.used = True
+    page.context.recorder.urls.clear()
+    page.context.recorder.errors.clear()
+    return page

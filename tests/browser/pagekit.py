@@ -58,6 +58,28 @@ def open_page(page, url: str) -> dict:
     return wait_for_result(page, timeout=BOOT_TIMEOUT_MS)
 
 
+def reset_page(page, url: str) -> dict:
+    """Back to a first visit of the demo rig at `url` without booting the engine again (the
+    page's `shakestillResetForTests`, see site/app.js), its check done; return the result.
+    A page that is no longer the document this function (or a first open) left, say one the
+    test reloaded or navigated away, is opened afresh instead, with its storage cleared."""
+    same = page.url.split("#")[0] == url and page.evaluate(
+        "() => window.shakestillDemoPage === true && document.getElementById('boot-failed').hidden")
+    if not same:
+        # Leaving the page saves its rig (a pagehide handler), so storage is cleared from
+        # another document of the same origin, one that runs no page code.
+        page.goto(url + "build-info.json")
+        page.evaluate("() => { localStorage.clear(); sessionStorage.clear(); }")
+        result = open_page(page, url)
+    else:
+        if page.url != url:
+            page.evaluate("(url) => history.replaceState(null, '', url)", url)
+        page.evaluate("() => window.shakestillResetForTests()")
+        result = wait_for_result(page)
+    page.evaluate("() => { window.shakestillDemoPage = true; }")
+    return result
+
+
 def open_watched(browser, url: str, viewport=LAPTOP, **options):
     """A page in a browser context of its own, opened at `url` with its first check done; its
     script errors are collected in page.errors. Close it with page.context.close()."""

@@ -20,8 +20,9 @@ def demo_dict() -> dict:
     return ss.rig_to_dict(ss.demo_rig())
 
 
-def test_demo_check_appears_and_matches_cli(page, server, tmp_path):
-    result = open_page(page, server.url)
+def test_demo_check_appears_and_matches_cli(demo_page, tmp_path):
+    page = demo_page
+    result = wait_for_result(page)
     # Independent value: the command line on the same (demo) rig, 1e-9 relative.
     assert_same_numbers(result, cli_check(demo_dict(), tmp_path))
     for name in ("inverted", "hanging"):
@@ -42,8 +43,9 @@ def test_tablet_layouts_fit_the_width(new_context, server, viewport, name):
     assert width == viewport["width"]
 
 
-def test_stroke_edit_updates_and_matches_cli(page, server, tmp_path):
-    before = open_page(page, server.url)
+def test_stroke_edit_updates_and_matches_cli(demo_page, tmp_path):
+    page = demo_page
+    before = wait_for_result(page)
     old = page.get_attribute("#check-report", "data-result")
     page.fill('[data-path="drive.stroke_m"]', "25 mm")
     after = wait_for_result(page, old)
@@ -58,9 +60,10 @@ def test_stroke_edit_updates_and_matches_cli(page, server, tmp_path):
     shot(page, "laptop-stroke-25mm")
 
 
-def test_fast_typing_ends_on_the_last_text(page, server, tmp_path):
+def test_fast_typing_ends_on_the_last_text(demo_page, tmp_path):
     """Each keystroke supersedes the computation before it; the verdict must end on the final text."""
-    open_page(page, server.url)
+    page = demo_page
+    wait_for_result(page)
     old = page.get_attribute("#check-report", "data-result")
     field = page.locator('[data-path="drive.speed_rpm"]')
     field.fill("")
@@ -74,8 +77,9 @@ def test_fast_typing_ends_on_the_last_text(page, server, tmp_path):
     assert result["speed_rpm"] == 3100
 
 
-def test_bad_value_is_told_beside_its_field_and_old_result_kept(page, server, tmp_path):
-    open_page(page, server.url)
+def test_bad_value_is_told_beside_its_field_and_old_result_kept(demo_page, tmp_path):
+    page = demo_page
+    wait_for_result(page)
     good = page.get_attribute("#check-report", "data-result")
     field = page.locator('[data-path="drive.stroke_m"]')
     field.fill("25 parsecs")
@@ -121,8 +125,9 @@ def test_no_request_leaves_the_site(context, server):
     assert context.recorder.errors == []
 
 
-def test_autosave_keeps_invalid_text_over_a_reload(page, server):
-    open_page(page, server.url)
+def test_autosave_keeps_invalid_text_over_a_reload(demo_page):
+    page = demo_page
+    wait_for_result(page)
     page.fill('[data-path="links[0].length_m"]', "30 cm and a bit")
     wait_for_stale(page)
     page.reload()
@@ -130,8 +135,9 @@ def test_autosave_keeps_invalid_text_over_a_reload(page, server):
     assert page.input_value('[data-path="links[0].length_m"]') == "30 cm and a bit"
 
 
-def test_added_link_by_keyboard_matches_cli(page, server, tmp_path):
-    open_page(page, server.url)
+def test_added_link_by_keyboard_matches_cli(demo_page, tmp_path):
+    page = demo_page
+    wait_for_result(page)
     old = page.get_attribute("#check-report", "data-result")
     page.focus('button[data-action="add-link"]')
     page.keyboard.press("Enter")
@@ -143,8 +149,9 @@ def test_added_link_by_keyboard_matches_cli(page, server, tmp_path):
     assert_same_numbers(result, cli_check(rig, tmp_path))
 
 
-def test_saved_file_is_the_validated_rig_and_opens_again(page, server, tmp_path):
-    open_page(page, server.url)
+def test_saved_file_is_the_validated_rig_and_opens_again(demo_page, tmp_path):
+    page = demo_page
+    wait_for_result(page)
     old = page.get_attribute("#check-report", "data-result")
     page.fill('[data-path="title"]', "Shaker table B")
     page.fill('[data-path="drive.speed_rpm"]', "2700 rpm")
@@ -208,11 +215,12 @@ def test_missing_python_wasm_fails_fast_in_words(context, server):
     assert page.get_attribute("#chip-engine", "data-state") == "failed"
 
 
-def test_a_bad_value_turns_the_strip_neutral_and_names_the_field(page, server):
+def test_a_bad_value_turns_the_strip_neutral_and_names_the_field(demo_page):
     # While an input is invalid no verdict looks current: the strip's verdict words lose their
     # stable/unstable colours, the strip names the field in the validator's words, and its
     # button puts the cursor in that field.
-    open_page(page, server.url)
+    page = demo_page
+    wait_for_result(page)
     ok_colour = page.evaluate("getComputedStyle(document.querySelector("
                               "'.strip-item[data-eq=inverted] .strip-word')).color")
     page.fill('[data-path="drive.speed_rpm"]', "fast")

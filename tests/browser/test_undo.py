@@ -7,7 +7,7 @@ from __future__ import annotations
 import pytest
 import shakestill as ss  # the core on CPython: the independent reading
 
-from pagekit import assert_same_numbers, cli_check, open_page, shot, wait_for_result
+from pagekit import BOOT_TIMEOUT_MS, assert_same_numbers, cli_check, shot, wait_for_result
 
 pytestmark = pytest.mark.browser
 
@@ -20,8 +20,9 @@ def speed_field(page):
     return page.locator('[data-path="drive.speed_rpm"]')
 
 
-def test_typing_is_undone_and_redone_and_the_check_follows(page, server, tmp_path):
-    first = open_page(page, server.url)
+def test_typing_is_undone_and_redone_and_the_check_follows(demo_page, tmp_path):
+    page = demo_page
+    first = wait_for_result(page)
     assert page.is_disabled("#undo") and page.is_disabled("#redo")
     original = speed_field(page).input_value()
     old = page.get_attribute("#check-report", "data-result")
@@ -51,8 +52,8 @@ def test_typing_is_undone_and_redone_and_the_check_follows(page, server, tmp_pat
     shot(page, "laptop-after-undo")
 
 
-def test_a_replaced_rig_and_a_picked_point_are_one_step_each(page, server):
-    open_page(page, server.url)
+def test_a_replaced_rig_and_a_picked_point_are_one_step_each(demo_page):
+    page = demo_page
     title = page.locator('[data-path="title"]').input_value()
     stroke = page.locator('[data-path="drive.stroke_m"]').input_value()
     speed = speed_field(page).input_value()
@@ -79,10 +80,10 @@ def test_a_replaced_rig_and_a_picked_point_are_one_step_each(page, server):
     assert page.locator('[data-path="title"]').input_value() == title
 
 
-def test_the_panels_inputs_and_a_pasted_log_come_back_after_a_reload(page, server):
+def test_the_panels_inputs_and_a_pasted_log_come_back_after_a_reload(demo_page):
+    page = demo_page  # it reloads the page itself; the next test's reset finds the engine up again
     # Nothing the user typed is lost: the run-up rate, the motion angle and ramp choice, the
     # fit's options and a pasted log are as they were after the page is reloaded.
-    open_page(page, server.url)
     log = "t_s,angle_deg\n0.00,20.0\n0.01,19.9\n0.02,19.7\n"
     page.fill("#runup-rate", "35")
     page.fill("#motion-angle", "12")
@@ -93,7 +94,7 @@ def test_the_panels_inputs_and_a_pasted_log_come_back_after_a_reload(page, serve
     page.check('input[name="fit-zero"][value="inverted"]')
     page.wait_for_timeout(600)  # the inputs are kept after a pause in typing
     page.reload()
-    open_page(page, server.url)
+    wait_for_result(page, timeout=BOOT_TIMEOUT_MS)
     assert page.input_value("#runup-rate") == "35"
     assert page.input_value("#motion-angle") == "12"
     assert page.input_value("#motion-slow") == slow
