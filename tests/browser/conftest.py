@@ -153,6 +153,7 @@ def demo_page(_module_page, server):
     """The module's booted page, as on a first visit to the demo rig with its check done
     (see the module's docstring). Its context's recorder starts empty for each test."""
     page = _module_page
+    page.emulate_media(media="screen")  # a test before may have printed
     if page.used:
         reset_page(page, server.url)
     page.used = True

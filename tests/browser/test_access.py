@@ -8,7 +8,7 @@ import pytest
 
 from shakestill.model.safety import CAUTIONS
 
-from pagekit import TABLET_PORTRAIT, open_page, shot, wait_for_stale
+from pagekit import TABLET_PORTRAIT, open_page, shot, wait_for_result, wait_for_stale
 
 pytestmark = pytest.mark.browser
 
@@ -77,10 +77,11 @@ def failures(page):
             for i in page.evaluate(COLLECT) if contrast(i["fg"], i["bg"]) < required(i)]
 
 
-def test_wcag_contrast_holds_in_main_states(page, server):
+def test_wcag_contrast_holds_in_main_states(demo_page, server):
+    page = demo_page  # one booted page per module, reset (conftest.demo_page)
     # Sanity of the formula against the WCAG extremes: black on white is 21:1.
     assert contrast([0, 0, 0], [255, 255, 255]) == pytest.approx(21.0, rel=1e-12)
-    open_page(page, server.url)
+    wait_for_result(page)
     assert failures(page) == []
     page.fill('[data-path="drive.stroke_m"]', "-4 mm")
     wait_for_stale(page)
@@ -115,8 +116,9 @@ def test_every_control_is_named_and_big_enough_on_a_tablet(new_context, server):
     shot(page, "tablet-portrait-added-mass")
 
 
-def test_print_shows_the_report_and_cautions_without_controls(page, server):
-    open_page(page, server.url)
+def test_print_shows_the_report_and_cautions_without_controls(demo_page, server):
+    page = demo_page  # one booted page per module, reset (conftest.demo_page)
+    wait_for_result(page)
     page.emulate_media(media="print")
     visible = """(sel) => [...document.querySelectorAll(sel)].filter((el) => {
         const r = el.getBoundingClientRect(); return r.width > 0 && r.height > 0; }).length"""
@@ -141,11 +143,12 @@ def test_dark_mode_follows_the_system_and_keeps_contrast(new_context, server):
     shot(page, "laptop-dark")
 
 
-def test_print_says_when_for_which_rig_and_marks_an_unfinished_map(page, server):
+def test_print_says_when_for_which_rig_and_marks_an_unfinished_map(demo_page, server):
+    page = demo_page  # one booted page per module, reset (conftest.demo_page)
     # The paper carries the date and the rig's title (filled in on the browser's beforeprint
     # event), and a map that was still being drawn says so in words, not only by its look.
     import datetime
-    open_page(page, server.url)
+    wait_for_result(page)
     title = page.locator('[data-path="title"]').input_value()
     page.evaluate("window.dispatchEvent(new Event('beforeprint'))")
     page.emulate_media(media="print")

@@ -52,8 +52,9 @@ OVERLAPS = """(root) => {
 }"""
 
 
-def test_the_sheet_stays_in_view_beside_the_map_and_the_fit_on_a_desktop(page, server):
-    open_page(page, server.url)
+def test_the_sheet_stays_in_view_beside_the_map_and_the_fit_on_a_desktop(demo_page, server):
+    page = demo_page  # one booted page per module, reset (conftest.demo_page)
+    wait_for_result(page)
     for target in ("#stability-chart", "section.fit"):
         page.locator(target).scroll_into_view_if_needed()
         page.evaluate("(sel) => document.querySelector(sel).scrollIntoView({block: 'start'})", target)
@@ -112,8 +113,9 @@ def test_no_words_overlap_at_200_percent_text(new_context, server, viewport):
     shot(page, f"layout-200-percent-{viewport['width']}", full_page=False)
 
 
-def test_disabled_buttons_look_disabled(page, server):
-    open_page(page, server.url)
+def test_disabled_buttons_look_disabled(demo_page, server):
+    page = demo_page  # one booted page per module, reset (conftest.demo_page)
+    wait_for_result(page)
     style = "(sel) => { const s = getComputedStyle(document.querySelector(sel)); " \
             "return [s.cursor, s.borderStyle, s.backgroundColor, s.color]; }"
     assert page.is_disabled("#undo") and page.is_enabled("#load-demo")
@@ -122,8 +124,9 @@ def test_disabled_buttons_look_disabled(page, server):
     assert off[2] != on[2] and off[3] != on[3]
 
 
-def test_the_map_table_gives_the_core_s_stable_speeds_row_by_row(page, server):
-    open_page(page, server.url)
+def test_the_map_table_gives_the_core_s_stable_speeds_row_by_row(demo_page, server):
+    page = demo_page  # one booted page per module, reset (conftest.demo_page)
+    wait_for_result(page)
     page.wait_for_function("() => document.getElementById('stability-chart').dataset.state === 'done'",
                            timeout=180_000)
     rig = json.loads(page.get_attribute("#check-report", "data-rig"))

@@ -10,7 +10,8 @@ import pytest
 import shakestill as ss
 from shakestill.model import share
 
-from pagekit import LAPTOP, TABLET_PORTRAIT, axe_violations, cli_check, open_page, shot
+from pagekit import (LAPTOP, TABLET_PORTRAIT, axe_violations, cli_check, open_page, shot,
+                     wait_for_result)
 
 pytestmark = pytest.mark.browser
 
@@ -18,8 +19,9 @@ PHONE = {"width": 390, "height": 844}
 MAP_DONE = "() => document.getElementById('stability-chart').dataset.state === 'done'"
 
 
-def test_verdict_words_are_the_command_lines(page, server, tmp_path):
-    result = open_page(page, server.url)
+def test_verdict_words_are_the_command_lines(demo_page, server, tmp_path):
+    page = demo_page  # one booted page per module, reset (conftest.demo_page)
+    result = wait_for_result(page)
     import json
     rig = json.loads(page.get_attribute("#check-report", "data-rig"))
     cli = cli_check(rig, tmp_path)  # the command line's JSON, for which verdict it gives
@@ -61,8 +63,9 @@ def test_each_term_explains_itself_on_hover_and_on_keyboard_focus(new_context, s
     shot(page, "words-term-on-focus", full_page=False)
 
 
-def test_map_notes_sit_behind_how_this_was_computed(page, server):
-    open_page(page, server.url)
+def test_map_notes_sit_behind_how_this_was_computed(demo_page, server):
+    page = demo_page  # one booted page per module, reset (conftest.demo_page)
+    wait_for_result(page)
     page.wait_for_function(MAP_DONE, timeout=180_000)
     note = page.locator("#chart-note")
     assert note.text_content().startswith("How the map is made")
