@@ -58,3 +58,49 @@ def test_cached_then_fresh_verdict_and_undo_by_touch(new_context, server, size):
     again = wait_for_result(page, before)
     assert again["speed_rpm"] == 2500.0 and field.input_value() == "2500 rpm"
     assert errors == []
+
+
+def test_on_a_phone_terms_explain_themselves_on_tap_and_the_map_saves(new_context, server,
+                                                                      tmp_path):
+    # A tap on a term focuses it and shows its one-line explanation (no hover on touch); the
+    # map's CSV saved by a tap holds every row's stable intervals of `shakestill chart --json`
+    # for the same rig (the command line on CPython, 1e-9 relative), its PNG is a true PNG
+    # (signature, ISO/IEC 15948).
+    import csv
+    import subprocess
+    import sys
+    page = new_context(**SIZES["phone"]).new_page()  # (the fixture accepts downloads)
+    page.goto(server.url)
+    wait_for_result(page)
+    terms = page.locator("main .term")
+    tapped = 0
+    for i in range(terms.count()):
+        t = terms.nth(i)
+        if not t.is_visible():
+            continue
+        tip = page.locator(f"#{t.get_attribute('aria-describedby')}")
+        t.tap()
+        assert tip.is_visible(), t.text_content()
+        assert len(tip.text_content()) > 20
+        tapped += 1
+    assert tapped >= 3
+    page.wait_for_function("() => document.getElementById('stability-chart').dataset.state "
+                           "=== 'done'", timeout=180_000)
+    with page.expect_download() as got:
+        page.locator("#chart-save-png").tap()
+    assert open(got.value.path(), "rb").read()[:8] == b"\x89PNG\r\n\x1a\n"
+    with page.expect_download() as got:
+        page.locator("#chart-save-csv").tap()
+    lines = list(csv.reader(open(got.value.path())))
+    assert lines[0] == ["stroke_m", "equilibrium", "stable_from_rpm", "stable_to_rpm"]
+    rig = tmp_path / "rig.json"
+    rig.write_text(page.get_attribute("#check-report", "data-rig"))
+    out = subprocess.run([sys.executable, "-m", "shakestill", "chart", str(rig), "--json"],
+                         capture_output=True, text=True, timeout=600)
+    want = [[row["y"], eq, a, b] for row in json.loads(out.stdout)["rows"]
+            for eq in ("inverted", "hanging") for a, b in row[eq]["stable_intervals_rpm"]]
+    assert len(lines) - 1 == len(want)
+    for got_row, want_row in zip(lines[1:], want):
+        assert got_row[1] == want_row[1]
+        for g, w in zip(map(float, (got_row[0], *got_row[2:])), (want_row[0], *want_row[2:])):
+            assert g == pytest.approx(w, rel=1e-9, abs=1e-12)
