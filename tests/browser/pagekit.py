@@ -165,3 +165,23 @@ def axe_violations(page, include: str | None = None) -> list[dict]:
             nodes: v.nodes.map((n) => n.target.join(" ")) }));
     }""", include)
     return found
+
+
+def assert_map_csv_is_the_cli_chart(page, csv_path, tmp_path: Path) -> None:
+    """The map's saved CSV holds every row's stable intervals of `shakestill chart --json` for
+    the rig the page shows (the command line on CPython), 1e-9 relative (Pyodide and CPython
+    may differ in the last bits of libm, as in tests/test_pyodide.py)."""
+    import csv
+    lines = list(csv.reader(open(csv_path)))
+    assert lines[0] == ["stroke_m", "equilibrium", "stable_from_rpm", "stable_to_rpm"]
+    rig = tmp_path / "map-rig.json"  # the rig the map was drawn for
+    rig.write_text(page.get_attribute("#check-report", "data-rig"))
+    out = subprocess.run([sys.executable, "-m", "shakestill", "chart", str(rig), "--json"],
+                         capture_output=True, text=True, timeout=600)
+    want = [[row["y"], eq, a, b] for row in json.loads(out.stdout)["rows"]
+            for eq in ("inverted", "hanging") for a, b in row[eq]["stable_intervals_rpm"]]
+    assert len(lines) - 1 == len(want)
+    for got_row, want_row in zip(lines[1:], want):
+        assert got_row[1] == want_row[1]
+        for g, w in zip(map(float, (got_row[0], *got_row[2:])), (want_row[0], *want_row[2:])):
+            assert abs(g - w) <= max(1e-9 * abs(w), 1e-12), (got_row, want_row)

@@ -15,7 +15,8 @@ import json
 import pytest
 import shakestill as ss
 
-from pagekit import SITE, TABLET_PORTRAIT, assert_same_numbers, shot, wait_for_result
+from pagekit import (SITE, TABLET_PORTRAIT, assert_map_csv_is_the_cli_chart, assert_same_numbers,
+                     shot, wait_for_result)
 
 pytestmark = pytest.mark.browser
 
@@ -66,9 +67,6 @@ def test_on_a_phone_terms_explain_themselves_on_tap_and_the_map_saves(new_contex
     # map's CSV saved by a tap holds every row's stable intervals of `shakestill chart --json`
     # for the same rig (the command line on CPython, 1e-9 relative), its PNG is a true PNG
     # (signature, ISO/IEC 15948).
-    import csv
-    import subprocess
-    import sys
     page = new_context(**SIZES["phone"]).new_page()  # (the fixture accepts downloads)
     page.goto(server.url)
     wait_for_result(page)
@@ -91,16 +89,4 @@ def test_on_a_phone_terms_explain_themselves_on_tap_and_the_map_saves(new_contex
     assert open(got.value.path(), "rb").read()[:8] == b"\x89PNG\r\n\x1a\n"
     with page.expect_download() as got:
         page.locator("#chart-save-csv").tap()
-    lines = list(csv.reader(open(got.value.path())))
-    assert lines[0] == ["stroke_m", "equilibrium", "stable_from_rpm", "stable_to_rpm"]
-    rig = tmp_path / "rig.json"
-    rig.write_text(page.get_attribute("#check-report", "data-rig"))
-    out = subprocess.run([sys.executable, "-m", "shakestill", "chart", str(rig), "--json"],
-                         capture_output=True, text=True, timeout=600)
-    want = [[row["y"], eq, a, b] for row in json.loads(out.stdout)["rows"]
-            for eq in ("inverted", "hanging") for a, b in row[eq]["stable_intervals_rpm"]]
-    assert len(lines) - 1 == len(want)
-    for got_row, want_row in zip(lines[1:], want):
-        assert got_row[1] == want_row[1]
-        for g, w in zip(map(float, (got_row[0], *got_row[2:])), (want_row[0], *want_row[2:])):
-            assert g == pytest.approx(w, rel=1e-9, abs=1e-12)
+    assert_map_csv_is_the_cli_chart(page, got.value.path(), tmp_path)
