@@ -185,3 +185,22 @@ def assert_map_csv_is_the_cli_chart(page, csv_path, tmp_path: Path) -> None:
         assert got_row[1] == want_row[1]
         for g, w in zip(map(float, (got_row[0], *got_row[2:])), (want_row[0], *want_row[2:])):
             assert abs(g - w) <= max(1e-9 * abs(w), 1e-12), (got_row, want_row)
+
+
+def assert_single_file_shares_by_fragment(page, tap: bool = False) -> None:
+    """On the single file opened from disk, "Copy share link" gives the rig's fragment (a
+    file:// link would open only on this computer) which decodes to the demo rig on the sheet
+    (the core's share.decode on CPython), and the notice says where it opens and offers the
+    rig file."""
+    import shakestill as ss
+    from shakestill.model import share
+    button = page.locator("#copy-link")
+    button.tap() if tap else button.click()
+    page.wait_for_function("() => document.getElementById('share-box').value !== ''")
+    fragment = page.input_value("#share-box")
+    assert fragment.startswith("#") and "file:" not in fragment
+    rig, _ = share.decode(fragment)
+    assert ss.rig_to_dict(ss.rig_from_dict(rig)) == ss.rig_to_dict(ss.demo_rig())
+    words = page.inner_text("#notice-text")
+    assert "opened from a file on this computer" in words and "rig file" in words
+    assert page.locator("#notice-actions button", has_text="Save the rig file to send").is_visible()

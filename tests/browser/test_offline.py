@@ -6,7 +6,8 @@ from __future__ import annotations
 import pytest
 import shakestill as ss  # the core on CPython: the independent reading
 
-from pagekit import BOOT_TIMEOUT_MS, assert_same_numbers, cli_check, open_page, shot, wait_for_result
+from pagekit import (BOOT_TIMEOUT_MS, assert_same_numbers, assert_single_file_shares_by_fragment,
+                     cli_check, open_page, shot, wait_for_result)
 
 pytestmark = pytest.mark.browser
 
@@ -36,13 +37,5 @@ def test_a_link_from_the_single_file_says_where_it_opens(page, offline_file):
     # A file:// address opens only on the computer that has the file: the page gives the
     # fragment (which opens the rig in anyone's copy) and says so, never a link that cannot
     # work. The fragment decodes to the rig on the sheet (the core's share.decode on CPython).
-    from shakestill.model import share
     open_page(page, offline_file.as_uri())
-    page.click("#copy-link")
-    page.wait_for_function("() => document.getElementById('share-box').value !== ''")
-    fragment = page.input_value("#share-box")
-    assert fragment.startswith("#") and "file:" not in fragment
-    rig, _ = share.decode(fragment)
-    assert ss.rig_to_dict(ss.rig_from_dict(rig)) == ss.rig_to_dict(ss.demo_rig())
-    words = page.inner_text("#notice-text")
-    assert "opened from a file on this computer" in words and "rig file" in words
+    assert_single_file_shares_by_fragment(page)

@@ -16,7 +16,7 @@ import pytest
 import shakestill as ss
 
 from pagekit import (SITE, TABLET_PORTRAIT, assert_map_csv_is_the_cli_chart, assert_same_numbers,
-                     shot, wait_for_result)
+                     assert_single_file_shares_by_fragment, shot, wait_for_result)
 
 pytestmark = pytest.mark.browser
 
@@ -98,16 +98,7 @@ def test_the_single_file_shares_by_fragment_on_a_tablet_and_a_phone(new_context,
     # Opened from disk, a link to the file would open only on this device: the page gives the
     # fragment and says where it opens, with the rig file one tap away (as at desktop size in
     # test_offline.py). The fragment decodes to the sheet's rig (the core's share.decode).
-    from shakestill.model import share
     page = new_context(**SIZES[size]).new_page()
     page.goto(offline_file.as_uri())
     wait_for_result(page)
-    page.locator("#copy-link").tap()
-    page.wait_for_function("() => document.getElementById('share-box').value !== ''")
-    fragment = page.input_value("#share-box")
-    assert fragment.startswith("#") and "file:" not in fragment
-    rig, _ = share.decode(fragment)
-    assert ss.rig_to_dict(ss.rig_from_dict(rig)) == ss.rig_to_dict(ss.demo_rig())
-    words = page.inner_text("#notice-text")
-    assert "opened from a file on this computer" in words and "rig file" in words
-    assert page.locator("#notice-actions button", has_text="Save the rig file to send").is_visible()
+    assert_single_file_shares_by_fragment(page, tap=True)
