@@ -1,7 +1,8 @@
 """A log whose angles are zero with the pendulum upright, fitted on a tablet (touch) and a
 phone: the page's fit equals `shakestill fit --zero inverted --json` on CPython (1e-6
 relative, as tests/browser/test_fit_panel.py), and the plot's saved numbers give the logged
-angles from the log's own zero (the same angles modulo a turn) under words naming that zero.
+angles as logged (from the log's own zero, not wrapped to a half turn) under words naming
+that zero.
 
 The log is the page's invented sample (site/sample-decay.csv, zero hanging) moved to an
 upright zero by adding 180 deg to each angle (the two zeros are half a turn apart).
@@ -61,5 +62,8 @@ def test_an_upright_zero_log_is_fitted_and_plotted_from_its_own_zero(new_context
     rows = list(csv.reader(open(saved.value.path())))
     logged = [float(line.split(",")[1]) for line in log.splitlines()[1:]]
     assert len(rows) - 1 == len(logged) and rows[0][1] == "link1_logged_deg"
-    for row, angle in zip(rows[1:], logged):  # the log's own zero: equal modulo a turn
-        assert abs(math.remainder(float(row[1]) - angle, 360.0)) < 1e-6, (row, angle)
+    for row, angle in zip(rows[1:], logged):  # the log's own zero and branch: as logged
+        assert abs(float(row[1]) - angle) < 1e-9, (row, angle)
+    # the fitted start is said from the same zero, on the log's branch (205, not -155 deg)
+    start = result["initial_angles_rad"][0]
+    assert abs(math.degrees(start) - logged[0]) < 1.0

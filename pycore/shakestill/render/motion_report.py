@@ -139,11 +139,6 @@ def with_error(value: float, error: float) -> str:
     return f"{value:#.{max(digits, 1)}g}".rstrip(".") + f" +- {error:.2g}"
 
 
-def _wrapped(angle: float) -> float:
-    """The angle in (-pi, pi]."""
-    return math.pi - (math.pi - angle) % (2 * math.pi)
-
-
 # The kind of each number a fit may adjust (the last name of its path), for the display units.
 _FIT_KINDS = {"joint_damping_N_m_s": "damping", "joint_friction_N_m": "torque",
               "extra_inertia_kg_m2": "inertia", "length_m": "length", "rod_mass_kg": "mass"}
@@ -176,7 +171,7 @@ def fit_text(result: dict, reference: str = "inverted", units: str = "metric") -
     zero = math.pi if reference == "hanging" else 0.0
     where = "the hanging position" if reference == "hanging" else "the upward vertical"
     out.append(f"Start of the run (fitted, from {where}, the log's zero): angles "
-               + ", ".join(f"{math.degrees(_wrapped(q - zero)):z.3f} deg"
+               + ", ".join(f"{math.degrees(q - zero):z.3f} deg"
                            for q in result["initial_angles_rad"])
                + "; rates " + ", ".join(f"{w:z.4f} rad/s" for w in result["initial_rates_rad_s"]))
     out.append("A fit describes this run: check the fitted rig against another logged run "

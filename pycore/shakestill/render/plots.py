@@ -214,11 +214,12 @@ _ZERO_WORDS = {"hanging": "angle from hanging straight down (deg)",
 
 def _fit_series(result, reference: str):
     """(times, [(name, degrees)]) of the fit's logged and fitted angles, from the log's zero,
-    every sample (the plot thins them)."""
+    every sample (the plot thins them). Not wrapped to a half turn: a log that reads 205 deg
+    from upright is drawn at 205 deg, as logged."""
     zero = REFERENCE_ANGLE[reference]
 
     def degrees(rows, i):
-        return [math.degrees(math.remainder(q[i] - zero, 2 * math.pi)) for q in rows]
+        return [math.degrees(q[i] - zero) for q in rows]
 
     series = []
     for i in range(len(result.measured_rad[0])):
