@@ -90,6 +90,14 @@ def test_runup_request_without_a_rate_runs_at_the_slowest_safe_rate():
     reply = json.loads(bridge.handle(json.dumps({"op": "runup", "rig": still})))
     assert not reply["ok"] and reply["problems"][0]["path"] == "rate_rpm_s"
     assert "no resonance of the hanging pendulum is crossed" in reply["problems"][0]["message"]
+    # a factor that allows no growth is refused, named, before any rate is sought (the same
+    # words as a run-up at a given rate: the documented rule, factor above 1)
+    from shakestill.equilibria.runup import recommended_rate
+    words = "factor: 1.0 must be a finite number above 1"
+    with pytest.raises(ValueError, match=words):
+        recommended_rate(ss.rig_from_dict(short_rig()), factor=1.0)
+    reply = json.loads(bridge.handle(json.dumps({"op": "runup", "rig": short_rig(), "factor": 1.0})))
+    assert not reply["ok"] and reply["problems"] == [{"path": "runup", "message": words}]
 
 
 def test_runup_words_give_the_crossings_and_the_rate_for_them():

@@ -170,15 +170,11 @@ def _op_runup(request: dict) -> dict:
     try:
         start = float(request.get("start_rpm", 0.0))
         end, factor = request.get("end_rpm"), float(request.get("factor", 10.0))
-        given = None if given is None else float(given)
-        if not (factor > 1 and start >= 0):
-            raise ValueError(f"factor {factor!r} must be above 1 and start_rpm {start!r} at "
-                             "least 0")
-    except (TypeError, ValueError) as exc:
-        raise RigError([Problem("runup", str(exc))]) from None
-    rate, recommended = _rate_or_recommended(rig, given, start, end, factor, "rate_rpm_s")
-    try:
+        rate, recommended = _rate_or_recommended(rig, None if given is None else float(given),
+                                                 start, end, factor, "rate_rpm_s")
         result = runup(rig, rate_rpm_s=rate, start_rpm=start, end_rpm=end, factor=factor)
+    except RigError:
+        raise  # a named field already
     except (TypeError, ValueError) as exc:
         raise RigError([Problem("runup", str(exc))]) from None
     result["rate_recommended"] = recommended

@@ -214,6 +214,17 @@ def _min_rate(model: Model, equilibrium: str, a: float, b: float, integral: floa
     return fast if fast < math.inf else guess
 
 
+def _checked_span(model: Model, factor: float, start_rpm: float, end_rpm: float | None) -> float:
+    """The run-up's end speed (default: the operating speed) once the factor and speeds are
+    allowed; else a ValueError naming them."""
+    if not (factor > 1 and math.isfinite(factor)):
+        raise ValueError(f"factor: {factor!r} must be a finite number above 1")
+    end = model.rig.drive.speed_rpm if end_rpm is None else end_rpm
+    if not (start_rpm >= 0 and end > 0):
+        raise ValueError("start_rpm and end_rpm: speeds must be at least 0 rpm")
+    return end
+
+
 def runup(rig: Rig | Model, *, rate_rpm_s: float, start_rpm: float = 0.0,
           end_rpm: float | None = None, factor: float = DEFAULT_FACTOR,
           equilibria=EQUILIBRIA) -> dict:
@@ -221,13 +232,9 @@ def runup(rig: Rig | Model, *, rate_rpm_s: float, start_rpm: float = 0.0,
     run-down back; plain data for JSON and the page."""
     if not (rate_rpm_s > 0 and math.isfinite(rate_rpm_s)):
         raise ValueError(f"rate_rpm_s: {rate_rpm_s!r} must be a finite number above 0 rpm/s")
-    if not (factor > 1 and math.isfinite(factor)):
-        raise ValueError(f"factor: {factor!r} must be a finite number above 1")
     model = as_model(rig)
     rig = model.rig
-    end = rig.drive.speed_rpm if end_rpm is None else end_rpm
-    if not (start_rpm >= 0 and end > 0):
-        raise ValueError("start_rpm and end_rpm: speeds must be at least 0 rpm")
+    end = _checked_span(model, factor, start_rpm, end_rpm)
     result = {"rate_rpm_s": rate_rpm_s, "factor": factor, "start_rpm": start_rpm,
               "end_rpm": end, "stroke_m": rig.drive.stroke_m,
               "low_speed_floor_rpm": low_speed_floor(rig), "evaluations": 0,
@@ -260,7 +267,7 @@ def recommended_rate(rig: Rig | Model, *, start_rpm: float = 0.0,
     largest of the crossings' minimum rates (each found by simulated ramps). 0 when nothing
     is crossed."""
     model = as_model(rig)
-    end = model.rig.drive.speed_rpm if end_rpm is None else end_rpm
+    end = _checked_span(model, factor, start_rpm, end_rpm)
     return max((c.min_rate_rpm_s for eq in equilibria
                 for c in crossings(model, eq, start_rpm, end, TRIAL_RATE_RPM_S, factor)[0]),
                default=0.0)
