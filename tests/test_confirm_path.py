@@ -149,20 +149,27 @@ def assert_path(probe, placed, x, before, gained, last, hi, truth):
     assert placed.gained is gained
 
 
-@pytest.mark.parametrize("end", ["low", "high"])
-@pytest.mark.parametrize("offset", [0.0, 3e-4, -3e-4, 8e-4, 1e-3, -1e-3, 2e-3, 5e-3, -5e-3])
-def test_place_edge_takes_the_documented_path(make_probe, end, offset):
-    # The principal tongue's ends (Mathieu a_1, b_1), predicted `offset` off (relative).
-    # 0: the first tight bracket confirms (2 points); 3e-4, 8e-4: it misses and one secant
-    # re-aim confirms (4 points); 1e-3 (low end), -1e-3 (high end): the re-aim leaves 1e-3,
-    # and the 1e-3 bracket confirms and aims a tight one clipped to its end; 2e-3, 5e-3:
-    # only the 2e-2 bracket confirms and Brent closes it.
-    lo1, hi1 = tongue(1)
-    truth, before, gained = (lo1, True, False) if end == "low" else (hi1, False, True)
-    last = LO if end == "low" else lo1
-    # the reference confirms the tongue: stable below a_1's speed, unstable inside
-    assert ref_stable(lo1 * (1 - 1e-6)) and not ref_stable(lo1 * (1 + 1e-6))
-    assert not ref_stable(hi1 * (1 - 1e-6)) and ref_stable(hi1 * (1 + 1e-6))
+PRINCIPAL = [(1, end, off) for end in ("low", "high")
+             for off in (0.0, 3e-4, -3e-4, 8e-4, 1e-3, -1e-3, 2e-3, 5e-3, -5e-3)]
+# The second tongue is 2.5e-3 (relative) wide: its margin bends within the 1e-3 of a re-aim, so
+# the first re-aim misses and the second confirms (6 points), or the re-aims leave 1e-3; the
+# high end's wider brackets are clipped at the low end placed before it.
+SECOND = [(2, end, off) for end in ("low", "high") for off in (-8e-4, -5e-4, 5e-4, 8e-4, 9e-4)]
+
+
+@pytest.mark.parametrize("order, end, offset", PRINCIPAL + SECOND)
+def test_place_edge_takes_the_documented_path(make_probe, order, end, offset):
+    # A tongue's ends (Mathieu a_n, b_n), predicted `offset` off (relative).
+    # Principal tongue: 0: the first tight bracket confirms (2 points); 3e-4, 8e-4: it misses
+    # and one secant re-aim confirms (4 points); 1e-3 (low end), -1e-3 (high end): the re-aim
+    # leaves 1e-3, and the 1e-3 bracket confirms and aims a tight one clipped to its end;
+    # 2e-3, 5e-3: only the 2e-2 bracket confirms and Brent closes it.
+    lo, hi = tongue(order)
+    truth, before, gained = (lo, True, False) if end == "low" else (hi, False, True)
+    last = LO if end == "low" else lo
+    # the reference confirms the tongue: stable below a_n's speed, unstable inside
+    assert ref_stable(lo * (1 - 1e-6)) and not ref_stable(lo * (1 + 1e-6))
+    assert not ref_stable(hi * (1 - 1e-6)) and ref_stable(hi * (1 + 1e-6))
     probe = make_probe()
     x = truth * (1 + offset)
     placed = place_edge(probe, Edge(x, gained), before, last, HI, RTOL)
