@@ -439,3 +439,30 @@ def test_recommended_rate_is_the_binding_crossings_minimum(model):
     assert recommended_rate(model, start_rpm=0.0, end_rpm=FLOOR * 0.9) == 0.0
     with pytest.raises(ValueError, match=r"^factor: 1\.0 must be a finite number above 1$"):
         recommended_rate(model, factor=1.0)
+
+
+@pytest.mark.parametrize("factor", [30.0, 50.0])
+def test_runup_from_inside_the_range_with_another_factor(model, monkeypatch, factor):
+    # From 500 rpm to the operating speed (the default end, 900) at 100 rpm/s with a factor
+    # of 30 or 50: the principal tongue's ramp grows by 34.6 (solve_ivp + svd) while its
+    # frozen estimate says 21.6, so `ok` follows the simulated ramp: not ok at 30, ok at 50;
+    # upside down the frozen growth e^124 (quad) is not ok. Each minimum rate keeps its ramp
+    # within 2% under that factor (solve_ivp); the evaluations are the stability evaluations
+    # counted here, for both equilibria together.
+    from shakestill.equilibria.runup import crossings, runup
+    calls = counted_stability(monkeypatch)
+    got = runup(model, rate_rpm_s=RATE, start_rpm=500.0, factor=factor)
+    assert (got["start_rpm"], got["end_rpm"], got["factor"]) == (500.0, END, factor)
+    assert got["evaluations"] == len(calls)
+    lo1, hi1 = tongue_rpm()
+    simulated = transfer_gain(lo1, hi1, RATE)
+    assert 21.0 < math.exp(frozen_integral(lo1, hi1) / RATE) < 30.0 < simulated < 50.0
+    (c,) = got["hanging"]["crossings"]
+    assert c["simulated_amplification"] == pytest.approx(simulated, rel=1e-7)
+    assert got["hanging"]["ok"] is (simulated <= factor)
+    assert got["inverted"]["ok"] is False
+    for eq, (a, b) in (("hanging", (lo1, hi1)), ("inverted", (500.0, END))):
+        rate = got[eq]["min_rate_rpm_s"]
+        assert factor / 1.02 * (1 - REL) <= transfer_gain(a, b, rate, eq) <= factor * (1 + REL)
+    # an empty span (start = end) crosses nothing and evaluates nothing
+    assert crossings(model, "hanging", 500.0, 500.0, RATE) == ([], 0)
