@@ -34,20 +34,20 @@ from shakestill.model.derived import as_model
 G = R.G_STANDARD
 LENGTH, STROKE = 0.01, 0.002
 LO, HI = 250.0, 900.0  # the row: both tongues (near 299 and 547-671 rpm) lie inside
-RTOL = 1e-4  # the chart's precision (CHART_RTOL), passed to Brent's method
+RTOL = 1e-4  # passed to Brent's method: looser than EDGE_RTOL (1e-10), so each is told apart
 HALF = (5e-5, 1e-3, 2e-2)  # the documented bracket half-widths, tightest first
 AIMS = 2  # the documented re-aims of the tightest bracket
 SAME = 1e-9  # two points the same: the engine's and the reference's secants agree to ~1e-12
 
 
-def rig_data():
-    return R.rig([R.link(LENGTH, 0.0, [(0.1, LENGTH)])], R.sine(STROKE, 600.0),
+def rig_data(stroke=STROKE):
+    return R.rig([R.link(LENGTH, 0.0, [(0.1, LENGTH)])], R.sine(stroke, 600.0),
                  limits={"speed_rpm": [200.0, 3600.0], "stroke_m": [0.0, 0.01]})
 
 
-def tongue(order):
+def tongue(order, stroke=STROKE):
     """(low, high) speed of the n-th hanging tongue, scipy.special.mathieu_a/b."""
-    q = STROKE / LENGTH
+    q = stroke / LENGTH
 
     def rpm(a_value):  # a = 4 g / (l w^2) -> w
         return math.sqrt(4 * G / (LENGTH * a_value)) * 60 / (2 * math.pi)
@@ -55,22 +55,22 @@ def tongue(order):
 
 
 @lru_cache(maxsize=None)
-def ref_margin(x):
+def ref_margin(x, stroke=STROKE):
     """|trace M| - 2 of the solve_ivp monodromy at x rpm (undamped, so gamma = 0)."""
-    return abs(float(np.trace(R.monodromy(rig_data(), "hanging", speed_rpm=x)))) - 2.0
+    return abs(float(np.trace(R.monodromy(rig_data(stroke), "hanging", speed_rpm=x)))) - 2.0
 
 
-def ref_stable(x):
-    return ref_margin(x) < 0
+def ref_stable(x, stroke=STROKE):
+    return ref_margin(x, stroke) < 0
 
 
-def ref_secant(a, b):
+def ref_secant(a, b, stroke=STROKE):
     """The reference margin's zero by linear interpolation through a and b, kept in [a, b]."""
-    fa, fb = ref_margin(a), ref_margin(b)
+    fa, fb = ref_margin(a, stroke), ref_margin(b, stroke)
     return min(b, max(a, a - fa * (b - a) / (fb - fa)))
 
 
-def expected_path(x, before, gained, last, hi):
+def expected_path(x, before, gained, last, hi, stroke=STROKE):
     """(points before Brent, the bracket Brent is given or None, the secant edge or None) by
     the documented rule above with the reference margins."""
     points = []
@@ -80,15 +80,16 @@ def expected_path(x, before, gained, last, hi):
         if not a < b:
             return None, None, None
         points.extend((a, b))
-        edge = ref_secant(a, b) if (ref_stable(a), ref_stable(b)) == (before, gained) else None
-        return edge, a, b
+        verdicts = (ref_stable(a, stroke), ref_stable(b, stroke))
+        return (ref_secant(a, b, stroke) if verdicts == (before, gained) else None), a, b
 
     aim = x
     for _ in range(1 + AIMS):
         edge, a, b = tight(aim, last, hi)
-        if edge is not None or a is None or ref_stable(a) != ref_stable(b):
+        if edge is not None or a is None or ref_stable(a, stroke) != ref_stable(b, stroke):
             break
-        aim = a - ref_margin(a) * (b - a) / (ref_margin(b) - ref_margin(a))
+        fa, fb = ref_margin(a, stroke), ref_margin(b, stroke)
+        aim = a - fa * (b - a) / (fb - fa)
         if not abs(aim / x - 1) < HALF[1]:
             break
     if edge is not None:
@@ -98,8 +99,8 @@ def expected_path(x, before, gained, last, hi):
         if not a < b:
             return points, None, None
         points.extend((a, b))
-        if (ref_stable(a), ref_stable(b)) == (before, gained):
-            edge, _, _ = tight(ref_secant(a, b), a, b)
+        if (ref_stable(a, stroke), ref_stable(b, stroke)) == (before, gained):
+            edge, _, _ = tight(ref_secant(a, b, stroke), a, b)
             return points, (None if edge is not None else (a, b)), edge
     return points, None, None
 
@@ -118,15 +119,21 @@ class Recorder(Probe):
 
 @pytest.fixture(scope="module")
 def make_probe():
-    model = as_model(ss.rig_from_dict(rig_data()))
-    settings = scan_settings(model, "hanging", [model.at(speed_rpm=v) for v in (LO, HI)])
-    return lambda: Recorder(model, "hanging", lambda x: (x, STROKE), settings)
+    @lru_cache(maxsize=None)
+    def model_of(stroke):
+        model = as_model(ss.rig_from_dict(rig_data(stroke)))
+        return model, scan_settings(model, "hanging", [model.at(speed_rpm=v) for v in (LO, HI)])
+
+    def make(stroke=STROKE):
+        model, settings = model_of(stroke)
+        return Recorder(model, "hanging", lambda x: (x, stroke), settings)
+    return make
 
 
-def assert_path(probe, placed, x, before, gained, last, hi, truth):
+def assert_path(probe, placed, x, before, gained, last, hi, truth, stroke=STROKE):
     """The engine's points are the expected ones; the edge is the expected secant, or Brent's
     result within RTOL of the Mathieu edge ``truth``."""
-    points, brent, edge = expected_path(x, before, gained, last, hi)
+    points, brent, edge = expected_path(x, before, gained, last, hi, stroke)
     head = probe.points[:len(points)]
     assert len(head) == len(points)
     for got, want in zip(head, points):
@@ -218,6 +225,14 @@ def test_a_prediction_the_exact_method_refuses(make_probe):
         placed = place_edge(probe, Edge(420.0, gained), before, LO, HI, RTOL)
         assert placed is None
         assert_path(probe, placed, 420.0, before, gained, LO, HI, None)
+    # an edge predicted the wrong way round at a_1's speed (gaining stability where the
+    # reference loses it): the tight bracket's verdicts differ but do not confirm, so no
+    # re-aim; the wider brackets do not confirm either: None (the reference's path)
+    lo1, _ = tongue(1)
+    probe = make_probe()
+    placed = place_edge(probe, Edge(lo1, True), False, LO, HI, RTOL)
+    assert placed is None
+    assert_path(probe, placed, lo1, False, True, LO, HI, None)
 
 
 def test_tight_edge_only_in_a_confirming_bracket(make_probe):
@@ -305,3 +320,40 @@ def test_refused_rows_keep_the_edges_confirmed_before(make_probe):
     got = confirm_edges(make_probe(), (Edge(lo1, False),), True, LO, 600.0, rtol=RTOL,
                         prefix=prefix)
     assert prefix == ["left from before"] and len(got) == 1
+
+
+@pytest.mark.parametrize("offset", [-9.74e-4, -9.5e-4])
+def test_the_re_aims_run_out_on_a_narrower_tongue(make_probe, offset):
+    # Half the stroke (q = 0.1): the second tongue is narrower still, and from just under 1e-3
+    # below its low end all three tight brackets miss (the documented 2 re-aims run out while
+    # the aims stay within 1e-3), then the 1e-3 bracket confirms and aims one more tight one.
+    stroke = STROKE / 2
+    lo2, _ = tongue(2, stroke)
+    probe = make_probe(stroke)
+    x = lo2 * (1 + offset)
+    placed = place_edge(probe, Edge(x, False), True, LO, HI, RTOL)
+    assert_path(probe, placed, x, True, False, LO, HI, lo2, stroke)
+    assert probe.count == 10  # three tight brackets, the 1e-3 one, a tight one in it
+    assert probe.points[6:8] == pytest.approx([x * (1 - HALF[1]), x * (1 + HALF[1])], rel=1e-15)
+
+
+def test_brent_closes_the_bracket_to_the_precision_asked(make_probe):
+    # Predicted 5e-3 above a_1's speed only the 2e-2 bracket confirms and its secant's tight
+    # bracket misses (8 points, the path above), so Brent's method closes it at the precision
+    # asked: at 1e-2 relative the bracket (half-width 2e-2, so about 2.5e-2 of tolerance by
+    # Brent's stopping rule, 2 rtol |b| + xtol / 2, Brent 1973 ch. 4) is already closed: no
+    # more points, an end of that bracket returned. The same through confirm_edges.
+    lo1, _ = tongue(1)
+    x = lo1 * (1 + 5e-3)
+    ends = pytest.approx([max(LO, x * (1 - HALF[2])), min(HI, x * (1 + HALF[2]))], rel=1e-15)
+    probe = make_probe()
+    placed = place_edge(probe, Edge(x, False), True, LO, HI, 1e-2)
+    assert probe.count == 8 and probe.points[4:6] == ends
+    assert [placed.x] == pytest.approx([e for e in ends.expected if e == placed.x])
+    probe = make_probe()
+    (row,) = confirm_edges(probe, (Edge(x, False),), True, LO, HI, rtol=1e-2)
+    assert probe.count == 8 and row.x == placed.x and row.gained is False
+    # at 1e-9 it is closed to the Mathieu edge within 1e-9 (relative, plus the reference's)
+    probe = make_probe()
+    placed = place_edge(probe, Edge(x, False), True, LO, HI, 1e-9)
+    assert abs(placed.x / lo1 - 1) < 3e-9
