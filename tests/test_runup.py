@@ -182,20 +182,23 @@ def test_inverted_is_unstable_from_the_low_speed_floor(result):
     assert result["inverted"]["ok"] is False
 
 
+NOTE = ("frozen-speed (adiabatic) estimate: the product of the largest Floquet multiplier over "
+        "the cycles spent in each unstable interval; below the low-speed floor the pivot's "
+        "peak acceleration is under 0.05 g and nothing is taken to grow")
+RUNDOWN = ("the run-down passes the same intervals in reverse: at the same rate the same "
+           "amplification")
+
+
 def test_the_json_echoes_its_inputs_and_multiplies_the_crossings(result):
     # the inputs as given (SI and rpm), the floor by its rule (above), and the totals by hand:
     # the product of the crossings' amplifications, the largest minimum rate
     assert (result["rate_rpm_s"], result["factor"], result["start_rpm"], result["end_rpm"],
             result["stroke_m"]) == (RATE, 10.0, 0.0, END, STROKE)
-    assert result["note"] == (
-        "frozen-speed (adiabatic) estimate: the product of the largest Floquet multiplier over "
-        "the cycles spent in each unstable interval; below the low-speed floor the pivot's "
-        "peak acceleration is under 0.05 g and nothing is taken to grow")
+    assert result["note"] == NOTE
     hanging = result["hanging"]
     assert hanging["total_amplification"] == pytest.approx(
         math.prod(c["amplification"] for c in hanging["crossings"]), rel=1e-15)
-    assert hanging["rundown"] == ("the run-down passes the same intervals in reverse: at the "
-                                  "same rate the same amplification")
+    assert hanging["rundown"] == RUNDOWN
     # each crossing costs the scan's probes and 20 Gauss nodes: more than 20 per crossing
     assert result["evaluations"] > 20 * 3
 
@@ -207,14 +210,18 @@ def test_a_still_pivot_crosses_nothing():
     data = R.rig([R.link(LENGTH, 0.0, [(0.1, LENGTH)])], R.sine(0.0, END), limits=LIMITS)
     got = runup(ss.rig_from_dict(data), rate_rpm_s=RATE)
     assert got["low_speed_floor_rpm"] == math.inf and got["evaluations"] == 0
+    assert (got["start_rpm"], got["end_rpm"]) == (0.0, END)  # from rest to the operating speed
     for eq in ("hanging", "inverted"):
         assert got[eq]["crossings"] == [] and got[eq]["total_amplification"] == 1.0
+        assert json.dumps(got[eq]["total_amplification"]) == "1.0"  # the JSON's empty product
         assert got[eq]["min_rate_rpm_s"] == 0.0 and got[eq]["ok"] is True
 
 
 @pytest.mark.parametrize("kwargs, words", [
     ({"rate_rpm_s": 0.0}, "rate_rpm_s: 0.0 must be a finite number above 0 rpm/s"),
     ({"rate_rpm_s": 0.5}, None),  # a slow ramp is allowed
+    ({"rate_rpm_s": 1.0, "factor": 1.5}, None),  # any factor above 1
+    ({"rate_rpm_s": 1.0, "end_rpm": 0.5}, None),  # any end above 0 rpm
     ({"rate_rpm_s": math.inf}, "rate_rpm_s: inf must be a finite number above 0 rpm/s"),
     ({"rate_rpm_s": 1.0, "factor": 1.0}, "factor: 1.0 must be a finite number above 1"),
     ({"rate_rpm_s": 1.0, "factor": math.nan}, "factor: nan must be a finite number above 1"),
@@ -454,6 +461,11 @@ def test_runup_from_inside_the_range_with_another_factor(model, monkeypatch, fac
     got = runup(model, rate_rpm_s=RATE, start_rpm=500.0, factor=factor)
     assert (got["start_rpm"], got["end_rpm"], got["factor"]) == (500.0, END, factor)
     assert got["evaluations"] == len(calls)
+    assert (got["note"], got["hanging"]["rundown"], got["inverted"]["rundown"]) == (
+        NOTE, RUNDOWN, RUNDOWN)
+    for eq in ("hanging", "inverted"):  # one crossing each: the total is its amplification
+        (c,) = got[eq]["crossings"]
+        assert got[eq]["total_amplification"] == c["amplification"]
     lo1, hi1 = tongue_rpm()
     simulated = transfer_gain(lo1, hi1, RATE)
     assert 21.0 < math.exp(frozen_integral(lo1, hi1) / RATE) < 30.0 < simulated < 50.0
