@@ -285,11 +285,13 @@ def counted_stability(monkeypatch):
     return calls
 
 
-@pytest.mark.parametrize("start, end", [(560.0, END), (END, 560.0), (500.0, 600.0)])
+@pytest.mark.parametrize("start, end", [(560.0, END), (END, 560.0), (500.0, 600.0),
+                                        (547.0, 600.0)])
 def test_runs_starting_or_ending_inside_the_principal_tongue(model, monkeypatch, start, end):
-    # A run from 560 rpm starts inside the tongue (a_1's speed is 547): the interval opens at
-    # the run's start; a run-down (start above end) meets the same interval; a run to 600 rpm
-    # ends inside it: the interval closes at the run's end. Numbers: the Mathieu ends, the
+    # A run from 560 rpm starts inside the tongue (a_1's speed is 547.14): the interval opens
+    # at the run's start; a run-down (start above end) meets the same interval; a run to 600
+    # rpm ends inside it: the interval closes at the run's end; from 547 rpm the first step
+    # already crosses a_1's speed. Numbers: the Mathieu ends, the
     # frozen growth exp(I / R) by quad over solve_ivp multipliers, the ramp by solve_ivp + svd,
     # seconds (b - a) / R, cycles (b^2 - a^2) / (120 R) (hand), and the evaluations reported
     # = the stability evaluations counted here.
@@ -476,5 +478,9 @@ def test_runup_from_inside_the_range_with_another_factor(model, monkeypatch, fac
     for eq, (a, b) in (("hanging", (lo1, hi1)), ("inverted", (500.0, END))):
         rate = got[eq]["min_rate_rpm_s"]
         assert factor / 1.02 * (1 - REL) <= transfer_gain(a, b, rate, eq) <= factor * (1 + REL)
-    # an empty span (start = end) crosses nothing and evaluates nothing
+    # an empty span (start = end) crosses nothing and evaluates nothing; a span between the
+    # tongues (Mathieu: b_2's speed 299 < 350, 500 < a_1's 547) crosses nothing either
     assert crossings(model, "hanging", 500.0, 500.0, RATE) == ([], 0)
+    assert tongue_rpm(2)[1] < 350.0 and 500.0 < lo1
+    calls.clear()
+    assert crossings(model, "hanging", 350.0, 500.0, RATE) == ([], len(calls))
