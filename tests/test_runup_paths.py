@@ -240,3 +240,65 @@ def test_runup_from_inside_the_range_with_another_factor(model, monkeypatch, fac
     assert tongue_rpm(2)[1] < 350.0 and 500.0 < lo1
     calls.clear()
     assert crossings(model, "hanging", 350.0, 500.0, RATE) == ([], len(calls))
+
+
+def law(monkeypatch, ln_growth):
+    """Stand in a known growth law ln g(R) for the simulated ramp and record the rates asked:
+    the search's rule is then checked in closed form (hand), without solving a ramp."""
+    from shakestill.equilibria import runup as ru
+    tried = []
+
+    def ramp(model, equilibrium, a, b, rate):
+        tried.append(rate)
+        return math.exp(ln_growth(rate))
+    monkeypatch.setattr(ru, "ramp_amplification", ramp)
+    return ru, tried
+
+
+@pytest.mark.parametrize("prefactor", [math.log(2.0), -5.0])
+def test_minimum_rate_search_on_a_growth_law_linear_in_one_over_r(model, monkeypatch,
+                                                                  prefactor):
+    # ln g = I / R + c, a line in 1 / R (the docstring's model): from R = I / ln F the first
+    # secant runs through the origin; the second, through two points of the line, lands on
+    # the middle of the 2% window, ln F - ln(1.01) (hand): R = I / (ln F - ln 1.01 - c).
+    # With c = ln 2 the first ramp is too slow and the step stays in the bracket; with c = -5
+    # the first is fast enough but below the window and the secant through the origin points
+    # back past it: the rule doubles 1 / R (R / 2) instead.
+    integral, factor = 0.5 if prefactor > 0 else 50.0, 10.0
+    ru, tried = law(monkeypatch, lambda r: integral / r + prefactor)
+    got = ru._min_rate(model, "hanging", 500.0, 600.0, integral, factor)
+    want = integral / (math.log(factor) - math.log1p(0.01) - prefactor)
+    assert got == pytest.approx(want, rel=1e-12)
+    assert len(tried) == 3 and tried[0] == pytest.approx(integral / math.log(factor), rel=1e-15)
+    if prefactor < 0:
+        assert tried[1] == pytest.approx(tried[0] / 2, rel=1e-15)
+
+
+def test_minimum_rate_search_gives_up_after_eight_ramps(model, monkeypatch):
+    # A growth that jumps over the window at R0 (ln F + 1 below it, ln F - 1 from it on): no
+    # ramp lands in the window, so the search stops after its 8 ramps (RATE_STEPS, the
+    # docstring) and answers the slowest rate it found fast enough (hand: the smallest tried
+    # rate at or above R0).
+    integral, factor = 10.0, 10.0
+    r0 = 1.3 * integral / math.log(factor)
+    ru, tried = law(monkeypatch, lambda r: math.log(factor) + (1.0 if r < r0 else -1.0))
+    got = ru._min_rate(model, "hanging", 500.0, 600.0, integral, factor)
+    assert len(tried) == 8
+    assert got == min(r for r in tried if r >= r0)
+    assert got < 1.5 * r0  # the bracket closed in on R0 by the bisections
+
+
+@pytest.mark.parametrize("cycles", [20080.0, 19900.0])
+def test_minimum_rate_search_never_simulates_over_20000_cycles(model, monkeypatch, cycles):
+    # From 500 to 600 rpm a ramp at R takes (600^2 - 500^2) / (120 R) cycles (hand). With the
+    # first guess R = I / ln F set to take 20080 cycles, nothing is simulated (MAX_SIMULATED_
+    # CYCLES is 20000) and that guess is the answer; at 19900 cycles the ramp is simulated.
+    factor = 10.0
+    guess = (600.0 ** 2 - 500.0 ** 2) / 120.0 / cycles
+    integral = guess * math.log(factor)
+    ru, tried = law(monkeypatch, lambda r: integral / r)
+    got = ru._min_rate(model, "hanging", 500.0, 600.0, integral, factor)
+    if cycles > 20000:
+        assert tried == [] and got == pytest.approx(guess, rel=1e-15)
+    else:
+        assert tried[0] == pytest.approx(guess, rel=1e-15)
