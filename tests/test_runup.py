@@ -203,44 +203,6 @@ def test_the_json_echoes_its_inputs_and_multiplies_the_crossings(result):
     assert result["evaluations"] > 20 * 3
 
 
-def test_a_still_pivot_crosses_nothing():
-    # stroke 0: no pivot acceleration, the floor is infinite, nothing is crossed: the empty
-    # product 1, minimum rate 0, ok (hand, from the documented rule)
-    from shakestill.equilibria.runup import runup
-    data = R.rig([R.link(LENGTH, 0.0, [(0.1, LENGTH)])], R.sine(0.0, END), limits=LIMITS)
-    got = runup(ss.rig_from_dict(data), rate_rpm_s=RATE)
-    assert got["low_speed_floor_rpm"] == math.inf and got["evaluations"] == 0
-    assert (got["start_rpm"], got["end_rpm"]) == (0.0, END)  # from rest to the operating speed
-    for eq in ("hanging", "inverted"):
-        assert got[eq]["crossings"] == [] and got[eq]["total_amplification"] == 1.0
-        assert json.dumps(got[eq]["total_amplification"]) == "1.0"  # the JSON's empty product
-        assert got[eq]["min_rate_rpm_s"] == 0.0 and got[eq]["ok"] is True
-
-
-@pytest.mark.parametrize("kwargs, words", [
-    ({"rate_rpm_s": 0.0}, "rate_rpm_s: 0.0 must be a finite number above 0 rpm/s"),
-    ({"rate_rpm_s": 0.5}, None),  # a slow ramp is allowed
-    ({"rate_rpm_s": 1.0, "factor": 1.5}, None),  # any factor above 1
-    ({"rate_rpm_s": 1.0, "end_rpm": 0.5}, None),  # any end above 0 rpm
-    ({"rate_rpm_s": math.inf}, "rate_rpm_s: inf must be a finite number above 0 rpm/s"),
-    ({"rate_rpm_s": 1.0, "factor": 1.0}, "factor: 1.0 must be a finite number above 1"),
-    ({"rate_rpm_s": 1.0, "factor": math.nan}, "factor: nan must be a finite number above 1"),
-    ({"rate_rpm_s": 1.0, "start_rpm": -1.0},
-     "start_rpm and end_rpm: speeds must be at least 0 rpm"),
-    ({"rate_rpm_s": 1.0, "end_rpm": 0.0}, "start_rpm and end_rpm: speeds must be at least 0 rpm"),
-])
-def test_bad_run_up_requests_are_named(kwargs, words):
-    from shakestill.equilibria.runup import runup
-    data = R.rig([R.link(LENGTH, 0.0, [(0.1, LENGTH)])], R.sine(0.0, END), limits=LIMITS)
-    rig = ss.rig_from_dict(data)
-    if words is None:
-        assert runup(rig, **kwargs)["rate_rpm_s"] == kwargs["rate_rpm_s"]
-    else:
-        with pytest.raises(ValueError) as err:
-            runup(rig, **kwargs)
-        assert str(err.value) == words
-
-
 def test_words_round_rates_and_cycles_as_people_read_them(result, tmp_path):
     # The CLI's words for the same run: rates to three significant digits with thousands
     # written out (8,100, never 8.1e+03), and a crossing shorter than half a cycle said as

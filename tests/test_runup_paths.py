@@ -8,14 +8,57 @@ first test that uses it only).
 
 from __future__ import annotations
 
+import json
 import math
 
 import numpy as np
 import pytest
 
 import shakestill as ss
-from test_runup import (END, G, NOTE, RATE, REL, RUNDOWN, STROKE, frozen_integral,
-                        max_multiplier, rig_data, tongue_rpm, transfer_gain)
+from test_runup import (END, G, LENGTH, LIMITS, NOTE, RATE, REL, RUNDOWN, STROKE, R,
+                        frozen_integral, max_multiplier, rig_data, tongue_rpm, transfer_gain)
+
+
+def test_a_still_pivot_crosses_nothing():
+    # stroke 0: no pivot acceleration, the floor is infinite, nothing is crossed: the empty
+    # product 1, minimum rate 0, ok (hand, from the documented rule)
+    from shakestill.equilibria.runup import runup
+    data = R.rig([R.link(LENGTH, 0.0, [(0.1, LENGTH)])], R.sine(0.0, END), limits=LIMITS)
+    got = runup(ss.rig_from_dict(data), rate_rpm_s=RATE)
+    assert got["low_speed_floor_rpm"] == math.inf and got["evaluations"] == 0
+    assert (got["start_rpm"], got["end_rpm"]) == (0.0, END)  # from rest to the operating speed
+    assert (got["rate_rpm_s"], got["factor"], got["stroke_m"]) == (RATE, 10.0, 0.0)  # as given
+    for eq in ("hanging", "inverted"):
+        assert got[eq]["crossings"] == [] and got[eq]["total_amplification"] == 1.0
+        assert json.dumps(got[eq]["total_amplification"]) == "1.0"  # the JSON's empty product
+        assert got[eq]["min_rate_rpm_s"] == 0.0 and got[eq]["ok"] is True
+
+
+@pytest.mark.parametrize("kwargs, words", [
+    ({"rate_rpm_s": 0.0}, "rate_rpm_s: 0.0 must be a finite number above 0 rpm/s"),
+    ({"rate_rpm_s": 0.5}, None),  # a slow ramp is allowed
+    ({"rate_rpm_s": 1.0, "factor": 1.5}, None),  # any factor above 1
+    ({"rate_rpm_s": 1.0, "end_rpm": 0.5}, None),  # any end above 0 rpm
+    ({"rate_rpm_s": math.inf}, "rate_rpm_s: inf must be a finite number above 0 rpm/s"),
+    ({"rate_rpm_s": 1.0, "factor": 1.0}, "factor: 1.0 must be a finite number above 1"),
+    ({"rate_rpm_s": 1.0, "factor": math.nan}, "factor: nan must be a finite number above 1"),
+    ({"rate_rpm_s": 1.0, "start_rpm": -1.0},
+     "start_rpm and end_rpm: speeds must be at least 0 rpm"),
+    ({"rate_rpm_s": 1.0, "end_rpm": 0.0}, "start_rpm and end_rpm: speeds must be at least 0 rpm"),
+])
+def test_bad_run_up_requests_are_named(kwargs, words):
+    from shakestill.equilibria.runup import runup
+    data = R.rig([R.link(LENGTH, 0.0, [(0.1, LENGTH)])], R.sine(0.0, END), limits=LIMITS)
+    rig = ss.rig_from_dict(data)
+    if words is None:
+        got = runup(rig, **kwargs)
+        assert got["rate_rpm_s"] == kwargs["rate_rpm_s"]
+        assert got["end_rpm"] == kwargs.get("end_rpm", END)  # default: the operating speed
+        assert got["factor"] == kwargs.get("factor", 10.0)
+    else:
+        with pytest.raises(ValueError) as err:
+            runup(rig, **kwargs)
+        assert str(err.value) == words
 
 
 FLOOR = math.sqrt(0.05 * G / (STROKE / 2)) * 60 / (2 * math.pi)  # A w^2 = 0.05 g (above)
