@@ -132,6 +132,31 @@ EQUIVALENT.update({
 })
 
 
+# equilibria/runup.py (issue 12, mutrun)
+_R = "shakestill.equilibria.runup.x_"
+EQUIVALENT.update({
+    _R + "_log_integral__mutmut_5": "peak starts at 1.0 for 0.0: every Gauss node lies inside an "
+                                    "unstable interval, where the largest multiplier exceeds 1, "
+                                    "so the maximum over the nodes is the same",
+    _R + "_log_integral__mutmut_23": "s = a + half (1 + cos theta) for (1 - cos theta): the "
+                                     "Gauss-Legendre nodes and weights are symmetric (x -> -x maps "
+                                     "theta to pi - theta), so the same terms are summed in the "
+                                     "reverse order (equal to rounding, 1e-16)",
+    _R + "_log_integral__mutmut_37": "verify=None for False: stability() reads it only as a "
+                                     "truth value (`if verify`, `not verify`), None and False "
+                                     "alike",
+    _R + "crossings__mutmut_22": "stroke = None: the probe passes stroke_m=None to stability(), "
+                                 "which means the model's own stroke, rig.drive.stroke_m",
+    _R + "_min_rate__mutmut_84": "low_x = 1 / fast also when fast is inf: 1 / math.inf is "
+                                 "0.0, the else value",
+    _R + "_min_rate__mutmut_87": "fast <= math.inf for <: true for inf too, and then 1 / inf "
+                                 "is 0.0, the else value (as mutmut_84)",
+    _R + "ramp_amplification__mutmut_12": "sign from b > a for b >= a: they differ only at "
+                                          "b == a, a ramp lasting 0 s whose transfer matrix is "
+                                          "the identity whatever alpha's sign",
+})
+
+
 def stage(modules: list[str], tests: list[str]) -> None:
     if STAGE.exists():
         shutil.rmtree(STAGE)

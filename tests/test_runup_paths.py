@@ -317,18 +317,26 @@ def test_minimum_rate_search_on_a_growth_law_linear_in_one_over_r(model, monkeyp
         assert tried[1] == pytest.approx(tried[0] / 2, rel=1e-15)
 
 
-def test_minimum_rate_search_gives_up_after_eight_ramps(model, monkeypatch):
+@pytest.mark.parametrize("integral, b", [(10.0, 600.0), (0.01, 500.5)])
+def test_minimum_rate_search_gives_up_after_eight_ramps(model, monkeypatch, integral, b):
     # A growth that jumps over the window at R0 (ln F + 1 below it, ln F - 1 from it on): no
     # ramp lands in the window, so the search stops after its 8 ramps (RATE_STEPS, the
     # docstring) and answers the slowest rate it found fast enough (hand: the smallest tried
-    # rate at or above R0).
-    integral, factor = 10.0, 10.0
+    # rate at or above R0). I = 0.01 puts every rate under 1 rpm/s (a narrow tongue's, here
+    # 500 to 500.5 rpm: some 800 cycles, under the 20000 simulated at most).
+    factor = 10.0
     r0 = 1.3 * integral / math.log(factor)
     ru, tried = law(monkeypatch, lambda r: math.log(factor) + (1.0 if r < r0 else -1.0))
-    got = ru._min_rate(model, "hanging", 500.0, 600.0, integral, factor)
+    got = ru._min_rate(model, "hanging", 500.0, b, integral, factor)
     assert len(tried) == 8
     assert got == min(r for r in tried if r >= r0)
     assert got < 1.5 * r0  # the bracket closed in on R0 by the bisections
+    # each rate tried lies inside the bracket of the rates tried before it: faster than every
+    # one found too slow, slower than every one found fast enough (the docstring's rule)
+    for k, rate in enumerate(tried):
+        slow = [r for r in tried[:k] if r < r0]
+        fast = [r for r in tried[:k] if r >= r0]
+        assert max(slow, default=0.0) < rate < min(fast, default=math.inf)
 
 
 @pytest.mark.parametrize("cycles", [20080.0, 19900.0])
