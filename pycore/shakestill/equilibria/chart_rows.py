@@ -70,9 +70,11 @@ def stroke_for_peak_accel(rig: Rig, accel_m_s2: float, speed_rpm: float) -> floa
     return per / unit
 
 
-def row_line(rig: Rig, y_axis: str, y: float):
-    """(point(x) -> (speed, stroke), speed_min, speed_max) for a row, or None if empty."""
-    lo, hi = speed_range(rig)
+def row_line(model: Rig | Model, y_axis: str, y: float):
+    """(point(x) -> (speed, stroke), speed_min, speed_max) for a row, or None if empty.
+    Give the derived model where there is one: a rig is derived again for the speed range."""
+    lo, hi = speed_range(model)
+    rig = as_model(model).rig
     if y_axis == "stroke":
         return (lambda x: (x, y)), lo, hi
     top = max_stroke_m(rig)
@@ -97,7 +99,7 @@ def row_settings(model: Model, point, lo: float, hi: float, eq: str, modal=None)
 def scan_row(model: Model, y_axis: str, y: float, equilibria, guide=None) -> Row | None:
     """One row: follow the edges of two computed neighbour rows where they agree
     (bracketed root finding near the interpolated edges), else walk the whole row."""
-    line = row_line(model.rig, y_axis, y)
+    line = row_line(model, y_axis, y)
     if line is None:
         return None
     point, lo, hi = line
