@@ -89,9 +89,32 @@ def test_chart_points_of_a_crank_at_the_charts_own_steps(eq, speed):
         assert got.stable == (max(abs(want)) < 1.0 + (0.0 if links is ONE_LINK else 1e-9))
 
 
+DAMPED_TWO = [ref.link(0.15, 0.03, [], 0.0, 2e-4), ref.link(0.12, 0.02, [(0.01, 0.12)], 0.0, 1e-4)]
+
+
+@pytest.mark.parametrize("eq", ["inverted", "hanging"])
+@pytest.mark.parametrize("speed", [125.0, 700.0, 3500.0])
+def test_chain_points_of_a_crank_at_the_charts_own_steps(eq, speed):
+    # The damped chain's exact probe as the chart confirms edges with it (the chain's DOP853
+    # monodromy at the chart's steps: one per drive harmonic, not two). Reference:
+    # numpy.linalg.eigvals of the solve_ivp monodromy (DOP853, rtol 1e-12); every multiplier
+    # to 1e-8 relative, and the verdict.
+    data = crank_rig(DAMPED_TWO)
+    model = derive(ss.rig_from_dict(data))
+    settings = row_settings(model, lambda x: (x, 0.036), 120.0, 3600.0, eq, modal=False)
+    got = ss.stability(model, eq, speed_rpm=speed, stroke_m=0.036, settings=settings,
+                       verify=False)
+    harmonics = model.at(speed, 0.036).harmonics.count
+    assert got.method == "monodromy" and got.work["steps"] < 2 * harmonics
+    want = ref.multipliers(ref.monodromy(data, eq, speed_rpm=speed, stroke_m=0.036))
+    assert ref.same_multipliers(got.multipliers, want, 1.0) <= 1e-8 * max(1.0, max(abs(want)))
+    assert got.stable == (max(abs(want)) < 1.0)
+
+
 def test_fixed_steps_path_keeps_its_steps():
-    # Settings(steps=n) is the step count of the scan (recorded in work): the Magnus trace
-    # takes the same n as the RK cycle did. Reference: solve_ivp's multipliers, 1e-7.
+    # Settings(steps=n) is the step count of the scan in RK steps (recorded in work, counted
+    # against the scan's RK budget) whatever the trace's own steps. Reference: solve_ivp's
+    # multipliers, 1e-7.
     data = crank_rig(ONE_LINK)
     res = ss.stability(ss.rig_from_dict(data), "inverted",
                        settings=Settings(method="monodromy", steps=24), verify=False)

@@ -29,6 +29,10 @@ FOLLOW_CHECKS = 6  # verdicts spot-checked across a followed row (geometrically 
 # (measured against 4x the steps on crank drives), so edges stay far inside the 1e-4 target.
 CHART_STEP_PHASE = 0.4
 CHART_MIN_STEPS = 12
+# and one step per drive harmonic where the check takes two: a crank's harmonics past the
+# rates' own step count are small, and multipliers stay within ~1e-8 of solve_ivp's
+# (tests/test_magnus.py; measured 2026-12-04 on two- and three-link cranks: <= 7e-9).
+CHART_HARMONIC_STEPS = 1
 @dataclass(frozen=True)
 class Row:
     """One row of the chart: its y value, stroke per speed, and each equilibrium's edges."""
@@ -90,10 +94,15 @@ def row_line(model: Rig | Model, y_axis: str, y: float):
     return (lambda x: (x, stroke_for_peak_accel(rig, y, x))), lo, hi
 
 
-def row_settings(model: Model, point, lo: float, hi: float, eq: str, modal=None):
-    corners = [model.at(v, point(v)[1]) for v in (lo, hi)]
+def chart_settings(model: Model, eq: str, corners: list[Model], modal=None):
+    """The chart's scan settings for a line between ``corners`` (its RK steps above)."""
     return scan_settings(model, eq, corners, step_phase=CHART_STEP_PHASE,
-                         min_steps=CHART_MIN_STEPS, modal=modal)
+                         min_steps=CHART_MIN_STEPS, per_harmonic=CHART_HARMONIC_STEPS,
+                         modal=modal)
+
+
+def row_settings(model: Model, point, lo: float, hi: float, eq: str, modal=None):
+    return chart_settings(model, eq, [model.at(v, point(v)[1]) for v in (lo, hi)], modal)
 
 
 def scan_row(model: Model, y_axis: str, y: float, equilibria, guide=None) -> Row | None:

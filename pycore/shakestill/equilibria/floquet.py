@@ -29,6 +29,10 @@ CONVERGENCE_TOLERANCE = 1e-8  # accepted change of the multipliers under refinem
 MIN_STEPS = 24  # RK steps per cycle, never fewer
 STEP_PHASE = 0.2  # target of (fastest linear rate) x (step) for the 8th-order step
 MAX_STEPS = 4000  # a cycle finer than this is not worth it: report non-convergence
+HARMONIC_STEPS = 2  # RK steps per drive harmonic, at least
+# Magnus steps (sixth order) per DOP853 step (eighth) of a 2 x 2 trace: at the chart's crank
+# steps one each left traces ~2e-8 to 9e-8 from solve_ivp's, 1.5 each ~1e-9 to 5e-9 (2026-12-04)
+MAGNUS_STEP_RATIO = 1.5
 MODAL_METHOD = "hill (sway modes)"
 DECOUPLED = 1e-12  # modal damping coupling at round-off: the modes are the chain exactly
 MAX_HILL_WORK = 4_000_000  # rows x band width^2 of one Hill determinant (about 2 s): a
@@ -73,6 +77,7 @@ class Settings:
     # then); by default they are used where exact.
     step_phase: float = STEP_PHASE  # RK steps chosen per point: see default_steps
     min_steps: int = MIN_STEPS
+    per_harmonic: float = HARMONIC_STEPS
 
 
 def modes_decouple(model: Rig | Model) -> bool:
@@ -211,22 +216,23 @@ def _rk_trace_stability(m: Model, equilibrium: str, settings: Settings, *,
     """One link (or each sway mode, ``modal``) by the trace of its 2 x 2 monodromy, judged
     like Hill's trace (same margin), for scans of drives with many harmonics, where a fixed
     cycle is cheaper than the band LU. The damping is taken out (u = exp(gamma t) q) and the
-    cycle of u'' + (kappa G(t) - gamma^2) u = 0 is the sixth-order Magnus step (``magnus``)
-    at the RK step count: traces to ~1e-10 where DOP853's were ~1e-13, in a quarter of the
-    time (tests/test_floquet_paths.py holds both to solve_ivp)."""
+    cycle of u'' + (kappa G(t) - gamma^2) u = 0 is the sixth-order Magnus step (``magnus``),
+    MAGNUS_STEP_RATIO of them per RK step: traces to ~1e-9 (the chart's crank rows), in a
+    third of DOP853's time (tests/test_magnus.py holds them to solve_ivp)."""
     n = _steps(m, equilibrium, settings)
+    steps = math.ceil(MAGNUS_STEP_RATIO * n)
     if modal:
         sign = -1.0 if equilibrium == "inverted" else 1.0
         forms = [(sign / length, c) for length, c in zip(m.modes.lengths_m, m.modes.damping)]
     else:
         lin = m.of(equilibrium).linear
         forms = [(lin.K[0][0] / lin.M[0][0], lin.D[0][0] / lin.M[0][0])]
-    nodes, period = _G_nodes(m.rig, n, GAUSS_NODES), 1.0 / m.rig.drive.frequency_hz
+    nodes, period = _G_nodes(m.rig, steps, GAUSS_NODES), 1.0 / m.rig.drive.frequency_hz
     margins, rhos = [], []
     for kappa, c in forms:
         gamma = 0.5 * c
         shift = gamma * gamma
-        trace = magnus_trace([kappa * G - shift for G in nodes], period, n)
+        trace = magnus_trace([kappa * G - shift for G in nodes], period, steps)
         gamma_T = gamma * period
         margins.append(abs(trace) - 2.0 * math.cosh(gamma_T))
         rhos.extend(multipliers_from_trace(trace, math.exp(-gamma_T)))
@@ -238,9 +244,10 @@ def _rk_trace_stability(m: Model, equilibrium: str, settings: Settings, *,
 
 
 def default_steps(model: Rig | Model, equilibrium: str, *, step_phase: float = STEP_PHASE,
-                  min_steps: int = MIN_STEPS) -> int:
+                  min_steps: int = MIN_STEPS, per_harmonic: float = HARMONIC_STEPS) -> int:
     """Steps per cycle from the fastest rate of the linear system over the cycle:
-    (rate) x (step) = ``step_phase``, at least ``min_steps`` and two per drive harmonic.
+    (rate) x (step) = ``step_phase``, at least ``min_steps`` and ``per_harmonic`` per drive
+    harmonic.
 
     The rate is sqrt(G_peak * |eig B|) + |eig C|; the crank's peak acceleration is taken
     at top dead centre, r omega^2 (1 + r/l), which is close enough to choose a step.
@@ -257,12 +264,13 @@ def default_steps(model: Rig | Model, equilibrium: str, *, step_phase: float = S
     rate = math.sqrt((rig.g_m_s2 + peak) * eq.stiffness_rate) + eq.damping_rate
     harmonics = m.harmonics.count
     steps = math.ceil(rate / d.frequency_hz / step_phase)
-    return min(MAX_STEPS, max(min_steps, 2 * harmonics, steps))
+    return min(MAX_STEPS, max(min_steps, math.ceil(per_harmonic * harmonics), steps))
 
 
 def _steps(m: Model, equilibrium: str, settings: Settings) -> int:
     return settings.steps or default_steps(m, equilibrium, step_phase=settings.step_phase,
-                                           min_steps=settings.min_steps)
+                                           min_steps=settings.min_steps,
+                                           per_harmonic=settings.per_harmonic)
 
 
 def _G_nodes(rig: Rig, steps: int, stages: tuple[float, ...] = STAGE_NODES) -> list[float]:

@@ -14,8 +14,8 @@ import math
 from dataclasses import dataclass
 from typing import Callable, Iterator
 
-from .floquet import (MIN_STEPS, STEP_PHASE, Settings, Stability, default_steps, hill_form,
-                      mode_forms, modes_decouple, stability)
+from .floquet import (HARMONIC_STEPS, MIN_STEPS, STEP_PHASE, Settings, Stability,
+                      default_steps, hill_form, mode_forms, modes_decouple, stability)
 from ..numerics.hill import default_truncation, needed_harmonics
 from ..model.derived import Model, as_model
 from ..model.rig import Rig
@@ -29,9 +29,10 @@ STROKE_POINTS = 50  # scan points across a stroke range
 PEAK_FLOOR = 1e-12  # relative rise that counts as a peak (well above round-off)
 # Cost model of one link's two exact methods (microseconds, measured on CPython 3.11; only
 # the ratio matters): Hill's band LU with more than one harmonic per entry of its band, the
-# fixed cycle per step (the Magnus step of floquet's trace, with its share of the call;
-# measured 2026-12-04 side by side: 0.04-0.06 and 1.1-1.4). A scan takes the cheaper one
-# (a sine keeps Hill's tridiagonal form).
+# fixed cycle per RK step (floquet's Magnus trace: MAGNUS_STEP_RATIO Magnus steps). Measured
+# 2026-12-04: 0.04-0.06 a band unit (small bands, fixed costs included), 1.1-1.4 a Magnus
+# step; in whole crank charts 1.25 a step beat 1.875 by 30% (wider bands cost more a unit).
+# A scan takes the cheaper one (a sine keeps Hill's tridiagonal form).
 HILL_BAND_US = 0.05
 RK_STEP_US = 1.25
 
@@ -46,23 +47,23 @@ class Edge:
 
 def scan_settings(model: Model, equilibrium: str, corners: list[Model], *,
                   step_phase: float = STEP_PHASE, min_steps: int = MIN_STEPS,
-                  modal: bool | None = None) -> Settings:
+                  per_harmonic: float = HARMONIC_STEPS, modal: bool | None = None) -> Settings:
     """Numerical settings good enough at every corner of a scan: Hill rows and harmonics
     (one link, or each sway mode of several), or fixed RK steps. Several links are taken by
     their modes where that is exact (``modes_decouple``), or where ``modal`` asks for it as
-    a predictor; else RK steps are chosen at each point from its own rates. ``step_phase``
-    and ``min_steps`` size the RK steps (see default_steps)."""
+    a predictor; else RK steps are chosen at each point from its own rates. ``step_phase``,
+    ``min_steps`` and ``per_harmonic`` size the RK steps (see default_steps)."""
     several = model.rig.n_links > 1
     if modal is None:
         modal = several and modes_decouple(model)
     if several and not modal:
-        return Settings(step_phase=step_phase, min_steps=min_steps)
+        return Settings(step_phase=step_phase, min_steps=min_steps, per_harmonic=per_harmonic)
     forms = [f for c in corners
              for f in (mode_forms(c, equilibrium) if several else (hill_form(c, equilibrium),))]
     steps = None
     if any(len(f.theta) > 1 for f in forms):
-        steps = max(default_steps(c, equilibrium, step_phase=step_phase, min_steps=min_steps)
-                    for c in corners)
+        steps = max(default_steps(c, equilibrium, step_phase=step_phase, min_steps=min_steps,
+                                  per_harmonic=per_harmonic) for c in corners)
     rows, kept = 0, 1
     for form in forms:
         most = _affordable_harmonics(form, steps)
