@@ -227,12 +227,13 @@ def _rk_trace_stability(m: Model, equilibrium: str, settings: Settings, *,
     else:
         lin = m.of(equilibrium).linear
         forms = [(lin.K[0][0] / lin.M[0][0], lin.D[0][0] / lin.M[0][0])]
-    nodes, period = _G_nodes(m.rig, steps, GAUSS_NODES), 1.0 / m.rig.drive.frequency_hz
+    accel, w2, g = _cycle(m.rig, steps, GAUSS_NODES)
+    period = 1.0 / m.rig.drive.frequency_hz
     margins, rhos = [], []
     for kappa, c in forms:
-        gamma = 0.5 * c
-        shift = gamma * gamma
-        trace = magnus_trace([kappa * G - shift for G in nodes], period, steps)
+        gamma = 0.5 * c  # p = kappa (g + w2 a) - gamma^2
+        trace = magnus_trace(accel, period, steps, scale=kappa * w2,
+                             offset=kappa * g - gamma * gamma)
         gamma_T = gamma * period
         margins.append(abs(trace) - 2.0 * math.cosh(gamma_T))
         rhos.extend(multipliers_from_trace(trace, math.exp(-gamma_T)))
@@ -273,14 +274,20 @@ def _steps(m: Model, equilibrium: str, settings: Settings) -> int:
                                            per_harmonic=settings.per_harmonic)
 
 
-def _G_nodes(rig: Rig, steps: int, stages: tuple[float, ...] = STAGE_NODES) -> list[float]:
-    """G = g + y_p'' at ``stages`` (fractions of a step) of every step, step-major."""
+def _G_nodes(rig: Rig, steps: int) -> list[float]:
+    """G = g + y_p'' at the RK stages of every step, step-major."""
+    nodes, w2, g = _cycle(rig, steps, STAGE_NODES)
+    return [g + w2 * a for a in nodes]
+
+
+def _cycle(rig: Rig, steps: int, stages: tuple[float, ...]):
+    """(d2y/dphi2 at ``stages`` (fractions of a step) of every step, omega^2, g): G = g +
+    omega^2 d2y/dphi2 there."""
     d = rig.drive
     omega = 2 * math.pi * d.frequency_hz
-    w2, g = omega * omega, rig.g_m_s2
     nodes = _phase_accel_nodes(d.waveform, d.stroke_m, d.rod_length_m, d.samples_m,
                                d.samples_stroke_m, steps, stages)
-    return [g + w2 * a for a in nodes]
+    return nodes, omega * omega, rig.g_m_s2
 
 
 @lru_cache(maxsize=256)
@@ -290,8 +297,8 @@ def _phase_accel_nodes(waveform, stroke_m, rod_length_m, samples_m, samples_stro
     so a scan along speed at one stroke computes it once."""
     shape = drv.Drive(waveform, 1.0, stroke_m, rod_length_m, samples_m, samples_stroke_m)
     dphi = 2 * math.pi / steps
-    return tuple(drv.phase_accel_m(shape, (s + c) * dphi)
-                 for s in range(steps) for c in stages)
+    return tuple(drv.phase_accels_m(shape, [(s + c) * dphi for s in range(steps)
+                                            for c in stages]))
 
 
 def monodromy(rig: Rig | Model, equilibrium: str, speed_rpm: float | None = None,

@@ -28,11 +28,13 @@ GAUSS_NODES = (0.5 - _R15 / 10.0, 0.5, 0.5 + _R15 / 10.0)  # fractions of a step
 _SMALL = 1e-8  # |s^2| below this: sinh(s)/s and cosh(s) by their series (error < 1e-17)
 
 
-def hill_trace(p_nodes: Sequence[float], period: float, steps: int) -> float:
-    """Trace of the one-period monodromy of u'' + p(t) u = 0.
+def hill_trace(nodes: Sequence[float], period: float, steps: int, *, scale: float = 1.0,
+               offset: float = 0.0) -> float:
+    """Trace of the one-period monodromy of u'' + p(t) u = 0, p = offset + scale * node.
 
-    ``p_nodes`` holds p at the Gauss nodes of every step, ``3 * steps`` values,
-    step-major (``p_nodes[3 s + i]`` at t = (s + GAUSS_NODES[i]) h, h = period / steps).
+    ``nodes`` holds the nodes at the Gauss points of every step, ``3 * steps`` values,
+    step-major (``nodes[3 s + i]`` at t = (s + GAUSS_NODES[i]) h, h = period / steps):
+    a scan passes the drive's cycle, cached per stroke, and each point's scale and offset.
     """
     h = period / steps
     k2 = _R15 * h / 3.0
@@ -40,7 +42,9 @@ def hill_trace(p_nodes: Sequence[float], period: float, steps: int) -> float:
     m00, m01, m10, m11 = 1.0, 0.0, 0.0, 1.0
     cos, sin, sqrt, cosh, sinh = math.cos, math.sin, math.sqrt, math.cosh, math.sinh
     for i in range(0, 3 * steps, 3):
-        p1, p2, p3 = p_nodes[i], p_nodes[i + 1], p_nodes[i + 2]
+        p1 = offset + scale * nodes[i]
+        p2 = offset + scale * nodes[i + 1]
+        p3 = offset + scale * nodes[i + 2]
         # a1 = (0, h, c1); a2 = (0, 0, c2); a3 = (0, 0, c3) as (a, b, c)
         c1 = -h * p2
         c2 = -k2 * (p3 - p1)
