@@ -11,10 +11,11 @@
 // first such call adopts the worker started here).
 (() => {
   const INDEX = [/* @INDEX@ */]; // [{path, type, size}] in archive order
+  const EARLY = {/* @EARLY@ */}; // {path: {type, text}}: small files the page reads at once
   const ELEMENT = "@ELEMENT@";
   const WORKER_ELEMENT = "@WORKER@"; // the gzipped worker bundle, parsed before this script
   const base = new URL("./", location.href).href;
-  const paths = new Set(INDEX.map((entry) => entry.path));
+  const paths = new Set([...INDEX.map((entry) => entry.path), ...Object.keys(EARLY)]);
   // The page's Trusted Types policy list names this one (offline.py edits the CSP).
   const policy = self.trustedTypes
     ? trustedTypes.createPolicy("shakestill-offline", {
@@ -78,6 +79,9 @@
   window.fetch = async (input, init) => {
     const path = embeddedPath(input);
     if (path === null) return nativeFetch(input, init);
+    if (Object.hasOwn(EARLY, path)) {
+      return new Response(EARLY[path].text, { headers: { "Content-Type": EARLY[path].type } });
+    }
     const { buffer, files } = await unpack();
     const file = files.get(path);
     const bytes = buffer.slice(file.offset, file.offset + file.size);
