@@ -52,8 +52,9 @@ TESTS = [
     "tests/test_ref_kapitza.py",
     "tests/test_ref_mathieu.py", "tests/test_hill.py", "tests/test_ref_crank.py",
     "tests/test_ref_monodromy.py", "tests/test_loads.py", "tests/test_fit.py",
-    "tests/test_stability_chart.py", "tests/test_runup.py", "tests/test_modal_charts.py",
-    "tests/test_modes.py", "tests/test_cli_paths.py",
+    "tests/test_stability_chart.py", "tests/test_runup.py", "tests/test_runup_paths.py",
+    "tests/test_modal_charts.py",
+    "tests/test_modes.py", "tests/test_cli_paths.py", "tests/test_confirm_path.py",
 ]
 # Survivors judged equivalent (the mutant computes the same numbers), by mutmut's name, with
 # the reason; DEVELOPERS.md carries the same list.
