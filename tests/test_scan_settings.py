@@ -1,0 +1,149 @@
+"""Windows of rigs whose scans take the several-link, modal and crank settings, and the walk's
+peak search in an unstable stretch, against outside references (issue 12).
+
+- Every edge a window reports is checked where it matters to a user: the verdict of the
+  linearised chain's monodromy, integrated by scipy.integrate.solve_ivp (DOP853, 1e-12,
+  tests/refsolvers.py) with its multipliers by numpy.linalg.eigvals, flips across the edge:
+  stable on the inside at 1e-7 relative from it, unstable on the outside.
+- The hidden stable island: the Mathieu stability chart (scipy.special.mathieu_a/b) at q = 5,
+  where the stable band between tongue 1 (up to a_1) and tongue 2 (from b_2) is narrow.
+- The scan settings' choice of method: by the rule scan_settings documents.
+"""
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+from scipy.special import mathieu_a, mathieu_b
+
+import refsolvers as ref
+import shakestill as ss
+from shakestill.equilibria.floquet import Settings, modes_decouple
+from shakestill.equilibria.lines import Probe, scan_settings, walk
+from shakestill.equilibria.windows import window
+from shakestill.model.derived import as_model
+
+G = ref.G_STANDARD
+LIMITS = {"speed_rpm": [300.0, 6000.0], "stroke_m": [0.0, 0.05]}
+# invented two-link chain (tests/test_motion.py's TWO) and a rod-and-bob pendulum
+TWO = [ref.link(0.20, 0.04, [(0.01, 0.20)], 2e-6, 1e-4),
+       ref.link(0.15, 0.03, [(0.008, 0.12)], 0.0, 1e-4)]
+UNDAMPED_TWO = [dict(lk, joint_damping_N_m_s=0.0) for lk in TWO]
+ONE = [ref.link(0.25, 0.04, [(0.025, 0.24)], 0.0, 3e-4)]
+NEAR = 1e-7  # relative step either side of an edge for the reference verdicts
+
+
+def biggest_multiplier(data, equilibrium, axis, x):
+    kw = {"speed_rpm": x} if axis == "speed" else {"stroke_m": x}
+    return max(abs(np.linalg.eigvals(ref.monodromy(data, equilibrium, **kw))))
+
+
+def assert_edges_flip(data, equilibrium, axis, win):
+    """Each reported edge: the reference's biggest |multiplier| is under 1 + 1e-9 (undamped
+    points sit on the unit circle) on the window's side and above 1 + 1e-9 outside it."""
+    edges = [(x, side) for x, side, is_edge in ((win.low, -1, win.low_is_edge),
+                                                 (win.high, 1, win.high_is_edge)) if is_edge]
+    assert edges, win
+    for x, side in edges:
+        inside = biggest_multiplier(data, equilibrium, axis, x * (1 - side * NEAR))
+        outside = biggest_multiplier(data, equilibrium, axis, x * (1 + side * NEAR))
+        assert inside < 1 + 1e-9 < outside, (axis, x, inside, outside)
+
+
+CASES = {
+    # damping couples the sway modes: RK monodromies at each point
+    "two links, damped": (TWO, ref.sine(0.024, 2700.0)),
+    # no damping: the sway modes are exact, each by its Hill determinant
+    "two links, undamped": (UNDAMPED_TWO, ref.sine(0.024, 2700.0)),
+    # a crank's harmonics: Hill's band against the RK cycle by the cost model
+    "one link, crank": (ONE, ref.crank(0.024, 0.08, 2700.0)),
+    # both: the sway modes with a crank's harmonics
+    "two links, undamped, crank": (UNDAMPED_TWO, ref.crank(0.024, 0.08, 2700.0)),
+}
+
+
+@pytest.mark.parametrize("name", list(CASES))
+@pytest.mark.parametrize("axis", ["speed", "stroke"])
+def test_window_edges_are_where_the_solve_ivp_verdict_flips(name, axis):
+    links, drive = CASES[name]
+    data = ref.rig(links, drive, limits=LIMITS)
+    win = window(ss.rig_from_dict(data), "inverted", axis)
+    assert_edges_flip(data, "inverted", axis, win)
+
+
+def test_the_scan_method_follows_the_documented_rule():
+    # scan_settings: several links with coupled modes -> RK steps chosen at each point with the
+    # step_phase and min_steps given; asked for modes (modal=True) -> the modal predictor;
+    # undamped chain -> the exact modes; one link -> Hill (method None), a sine with one
+    # harmonic and no RK steps to compare.
+    damped = as_model(ss.rig_from_dict(ref.rig(TWO, ref.sine(0.024, 2700.0), limits=LIMITS)))
+    corners = [damped.at(speed_rpm=v) for v in (300.0, 6000.0)]
+    assert not modes_decouple(damped)
+    assert scan_settings(damped, "inverted", corners, step_phase=0.3, min_steps=30) == \
+        Settings(step_phase=0.3, min_steps=30)
+    assert scan_settings(damped, "inverted", corners, modal=True).method == "modal"
+    undamped = as_model(ss.rig_from_dict(ref.rig(UNDAMPED_TWO, ref.sine(0.024, 2700.0),
+                                                 limits=LIMITS)))
+    assert modes_decouple(undamped)
+    s = scan_settings(undamped, "inverted", [undamped.at(speed_rpm=v) for v in (300.0, 6000.0)])
+    assert (s.method, s.harmonics, s.steps) == ("modal", 1, None)
+    assert scan_settings(undamped, "inverted", [undamped], modal=False) == Settings()
+    one = as_model(ss.rig_from_dict(ref.rig(ONE, ref.sine(0.024, 2700.0), limits=LIMITS)))
+    s = scan_settings(one, "inverted", [one])
+    assert (s.method, s.harmonics, s.steps) == (None, 1, None)
+
+
+# ------------------------------------------------------------ a stable island between points
+
+Q = 5.0  # Mathieu q = stroke / l_eq
+L_EQ = 0.1  # a point mass on a light rod
+
+
+def rpm_at(a):
+    """The speed giving Mathieu a = 4 g / (l w^2) (hanging; refsolvers.mathieu_aq)."""
+    return math.sqrt(4 * G / (L_EQ * a)) * 60 / (2 * math.pi)
+
+
+def hanging_probe():
+    data = ref.rig([ref.link(L_EQ, 0.0, [(0.1, L_EQ)])], ref.sine(Q * L_EQ, rpm_at(2.0)),
+                   limits={"speed_rpm": [10.0, 6000.0], "stroke_m": [0.0, 1.0]})
+    model = as_model(ss.rig_from_dict(data))
+    stroke = model.rig.drive.stroke_m
+    corners = [model.at(speed_rpm=rpm_at(a)) for a in (1.0, 3.0)]
+    return Probe(model, "hanging", lambda x: (x, stroke), scan_settings(model, "hanging", corners))
+
+
+def test_a_stable_island_between_three_unstable_points_is_found():
+    # Walking down in speed through a = 1.4 and 1.75 (tongue 1, below a_1(5) = 1.858) to 2.5
+    # (tongue 2, above b_2(5) = 2.099): three unstable points, the margin nearest to stability
+    # at the middle one, so the walk searches [2.5, 1.4] and finds the band between: its two
+    # edges a_1 and b_2 (scipy.special), in walking order, moving up in speed lost at a_1 and
+    # gained at b_2. 1e-8 relative: the walk's EDGE_RTOL is 1e-10 on Hill's exact determinant.
+    probe = hanging_probe()
+    start = rpm_at(1.4)
+    s0 = probe(start)
+    points = [rpm_at(1.75), rpm_at(2.5)]
+    assert not s0.stable and not any(probe(x).stable for x in points)
+    edges = list(walk(probe, start, s0, points))
+    want = [(rpm_at(mathieu_a(1, Q)), False), (rpm_at(mathieu_b(2, Q)), True)]
+    assert [e.gained for e in edges] == [g for _, g in want]
+    for e, (x, _) in zip(edges, want):
+        assert e.x == pytest.approx(x, rel=1e-8)
+
+
+def test_a_looser_tolerance_is_passed_on_and_costs_fewer_evaluations():
+    # The chart walks with a looser rtol: asked for 1e-4, the same walk lands within 1e-4 of
+    # the Mathieu edges (scipy.special) with fewer stability evaluations than at the default
+    # 1e-10 (Brent's method stops sooner).
+    counts = {}
+    for rtol in (1e-4, 1e-10):
+        probe = hanging_probe()
+        start = rpm_at(1.4)
+        s0 = probe(start)
+        probe.count = 0
+        edges = list(walk(probe, start, s0, [rpm_at(1.75), rpm_at(2.5)], rtol=rtol))
+        counts[rtol] = probe.count
+        want = [rpm_at(mathieu_a(1, Q)), rpm_at(mathieu_b(2, Q))]
+        assert [e.x for e in edges] == pytest.approx(want, rel=max(rtol, 1e-8))
+    assert counts[1e-4] < counts[1e-10]
