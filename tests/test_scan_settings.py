@@ -19,7 +19,7 @@ from scipy.special import mathieu_a, mathieu_b
 
 import refsolvers as ref
 import shakestill as ss
-from shakestill.equilibria.floquet import Settings, modes_decouple
+from shakestill.equilibria.floquet import Settings, hill_form, modes_decouple
 from shakestill.equilibria.lines import Probe, scan_settings, walk
 from shakestill.equilibria.windows import window
 from shakestill.model.derived import as_model
@@ -147,3 +147,135 @@ def test_a_looser_tolerance_is_passed_on_and_costs_fewer_evaluations():
         want = [rpm_at(mathieu_a(1, Q)), rpm_at(mathieu_b(2, Q))]
         assert [e.x for e in edges] == pytest.approx(want, rel=max(rtol, 1e-8))
     assert counts[1e-4] < counts[1e-10]
+
+
+# ------------------------------------------------------------ the scan's points and its caps
+
+def test_speed_points_step_a_tongue_spacing_or_four_percent():
+    # speed_points' documented rule, by hand: tongue n of a pendulum of hanging frequency f0
+    # sits near 2 f0 / n (Mathieu, a = n^2), evenly spaced in 1/speed by 1 / (2 f0 60) per
+    # tongue; a step is PHASE_STEP (0.08) of that spacing in 1/rpm, or SPEED_STEP (4%) of the
+    # speed if that is smaller; the stop is the last point. f0 of a point mass on a light rod:
+    # sqrt(g / l) / (2 pi) (textbook).
+    from shakestill.equilibria.lines import PHASE_STEP, SPEED_STEP, speed_points
+    assert (PHASE_STEP, SPEED_STEP) == (0.08, 0.04)
+    length = 0.2
+    model = as_model(ss.rig_from_dict(ref.rig([ref.link(length, 0.0, [(0.1, length)])],
+                                              ref.sine(0.01, 600.0), limits=LIMITS)))
+    f0 = math.sqrt(G / length) / (2 * math.pi)
+    spacing = 0.08 / (2 * f0 * 60.0)
+
+    def by_hand(start, stop):
+        points, v, up = [], start, stop > start
+        while (v < stop) if up else (v > stop):
+            inv = 1 / v - spacing if up else 1 / v + spacing
+            phase = abs(1 / inv - v) if inv > 0 else math.inf
+            v = v + min(phase, 0.04 * v) if up else v - min(phase, 0.04 * v)
+            points.append(min(v, stop) if up else max(v, stop))
+        return points
+
+    for start, stop in ((60.0, 3000.0), (3000.0, 60.0), (200.0, 203.0)):
+        want = by_hand(start, stop)
+        got = speed_points(model, start, stop)
+        assert len(got) == len(want) and got == pytest.approx(want, rel=1e-12)
+        assert got[-1] == stop
+    assert speed_points(model, 200.0, 200.0) == []
+
+
+def test_a_probe_counts_and_caps_its_work(monkeypatch):
+    # Probe refuses past MAX_EVALUATIONS evaluations and MAX_RK_STEPS Runge-Kutta steps on one
+    # line (equilibria/reach.py), with words naming the cap; caps lowered here so that a
+    # few calls reach them. The steps are the RK monodromy's, as each evaluation reports them.
+    from shakestill.equilibria import lines
+    from shakestill.model.rig import OutOfReach
+    damped = as_model(ss.rig_from_dict(ref.rig(TWO, ref.sine(0.024, 2700.0), limits=LIMITS)))
+
+    def probe_of(model):
+        return Probe(model, "inverted", lambda x: (x, 0.024),
+                     scan_settings(model, "inverted", [model]))
+
+    monkeypatch.setattr(lines, "MAX_EVALUATIONS", 3)
+    probe = probe_of(damped)
+    steps = [probe(v).work["steps"] for v in (2700.0, 2800.0, 2900.0)]
+    assert probe.count == 3 and probe.steps == sum(steps) and min(steps) >= 24  # MIN_STEPS
+    with pytest.raises(OutOfReach) as info:
+        probe(3000.0)
+    assert [(p.path, p.message) for p in info.value.problems] == [
+        ("limits", "outside what this method can resolve: the scan needed more than 3 "
+                   "stability evaluations")]
+    monkeypatch.setattr(lines, "MAX_EVALUATIONS", 6000)
+    monkeypatch.setattr(lines, "MAX_RK_STEPS", 3 * steps[0])
+    probe = probe_of(damped)
+    for _ in range(3):
+        probe(2700.0)  # 3 x steps[0]: at the cap, not past it
+    with pytest.raises(OutOfReach) as info:
+        probe(2700.0)
+    assert [(p.path, p.message) for p in info.value.problems] == [
+        ("limits", "outside what this method can resolve: the scan needed more than "
+                   f"{3 * steps[0]} Runge-Kutta steps of the monodromy")]
+    # Hill's determinant takes no RK steps: a one-link sine scan never meets the step cap
+    monkeypatch.setattr(lines, "MAX_RK_STEPS", 0)
+    one = as_model(ss.rig_from_dict(ref.rig(ONE, ref.sine(0.024, 2700.0), limits=LIMITS)))
+    probe = probe_of(one)
+    assert all(probe(v).stable in (True, False) for v in (2700.0, 2800.0, 2900.0))
+    assert probe.steps == 0
+
+
+def test_affordable_harmonics_follow_the_cost_model():
+    # _affordable_harmonics' documented rule, by hand: the most harmonics k (at least 1) such
+    # that Hill's band LU with k harmonics, HILL_BAND_US (2 R + 1)(2 k + 1)^2 with R =
+    # default_truncation's rows for those k harmonics (hill.py: max(8, k + 2, ceil(8 +
+    # sqrt|theta0| / 2 + 10 (sum |theta_n|)^(4/7)))), costs no more than RK_STEP_US x steps;
+    # every harmonic when there is no RK cycle to compare. Swept over steps 1 .. 600 on a
+    # crank's Hill form (many harmonics).
+    from shakestill.equilibria.lines import HILL_BAND_US, RK_STEP_US, _affordable_harmonics
+    assert (HILL_BAND_US, RK_STEP_US) == (0.25, 12.0)
+    model = as_model(ss.rig_from_dict(ref.rig(ONE, ref.crank(0.024, 0.08, 2700.0),
+                                              limits=LIMITS)))
+    form = hill_form(model, "inverted")
+    n = len(form.theta)
+    assert n > 4
+
+    def rows(k):
+        size = sum(abs(c) for c in form.theta[:k])
+        return max(8, k + 2, math.ceil(8 + math.sqrt(abs(form.theta0)) / 2
+                                       + 10 * size ** (4 / 7)))
+
+    def by_hand(steps):
+        k = 1
+        while k < n and 0.25 * (2 * rows(k + 1) + 1) * (2 * k + 3) ** 2 <= 12.0 * steps:
+            k += 1
+        return k
+
+    got = [_affordable_harmonics(form, s) for s in range(1, 601)]
+    assert got == [by_hand(s) for s in range(1, 601)]
+    assert got[0] == 1 and got[-1] > 2  # both ends of the rule are met
+    assert _affordable_harmonics(form, None) == n
+
+
+def test_crank_scan_method_follows_the_step_options():
+    # A crank's scan takes Hill's determinant when its band costs less than an RK cycle of
+    # the steps the options size (cost model above), else the 2 x 2 monodromy with those steps.
+    # Here the rate asks for few steps, so the cycle is the floor of two steps per drive
+    # harmonic (default_steps' documented floor) and Hill with the harmonics it needs costs
+    # more; at least 500 steps (min_steps) or a step phase of 0.05 make the cycle dearer than
+    # Hill's band, and Hill is taken with the fewest harmonics whose trace is that of all of
+    # them to 1e-12 (hill.needed_harmonics' rule, on the Hill trace test_hill.py pins against
+    # scipy), at the corner that needs most.
+    one = as_model(ss.rig_from_dict(ref.rig(ONE, ref.crank(0.024, 0.08, 2700.0), limits=LIMITS)))
+    corners = [one.at(speed_rpm=v) for v in (300.0, 6000.0)]
+    s = scan_settings(one, "inverted", corners)
+    assert (s.method, s.steps) == ("monodromy", 2 * one.harmonics.count)
+    for options in ({"min_steps": 500}, {"step_phase": 0.05}):
+        s = scan_settings(one, "inverted", corners, **options)
+        assert (s.method, s.steps) == (None, None), options
+        assert s.harmonics == max(fewest_harmonics(hill_form(c, "inverted")) for c in corners)
+
+
+def fewest_harmonics(form):
+    from shakestill.numerics.hill import default_truncation, hill_trace
+    rows = default_truncation(form.theta0, form.theta)
+    full = hill_trace(form.theta0, form.theta, rows)
+    return next(k for k in range(1, len(form.theta) + 1)
+                if abs(hill_trace(form.theta0, form.theta[:k], rows) - full)
+                <= 1e-12 * max(1.0, abs(full)))
