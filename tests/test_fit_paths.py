@@ -292,3 +292,87 @@ def test_a_log_of_another_link_count_or_no_motion_is_refused():
     text = "t_s,angle_rad\n" + "\n".join(f"{i * 0.01},{5e-5 * (i % 2)}" for i in range(20))
     with pytest.raises(ValueError, match=r"log: the logged angles move by 0.0029 deg at most"):
         fit(one, read(text), ["damping"])
+
+
+# ------------------------------------------------------------------ the Levenberg-Marquardt path
+
+def madsen_lm(residuals, x, k, max_iterations=fitting.MAX_ITERATIONS):
+    """K. Madsen, H. B. Nielsen, O. Tingleff, Methods for Non-Linear Least Squares Problems
+    (2004), algorithm 3.16, written out with numpy: Marquardt's scaling (mu diag(A)), the
+    damping update mu *= max(1/3, 1 - (2 rho - 1)^3), nu = 2 on success, mu *= nu, nu *= 2 on
+    failure; forward-difference Jacobian (step 1e-5 max(1, |x_j|)) recomputed after every
+    accepted step; the first k numbers projected onto >= 0; stops (constants of fitting.py): the
+    gradient test |g|_inf <= 1e-8 sqrt(2 F max a_ii), a step under 1e-7 (|x| + 1e-7), an
+    accepted step lowering F by no more than 1e-10 F, mu above 1e16, or the iteration count.
+    Returns (x, iterations, residual evaluations, how it stopped)."""
+    evals = [0]
+
+    def f(v):
+        evals[0] += 1
+        return np.array(residuals(list(v)))
+
+    x = np.array(x, dtype=float)
+    r = f(x)
+    cost = 0.5 * r @ r
+    mu, nu, how = None, 2.0, "iterations"
+    for it in range(1, max_iterations + 1):
+        J = np.empty((len(r), len(x)))
+        for j in range(len(x)):
+            h = 1e-5 * max(1.0, abs(x[j]))
+            xj = x.copy()
+            xj[j] += h
+            J[:, j] = (f(xj) - r) / h
+        A, g = J.T @ J, J.T @ r
+        if np.abs(g).max() <= 1e-8 * math.sqrt(2 * cost * A.diagonal().max()):
+            return x, it, evals[0], "gradient"
+        mu = 1e-3 * A.diagonal().max() if mu is None else mu
+        while True:
+            D = np.diag(np.maximum(A.diagonal(), 1e-300))
+            step = np.linalg.solve(A + mu * D, -g)
+            trial = x + step
+            trial[:k] = np.maximum(trial[:k], 0.0)
+            step = trial - x
+            small = np.linalg.norm(step) <= 1e-7 * (np.linalg.norm(x) + 1e-7)
+            r_new = f(trial)
+            cost_new = 0.5 * r_new @ r_new
+            predicted = 0.5 * step @ (mu * D @ step - g)
+            rho = (cost - cost_new) / predicted if predicted > 0 else -1.0
+            if rho > 0:
+                done = cost - cost_new <= 1e-10 * cost or small
+                x, r, cost = trial, r_new, cost_new
+                mu *= max(1 / 3, 1 - (2 * rho - 1) ** 3)
+                nu = 2.0
+                if done:
+                    return x, it, evals[0], "settled"
+                break
+            if small:
+                return x, it, evals[0], "no smaller step"
+            mu *= nu
+            nu *= 2.0
+            if mu > 1e16:
+                return x, it, evals[0], "mu"
+    return x, max_iterations, evals[0], "iterations"
+
+
+WORDS = {"gradient": "the gradient vanished",
+         "settled": "the last step changed the fit by less than its tolerance",
+         "no smaller step": "no smaller step lowers the misfit"}
+
+
+@pytest.mark.parametrize("names", [["damping"], ["damping", "inertia"]])
+def test_the_fit_takes_the_published_levenberg_marquardt_path(decay, names):
+    # The same residuals (the fit's own model of the log) minimised by algorithm 3.16 as
+    # written out above: the same numbers (1e-9 relative; both solve the same linear systems,
+    # numpy by LAPACK), the same count of iterations and of simulations (the final run of the
+    # fitted numbers is the fit's one more), and the same way of stopping, in its words.
+    rig, log = decay["rig"], decay["log"]
+    paths = parameter_paths(rig, names)
+    model = _Model(rig, log, paths, _scales(rig, paths))
+    q = [row[0] for row in log.angles_rad]
+    x0 = [fitting._get(rig, p) / s for p, s in zip(paths, model.scales)] + \
+        [q[0], (-3 * q[0] + 4 * q[1] - q[2]) / (2 * log.step_s)]
+    x, iterations, runs, how = madsen_lm(model.residuals, x0, len(paths))
+    res = decay["res"] if names == ["damping"] else fit(rig, log, names)
+    assert res.values == pytest.approx([v * s for v, s in zip(x, model.scales)], rel=1e-9)
+    assert (res.iterations, res.work["simulations"]) == (iterations, runs + 1)
+    assert res.message == WORDS[how]
