@@ -162,18 +162,35 @@ def test_the_reply_carries_the_fit(decay):
 
 # ------------------------------------------------------------------ logs of other kinds
 
+def table_speed(times, rpms):
+    """(phase, omega, alpha) of a speed linear between the rows of a table (rad, rad/s,
+    rad/s^2), the phase 0 at t = 0: the trapezoid rule is exact for a linear speed."""
+    ws = [2 * math.pi * v / 60.0 for v in rpms]
+    phases = [0.0]
+    for k in range(1, len(times)):
+        phases.append(phases[-1] + 0.5 * (ws[k - 1] + ws[k]) * (times[k] - times[k - 1]))
+
+    def speed_of_t(t):
+        k = min(max(int(np.searchsorted(times, t, side="right")) - 1, 0), len(times) - 2)
+        alpha = (ws[k + 1] - ws[k]) / (times[k + 1] - times[k])
+        tau = t - times[k]
+        return phases[k] + ws[k] * tau + 0.5 * alpha * tau * tau, ws[k] + alpha * tau, alpha
+    return speed_of_t
+
+
 def test_logged_drive_speed_is_the_one_simulated():
-    # The rig file says 2700 rpm; the run was logged at 1200 rpm with a speed column
-    # (stroke 20 mm: the pivot shakes the swing visibly). solve_ivp makes the log at 1200 rpm
-    # (phase = speed * t); the fit must follow the logged speed: the damping it was made with
-    # within 1e-4 relative (no noise) and a misfit under 1e-6 rad.
+    # The rig file says 2700 rpm; the run was logged speeding up from 1200 rpm (1200 + 1500 t^2
+    # rpm, a speed column in every row; stroke 20 mm: the pivot shakes the swing visibly).
+    # solve_ivp makes the log with the logged speed linear between rows (the table's reading);
+    # the fit must follow every row of it: the damping the log was made with within 1e-4
+    # relative (no noise) and a misfit under 1e-6 rad.
     data = rig_data(TRUE_DAMPING, speed=1200.0)
     times = np.arange(0.0, 0.6 + 1e-9, 0.01)
-    omega = 2 * math.pi * 1200.0 / 60.0
+    rpms = [1200.0 + 1500.0 * float(t) ** 2 for t in times]
     states = scipy_states(data, [math.pi + 0.4, 0.0], times,
-                          speed_of_t=lambda t: (omega * t, omega, 0.0))
+                          speed_of_t=table_speed(times, rpms))
     text = "t_s,angle_rad,speed_rpm\n" + "\n".join(
-        f"{float(t)!r},{float(q - math.pi)!r},1200" for t, (q, _) in zip(times, states))
+        f"{float(t)!r},{float(q - math.pi)!r},{v!r}" for t, (q, _), v in zip(times, states, rpms))
     res = fit(ss.rig_from_dict(rig_data(TRUE_DAMPING / 2, speed=2700.0)),
               read_angle_log(text, 1), ["damping"])
     assert res.values[0] == pytest.approx(TRUE_DAMPING, rel=1e-4)
