@@ -19,7 +19,7 @@ from scipy.special import mathieu_a, mathieu_b
 
 import refsolvers as ref
 import shakestill as ss
-from shakestill.equilibria.floquet import Settings, hill_form, modes_decouple
+from shakestill.equilibria.floquet import Settings, default_steps, hill_form, modes_decouple
 from shakestill.equilibria.lines import Probe, scan_settings, walk
 from shakestill.equilibria.windows import window
 from shakestill.model.derived import as_model
@@ -198,6 +198,9 @@ def test_a_probe_counts_and_caps_its_work(monkeypatch):
     probe = probe_of(damped)
     steps = [probe(v).work["steps"] for v in (2700.0, 2800.0, 2900.0)]
     assert probe.count == 3 and probe.steps == sum(steps) and min(steps) >= 24  # MIN_STEPS
+    # a scan point is one monodromy at the steps its own rates ask for (no refinement pass)
+    assert steps == [default_steps(damped.at(speed_rpm=v), "inverted")
+                     for v in (2700.0, 2800.0, 2900.0)]
     with pytest.raises(OutOfReach) as info:
         probe(3000.0)
     assert [(p.path, p.message) for p in info.value.problems] == [
