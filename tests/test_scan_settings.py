@@ -19,7 +19,8 @@ from scipy.special import mathieu_a, mathieu_b
 
 import refsolvers as ref
 import shakestill as ss
-from shakestill.equilibria.floquet import Settings, default_steps, hill_form, modes_decouple
+from shakestill.equilibria.floquet import (Settings, default_steps, hill_form, mode_forms,
+                                            modes_decouple)
 from shakestill.equilibria.lines import Probe, scan_settings, walk
 from shakestill.equilibria.windows import window
 from shakestill.model.derived import as_model
@@ -32,6 +33,14 @@ TWO = [ref.link(0.20, 0.04, [(0.01, 0.20)], 2e-6, 1e-4),
 UNDAMPED_TWO = [dict(lk, joint_damping_N_m_s=0.0) for lk in TWO]
 ONE = [ref.link(0.25, 0.04, [(0.025, 0.24)], 0.0, 3e-4)]
 NEAR = 1e-7  # relative step either side of an edge for the reference verdicts
+
+
+def hill_rows(theta0, theta):
+    """Hill rows by the rule hill.default_truncation documents: max(8, harmonics + 2,
+    ceil(8 + sqrt|theta0| / 2 + 10 (sum |theta_n|)^(4/7)))."""
+    size = sum(abs(c) for c in theta)
+    return max(8, len(theta) + 2, math.ceil(8 + math.sqrt(abs(theta0)) / 2
+                                            + 10 * size ** (4 / 7)))
 
 
 def biggest_multiplier(data, equilibrium, axis, x):
@@ -116,14 +125,14 @@ def hanging_probe():
 
 def test_a_stable_island_between_three_unstable_points_is_found():
     # Walking down in speed through a = 1.4 and 1.75 (tongue 1, below a_1(5) = 1.858) to 2.5
-    # (tongue 2, above b_2(5) = 2.099): three unstable points, the margin nearest to stability
+    # and 2.8 (tongue 2, above b_2(5) = 2.099): unstable points, the margin nearest to stability
     # at the middle one, so the walk searches [2.5, 1.4] and finds the band between: its two
     # edges a_1 and b_2 (scipy.special), in walking order, moving up in speed lost at a_1 and
     # gained at b_2. 1e-8 relative: the walk's EDGE_RTOL is 1e-10 on Hill's exact determinant.
     probe = hanging_probe()
     start = rpm_at(1.4)
     s0 = probe(start)
-    points = [rpm_at(1.75), rpm_at(2.5)]
+    points = [rpm_at(1.75), rpm_at(2.5), rpm_at(2.8)]  # the last: tongue 2 again, no edge
     assert not s0.stable and not any(probe(x).stable for x in points)
     edges = list(walk(probe, start, s0, points))
     want = [(rpm_at(mathieu_a(1, Q)), False), (rpm_at(mathieu_b(2, Q)), True)]
@@ -239,14 +248,10 @@ def test_affordable_harmonics_follow_the_cost_model():
     n = len(form.theta)
     assert n > 4
 
-    def rows(k):
-        size = sum(abs(c) for c in form.theta[:k])
-        return max(8, k + 2, math.ceil(8 + math.sqrt(abs(form.theta0)) / 2
-                                       + 10 * size ** (4 / 7)))
-
     def by_hand(steps):
         k = 1
-        while k < n and 0.25 * (2 * rows(k + 1) + 1) * (2 * k + 3) ** 2 <= 12.0 * steps:
+        while k < n and 0.25 * (2 * hill_rows(form.theta0, form.theta[:k + 1]) + 1) * \
+                (2 * k + 3) ** 2 <= 12.0 * steps:
             k += 1
         return k
 
@@ -254,6 +259,7 @@ def test_affordable_harmonics_follow_the_cost_model():
     assert got == [by_hand(s) for s in range(1, 601)]
     assert got[0] == 1 and got[-1] > 2  # both ends of the rule are met
     assert _affordable_harmonics(form, None) == n
+    assert _affordable_harmonics(form, 10 ** 9) == n  # never more harmonics than the drive has
 
 
 def test_crank_scan_method_follows_the_step_options():
@@ -282,3 +288,46 @@ def fewest_harmonics(form):
     return next(k for k in range(1, len(form.theta) + 1)
                 if abs(hill_trace(form.theta0, form.theta[:k], rows) - full)
                 <= 1e-12 * max(1.0, abs(full)))
+
+
+def test_a_looser_tolerance_at_a_plain_crossing_costs_fewer_evaluations():
+    # A walk whose verdict flips between two scan points (a = 1.0 and 1.5 inside tongue 1,
+    # 1.95 in the stable band above a_1(5) = 1.858, scipy.special.mathieu_a: the edge): asked
+    # for 1e-4, the edge is within 1e-4 and Brent's method stops sooner than at the default
+    # 1e-10.
+    counts = {}
+    for rtol in (1e-4, 1e-10):
+        probe = hanging_probe()
+        start = rpm_at(1.0)
+        s0 = probe(start)
+        probe.count = 0
+        (edge,) = walk(probe, start, s0, [rpm_at(1.5), rpm_at(1.95)], rtol=rtol)
+        counts[rtol] = probe.count
+        assert edge.x == pytest.approx(rpm_at(mathieu_a(1, Q)), rel=max(rtol, 1e-8))
+    assert counts[1e-4] < counts[1e-10]
+
+
+def test_hill_rows_cover_every_corner_and_mode():
+    # The scan's Hill rows: the most that any corner's form (one link, or each sway mode)
+    # needs by hill.default_truncation's documented rule, for the harmonics kept (a sine: 1).
+    one = as_model(ss.rig_from_dict(ref.rig(ONE, ref.sine(0.024, 2700.0), limits=LIMITS)))
+    corners = [one.at(speed_rpm=v) for v in (300.0, 6000.0)]
+    want = max(hill_rows(f.theta0, f.theta) for f in (hill_form(c, "inverted") for c in corners))
+    assert scan_settings(one, "inverted", corners).truncation == want
+    two = as_model(ss.rig_from_dict(ref.rig(UNDAMPED_TWO, ref.sine(0.024, 2700.0), limits=LIMITS)))
+    corners = [two.at(speed_rpm=v) for v in (300.0, 6000.0)]
+    forms = [f for c in corners for f in mode_forms(c, "inverted")]
+    assert len(forms) == 4
+    assert scan_settings(two, "inverted", corners).truncation == \
+        max(hill_rows(f.theta0, f.theta) for f in forms)
+
+
+def test_sway_modes_of_a_crank_too_costly_for_hill_take_their_monodromies():
+    # Undamped two-link chain on a crank: the modes are exact, but at the RK floor of two
+    # steps per harmonic (default_steps) Hill's band for the harmonics the trace needs costs
+    # more (cost model above), so each mode is taken by its 2 x 2 monodromy with those steps.
+    two = as_model(ss.rig_from_dict(ref.rig(UNDAMPED_TWO, ref.crank(0.024, 0.08, 2700.0),
+                                            limits=LIMITS)))
+    corners = [two.at(speed_rpm=v) for v in (300.0, 6000.0)]
+    s = scan_settings(two, "inverted", corners)
+    assert (s.method, s.steps, s.truncation) == ("modal", 2 * two.harmonics.count, None)
