@@ -141,21 +141,30 @@ def test_a_stable_island_between_three_unstable_points_is_found():
         assert e.x == pytest.approx(x, rel=1e-8)
 
 
+def walk_at(rtol, a_values, want_a):
+    """Walk the q = 5 pendulum through Mathieu a values (down in speed) with ``rtol``: the
+    edges must lie within max(rtol, 1e-8) of the speeds of ``want_a``; returns the count of
+    stability evaluations the walk took after its start."""
+    probe = hanging_probe()
+    start = rpm_at(a_values[0])
+    s0 = probe(start)
+    probe.count = 0
+    edges = list(walk(probe, start, s0, [rpm_at(a) for a in a_values[1:]], rtol=rtol))
+    assert [e.x for e in edges] == pytest.approx([rpm_at(a) for a in want_a],
+                                                 rel=max(rtol, 1e-8))
+    return probe.count
+
+
 def test_a_looser_tolerance_is_passed_on_and_costs_fewer_evaluations():
-    # The chart walks with a looser rtol: asked for 1e-4, the same walk lands within 1e-4 of
-    # the Mathieu edges (scipy.special) with fewer stability evaluations than at the default
-    # 1e-10 (Brent's method stops sooner).
-    counts = {}
-    for rtol in (1e-4, 1e-10):
-        probe = hanging_probe()
-        start = rpm_at(1.4)
-        s0 = probe(start)
-        probe.count = 0
-        edges = list(walk(probe, start, s0, [rpm_at(1.75), rpm_at(2.5)], rtol=rtol))
-        counts[rtol] = probe.count
-        want = [rpm_at(mathieu_a(1, Q)), rpm_at(mathieu_b(2, Q))]
-        assert [e.x for e in edges] == pytest.approx(want, rel=max(rtol, 1e-8))
-    assert counts[1e-4] < counts[1e-10]
+    # The chart walks with a looser rtol: asked for 1e-4, the walk lands within 1e-4 of the
+    # Mathieu edges (scipy.special) with fewer stability evaluations than at the default
+    # 1e-10 (Brent's method stops sooner): across the island found between three points, and
+    # at a plain crossing (a = 1.0 and 1.5 inside tongue 1, 1.95 in the stable band above
+    # a_1(5) = 1.858).
+    island = ([1.4, 1.75, 2.5], [mathieu_a(1, Q), mathieu_b(2, Q)])
+    plain = ([1.0, 1.5, 1.95], [mathieu_a(1, Q)])
+    for a_values, want in (island, plain):
+        assert walk_at(1e-4, a_values, want) < walk_at(1e-10, a_values, want)
 
 
 # ------------------------------------------------------------ the scan's points and its caps
@@ -289,22 +298,6 @@ def fewest_harmonics(form):
                 if abs(hill_trace(form.theta0, form.theta[:k], rows) - full)
                 <= 1e-12 * max(1.0, abs(full)))
 
-
-def test_a_looser_tolerance_at_a_plain_crossing_costs_fewer_evaluations():
-    # A walk whose verdict flips between two scan points (a = 1.0 and 1.5 inside tongue 1,
-    # 1.95 in the stable band above a_1(5) = 1.858, scipy.special.mathieu_a: the edge): asked
-    # for 1e-4, the edge is within 1e-4 and Brent's method stops sooner than at the default
-    # 1e-10.
-    counts = {}
-    for rtol in (1e-4, 1e-10):
-        probe = hanging_probe()
-        start = rpm_at(1.0)
-        s0 = probe(start)
-        probe.count = 0
-        (edge,) = walk(probe, start, s0, [rpm_at(1.5), rpm_at(1.95)], rtol=rtol)
-        counts[rtol] = probe.count
-        assert edge.x == pytest.approx(rpm_at(mathieu_a(1, Q)), rel=max(rtol, 1e-8))
-    assert counts[1e-4] < counts[1e-10]
 
 
 def test_hill_rows_cover_every_corner_and_mode():
