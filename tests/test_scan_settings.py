@@ -141,6 +141,28 @@ def test_a_stable_island_between_three_unstable_points_is_found():
         assert e.x == pytest.approx(x, rel=1e-8)
 
 
+def test_a_tongue_only_the_multipliers_closeness_shows_is_found():
+    # Damped two-link chain (RK monodromies), walking up in speed through 110, 114 and 135
+    # rpm, all stable: the first sway mode's principal tongue (near 2 f1) lies between the last
+    # two. The margin (log of the biggest |multiplier|, -gamma / f between tongues) only
+    # rises with speed, so it shows no peak; the multipliers' closeness peaks at 114 rpm, and
+    # the search it starts finds the tongue. Both edges: the solve_ivp verdict flips there
+    # (tests/refsolvers.py), lost moving up at the first, regained at the second.
+    data = ref.rig(TWO, ref.sine(0.024, 1000.0), limits=LIMITS)
+    model = as_model(ss.rig_from_dict(data))
+    corners = [model.at(speed_rpm=v) for v in (100.0, 1000.0)]
+    probe = Probe(model, "hanging", lambda x: (x, 0.024), scan_settings(model, "hanging", corners))
+    s = [probe(v) for v in (110.0, 114.0, 135.0)]
+    assert all(x.stable for x in s) and s[0].margin < s[1].margin < s[2].margin
+    edges = list(walk(probe, 110.0, s[0], [114.0, 135.0]))
+    assert [e.gained for e in edges] == [False, True]
+    assert 114.0 < edges[0].x < edges[1].x < 135.0
+    for e, before in zip(edges, (1, -1)):  # the stable side: below the first, above the second
+        stable = biggest_multiplier(data, "hanging", "speed", e.x * (1 - before * NEAR))
+        unstable = biggest_multiplier(data, "hanging", "speed", e.x * (1 + before * NEAR))
+        assert stable < 1 < unstable, (e, stable, unstable)
+
+
 def walk_at(rtol, a_values, want_a):
     """Walk the q = 5 pendulum through Mathieu a values (down in speed) with ``rtol``: the
     edges must lie within max(rtol, 1e-8) of the speeds of ``want_a``; returns the count of
@@ -291,13 +313,13 @@ def test_crank_scan_method_follows_the_step_options():
 
 
 def fewest_harmonics(form):
+    """The fewest leading harmonics whose Hill trace is all of them's to 1e-12."""
     from shakestill.numerics.hill import default_truncation, hill_trace
     rows = default_truncation(form.theta0, form.theta)
     full = hill_trace(form.theta0, form.theta, rows)
     return next(k for k in range(1, len(form.theta) + 1)
                 if abs(hill_trace(form.theta0, form.theta[:k], rows) - full)
                 <= 1e-12 * max(1.0, abs(full)))
-
 
 
 def test_hill_rows_cover_every_corner_and_mode():
