@@ -39,10 +39,12 @@ def two_link_data():
                     ref.link(0.15, 0.03, [(0.008, 0.12)], 0.0, 1e-4)], ref.sine(0.0, 600.0))
 
 
-@pytest.fixture(scope="module")
+@pytest.fixture
 def decay():
     """A 25 deg free decay (0.02 deg noise), fitted for the damping from a quarter of it; the
-    simulations the fit runs are counted by a wrapper around motion.simulate."""
+    simulations the fit runs are counted by a wrapper around motion.simulate. Made for each
+    test (about a second): mutmut maps a test to the functions it calls, and a fixture shared
+    by a module would map the fit to its first test only."""
     text = decay_log(25.0, duration_s=2.0, step_s=0.02, noise_deg=0.02)
     rig = ss.rig_from_dict(rig_data(TRUE_DAMPING / 4))
     log = read(text)
@@ -298,6 +300,9 @@ def test_one_iteration_is_allowed_and_says_it_stopped():
     assert res.iterations == 1 and not res.converged
     assert res.message == "stopped after 1 iterations before the fit settled"
     assert res.rms_rad < res.rms_start_rad  # the one step it took lowered the misfit
+    most = fit(rig, read(decay_log(25.0, duration_s=1.0, step_s=0.05)), ["damping"],
+               max_iterations=200)  # the top of the allowed range
+    assert most.converged and most.iterations < 200, most.message
 
 
 def test_a_log_of_another_link_count_or_no_motion_is_refused():
