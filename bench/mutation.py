@@ -160,6 +160,23 @@ EQUIVALENT.update({
 })
 
 
+# fit/fitting.py (issue 12)
+_F = "shakestill.fit.fitting.x_"
+_WORK = ("the default of res.work.get('simulations', ...) changed: the one FitResult ever made "
+         "(fit_steps') always carries work['simulations'], so the default is never read")
+_FEW = ("the m <= p guard never fires: a log has at least 10 rows, so m >= 10 n residuals, "
+        "while p = k + 2 n <= 3 n + 2 n (each number once, three per link at most)")
+EQUIVALENT.update({
+    _F + "fit_dict__mutmut_40": _WORK,
+    _F + "fit_dict__mutmut_42": _WORK,
+    _F + "fit_dict__mutmut_45": _WORK,
+    _F + "_std_errors__mutmut_2": "m < p for m <= p: " + _FEW,
+    _F + "_std_errors__mutmut_3": "the guard's return changed: " + _FEW,
+    _F + "_std_errors__mutmut_24": "cov_ii > 0 for >= 0: the diagonal of the inverse of a "
+                                   "positive definite J^T J is strictly positive, never 0.0",
+})
+
+
 def stage(modules: list[str], tests: list[str]) -> None:
     if STAGE.exists():
         shutil.rmtree(STAGE)
