@@ -19,6 +19,7 @@ import contextlib
 import io
 import json
 import math
+from functools import lru_cache
 
 import numpy as np
 import pytest
@@ -70,8 +71,9 @@ def principal(result):
     return result["hanging"]["crossings"][1]
 
 
-def max_multiplier(speed_rpm):
-    return float(max(abs(R.multipliers(R.monodromy(rig_data(), "hanging", speed_rpm=speed_rpm)))))
+def max_multiplier(speed_rpm, equilibrium="hanging"):
+    return float(max(abs(R.multipliers(R.monodromy(rig_data(), equilibrium,
+                                                   speed_rpm=speed_rpm)))))
 
 
 def test_hanging_crossings_are_the_mathieu_tongues(result):
@@ -90,11 +92,18 @@ def test_hanging_crossings_are_the_mathieu_tongues(result):
                                             abs=2 * REL * hi * hi / 60 / RATE)
 
 
+@lru_cache(maxsize=None)
+def frozen_integral(a, b, equilibrium="hanging"):
+    """I = integral of ln max|rho(s)| s / 60 ds over [a, b]: scipy.integrate.quad over
+    solve_ivp multipliers (quad's own error ~1e-10 relative)."""
+    return quad(lambda s: math.log(max_multiplier(s, equilibrium)) * s / 60, a, b, epsabs=0,
+                epsrel=1e-10, limit=200)[0]
+
+
 def test_frozen_amplification_against_quad_of_solve_ivp_multipliers(result):
     c = principal(result)
     lo, hi = tongue_rpm()
-    integral, err = quad(lambda s: math.log(max_multiplier(s)) * s / 60, lo, hi, epsabs=0,
-                         epsrel=1e-10, limit=200)
+    integral = frozen_integral(lo, hi)
     assert c["amplification"] == pytest.approx(math.exp(integral / RATE), rel=REL)
     # The amplification is near 1 at this rate, so pin the exponent itself as well:
     # I = R ln(amplification) to 1e-8 relative (quad's own error is ~1e-10).
@@ -108,8 +117,10 @@ def test_frozen_amplification_against_quad_of_solve_ivp_multipliers(result):
     assert c["peak_multiplier"] == pytest.approx(-best.fun, rel=1e-4)
 
 
-def transfer_gain(a_rpm, b_rpm, rate):
-    """Largest singular value of the ramp's scaled transfer matrix, solve_ivp + numpy.svd."""
+def transfer_gain(a_rpm, b_rpm, rate, equilibrium="hanging"):
+    """Largest singular value of the ramp's scaled transfer matrix, solve_ivp + numpy.svd
+    (inverted: q'' - (g + y_p'') q / l = 0, the same pendulum upside down)."""
+    sign = 1.0 if equilibrium == "hanging" else -1.0
     w_a = 2 * math.pi * a_rpm / 60
     alpha = 2 * math.pi * rate / 60 * (1 if b_rpm >= a_rpm else -1)
     duration = abs(b_rpm - a_rpm) / rate
@@ -120,7 +131,7 @@ def transfer_gain(a_rpm, b_rpm, rate):
         w = w_a + alpha * t
         ypp = -r * math.cos(phi) * w * w - r * math.sin(phi) * alpha  # d2/dt2 of r cos(phi(t))
         x = x.reshape(2, 2)
-        return np.array([x[1], -(G + ypp) / LENGTH * x[0]]).ravel()
+        return np.array([x[1], -sign * (G + ypp) / LENGTH * x[0]]).ravel()
 
     sol = solve_ivp(rhs, (0, duration), np.eye(2).ravel(), method="DOP853", rtol=1e-12,
                     atol=1e-12)
@@ -171,20 +182,23 @@ def test_inverted_is_unstable_from_the_low_speed_floor(result):
     assert result["inverted"]["ok"] is False
 
 
+NOTE = ("frozen-speed (adiabatic) estimate: the product of the largest Floquet multiplier over "
+        "the cycles spent in each unstable interval; below the low-speed floor the pivot's "
+        "peak acceleration is under 0.05 g and nothing is taken to grow")
+RUNDOWN = ("the run-down passes the same intervals in reverse: at the same rate the same "
+           "amplification")
+
+
 def test_the_json_echoes_its_inputs_and_multiplies_the_crossings(result):
     # the inputs as given (SI and rpm), the floor by its rule (above), and the totals by hand:
     # the product of the crossings' amplifications, the largest minimum rate
     assert (result["rate_rpm_s"], result["factor"], result["start_rpm"], result["end_rpm"],
             result["stroke_m"]) == (RATE, 10.0, 0.0, END, STROKE)
-    assert result["note"] == (
-        "frozen-speed (adiabatic) estimate: the product of the largest Floquet multiplier over "
-        "the cycles spent in each unstable interval; below the low-speed floor the pivot's "
-        "peak acceleration is under 0.05 g and nothing is taken to grow")
+    assert result["note"] == NOTE
     hanging = result["hanging"]
     assert hanging["total_amplification"] == pytest.approx(
         math.prod(c["amplification"] for c in hanging["crossings"]), rel=1e-15)
-    assert hanging["rundown"] == ("the run-down passes the same intervals in reverse: at the "
-                                  "same rate the same amplification")
+    assert hanging["rundown"] == RUNDOWN
     # each crossing costs the scan's probes and 20 Gauss nodes: more than 20 per crossing
     assert result["evaluations"] > 20 * 3
 
@@ -196,14 +210,18 @@ def test_a_still_pivot_crosses_nothing():
     data = R.rig([R.link(LENGTH, 0.0, [(0.1, LENGTH)])], R.sine(0.0, END), limits=LIMITS)
     got = runup(ss.rig_from_dict(data), rate_rpm_s=RATE)
     assert got["low_speed_floor_rpm"] == math.inf and got["evaluations"] == 0
+    assert (got["start_rpm"], got["end_rpm"]) == (0.0, END)  # from rest to the operating speed
     for eq in ("hanging", "inverted"):
         assert got[eq]["crossings"] == [] and got[eq]["total_amplification"] == 1.0
+        assert json.dumps(got[eq]["total_amplification"]) == "1.0"  # the JSON's empty product
         assert got[eq]["min_rate_rpm_s"] == 0.0 and got[eq]["ok"] is True
 
 
 @pytest.mark.parametrize("kwargs, words", [
     ({"rate_rpm_s": 0.0}, "rate_rpm_s: 0.0 must be a finite number above 0 rpm/s"),
     ({"rate_rpm_s": 0.5}, None),  # a slow ramp is allowed
+    ({"rate_rpm_s": 1.0, "factor": 1.5}, None),  # any factor above 1
+    ({"rate_rpm_s": 1.0, "end_rpm": 0.5}, None),  # any end above 0 rpm
     ({"rate_rpm_s": math.inf}, "rate_rpm_s: inf must be a finite number above 0 rpm/s"),
     ({"rate_rpm_s": 1.0, "factor": 1.0}, "factor: 1.0 must be a finite number above 1"),
     ({"rate_rpm_s": 1.0, "factor": math.nan}, "factor: nan must be a finite number above 1"),
@@ -242,3 +260,4 @@ def test_words_round_rates_and_cycles_as_people_read_them(result, tmp_path):
     wide = principal(result)
     n = (wide["speed_to_rpm"] ** 2 - wide["speed_from_rpm"] ** 2) / (120 * RATE)
     assert f"{n:,.0f} cycles, a disturbance grows" in words
+

@@ -90,8 +90,12 @@ def ramp_amplification(rig: Rig | Model, equilibrium: str, a: float, b: float,
     scale_in = [1.0] * n + [w_in] * n  # multiply columns: inverse of the entry scaling
     scale_out = [1.0] * n + [1.0 / w_out] * n
     Fs = [[scale_out[i] * F[i][j] * scale_in[j] for j in range(2 * n)] for i in range(2 * n)]
+    # Divided by its largest entry first: a growth near e^200 (MAX_LOG_GROWTH) squares to
+    # e^400 in F^T F, whose eigenvalue search then overflows.
+    big = max(abs(v) for row in Fs for v in row)
+    Fs = [[v / big for v in row] for row in Fs]
     FtF = matmul([list(col) for col in zip(*Fs)], Fs)
-    return math.sqrt(max(ev.real for ev in eigvals(FtF)))
+    return big * math.sqrt(max(ev.real for ev in eigvals(FtF)))
 
 
 @dataclass(frozen=True)

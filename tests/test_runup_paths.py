@@ -1,0 +1,304 @@
+"""Run-up's parts called directly: crossings, the ramp, the minimum-rate search, runup() and
+recommended_rate, against the references of tests/test_runup.py (the Mathieu tongue ends by
+scipy.special.mathieu_a/b, quad over solve_ivp multipliers, the ramp's transfer matrix by
+solve_ivp + numpy.svd). Direct calls, no CLI fixture: quick, and a mutation run (bench/
+mutation.py) credits each test with what it calls (a module fixture's work is credited to the
+first test that uses it only).
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+
+import shakestill as ss
+from test_runup import (END, G, NOTE, RATE, REL, RUNDOWN, STROKE, frozen_integral,
+                        max_multiplier, rig_data, tongue_rpm, transfer_gain)
+
+
+FLOOR = math.sqrt(0.05 * G / (STROKE / 2)) * 60 / (2 * math.pi)  # A w^2 = 0.05 g (above)
+
+
+@pytest.fixture(scope="module")
+def model():
+    from shakestill.model.derived import as_model
+    return as_model(ss.rig_from_dict(rig_data()))
+
+
+def counted_stability(monkeypatch):
+    """Every stability evaluation made by the scan (lines.py) and the integral (runup.py)."""
+    from shakestill.equilibria import lines, runup as ru
+    calls = []
+    for module in (lines, ru):
+        def counted(*args, _real=module.stability, **kwargs):
+            calls.append(kwargs.get("speed_rpm"))
+            return _real(*args, **kwargs)
+        monkeypatch.setattr(module, "stability", counted)
+    return calls
+
+
+@pytest.mark.parametrize("start, end", [(560.0, END), (END, 560.0), (500.0, 600.0),
+                                        (547.0, 600.0)])
+def test_runs_starting_or_ending_inside_the_principal_tongue(model, monkeypatch, start, end):
+    # A run from 560 rpm starts inside the tongue (a_1's speed is 547.14): the interval opens
+    # at the run's start; a run-down (start above end) meets the same interval; a run to 600
+    # rpm ends inside it: the interval closes at the run's end; from 547 rpm the first step
+    # already crosses a_1's speed. Numbers: the Mathieu ends, the
+    # frozen growth exp(I / R) by quad over solve_ivp multipliers, the ramp by solve_ivp + svd,
+    # seconds (b - a) / R, cycles (b^2 - a^2) / (120 R) (hand), and the evaluations reported
+    # = the stability evaluations counted here.
+    from shakestill.equilibria import runup as ru
+    calls = counted_stability(monkeypatch)
+    found, evaluations = ru.crossings(model, "hanging", start, end, RATE)
+    lo1, hi1 = tongue_rpm()
+    (c,) = found
+    a = max(min(start, end), lo1)
+    b = min(max(start, end), hi1)
+    assert c.equilibrium == "hanging"
+    assert c.speed_from_rpm == (560.0 if a == 560.0 else pytest.approx(lo1, rel=REL))
+    assert c.speed_to_rpm == (600.0 if b == 600.0 else pytest.approx(hi1, rel=REL))
+    assert c.seconds == pytest.approx((b - a) / RATE, rel=1e-7)
+    assert c.cycles == pytest.approx((b * b - a * a) / 120 / RATE, rel=1e-7)
+    assert RATE * math.log(c.amplification) == pytest.approx(frozen_integral(a, b), rel=1e-8)
+    assert c.simulated_amplification == pytest.approx(transfer_gain(a, b, RATE), rel=1e-7)
+    # the ramp's rate does not enter the minimum rate (its own search): growth within 2% under
+    # the factor 10 by solve_ivp
+    assert 10.0 / 1.02 * (1 - REL) <= transfer_gain(a, b, c.min_rate_rpm_s) <= 10.0 * (1 + REL)
+    assert evaluations == len(calls) > 20
+
+
+def test_a_ramp_down_grows_a_disturbance_as_solve_ivp_says(model):
+    # From b_1's speed down to a_1's (run-down): the transfer matrix of the ramp with the speed
+    # falling (alpha < 0), solve_ivp + numpy.svd, to 1e-9.
+    from shakestill.equilibria.runup import ramp_amplification
+    lo1, hi1 = tongue_rpm()
+    for rate in (RATE, 37.0):
+        want = transfer_gain(hi1, lo1, rate)
+        assert ramp_amplification(model, "hanging", hi1, lo1, rate) == pytest.approx(want, rel=REL)
+    # and upside down through the whole run (unstable from the floor): the same ramp by
+    # solve_ivp with gravity reversed, to 1e-8 (growth about e^20)
+    rate = 1000.0
+    want = transfer_gain(FLOOR, END, rate, "inverted")
+    assert want > 1e6
+    assert ramp_amplification(model, "inverted", FLOOR, END, rate) == pytest.approx(want, rel=1e-8)
+
+
+def test_inverted_growth_its_cap_and_when_a_ramp_is_simulated(model):
+    # Upside down the whole run above the floor is unstable: I by quad over solve_ivp
+    # multipliers; frozen growth exp(I / R); the ramp is simulated only while I / R < 200
+    # (e^200, the documented MAX_LOG_GROWTH): at R = I / 199 it is (solve_ivp + svd), at
+    # I / 201 not (None); and the frozen figure's exponent is capped at 700 (e^700, below the
+    # largest double e^709.8): at R = I / 750 the figure is e^700 (hand).
+    from shakestill.equilibria.runup import crossings
+    integral = frozen_integral(FLOOR, END, "inverted")
+    (c,), _ = crossings(model, "inverted", 0.0, END, RATE)
+    assert (c.speed_from_rpm, c.speed_to_rpm) == (pytest.approx(FLOOR, rel=1e-12), END)
+    assert RATE * math.log(c.amplification) == pytest.approx(integral, rel=1e-9)
+    assert c.simulated_amplification is None
+    # the peak is the largest multiplier at the 20 Gauss-Legendre nodes (numpy's leggauss)
+    # mapped by s = a + (b - a)(1 - cos(pi (x + 1) / 2)) / 2 (the module's docstring): upside
+    # down it grows towards low speed, so the node nearest the floor (solve_ivp)
+    x = min(np.polynomial.legendre.leggauss(20)[0])
+    s = FLOOR + (END - FLOOR) / 2 * (1 - math.cos(math.pi * (x + 1) / 2))
+    assert c.peak_multiplier == pytest.approx(max_multiplier(s, "inverted"), rel=1e-8)
+    (c,), _ = crossings(model, "inverted", 0.0, END, integral / 199)
+    want = transfer_gain(FLOOR, END, integral / 199, "inverted")
+    assert c.simulated_amplification == pytest.approx(want, rel=1e-6)
+    (c,), _ = crossings(model, "inverted", 0.0, END, integral / 201)
+    assert c.simulated_amplification is None
+    (c,), _ = crossings(model, "inverted", 0.0, END, integral / 750)
+    assert c.amplification == math.exp(700.0)
+
+
+def expected_rates(a, b, integral, factor, equilibrium):
+    """The ramp rates the documented search tries (runup._min_rate's docstring: secant steps
+    on ln(growth) against 1 / R from R = I / ln F, kept inside the bracket of rates found too
+    slow and fast enough, bisected in 1 / R when a step leaves it (or doubled in 1 / R when
+    nothing is too slow yet); it aims at the middle of the 2% window under F and stops once a
+    growth lands in it, after 8 ramps, or when a ramp would take over 20000 cycles or e^200),
+    with every growth from solve_ivp + svd (transfer_gain). Returns (rates, answer)."""
+    target, tol = math.log(factor), 0.02
+    guess, rates, points = integral / target, [], []
+    slow, fast = 0.0, math.inf
+    for _ in range(8):
+        if (b * b - a * a) / 120.0 / guess > 20000 or integral / guess >= 200:
+            break
+        rates.append(guess)
+        growth = math.log(transfer_gain(a, b, guess, equilibrium))
+        points.append((1 / guess, growth))
+        if growth <= target:
+            fast = min(fast, guess)
+            if growth >= target - math.log1p(tol):
+                break
+        else:
+            slow = max(slow, guess)
+        (x0, y0), (x1, y1) = points[-2:] if len(points) > 1 else ((0.0, 0.0), points[-1])
+        x = x1 + (target - math.log1p(tol / 2) - y1) / ((y1 - y0) / (x1 - x0))
+        low_x, high_x = (1 / fast if fast < math.inf else 0.0), (1 / slow if slow else math.inf)
+        if not low_x < x < high_x:
+            x = (low_x + high_x) / 2 if high_x < math.inf else 2 * x1
+        guess = 1 / x
+    return rates, (fast if fast < math.inf else guess)
+
+
+@pytest.mark.parametrize("equilibrium, factor", [("hanging", 10.0), ("inverted", 10.0),
+                                                 ("hanging", 3.0), ("inverted", 1e3),
+                                                 ("hanging", 2.0), ("hanging", 30.0)])
+def test_minimum_rate_search_takes_the_documented_steps(model, monkeypatch, equilibrium, factor):
+    # Every ramp rate the search simulates, in order, against the documented search run on
+    # solve_ivp growths (expected_rates above), to 1e-6; the answer's growth by solve_ivp lies
+    # within 2% under the factor. Factors 2 and 30 on the principal tongue send a secant step
+    # out of the bracket, so the search bisects it in 1 / R.
+    from shakestill.equilibria import runup as ru
+    a, b = tongue_rpm() if equilibrium == "hanging" else (FLOOR, END)
+    integral = frozen_integral(a, b, equilibrium)
+    tried = []
+    real = ru.ramp_amplification
+
+    def recorded(m, eq, x, y, rate):
+        tried.append(rate)
+        return real(m, eq, x, y, rate)
+    monkeypatch.setattr(ru, "ramp_amplification", recorded)
+    got = ru._min_rate(model, equilibrium, a, b, integral, factor)
+    rates, answer = expected_rates(a, b, integral, factor, equilibrium)
+    assert tried == pytest.approx(rates, rel=1e-6)
+    assert tried[0] == pytest.approx(integral / math.log(factor), rel=1e-12)
+    assert got == pytest.approx(answer, rel=1e-6)
+    gain = transfer_gain(a, b, got, equilibrium)
+    assert factor / 1.02 * (1 - REL) <= gain <= factor * (1 + REL)
+
+
+def test_minimum_rate_without_a_ramp(model, monkeypatch):
+    # Nothing to cross (I <= 0): 0 rpm/s and no ramp simulated; a factor of 1e100 (ln F = 230,
+    # over the e^200 simulated at most): no ramp either, the frozen estimate I / ln F (quad).
+    from shakestill.equilibria import runup as ru
+    monkeypatch.setattr(ru, "ramp_amplification", lambda *args: pytest.fail("simulated"))
+    lo1, hi1 = tongue_rpm()
+    assert ru._min_rate(model, "hanging", lo1, hi1, 0.0, 10.0) == 0.0
+    assert ru._min_rate(model, "hanging", lo1, hi1, -1.0, 10.0) == 0.0
+    integral = frozen_integral(lo1, hi1)
+    assert ru._min_rate(model, "hanging", lo1, hi1, integral, 1e100) == pytest.approx(
+        integral / math.log(1e100), rel=1e-9)
+
+
+def test_recommended_rate_is_the_binding_crossings_minimum(model):
+    # From 500 rpm to the operating speed (900, the default end) the binding crossing is the
+    # upside-down one (growth e^124 at 100 rpm/s): the recommended rate keeps its ramp's growth
+    # (solve_ivp + svd) within 2% under the factor and a 10% slower ramp breaks it; the
+    # hanging tongue alone asks for less, within its own 2% window.
+    from shakestill.equilibria.runup import recommended_rate
+    got = recommended_rate(model, start_rpm=500.0)
+    assert 10.0 / 1.02 * (1 - REL) <= transfer_gain(500.0, END, got, "inverted") <= 10.0 * (1 + REL)
+    assert transfer_gain(500.0, END, got / 1.1, "inverted") > 10.0
+    hanging = recommended_rate(model, start_rpm=500.0, end_rpm=END, equilibria=("hanging",))
+    lo1, hi1 = tongue_rpm()
+    assert 10.0 / 1.02 * (1 - REL) <= transfer_gain(lo1, hi1, hanging) <= 10.0 * (1 + REL)
+    assert hanging < got
+    # factor 1e100: no ramp simulated; the largest frozen estimate I / ln F (quad)
+    big = recommended_rate(model, start_rpm=500.0, end_rpm=END, factor=1e100)
+    assert big == pytest.approx(frozen_integral(500.0, END, "inverted") / math.log(1e100),
+                                rel=1e-8)
+    # nothing crossed below the floor: 0; a refused factor is named
+    assert recommended_rate(model, start_rpm=0.0, end_rpm=FLOOR * 0.9) == 0.0
+    with pytest.raises(ValueError, match=r"^factor: 1\.0 must be a finite number above 1$"):
+        recommended_rate(model, factor=1.0)
+
+
+@pytest.mark.parametrize("factor", [30.0, 50.0])
+def test_runup_from_inside_the_range_with_another_factor(model, monkeypatch, factor):
+    # From 500 rpm to the operating speed (the default end, 900) at 100 rpm/s with a factor
+    # of 30 or 50: the principal tongue's ramp grows by 34.6 (solve_ivp + svd) while its
+    # frozen estimate says 21.6, so `ok` follows the simulated ramp: not ok at 30, ok at 50;
+    # upside down the frozen growth e^124 (quad) is not ok. Each minimum rate keeps its ramp
+    # within 2% under that factor (solve_ivp); the evaluations are the stability evaluations
+    # counted here, for both equilibria together.
+    from shakestill.equilibria.runup import crossings, runup
+    calls = counted_stability(monkeypatch)
+    got = runup(model, rate_rpm_s=RATE, start_rpm=500.0, factor=factor)
+    assert (got["start_rpm"], got["end_rpm"], got["factor"]) == (500.0, END, factor)
+    assert got["evaluations"] == len(calls)
+    assert (got["note"], got["hanging"]["rundown"], got["inverted"]["rundown"]) == (
+        NOTE, RUNDOWN, RUNDOWN)
+    for eq in ("hanging", "inverted"):  # one crossing each: the total is its amplification
+        (c,) = got[eq]["crossings"]
+        assert got[eq]["total_amplification"] == c["amplification"]
+    lo1, hi1 = tongue_rpm()
+    simulated = transfer_gain(lo1, hi1, RATE)
+    assert 21.0 < math.exp(frozen_integral(lo1, hi1) / RATE) < 30.0 < simulated < 50.0
+    (c,) = got["hanging"]["crossings"]
+    assert c["simulated_amplification"] == pytest.approx(simulated, rel=1e-7)
+    assert got["hanging"]["ok"] is (simulated <= factor)
+    assert got["inverted"]["ok"] is False
+    for eq, (a, b) in (("hanging", (lo1, hi1)), ("inverted", (500.0, END))):
+        rate = got[eq]["min_rate_rpm_s"]
+        assert factor / 1.02 * (1 - REL) <= transfer_gain(a, b, rate, eq) <= factor * (1 + REL)
+    # an empty span (start = end) crosses nothing and evaluates nothing; a span between the
+    # tongues (Mathieu: b_2's speed 299 < 350, 500 < a_1's 547) crosses nothing either
+    assert crossings(model, "hanging", 500.0, 500.0, RATE) == ([], 0)
+    assert tongue_rpm(2)[1] < 350.0 and 500.0 < lo1
+    calls.clear()
+    assert crossings(model, "hanging", 350.0, 500.0, RATE) == ([], len(calls))
+
+
+def law(monkeypatch, ln_growth):
+    """Stand in a known growth law ln g(R) for the simulated ramp and record the rates asked:
+    the search's rule is then checked in closed form (hand), without solving a ramp."""
+    from shakestill.equilibria import runup as ru
+    tried = []
+
+    def ramp(model, equilibrium, a, b, rate):
+        tried.append(rate)
+        return math.exp(ln_growth(rate))
+    monkeypatch.setattr(ru, "ramp_amplification", ramp)
+    return ru, tried
+
+
+@pytest.mark.parametrize("prefactor", [math.log(2.0), -5.0])
+def test_minimum_rate_search_on_a_growth_law_linear_in_one_over_r(model, monkeypatch,
+                                                                  prefactor):
+    # ln g = I / R + c, a line in 1 / R (the docstring's model): from R = I / ln F the first
+    # secant runs through the origin; the second, through two points of the line, lands on
+    # the middle of the 2% window, ln F - ln(1.01) (hand): R = I / (ln F - ln 1.01 - c).
+    # With c = ln 2 the first ramp is too slow and the step stays in the bracket; with c = -5
+    # the first is fast enough but below the window and the secant through the origin points
+    # back past it: the rule doubles 1 / R (R / 2) instead.
+    integral, factor = 0.5 if prefactor > 0 else 50.0, 10.0
+    ru, tried = law(monkeypatch, lambda r: integral / r + prefactor)
+    got = ru._min_rate(model, "hanging", 500.0, 600.0, integral, factor)
+    want = integral / (math.log(factor) - math.log1p(0.01) - prefactor)
+    assert got == pytest.approx(want, rel=1e-12)
+    assert len(tried) == 3 and tried[0] == pytest.approx(integral / math.log(factor), rel=1e-15)
+    if prefactor < 0:
+        assert tried[1] == pytest.approx(tried[0] / 2, rel=1e-15)
+
+
+def test_minimum_rate_search_gives_up_after_eight_ramps(model, monkeypatch):
+    # A growth that jumps over the window at R0 (ln F + 1 below it, ln F - 1 from it on): no
+    # ramp lands in the window, so the search stops after its 8 ramps (RATE_STEPS, the
+    # docstring) and answers the slowest rate it found fast enough (hand: the smallest tried
+    # rate at or above R0).
+    integral, factor = 10.0, 10.0
+    r0 = 1.3 * integral / math.log(factor)
+    ru, tried = law(monkeypatch, lambda r: math.log(factor) + (1.0 if r < r0 else -1.0))
+    got = ru._min_rate(model, "hanging", 500.0, 600.0, integral, factor)
+    assert len(tried) == 8
+    assert got == min(r for r in tried if r >= r0)
+    assert got < 1.5 * r0  # the bracket closed in on R0 by the bisections
+
+
+@pytest.mark.parametrize("cycles", [20080.0, 19900.0])
+def test_minimum_rate_search_never_simulates_over_20000_cycles(model, monkeypatch, cycles):
+    # From 500 to 600 rpm a ramp at R takes (600^2 - 500^2) / (120 R) cycles (hand). With the
+    # first guess R = I / ln F set to take 20080 cycles, nothing is simulated (MAX_SIMULATED_
+    # CYCLES is 20000) and that guess is the answer; at 19900 cycles the ramp is simulated.
+    factor = 10.0
+    guess = (600.0 ** 2 - 500.0 ** 2) / 120.0 / cycles
+    integral = guess * math.log(factor)
+    ru, tried = law(monkeypatch, lambda r: integral / r)
+    got = ru._min_rate(model, "hanging", 500.0, 600.0, integral, factor)
+    if cycles > 20000:
+        assert tried == [] and got == pytest.approx(guess, rel=1e-15)
+    else:
+        assert tried[0] == pytest.approx(guess, rel=1e-15)
