@@ -33,6 +33,11 @@ CHART_MIN_STEPS = 12
 # rates' own step count are small, and multipliers stay within ~1e-8 of solve_ivp's
 # (tests/test_magnus.py; measured 2026-12-04 on two- and three-link cranks: <= 7e-9).
 CHART_HARMONIC_STEPS = 1
+# The chart's price of an RK step of a 2 x 2 trace against lines.HILL_BAND_US (0.25): the
+# Magnus trace measured 2026-12-04 side by side with Hill's band at 1.1-1.4 us a Magnus step
+# against 0.04-0.06 us a band unit, i.e. 1.25 : 0.05 = 6.25 : 0.25 (in whole crank charts
+# 6.25 beat 9.4 by 30%: wider bands cost more a unit).
+CHART_RK_STEP_US = 6.25
 @dataclass(frozen=True)
 class Row:
     """One row of the chart: its y value, stroke per speed, and each equilibrium's edges."""
@@ -98,7 +103,7 @@ def chart_settings(model: Model, eq: str, corners: list[Model], modal=None):
     """The chart's scan settings for a line between ``corners`` (its RK steps above)."""
     return scan_settings(model, eq, corners, step_phase=CHART_STEP_PHASE,
                          min_steps=CHART_MIN_STEPS, per_harmonic=CHART_HARMONIC_STEPS,
-                         modal=modal)
+                         modal=modal, step_us=CHART_RK_STEP_US)
 
 
 def row_settings(model: Model, point, lo: float, hi: float, eq: str, modal=None):

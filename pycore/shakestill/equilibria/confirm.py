@@ -52,12 +52,21 @@ def place_edge(exact: Probe, edge: Edge, before: bool, last: float, hi: float,
     verdict ``before`` it, nothing nearer than ``last`` or past ``hi``), or None.
 
     A tightest bracket that misses (both verdicts alike) is aimed again, up to AIMS times, at
-    the zero of the margin's secant through its two points; a wider bracket that confirms is
-    aimed at by its secant in the same way (its re-aims kept inside it) before Brent's method
-    is asked to close it."""
-    near = CONFIRM_HALF_WIDTHS[1]
-    placed = _aimed(exact, edge.x, before, edge.gained, (last, hi),
-                    (edge.x * (1 - near), edge.x * (1 + near)))
+    the zero of the secant through its two points (of det(M -+ I) or the margin:
+    ``_edge_function``); a wider bracket that confirms is aimed at by its secant in the same
+    way before Brent's method is asked to close it (on the margin)."""
+    aim = edge.x
+    for _ in range(1 + AIMS):
+        placed, a, b = _tight(exact, aim, before, edge.gained, last, hi)
+        if placed is not None or a is None or a[1].stable != b[1].stable:
+            break
+        f = _edge_function(a[1], b[1])
+        fa, fb = f(a[1]), f(b[1])
+        if fa == fb:
+            break
+        aim = a[0] - fa * (b[0] - a[0]) / (fb - fa)
+        if not abs(aim / edge.x - 1) < CONFIRM_HALF_WIDTHS[1]:
+            break
     if placed is not None:
         return placed
     for half in CONFIRM_HALF_WIDTHS[1:]:
@@ -67,27 +76,8 @@ def place_edge(exact: Probe, edge: Edge, before: bool, last: float, hi: float,
         sa, sb = exact(a), exact(b)
         if sa.stable == before and sb.stable == edge.gained:
             f = _edge_function(sa, sb)
-            placed = _aimed(exact, _secant(a, f(sa), b, f(sb)), before, edge.gained, (a, b),
-                            (a, b))
+            placed, _, _ = _tight(exact, _secant(a, f(sa), b, f(sb)), before, edge.gained, a, b)
             return placed or edge_between(exact, (a, sa), (b, sb), rtol=rtol)
-    return None
-
-
-def _aimed(exact: Probe, aim: float, before: bool, gained: bool, limits, window) -> Edge | None:
-    """The edge in a tightest bracket about ``aim`` (within ``limits``), re-aimed up to AIMS
-    times at the zero of the secant through a missing bracket's two margins while that zero
-    stays strictly inside ``window``; None if none confirms."""
-    for _ in range(1 + AIMS):
-        placed, a, b = _tight(exact, aim, before, gained, *limits)
-        if placed is not None or a is None or a[1].stable != b[1].stable:
-            return placed
-        f = _edge_function(a[1], b[1])
-        fa, fb = f(a[1]), f(b[1])
-        if fa == fb:
-            return None
-        aim = a[0] - fa * (b[0] - a[0]) / (fb - fa)
-        if not window[0] < aim < window[1]:
-            return None
     return None
 
 

@@ -29,12 +29,12 @@ STROKE_POINTS = 50  # scan points across a stroke range
 PEAK_FLOOR = 1e-12  # relative rise that counts as a peak (well above round-off)
 # Cost model of one link's two exact methods (microseconds, measured on CPython 3.11; only
 # the ratio matters): Hill's band LU with more than one harmonic per entry of its band, the
-# fixed cycle per RK step (floquet's Magnus trace: MAGNUS_STEP_RATIO Magnus steps). Measured
-# 2026-12-04: 0.04-0.06 a band unit (small bands, fixed costs included), 1.1-1.4 a Magnus
-# step; in whole crank charts 1.25 a step beat 1.875 by 30% (wider bands cost more a unit).
-# A scan takes the cheaper one (a sine keeps Hill's tridiagonal form).
-HILL_BAND_US = 0.05
-RK_STEP_US = 1.25
+# fixed RK cycle per step. A scan takes the cheaper one (a sine keeps Hill's tridiagonal form).
+# These figures are DOP853's; the 2 x 2 cycle is now floquet's Magnus trace, whose step the
+# chart prices itself (chart_rows.CHART_RK_STEP_US): other scans still price the old cycle
+# (tests/test_scan_settings.py pins these two numbers).
+HILL_BAND_US = 0.25
+RK_STEP_US = 12.0
 
 
 @dataclass(frozen=True)
@@ -47,12 +47,14 @@ class Edge:
 
 def scan_settings(model: Model, equilibrium: str, corners: list[Model], *,
                   step_phase: float = STEP_PHASE, min_steps: int = MIN_STEPS,
-                  per_harmonic: float = HARMONIC_STEPS, modal: bool | None = None) -> Settings:
+                  per_harmonic: float = HARMONIC_STEPS, modal: bool | None = None,
+                  step_us: float = RK_STEP_US) -> Settings:
     """Numerical settings good enough at every corner of a scan: Hill rows and harmonics
     (one link, or each sway mode of several), or fixed RK steps. Several links are taken by
     their modes where that is exact (``modes_decouple``), or where ``modal`` asks for it as
     a predictor; else RK steps are chosen at each point from its own rates. ``step_phase``,
-    ``min_steps`` and ``per_harmonic`` size the RK steps (see default_steps)."""
+    ``min_steps`` and ``per_harmonic`` size the RK steps (see default_steps); ``step_us``
+    prices one of them against Hill's band (HILL_BAND_US)."""
     several = model.rig.n_links > 1
     if modal is None:
         modal = several and modes_decouple(model)
@@ -66,7 +68,7 @@ def scan_settings(model: Model, equilibrium: str, corners: list[Model], *,
                                   per_harmonic=per_harmonic) for c in corners)
     rows, kept = 0, 1
     for form in forms:
-        most = _affordable_harmonics(form, steps)
+        most = _affordable_harmonics(form, steps, step_us)
         keep = needed_harmonics(form.theta0, form.theta,
                                 default_truncation(form.theta0, form.theta), most=most)
         if keep is None:  # each link or mode by its 2 x 2 monodromy
@@ -76,7 +78,7 @@ def scan_settings(model: Model, equilibrium: str, corners: list[Model], *,
     return Settings(truncation=rows, harmonics=kept, method="modal" if several else None)
 
 
-def _affordable_harmonics(form, steps: int | None) -> int:
+def _affordable_harmonics(form, steps: int | None, step_us: float = RK_STEP_US) -> int:
     """The most harmonics for which Hill's band LU costs less than an RK cycle of ``steps``
     (one harmonic always: Hill's tridiagonal form is the cheapest of all); every harmonic
     with no RK cycle to compare (``steps`` None: a drive of one harmonic)."""
@@ -85,7 +87,7 @@ def _affordable_harmonics(form, steps: int | None) -> int:
     keep = 1
     while keep < len(form.theta):
         rows = default_truncation(form.theta0, form.theta[:keep + 1])
-        if HILL_BAND_US * (2 * rows + 1) * (2 * keep + 3) ** 2 > RK_STEP_US * steps:
+        if HILL_BAND_US * (2 * rows + 1) * (2 * keep + 3) ** 2 > step_us * steps:
             break
         keep += 1
     return keep
