@@ -5,6 +5,7 @@
     python bench/mutation.py --report        # print the last run's score and survivors again
     python bench/mutation.py --survivors     # the last run's survivors again, on today's tests
     python bench/mutation.py --resume        # carry on a stopped run, on today's tests
+    python bench/mutation.py --survivors --resume --modules fit/fitting.py   # both, one module
     python bench/pinned.py                   # every module's last score, coverage, CI time
 
 mutmut expects the package under ./ or src/; the engine lives in pycore/. So this script
@@ -35,6 +36,7 @@ TOP = Path(__file__).resolve().parent.parent
 STAGE = TOP / "build" / "mutation"
 # Each run's figures per module (committed, so `bench/pinned.py` prints the last runs).
 SCORES = TOP / "bench" / "figures" / "mutation"
+STATUS = STAGE / "status.json"  # every mutant's last result over the stage's passes
 
 # The analysis modules issue 12 names (stability/floquet, estimates, check, windows, lines,
 # chart, runup, hill, loads, fit).
@@ -157,6 +159,50 @@ EQUIVALENT.update({
 })
 
 
+# equilibria/lines.py, second pass (issue 12)
+_L = "shakestill.equilibria.lines."
+_ONE_HARMONIC = ("with every form of one harmonic, steps is never read: _affordable_harmonics "
+                 "then returns 1, which is len(theta), and needed_harmonics with most = "
+                 "len(theta) never answers None, so Settings never takes steps")
+EQUIVALENT.update({
+    _L + "xǁ_Foundǁ__init____mutmut_1": "the exception's args set to None: _hidden_point "
+                                              "reads found.x and found.s, never its args",
+    _L + "x__affordable_harmonics__mutmut_24": "cost >= for >: HILL_BAND_US (2 R + 1)(2 k + 3)^2 "
+        "is 0.25 times an odd number, never equal to RK_STEP_US x steps = 12 x an integer",
+    _L + "x_scan_settings__mutmut_25": "steps = '' for None: " + _ONE_HARMONIC,
+    _L + "x_scan_settings__mutmut_27": "len(theta) >= 1 for > 1 (steps sized for one harmonic "
+                                       "too): " + _ONE_HARMONIC,
+    _L + "x_scan_settings__mutmut_40": "rows start at 1 for 0: every form sets rows = "
+                                       "max(rows, default_truncation(...)) >= 8 before it is read",
+    _L + "x_scan_settings__mutmut_16": "one link taken by its one sway mode (mode_forms for "
+        "hill_form): for one link the mode is the link, J = 1 with c/J and 1/L = K/J, the same "
+        "Hill form to rounding",
+    _L + "x_speed_points__mutmut_6": "stop >= start for >: at stop == start the loop's condition "
+                                     "(stop - v) * direction > 0 is false either way",
+    _L + "x_speed_points__mutmut_19": "(stop - v) / direction for * direction: " + _UNIT,
+    _L + "x_speed_points__mutmut_52": "direction >= 0 for > 0: " + _UNIT + ", never 0",
+    _L + "xǁProbeǁ__call____mutmut_19": "verify=None for False: stability() only tests "
+                                               "verify for truth (if verify / not verify)",
+})
+
+
+# fit/fitting.py (issue 12)
+_F = "shakestill.fit.fitting.x_"
+_WORK = ("the default of res.work.get('simulations', ...) changed: the one FitResult ever made "
+         "(fit_steps') always carries work['simulations'], so the default is never read")
+_FEW = ("the m <= p guard never fires: a log has at least 10 rows, so m >= 10 n residuals, "
+        "while p = k + 2 n <= 3 n + 2 n (each number once, three per link at most)")
+EQUIVALENT.update({
+    _F + "fit_dict__mutmut_40": _WORK,
+    _F + "fit_dict__mutmut_42": _WORK,
+    _F + "fit_dict__mutmut_45": _WORK,
+    _F + "_std_errors__mutmut_2": "m < p for m <= p: " + _FEW,
+    _F + "_std_errors__mutmut_3": "the guard's return changed: " + _FEW,
+    _F + "_std_errors__mutmut_24": "cov_ii > 0 for >= 0: the diagonal of the inverse of a "
+                                   "positive definite J^T J is strictly positive, never 0.0",
+})
+
+
 def stage(modules: list[str], tests: list[str]) -> None:
     if STAGE.exists():
         shutil.rmtree(STAGE)
@@ -201,13 +247,20 @@ def add_tests(staged: list[str], more: list[str]) -> list[str]:
 
 
 def results() -> dict[str, str]:
+    """Each mutant's status: mutmut's listing over the stage's earlier passes.
+
+    mutmut forgets every result when the test files change (a --survivors or --resume pass
+    with new tests), then lists only the mutants that pass re-ran; the statuses kept in
+    STATUS carry the earlier passes, so the score counts every mutant once, at its last
+    result."""
     out = subprocess.run([sys.executable, "-m", "mutmut", "results", "--all", "true"],
                          cwd=STAGE, capture_output=True, text=True)
-    status = {}
+    status = json.loads(STATUS.read_text()) if STATUS.is_file() else {}
     for line in out.stdout.splitlines():
         m = re.match(r"\s*(\S+): (.+)$", line)
-        if m:
+        if m and (m.group(2).strip() != "not checked" or m.group(1) not in status):
             status[m.group(1)] = m.group(2).strip()
+    STATUS.write_text(json.dumps(status, indent=0, sort_keys=True) + "\n")
     return status
 
 
@@ -267,7 +320,8 @@ def report(tests: list[str] | None = None) -> int:
 
 def main() -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    ap.add_argument("--modules", nargs="+", default=MODULES, help="paths under pycore/shakestill")
+    ap.add_argument("--modules", nargs="+", default=MODULES,
+                    help="paths under pycore/shakestill (with --survivors: only theirs)")
     ap.add_argument("--tests", nargs="+", default=None,
                     help="test files (default: TESTS); with --survivors/--resume they join "
                          "the staged run's files")
@@ -283,13 +337,17 @@ def main() -> int:
     names: list[str] = []
     if a.survivors or a.resume:  # new tests: copy them in; re-test the survivors, or carry on
         # the survivors and the mutants no test reached (a new test file may reach them now)
+        # named, not left to mutmut: new test files make it forget every result, and it
+        # would re-run them all (the earlier results stay in STATUS)
+        wanted = (("survived", "no tests") if a.survivors else ()) + \
+            (("not checked",) if a.resume else ())
         names = sorted(k for k, s in results().items()
-                       if s in ("survived", "no tests")) if a.survivors else []
+                       if s in wanted and module_of(k) in a.modules)
         a.tests = add_tests(staged_tests() or TESTS, a.tests or [])
         for where in (STAGE / "tests", STAGE / "mutants" / "tests"):
             shutil.copytree(TOP / "tests", where, dirs_exist_ok=True,
                             ignore=shutil.ignore_patterns("__pycache__", "browser"))
-        if a.survivors and not names:
+        if not names:
             return report(a.tests)
     else:
         a.tests = a.tests or TESTS

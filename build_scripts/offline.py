@@ -4,14 +4,17 @@ From file:// a page may not start a worker from a file or a Blob URL, import
 sibling modules or fetch sibling files. So the single file carries
 everything inside itself:
 
-- the page's module scripts and style sheets, bundled by esbuild and inlined
-  (images they use become data: URLs);
+- the page's module and style sheets, bundled by esbuild and inlined (images
+  they use become data: URLs); the module sits after the page's markup,
+  before the archive, and runs as soon as the parser reaches it (async), so
+  the first verdict does not wait for the archive to be read;
 - the worker bundled with Pyodide's JavaScript, gzipped as base64 text in its
   own element in <head>, ahead of everything else, so that the worker starts
   while the browser is still parsing the rest;
 - every other file of the site (Pyodide, the wheels, the lock file,
   build-info.json), packed into one gzip archive held as base64 text at the
-  end of the page;
+  end of the page, but for the few the page reads at once (EARLY_FILES: the
+  build-time verdict), held as text in the prelude;
 - a prelude (offline_page.js) that starts the worker from its element, unpacks
   the archive with DecompressionStream, answers the page's own fetches of
   embedded files, and makes `new Worker(".../worker.js", {type: "module"})`
@@ -58,6 +61,9 @@ INLINED_SUFFIXES = (".js", ".mjs", ".css", ".html")
 # Zips repacked with stored entries before the archive's gzip (no hash of theirs is
 # checked; the wheels' are, so they stay as built).
 RESTORED_ZIPS = ("pyodide/python_stdlib.zip",)
+# Small files the page reads at once (the build-time verdict): held as text in the
+# prelude, so the first verdict does not wait for the archive, which the parser reaches last.
+EARLY_FILES = ("demo-check.json",)
 
 
 def mime_type(path: str) -> str:
@@ -121,7 +127,7 @@ def archive(site: Path) -> tuple[list[dict], bytes]:
     entries = []
     for path in sorted(p for p in site.rglob("*") if p.is_file()):
         name = path.relative_to(site).as_posix()
-        if not name.endswith(INLINED_SUFFIXES):
+        if not name.endswith(INLINED_SUFFIXES) and name not in EARLY_FILES:
             data = path.read_bytes()
             entries.append((name, stored_zip(data) if name in RESTORED_ZIPS else data))
     index = [{"path": name, "type": mime_type(name), "size": len(data)} for name, data in entries]
@@ -161,8 +167,8 @@ def _data_url(path: Path) -> str:
     return f"data:{mime_type(path.name)};base64,{base64.b64encode(path.read_bytes()).decode()}"
 
 
-def _script(code: str, kind: str = "") -> str:
-    attr = f' type="{kind}"' if kind else ""
+def _script(code: str, kind: str = "", run_early: bool = False) -> str:
+    attr = (f' type="{kind}"' if kind else "") + (" async" if run_early else "")
     safe = code.replace("</script", "<\\/script")  # the HTML parser must not end the script early
     return f"<script{attr}>{safe}</script>"
 
@@ -173,11 +179,11 @@ def _data_element(element_id: str, data: bytes) -> str:
     return f'<script type="application/octet-stream" id="{element_id}">{packed}</script>'
 
 
-def _prelude(index: list[dict], worker: bytes) -> str:
+def _prelude(index: list[dict], worker: bytes, early: dict[str, dict]) -> str:
     """The worker's element, then the prelude that starts it at once."""
     text = (HERE / "offline_page.js").read_text()
-    for marker, value in (("[/* @INDEX@ */]", json.dumps(index)), ("@ELEMENT@", DATA_ELEMENT_ID),
-                          ("@WORKER@", WORKER_ELEMENT_ID)):
+    for marker, value in (("[/* @INDEX@ */]", json.dumps(index)), ("{/* @EARLY@ */}", json.dumps(early)),
+                          ("@ELEMENT@", DATA_ELEMENT_ID), ("@WORKER@", WORKER_ELEMENT_ID)):
         if text.count(marker) != 1:
             raise SystemExit(f"offline_page.js must hold the marker {marker} exactly once")
         text = text.replace(marker, value)
@@ -219,6 +225,7 @@ def allow_inline(html: str) -> str:
 def inline_page(site: Path, html: str, prelude: str, payload: str) -> str:
     """index.html with its scripts, styles and images inlined and the archive added."""
     edits = []  # (start, end, replacement)
+    modules = []  # the page's module, run as soon as the parser reaches it (below)
     for tag, attrs, start, end in _Tags(html).tags:
         src, href, rel = attrs.get("src"), attrs.get("href"), (attrs.get("rel") or "").lower()
         for ref in (src, href):
@@ -226,9 +233,11 @@ def inline_page(site: Path, html: str, prelude: str, payload: str) -> str:
                 raise SystemExit(f"index.html refers to {ref}, which the site does not have")
         if tag == "script" and _is_local(src):
             close = html.index("</script>", end) + len("</script>")
-            kind = "module" if attrs.get("type") == "module" else ""
-            fmt = "--format=esm" if kind else "--format=iife"
-            edits.append((start, close, _script(esbuild(site / src, fmt, "--platform=browser"), kind)))
+            if attrs.get("type") == "module":
+                modules.append(esbuild(site / src, "--format=esm", "--platform=browser"))
+                edits.append((start, close, ""))
+            else:
+                edits.append((start, close, _script(esbuild(site / src, "--format=iife", "--platform=browser"))))
         elif tag == "link" and "stylesheet" in rel.split() and _is_local(href):
             media = f' media="{attrs["media"]}"' if attrs.get("media") else ""
             edits.append((start, end, f"<style{media}>{esbuild(site / href)}</style>"))
@@ -245,9 +254,14 @@ def inline_page(site: Path, html: str, prelude: str, payload: str) -> str:
     at = lower.find("<script")
     at = lower.index("</head>") if at < 0 else at
     html = html[:at] + prelude + "\n" + html[at:]
+    # The page's module goes after its markup and before the archive, marked async: a deferred
+    # module would wait for the parser to read the whole 8 MB archive before the first verdict.
+    if len(modules) > 1:
+        raise SystemExit("index.html must load one module script (the single file runs it early)")
     body = html.lower().rindex("</body>")
     data = f'<script type="application/octet-stream" id="{DATA_ELEMENT_ID}">{payload}</script>\n'
-    return allow_inline(html[:body] + data + html[body:])
+    module = "".join(_script(code, "module", run_early=True) + "\n" for code in modules)
+    return allow_inline(html[:body] + module + data + html[body:])
 
 
 def build_offline(site: Path, out: Path) -> None:
@@ -256,5 +270,7 @@ def build_offline(site: Path, out: Path) -> None:
         worker = bundle_worker(site, Path(tmp))
     index, packed = archive(site)
     payload = base64.b64encode(packed).decode()
-    html = inline_page(site, (site / "index.html").read_text(), _prelude(index, worker), payload)
+    early = {name: {"type": mime_type(name), "text": (site / name).read_text()}
+             for name in EARLY_FILES if (site / name).is_file()}
+    html = inline_page(site, (site / "index.html").read_text(), _prelude(index, worker, early), payload)
     out.write_text(html)

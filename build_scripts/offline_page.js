@@ -11,10 +11,11 @@
 // first such call adopts the worker started here).
 (() => {
   const INDEX = [/* @INDEX@ */]; // [{path, type, size}] in archive order
+  const EARLY = {/* @EARLY@ */}; // {path: {type, text}}: small files the page reads at once
   const ELEMENT = "@ELEMENT@";
   const WORKER_ELEMENT = "@WORKER@"; // the gzipped worker bundle, parsed before this script
   const base = new URL("./", location.href).href;
-  const paths = new Set(INDEX.map((entry) => entry.path));
+  const paths = new Set([...INDEX.map((entry) => entry.path), ...Object.keys(EARLY)]);
   // The page's Trusted Types policy list names this one (offline.py edits the CSP).
   const policy = self.trustedTypes
     ? trustedTypes.createPolicy("shakestill-offline", {
@@ -78,6 +79,9 @@
   window.fetch = async (input, init) => {
     const path = embeddedPath(input);
     if (path === null) return nativeFetch(input, init);
+    if (Object.hasOwn(EARLY, path)) {
+      return new Response(EARLY[path].text, { headers: { "Content-Type": EARLY[path].type } });
+    }
     const { buffer, files } = await unpack();
     const file = files.get(path);
     const bytes = buffer.slice(file.offset, file.offset + file.size);
@@ -90,6 +94,40 @@
     return "data:text/javascript," + code.replace(/[%#\s]/g, encodeURIComponent);
   }
 
+  // The engine's snapshots for a quick second start (site/engine/snapshot.js): a data:
+  // worker has no storage, so this page keeps them in its own Cache Storage (Chromium gives
+  // a page opened from disk one), hands them over with the files and stores what it is sent.
+  // null where the page has no Cache Storage: the engine then always starts plainly.
+  const SNAPSHOTS = "snapshot-of-shakestill-v1";
+  const snapshotUrl = (key) => `https://snapshot.shakestill.invalid/${encodeURIComponent(key)}`;
+
+  async function keptSnapshots() {
+    if (typeof caches === "undefined") return null;
+    try {
+      const cache = await caches.open(SNAPSHOTS);
+      return await Promise.all((await cache.keys()).map(async (request) => ({
+        key: decodeURIComponent(request.url.split("/").pop()),
+        blob: await (await cache.match(request)).blob(),
+      })));
+    } catch {
+      return null;
+    }
+  }
+
+  async function keepSnapshot({ op, key, blob }) {
+    const cache = await caches.open(SNAPSHOTS);
+    if (op === "put") await cache.put(snapshotUrl(key), new Response(blob));
+    else await cache.delete(snapshotUrl(key));
+  }
+
+  function answerKeep(worker, request) {
+    keepSnapshot(request).then(
+      () => worker.postMessage({ type: "shakestill-snapshot-done", id: request.id }),
+      (error) => worker.postMessage({ type: "shakestill-snapshot-done", id: request.id,
+        error: String((error && error.message) || error) }),
+    );
+  }
+
   // Starts the bundled worker, posts it the files once unpacked, and holds what it says
   // until a page-side EmbeddedWorker takes it (port.sink).
   function launch(name) {
@@ -97,16 +135,19 @@
     const deliver = (...event) => (port.sink ? port.sink(...event) : port.held.push(event));
     port.started = gunzip(WORKER_ELEMENT).then((code) => {
       const worker = new NativeWorker(policy.createScriptURL(workerUrl(code)), { type: "module", name });
-      worker.addEventListener("message", (event) => deliver("message", event.data));
+      worker.addEventListener("message", (event) => {
+        if (event.data && event.data.type === "shakestill-snapshot-keep") answerKeep(worker, event.data);
+        else deliver("message", event.data);
+      });
       worker.addEventListener("messageerror", () => deliver("messageerror"));
       worker.addEventListener("error", (event) => {
         event.preventDefault();
         deliver("error", undefined, event.message);
       });
       // A copy of every file, so a worker started later gets them too.
-      unpack().then(
-        ({ buffer, files }) => worker.postMessage({ type: "shakestill-embedded", base,
-          buffer: buffer.slice(0), index: [...files.values()] }),
+      Promise.all([unpack(), keptSnapshots()]).then(
+        ([{ buffer, files }, snapshots]) => worker.postMessage({ type: "shakestill-embedded", base,
+          buffer: buffer.slice(0), index: [...files.values()], snapshots }),
         (error) => worker.postMessage({ type: "shakestill-embedded",
           error: `Could not unpack the files embedded in the page: ${error.message || error}` }),
       );

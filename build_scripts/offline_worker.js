@@ -21,14 +21,47 @@ self.addEventListener("message", function first(event) {
 
 globalThis.shakestillHost = {
   pyodideOptions: { createPyodideModule },
+  snapshotStore: null,
   // Resolves to the base URL the embedded files are named under.
   async prepare() {
-    const { base, buffer, index, error } = await files;
+    const { base, buffer, index, error, snapshots } = await files;
     if (error) throw new Error(error);
     answerFetches(base, buffer, index);
+    if (snapshots) this.snapshotStore = pageStore(snapshots);
     return base;
   },
 };
+
+// A worker from a data: URL has no storage of its own: the page keeps the snapshots
+// (site/engine/snapshot.js) in its Cache Storage, sends the ones it has with the files
+// ([{key, blob}]) and stores or deletes one when asked.
+const asked = new Map();
+let lastAsk = 0;
+self.addEventListener("message", (event) => {
+  const data = event.data;
+  if (!data || data.type !== "shakestill-snapshot-done") return;
+  event.stopImmediatePropagation();
+  const settle = asked.get(data.id);
+  asked.delete(data.id);
+  if (data.error) settle?.reject(new Error(data.error));
+  else settle?.resolve();
+});
+
+function askPage(op, key, blob) {
+  return new Promise((resolve, reject) => {
+    const id = ++lastAsk;
+    asked.set(id, { resolve, reject });
+    self.postMessage({ type: "shakestill-snapshot-keep", id, op, key, blob });
+  });
+}
+
+function pageStore(snapshots) {
+  return {
+    entries: async () => snapshots.map(({ key, blob }) => ({
+      key, read: async () => blob, remove: () => askPage("delete", key) })),
+    put: (key, blob) => askPage("put", key, blob),
+  };
+}
 
 function answerFetches(base, buffer, index) {
   const byUrl = new Map(index.map((file) => [new URL(file.path, base).href, file]));

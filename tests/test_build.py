@@ -20,6 +20,7 @@ import shutil
 import subprocess
 import sys
 import tomllib
+import urllib.parse
 import zipfile
 from html.parser import HTMLParser
 from pathlib import Path
@@ -271,7 +272,11 @@ def _absolute_urls(text: str) -> list[str]:
             url = match.group(0)
             before = line[:match.start()]
             in_comment = before.lstrip().startswith(("//", "*", "/*", "<!--")) or "// " in before
-            if not in_comment and not url.startswith(NAMESPACES):
+            host = urllib.parse.urlsplit(url).hostname or ""
+            # A name under .invalid never resolves (RFC 6761 section 6.4): the single file's
+            # snapshot cache keys (build_scripts/offline_page.js) name no place to reach.
+            never_resolves = host == "invalid" or host.endswith(".invalid")
+            if not in_comment and not url.startswith(NAMESPACES) and not never_resolves:
                 found.append(url)
     return found
 
@@ -319,6 +324,24 @@ def test_single_file_carries_the_sites_files_byte_for_byte(dist):
     for info in served.infolist():
         assert packed.read(info.filename) == served.read(info), info.filename
     assert by_path["pyodide/pyodide.asm.wasm"][:4] == b"\0asm"  # WebAssembly binary magic (WebAssembly Core spec 5.5.16)
+
+
+def test_single_file_runs_its_page_and_verdict_ahead_of_the_archive(dist):
+    # The first verdict does not wait for the parser to read the archive: the page's module
+    # comes after its markup and before the archive, async (HTML Living Standard 4.12.1: an
+    # async module script runs as soon as it is fetched, a deferred one after parsing), and
+    # the build-time verdict rides in the prelude byte for byte, not in the archive.
+    single = (dist / build_site.OFFLINE.name).read_text()
+    module = single.index('<script type="module" async>')
+    archive = single.index(f'<script type="application/octet-stream" id="{offline.DATA_ELEMENT_ID}">')
+    assert single.index('id="check-report"') < module < archive
+    assert single.count('<script type="module"') == 1
+    early = json.loads(re.search(r"const EARLY = (\{.*?\}); //", single).group(1))
+    assert sorted(early) == sorted(offline.EARLY_FILES) == ["demo-check.json"]
+    for name, file in early.items():
+        assert file["text"] == (dist / "site" / name).read_text(), name
+    index, _ = _embedded(single)
+    assert not {entry["path"] for entry in index} & set(offline.EARLY_FILES)
 
 
 def test_single_file_carries_the_worker_ahead_of_the_archive(dist):

@@ -1,8 +1,10 @@
 // A return visit starts from a Pyodide memory snapshot (DEVELOPERS.md "Start-up"): the
 // first visit, once idle after its first result, imports every module of the core, takes
-// the snapshot and keeps it gzipped in Cache Storage under a key of the exact Pyodide,
-// standard library and core the build shipped (build-info.json "snapshot"). Never shipped
-// in the site; the single file (file:// may lack Cache Storage) always boots plainly.
+// the snapshot and keeps it gzipped in a store under a key of the exact Pyodide, standard
+// library and core the build shipped (build-info.json "snapshot"). Never shipped with the
+// page. The served site's worker keeps it in its own Cache Storage; the single file's worker
+// (a data: worker, which has no storage) in the page's, through the host's store
+// (build_scripts/offline_worker.js).
 //
 // Pyodide 314 offers snapshots only as private API (_makeSnapshot, makeMemorySnapshot,
 // _loadSnapshot), so every use is feature-detected and any failure means a plain boot.
@@ -24,39 +26,58 @@ for _dir, _, _files in os.walk(shakestill.__path__[0]):
 del importlib, os, _top, _dir, _files, _file, _stem, _ext
 `;
 
-/** Whether this host can keep a snapshot at all (a served page in a browser worker). */
-export function snapshotsPossible(host) {
-  return !host.prepare && typeof caches !== "undefined" && typeof CompressionStream === "function"
-    && typeof DecompressionStream === "function";
+/**
+ * Where this host keeps snapshots, or null where it cannot: a store is {entries() -> promise
+ * of [{key, read() -> promise of the gzipped Blob, remove()}], put(key, gzipped Blob)}.
+ */
+export function snapshotStore(host, base) {
+  if (typeof CompressionStream !== "function" || typeof DecompressionStream !== "function") return null;
+  if (host.prepare) return host.snapshotStore || null;
+  return typeof caches === "undefined" ? null : cacheStore(base);
 }
 
-const entryURL = (base, key) => new URL(`snapshot/${encodeURIComponent(key)}`, base).href;
+// The served site's store: Cache Storage under the site's own address.
+function cacheStore(base) {
+  const open = () => caches.open(CACHE);
+  return {
+    async entries() {
+      const cache = await open();
+      return (await cache.keys()).map((request) => ({
+        key: decodeURIComponent(request.url.split("/").pop()),
+        read: async () => (await cache.match(request)).blob(),
+        remove: () => cache.delete(request),
+      }));
+    },
+    async put(key, blob) {
+      const url = new URL(`snapshot/${encodeURIComponent(key)}`, base).href;
+      await (await open()).put(url, new Response(blob, { headers: { "content-type": "application/gzip" } }));
+    },
+  };
+}
 
 /**
  * The stored snapshot for this build as {bytes, drop()}, or null when there is none; `bytes`
  * is a promise, so loadPyodide unpacks it while it loads its own JavaScript. Entries
- * of other builds are deleted (`note` says so). `infoPromise` is awaited only when the cache
+ * of other builds are deleted (`note` says so). `infoPromise` is awaited only when the store
  * holds something, so a first visit's plain boot never waits for build-info.json here.
  */
-export async function findSnapshot(base, infoPromise, note) {
-  const cache = await caches.open(CACHE);
-  const keys = await cache.keys();
-  if (!keys.length) return null;
-  const want = entryURL(base, (await infoPromise).snapshot);
+export async function findSnapshot(store, infoPromise, note) {
+  const entries = await store.entries();
+  if (!entries.length) return null;
+  const want = (await infoPromise).snapshot;
   let found = null;
-  for (const request of keys) {
-    if (request.url === want) {
-      found = request;
+  for (const entry of entries) {
+    if (entry.key === want) {
+      found = entry;
     } else {
-      await cache.delete(request);
+      await entry.remove();
       note("Deleted a snapshot of another build; plain start.");
     }
   }
   if (!found) return null;
-  const response = await cache.match(found);
-  const plain = response.body.pipeThrough(new DecompressionStream("gzip"));
+  const plain = (await found.read()).stream().pipeThrough(new DecompressionStream("gzip"));
   return { bytes: new Response(plain).arrayBuffer().then((buffer) => new Uint8Array(buffer)),
-    drop: () => cache.delete(found) };
+    drop: () => found.remove() };
 }
 
 /** Imports the whole core and returns the snapshot's bytes (Python must be idle). */
@@ -79,10 +100,9 @@ export function takeSnapshot(pyodide) {
 export const restoreOptions = (bytes) => ({ _loadSnapshot: bytes, _snapshotDeserializer: () => null });
 
 /** Gzips `bytes` and keeps them under this build's key; resolves to the gzipped size. */
-export async function storeSnapshot(base, key, bytes) {
+export async function storeSnapshot(store, key, bytes) {
   const packed = new Response(new Blob([bytes]).stream().pipeThrough(new CompressionStream("gzip")));
   const blob = await packed.blob();
-  const cache = await caches.open(CACHE);
-  await cache.put(entryURL(base, key), new Response(blob, { headers: { "content-type": "application/gzip" } }));
+  await store.put(key, blob);
   return blob.size;
 }

@@ -4,7 +4,8 @@
 // host cannot serve files the usual way, it sets globalThis.shakestillHost
 // before this module runs: {prepare() -> base URL of the site's files, once
 // they can be fetched; pyodideOptions: options for loadPyodide, such as
-// createPyodideModule (Pyodide's Emscripten module, handed over directly)}.
+// createPyodideModule (Pyodide's Emscripten module, handed over directly);
+// snapshotStore, set by prepare where the host keeps snapshots (site/engine/snapshot.js)}.
 // The single-file build does (build_scripts/offline_worker.js), and so does
 // the Node.js test runner (tests/pyodide_run.mjs).
 //
@@ -14,7 +15,7 @@
 // {id, type: "result", reply}, {id, type: "error", message}.
 
 import { loadPyodide } from "../pyodide/pyodide.mjs";
-import { findSnapshot, restoreOptions, snapshotsPossible, storeSnapshot, takeSnapshot } from "./snapshot.js";
+import { findSnapshot, restoreOptions, snapshotStore, storeSnapshot, takeSnapshot } from "./snapshot.js";
 
 // Pyodide packages loaded from the shipped lock file before the core. loadPyodide's
 // `packages` fetches them while Python itself starts, not after.
@@ -29,7 +30,7 @@ let busy = false;
 let started = "plain";
 const bootLog = [];
 const note = (words) => bootLog.push(words);
-// {pyodide, base, key} while this visit should leave a snapshot for the next one.
+// {pyodide, store, key} while this visit should leave a snapshot for the next one.
 let snapshotDue = null;
 let lastWork = 0;
 // Quiet time after the last request before the snapshot is taken (it holds Python ~0.5 s).
@@ -95,9 +96,10 @@ async function boot() {
   });
 
   const indexURL = new URL("pyodide/", base).href;
-  const keep = snapshotsPossible(host);
+  const store = snapshotStore(host, base);
+  const keep = store !== null;
   if (keep) {
-    const version = await restore(base, indexURL, info);
+    const version = await restore(store, indexURL, info, host.pyodideOptions);
     if (version) return version;
   }
   stage("loading Python", 0.05);
@@ -149,7 +151,7 @@ async function boot() {
     bridge = pyodide.pyimport("shakestill.bridge");
     mark("imported");
     // The private API may be gone in another Pyodide: then there is simply no snapshot.
-    if (keep && typeof pyodide.makeMemorySnapshot === "function") snapshotDue = { pyodide, base, key: snapshot };
+    if (keep && typeof pyodide.makeMemorySnapshot === "function") snapshotDue = { pyodide, store, key: snapshot };
     return version;
   });
 }
@@ -159,10 +161,10 @@ async function boot() {
  * proves it works. Returns the version, or "" after noting why a plain start follows (a
  * snapshot that failed is deleted).
  */
-async function restore(base, indexURL, info) {
+async function restore(store, indexURL, info, hostOptions) {
   let found;
   try {
-    found = await findSnapshot(base, info, note);
+    found = await findSnapshot(store, info, note);
   } catch (error) {
     note(`The snapshot store could not be read (${describe(error)}); plain start.`);
     return "";
@@ -172,7 +174,7 @@ async function restore(base, indexURL, info) {
   stage("restoring Python from this browser's copy", 0.1);
   try {
     const pyodide = await withinTime(LOAD_TIMEOUT_MS, "the snapshot did not start within two minutes",
-      loadPyodide({ indexURL, stdout: () => {}, stderr: () => {}, ...restoreOptions(found.bytes) }));
+      loadPyodide({ indexURL, stdout: () => {}, stderr: () => {}, ...restoreOptions(found.bytes), ...hostOptions }));
     mark("python");
     const { version: built } = await info;
     const restored = pyodide.pyimport("shakestill.bridge");
@@ -200,7 +202,7 @@ function snapshotWhenIdle() {
     setTimeout(snapshotWhenIdle, Math.max(wait, 100));
     return;
   }
-  const { pyodide, base, key } = snapshotDue;
+  const { pyodide, store, key } = snapshotDue;
   snapshotDue = null;
   let bytes;
   try {
@@ -209,7 +211,7 @@ function snapshotWhenIdle() {
     post({ type: "snapshot", state: "failed", message: describe(error) });
     return;
   }
-  storeSnapshot(base, key, bytes).then(
+  storeSnapshot(store, key, bytes).then(
     (packed) => post({ type: "snapshot", state: "stored", bytes: bytes.length, packed }),
     (error) => post({ type: "snapshot", state: "failed", message: describe(error) }),
   );

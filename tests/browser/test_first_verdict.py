@@ -17,9 +17,14 @@ pytestmark = pytest.mark.browser
 CACHED = "() => document.getElementById('check-report').dataset.state === 'cached'"
 
 
-def test_a_first_visit_shows_the_build_time_verdict_then_the_engines(new_context, server):
+@pytest.mark.parametrize("where", ["served", "single file"])
+def test_a_first_visit_shows_the_build_time_verdict_then_the_engines(new_context, request, where):
+    # The single file holds the build-time verdict in its prelude and runs the page's module
+    # before the parser reaches its archive (build_scripts/offline.py).
+    url = request.getfixturevalue("server").url if where == "served" \
+        else request.getfixturevalue("offline_file").as_uri()
     page = new_context().new_page()
-    page.goto(server.url)
+    page.goto(url)
     page.wait_for_function(CACHED, timeout=30_000)
     assert page.get_attribute("#check-report", "data-source") == "build"
     cached = json.loads(page.get_attribute("#check-report", "data-result"))
@@ -29,7 +34,7 @@ def test_a_first_visit_shows_the_build_time_verdict_then_the_engines(new_context
     assert cached["inverted"]["speed_window_rpm"] == pytest.approx(
         ss.check(ss.demo_rig())["inverted"]["speed_window_rpm"], rel=1e-12)
     assert "built" in page.inner_text("#check-report .report-status")
-    shot(page, "laptop-first-verdict-cached")
+    shot(page, f"laptop-first-verdict-cached-{where.replace(' ', '-')}")
     fresh = wait_for_result(page)
     assert page.get_attribute("#check-report", "data-source") is None
     for eq in ("inverted", "hanging"):

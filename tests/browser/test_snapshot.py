@@ -91,3 +91,33 @@ def test_second_visit_restores_and_bad_snapshots_fall_back(new_context, server):
     assert other == plain
     assert page.evaluate(KEYS_JS, CACHE) == keys
     page.close()
+
+
+def test_single_file_keeps_its_snapshot_in_the_page(new_context, offline_file):
+    """The single file from disk: its data: worker has no storage, so the page keeps the
+    snapshot in its own Cache Storage (build_scripts/offline_page.js) and hands it over."""
+    context = new_context()
+    url = offline_file.as_uri()
+    plain, started, log, page = visit(context, url, wait_for_snapshot=True)
+    assert started == "plain" and log == []
+    keys = page.evaluate(KEYS_JS, CACHE)
+    build = json.loads(page.evaluate("fetch('build-info.json').then((r) => r.text())"))
+    assert [key.rsplit("/", 1)[1] for key in keys] == [build["snapshot"]]
+    page.close()
+
+    # Same code, same input: the same JSON, character for character (common practice, no source).
+    restored, started, log, page = visit(context, url, wait_for_snapshot=False)
+    assert started == "snapshot", log
+    assert restored == plain
+    assert page.evaluate(KEYS_JS, CACHE) == keys
+
+    # Another build's snapshot: the worker asks the page to delete it, starts plainly and
+    # leaves a good one in its place.
+    page.evaluate(ALTER_JS, [CACHE, "rekey"])
+    page.close()
+    other, started, log, page = visit(context, url, wait_for_snapshot=True)
+    assert started == "plain"
+    assert log == ["Deleted a snapshot of another build; plain start."], log
+    assert other == plain
+    assert page.evaluate(KEYS_JS, CACHE) == keys
+    page.close()

@@ -15,10 +15,10 @@ from bisect import bisect_right
 from dataclasses import dataclass
 
 from ..model.derived import Model
-from .chart_rows import CHART_MIN_STEPS, CHART_RTOL, CHART_STEP_PHASE, Row, stroke_for_peak_accel
+from .chart_rows import CHART_RTOL, Row, chart_settings, stroke_for_peak_accel
 from .confirm import place_edge, tight_edge
 from .floquet import modes_decouple
-from .lines import Probe, edge_between, scan_settings
+from .lines import Probe, edge_between
 
 COLUMNS = 200  # speeds, evenly spaced over the chart, at which such edges are traced
 
@@ -123,6 +123,4 @@ def _trace(model: Model, y_axis: str, equilibrium: str, x: float, y0: float, y1:
 
 def _probe(model: Model, equilibrium: str, point, y0: float, y1: float, modal) -> Probe:
     corners = [model.at(*point(y)) for y in (y0, y1)]
-    settings = scan_settings(model, equilibrium, corners, step_phase=CHART_STEP_PHASE,
-                             min_steps=CHART_MIN_STEPS, modal=modal)
-    return Probe(model, equilibrium, point, settings)
+    return Probe(model, equilibrium, point, chart_settings(model, equilibrium, corners, modal))

@@ -86,7 +86,7 @@ def chain_row(model: Model, rows: list[Row], y_axis: str, equilibria, coupled: b
     if not coupled:
         return predicted, predicted
     for eq in equilibria:
-        point = row_line(model.rig, y_axis, first.y)[0]
+        point = row_line(model, y_axis, first.y)[0]
         exact = Probe(model, eq, point, row_settings(model, point, lo, hi, eq, modal=False))
         aimed = _corrected(predicted, near, eq)
         prefix: list[Edge] = []

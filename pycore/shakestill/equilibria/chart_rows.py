@@ -29,6 +29,15 @@ FOLLOW_CHECKS = 6  # verdicts spot-checked across a followed row (geometrically 
 # (measured against 4x the steps on crank drives), so edges stay far inside the 1e-4 target.
 CHART_STEP_PHASE = 0.4
 CHART_MIN_STEPS = 12
+# and one step per drive harmonic where the check takes two: a crank's harmonics past the
+# rates' own step count are small, and multipliers stay within ~1e-8 of solve_ivp's
+# (tests/test_magnus.py; measured 2026-12-04 on two- and three-link cranks: <= 7e-9).
+CHART_HARMONIC_STEPS = 1
+# The chart's price of an RK step of a 2 x 2 trace against lines.HILL_BAND_US (0.25): the
+# Magnus trace measured 2026-12-04 side by side with Hill's band at 1.1-1.4 us a Magnus step
+# against 0.04-0.06 us a band unit, i.e. 1.25 : 0.05 = 6.25 : 0.25 (in whole crank charts
+# 6.25 beat 9.4 by 30%: wider bands cost more a unit).
+CHART_RK_STEP_US = 6.25
 @dataclass(frozen=True)
 class Row:
     """One row of the chart: its y value, stroke per speed, and each equilibrium's edges."""
@@ -70,9 +79,11 @@ def stroke_for_peak_accel(rig: Rig, accel_m_s2: float, speed_rpm: float) -> floa
     return per / unit
 
 
-def row_line(rig: Rig, y_axis: str, y: float):
-    """(point(x) -> (speed, stroke), speed_min, speed_max) for a row, or None if empty."""
-    lo, hi = speed_range(rig)
+def row_line(model: Rig | Model, y_axis: str, y: float):
+    """(point(x) -> (speed, stroke), speed_min, speed_max) for a row, or None if empty.
+    Give the derived model where there is one: a rig is derived again for the speed range."""
+    lo, hi = speed_range(model)
+    rig = as_model(model).rig
     if y_axis == "stroke":
         return (lambda x: (x, y)), lo, hi
     top = max_stroke_m(rig)
@@ -88,16 +99,21 @@ def row_line(rig: Rig, y_axis: str, y: float):
     return (lambda x: (x, stroke_for_peak_accel(rig, y, x))), lo, hi
 
 
-def row_settings(model: Model, point, lo: float, hi: float, eq: str, modal=None):
-    corners = [model.at(v, point(v)[1]) for v in (lo, hi)]
+def chart_settings(model: Model, eq: str, corners: list[Model], modal=None):
+    """The chart's scan settings for a line between ``corners`` (its RK steps above)."""
     return scan_settings(model, eq, corners, step_phase=CHART_STEP_PHASE,
-                         min_steps=CHART_MIN_STEPS, modal=modal)
+                         min_steps=CHART_MIN_STEPS, per_harmonic=CHART_HARMONIC_STEPS,
+                         modal=modal, step_us=CHART_RK_STEP_US)
+
+
+def row_settings(model: Model, point, lo: float, hi: float, eq: str, modal=None):
+    return chart_settings(model, eq, [model.at(v, point(v)[1]) for v in (lo, hi)], modal)
 
 
 def scan_row(model: Model, y_axis: str, y: float, equilibria, guide=None) -> Row | None:
     """One row: follow the edges of two computed neighbour rows where they agree
     (bracketed root finding near the interpolated edges), else walk the whole row."""
-    line = row_line(model.rig, y_axis, y)
+    line = row_line(model, y_axis, y)
     if line is None:
         return None
     point, lo, hi = line

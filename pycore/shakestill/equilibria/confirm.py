@@ -16,12 +16,16 @@ does not bear out returns None, and the caller walks the row exactly.
 
 from __future__ import annotations
 
+from typing import Callable
+
+from .floquet import Stability
 from .lines import Edge, Probe, edge_between
 
 # Relative half-widths of the brackets tried around a predicted edge, tightest first; a
 # bracket of 1e-4 relative width already holds the edge to the chart's 1e-4 target.
 CONFIRM_HALF_WIDTHS = (5e-5, 1e-3, 2e-2)
 AIMS = 2  # tightest brackets re-aimed by the margin's secant before the wider ones
+REAL = 1e-9  # relative imaginary part of a multiplier taken as real (eigvals' round-off)
 
 
 def confirm_edges(exact: Probe, predicted: tuple[Edge, ...], stable_at_lo: bool, lo: float,
@@ -48,15 +52,19 @@ def place_edge(exact: Probe, edge: Edge, before: bool, last: float, hi: float,
     verdict ``before`` it, nothing nearer than ``last`` or past ``hi``), or None.
 
     A tightest bracket that misses (both verdicts alike) is aimed again, up to AIMS times, at
-    the zero of the margin's secant through its two points; a wider bracket that confirms is
-    aimed at by its secant in the same way before Brent's method is asked to close it."""
+    the zero of the secant through its two points (of det(M -+ I) or the margin:
+    ``_edge_function``); a wider bracket that confirms is aimed at by its secant in the same
+    way before Brent's method is asked to close it (on the margin)."""
     aim = edge.x
     for _ in range(1 + AIMS):
         placed, a, b = _tight(exact, aim, before, edge.gained, last, hi)
-        if placed is not None or a is None or a[1].stable != b[1].stable or \
-                a[1].margin == b[1].margin:
+        if placed is not None or a is None or a[1].stable != b[1].stable:
             break
-        aim = a[0] - a[1].margin * (b[0] - a[0]) / (b[1].margin - a[1].margin)
+        f = _edge_function(a[1], b[1])
+        fa, fb = f(a[1]), f(b[1])
+        if fa == fb:
+            break
+        aim = a[0] - fa * (b[0] - a[0]) / (fb - fa)
         if not abs(aim / edge.x - 1) < CONFIRM_HALF_WIDTHS[1]:
             break
     if placed is not None:
@@ -67,8 +75,8 @@ def place_edge(exact: Probe, edge: Edge, before: bool, last: float, hi: float,
             return None
         sa, sb = exact(a), exact(b)
         if sa.stable == before and sb.stable == edge.gained:
-            placed, _, _ = _tight(exact, _secant(a, sa.margin, b, sb.margin), before,
-                                  edge.gained, a, b)
+            f = _edge_function(sa, sb)
+            placed, _, _ = _tight(exact, _secant(a, f(sa), b, f(sb)), before, edge.gained, a, b)
             return placed or edge_between(exact, (a, sa), (b, sb), rtol=rtol)
     return None
 
@@ -82,12 +90,49 @@ def _tight(exact: Probe, aim: float, before: bool, gained: bool, last: float, hi
         return None, None, None
     sa, sb = exact(a), exact(b)
     if sa.stable == before and sb.stable == gained:
-        return Edge(_secant(a, sa.margin, b, sb.margin), gained), (a, sa), (b, sb)
+        f = _edge_function(sa, sb)
+        return Edge(_secant(a, f(sa), b, f(sb)), gained), (a, sa), (b, sb)
     return None, (a, sa), (b, sb)
 
 
+def _edge_function(sa: Stability, sb: Stability) -> Callable[[Stability], float]:
+    """A function of a point's multipliers for secants between these two points, as smooth
+    through their edge as can be: the characteristic polynomial at +1 or -1, det(M -+ I) =
+    prod (rho_k -+ 1), where one real multiplier leaves the unit circle there (the point
+    further out has no other outside it) and that value changes sign between the points
+    (or not, for two points on one side); else the margin (log of the largest |rho|).
+
+    With dampers the margin is flat on the stable side (a pair of multipliers on a circle
+    of radius below 1) and turns where the pair meets on the real axis, just inside the
+    edge, so secants of the margin across the edge land up to their bracket's width off;
+    det(M -+ I) is a polynomial in the monodromy's entries, smooth through that meeting.
+    Only secants use it, in brackets whose verdicts are then checked: another multiplier
+    may pass +-1 inside the unit circle elsewhere, which is no edge."""
+    top = max((sa, sb), key=lambda s: s.margin)
+    outside = [r for r in top.multipliers if abs(r) > 1.0]
+    rho = outside[0] if len(outside) == 1 else max(top.multipliers, key=abs)
+    if len(outside) > 1 or (outside and abs(rho.imag) > REAL * abs(rho)):
+        return _margin
+    side = 1.0 if rho.real > 0 else -1.0
+
+    def at_one(s: Stability) -> float:
+        value = 1.0
+        for r in s.multipliers:
+            value *= r - side
+        return value.real
+
+    a, b = at_one(sa), at_one(sb)
+    if (sa.stable != sb.stable) == ((a > 0) != (b > 0)) and a != b:
+        return at_one
+    return _margin
+
+
+def _margin(s: Stability) -> float:
+    return s.margin
+
+
 def _secant(a: float, fa: float, b: float, fb: float) -> float:
-    """The margin's zero by linear interpolation, kept inside [a, b]."""
+    """The zero of f by linear interpolation, kept inside [a, b]."""
     if fa == fb:
         return 0.5 * (a + b)
     return min(b, max(a, a - fa * (b - a) / (fb - fa)))

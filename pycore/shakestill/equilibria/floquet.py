@@ -17,6 +17,8 @@ from functools import lru_cache
 from ..model import drive as drv
 from ..numerics.hill import default_truncation, hill_trace, multipliers_from_trace
 from ..numerics.linalg import eigvals
+from ..numerics.magnus import GAUSS_NODES
+from ..numerics.magnus import hill_trace as magnus_trace
 from ..model.derived import Model, as_model
 from ..model.linear import EQUILIBRIA
 from ..model.rig import OutOfReach, Problem, Rig
@@ -27,6 +29,10 @@ CONVERGENCE_TOLERANCE = 1e-8  # accepted change of the multipliers under refinem
 MIN_STEPS = 24  # RK steps per cycle, never fewer
 STEP_PHASE = 0.2  # target of (fastest linear rate) x (step) for the 8th-order step
 MAX_STEPS = 4000  # a cycle finer than this is not worth it: report non-convergence
+HARMONIC_STEPS = 2  # RK steps per drive harmonic, at least
+# Magnus steps (sixth order) per DOP853 step (eighth) of a 2 x 2 trace: at the chart's crank
+# steps one each left traces ~2e-8 to 9e-8 from solve_ivp's, 1.5 each ~1e-9 to 5e-9 (2026-12-04)
+MAGNUS_STEP_RATIO = 1.5
 MODAL_METHOD = "hill (sway modes)"
 DECOUPLED = 1e-12  # modal damping coupling at round-off: the modes are the chain exactly
 MAX_HILL_WORK = 4_000_000  # rows x band width^2 of one Hill determinant (about 2 s): a
@@ -71,6 +77,7 @@ class Settings:
     # then); by default they are used where exact.
     step_phase: float = STEP_PHASE  # RK steps chosen per point: see default_steps
     min_steps: int = MIN_STEPS
+    per_harmonic: float = HARMONIC_STEPS
 
 
 def modes_decouple(model: Rig | Model) -> bool:
@@ -206,35 +213,42 @@ def _from_trace(m: Model, equilibrium: str, trace: float, gamma_T: float, method
 
 def _rk_trace_stability(m: Model, equilibrium: str, settings: Settings, *,
                         modal: bool = False) -> Stability:
-    """One link (or each sway mode, ``modal``) by its 2 x 2 monodromy, judged like Hill's
-    trace (same margin), for scans of drives with many harmonics, where the fixed RK cycle
-    is cheaper than the band LU."""
+    """One link (or each sway mode, ``modal``) by the trace of its 2 x 2 monodromy, judged
+    like Hill's trace (same margin), for scans of drives with many harmonics, where a fixed
+    cycle is cheaper than the band LU. The damping is taken out (u = exp(gamma t) q) and the
+    cycle of u'' + (kappa G(t) - gamma^2) u = 0 is the sixth-order Magnus step (``magnus``),
+    MAGNUS_STEP_RATIO of them per RK step: traces to ~1e-9 (the chart's crank rows), in a
+    third of DOP853's time (tests/test_magnus.py holds them to solve_ivp)."""
     n = _steps(m, equilibrium, settings)
-    if not modal:
+    steps = math.ceil(MAGNUS_STEP_RATIO * n)
+    if modal:
+        sign = -1.0 if equilibrium == "inverted" else 1.0
+        forms = [(sign / length, c) for length, c in zip(m.modes.lengths_m, m.modes.damping)]
+    else:
         lin = m.of(equilibrium).linear
-        gamma_T = lin.D[0][0] / (2.0 * lin.M[0][0]) / m.rig.drive.frequency_hz
-        mono = _monodromy(m, equilibrium, n)
-        trace = math.exp(gamma_T) * (mono[0][0] + mono[1][1])
-        return _from_trace(m, equilibrium, trace, gamma_T, "monodromy", work={"steps": n})
-    sign = -1.0 if equilibrium == "inverted" else 1.0
-    nodes, period = _G_nodes(m.rig, n), 1.0 / m.rig.drive.frequency_hz
+        forms = [(lin.K[0][0] / lin.M[0][0], lin.D[0][0] / lin.M[0][0])]
+    accel, w2, g = _cycle(m.rig, steps, GAUSS_NODES)
+    period = 1.0 / m.rig.drive.frequency_hz
     margins, rhos = [], []
-    for length, c in zip(m.modes.lengths_m, m.modes.damping):
-        mono = fundamental_matrix(((sign / length,),), ((c,),), nodes, period, n)
-        gamma_T = 0.5 * c * period
-        trace = math.exp(gamma_T) * (mono[0][0] + mono[1][1])
+    for kappa, c in forms:
+        gamma = 0.5 * c  # p = kappa (g + w2 a) - gamma^2
+        trace = magnus_trace(accel, period, steps, scale=kappa * w2,
+                             offset=kappa * g - gamma * gamma)
+        gamma_T = gamma * period
         margins.append(abs(trace) - 2.0 * math.cosh(gamma_T))
         rhos.extend(multipliers_from_trace(trace, math.exp(-gamma_T)))
-    return _summarise(m, equilibrium, rhos, max(margins), MODAL_METHOD, work={"steps": n})
+    return _summarise(m, equilibrium, rhos, max(margins), MODAL_METHOD if modal else "monodromy",
+                      work={"steps": n})
 
 
 # ----------------------------------------------------------------------------- several links
 
 
 def default_steps(model: Rig | Model, equilibrium: str, *, step_phase: float = STEP_PHASE,
-                  min_steps: int = MIN_STEPS) -> int:
+                  min_steps: int = MIN_STEPS, per_harmonic: float = HARMONIC_STEPS) -> int:
     """Steps per cycle from the fastest rate of the linear system over the cycle:
-    (rate) x (step) = ``step_phase``, at least ``min_steps`` and two per drive harmonic.
+    (rate) x (step) = ``step_phase``, at least ``min_steps`` and ``per_harmonic`` per drive
+    harmonic.
 
     The rate is sqrt(G_peak * |eig B|) + |eig C|; the crank's peak acceleration is taken
     at top dead centre, r omega^2 (1 + r/l), which is close enough to choose a step.
@@ -251,32 +265,40 @@ def default_steps(model: Rig | Model, equilibrium: str, *, step_phase: float = S
     rate = math.sqrt((rig.g_m_s2 + peak) * eq.stiffness_rate) + eq.damping_rate
     harmonics = m.harmonics.count
     steps = math.ceil(rate / d.frequency_hz / step_phase)
-    return min(MAX_STEPS, max(min_steps, 2 * harmonics, steps))
+    return min(MAX_STEPS, max(min_steps, math.ceil(per_harmonic * harmonics), steps))
 
 
 def _steps(m: Model, equilibrium: str, settings: Settings) -> int:
     return settings.steps or default_steps(m, equilibrium, step_phase=settings.step_phase,
-                                           min_steps=settings.min_steps)
+                                           min_steps=settings.min_steps,
+                                           per_harmonic=settings.per_harmonic)
 
 
 def _G_nodes(rig: Rig, steps: int) -> list[float]:
+    """G = g + y_p'' at the RK stages of every step, step-major."""
+    nodes, w2, g = _cycle(rig, steps, STAGE_NODES)
+    return [g + w2 * a for a in nodes]
+
+
+def _cycle(rig: Rig, steps: int, stages: tuple[float, ...]):
+    """(d2y/dphi2 at ``stages`` (fractions of a step) of every step, omega^2, g): G = g +
+    omega^2 d2y/dphi2 there."""
     d = rig.drive
     omega = 2 * math.pi * d.frequency_hz
-    w2, g = omega * omega, rig.g_m_s2
     nodes = _phase_accel_nodes(d.waveform, d.stroke_m, d.rod_length_m, d.samples_m,
-                               d.samples_stroke_m, steps)
-    return [g + w2 * a for a in nodes]
+                               d.samples_stroke_m, steps, stages)
+    return nodes, omega * omega, rig.g_m_s2
 
 
 @lru_cache(maxsize=256)
 def _phase_accel_nodes(waveform, stroke_m, rod_length_m, samples_m, samples_stroke_m,
-                       steps: int) -> tuple[float, ...]:
+                       steps: int, stages: tuple[float, ...]) -> tuple[float, ...]:
     """d2y/dphi2 at every stage phase: the shape of the cycle, the same at every speed,
     so a scan along speed at one stroke computes it once."""
     shape = drv.Drive(waveform, 1.0, stroke_m, rod_length_m, samples_m, samples_stroke_m)
     dphi = 2 * math.pi / steps
-    return tuple(drv.phase_accel_m(shape, (s + c) * dphi)
-                 for s in range(steps) for c in STAGE_NODES)
+    return tuple(drv.phase_accels_m(shape, [(s + c) * dphi for s in range(steps)
+                                            for c in stages]))
 
 
 def monodromy(rig: Rig | Model, equilibrium: str, speed_rpm: float | None = None,

@@ -14,8 +14,8 @@ import math
 from dataclasses import dataclass
 from typing import Callable, Iterator
 
-from .floquet import (MIN_STEPS, STEP_PHASE, Settings, Stability, default_steps, hill_form,
-                      mode_forms, modes_decouple, stability)
+from .floquet import (HARMONIC_STEPS, MIN_STEPS, STEP_PHASE, Settings, Stability,
+                      default_steps, hill_form, mode_forms, modes_decouple, stability)
 from ..numerics.hill import default_truncation, needed_harmonics
 from ..model.derived import Model, as_model
 from ..model.rig import Rig
@@ -30,6 +30,9 @@ PEAK_FLOOR = 1e-12  # relative rise that counts as a peak (well above round-off)
 # Cost model of one link's two exact methods (microseconds, measured on CPython 3.11; only
 # the ratio matters): Hill's band LU with more than one harmonic per entry of its band, the
 # fixed RK cycle per step. A scan takes the cheaper one (a sine keeps Hill's tridiagonal form).
+# These figures are DOP853's; the 2 x 2 cycle is now floquet's Magnus trace, whose step the
+# chart prices itself (chart_rows.CHART_RK_STEP_US): other scans still price the old cycle
+# (tests/test_scan_settings.py pins these two numbers).
 HILL_BAND_US = 0.25
 RK_STEP_US = 12.0
 
@@ -44,26 +47,28 @@ class Edge:
 
 def scan_settings(model: Model, equilibrium: str, corners: list[Model], *,
                   step_phase: float = STEP_PHASE, min_steps: int = MIN_STEPS,
-                  modal: bool | None = None) -> Settings:
+                  per_harmonic: float = HARMONIC_STEPS, modal: bool | None = None,
+                  step_us: float = RK_STEP_US) -> Settings:
     """Numerical settings good enough at every corner of a scan: Hill rows and harmonics
     (one link, or each sway mode of several), or fixed RK steps. Several links are taken by
     their modes where that is exact (``modes_decouple``), or where ``modal`` asks for it as
-    a predictor; else RK steps are chosen at each point from its own rates. ``step_phase``
-    and ``min_steps`` size the RK steps (see default_steps)."""
+    a predictor; else RK steps are chosen at each point from its own rates. ``step_phase``,
+    ``min_steps`` and ``per_harmonic`` size the RK steps (see default_steps); ``step_us``
+    prices one of them against Hill's band (HILL_BAND_US)."""
     several = model.rig.n_links > 1
     if modal is None:
         modal = several and modes_decouple(model)
     if several and not modal:
-        return Settings(step_phase=step_phase, min_steps=min_steps)
+        return Settings(step_phase=step_phase, min_steps=min_steps, per_harmonic=per_harmonic)
     forms = [f for c in corners
              for f in (mode_forms(c, equilibrium) if several else (hill_form(c, equilibrium),))]
     steps = None
     if any(len(f.theta) > 1 for f in forms):
-        steps = max(default_steps(c, equilibrium, step_phase=step_phase, min_steps=min_steps)
-                    for c in corners)
+        steps = max(default_steps(c, equilibrium, step_phase=step_phase, min_steps=min_steps,
+                                  per_harmonic=per_harmonic) for c in corners)
     rows, kept = 0, 1
     for form in forms:
-        most = _affordable_harmonics(form, steps)
+        most = _affordable_harmonics(form, steps, step_us)
         keep = needed_harmonics(form.theta0, form.theta,
                                 default_truncation(form.theta0, form.theta), most=most)
         if keep is None:  # each link or mode by its 2 x 2 monodromy
@@ -73,7 +78,7 @@ def scan_settings(model: Model, equilibrium: str, corners: list[Model], *,
     return Settings(truncation=rows, harmonics=kept, method="modal" if several else None)
 
 
-def _affordable_harmonics(form, steps: int | None) -> int:
+def _affordable_harmonics(form, steps: int | None, step_us: float = RK_STEP_US) -> int:
     """The most harmonics for which Hill's band LU costs less than an RK cycle of ``steps``
     (one harmonic always: Hill's tridiagonal form is the cheapest of all); every harmonic
     with no RK cycle to compare (``steps`` None: a drive of one harmonic)."""
@@ -82,7 +87,7 @@ def _affordable_harmonics(form, steps: int | None) -> int:
     keep = 1
     while keep < len(form.theta):
         rows = default_truncation(form.theta0, form.theta[:keep + 1])
-        if HILL_BAND_US * (2 * rows + 1) * (2 * keep + 3) ** 2 > RK_STEP_US * steps:
+        if HILL_BAND_US * (2 * rows + 1) * (2 * keep + 3) ** 2 > step_us * steps:
             break
         keep += 1
     return keep
