@@ -321,6 +321,9 @@ def main() -> int:
         for where in (STAGE / "tests", STAGE / "mutants" / "tests"):
             shutil.copytree(TOP / "tests", where, dirs_exist_ok=True,
                             ignore=shutil.ignore_patterns("__pycache__", "browser"))
+        # mutmut maps a new test name to what it calls but keeps its old map of a changed
+        # test: drop the map so that it traces every test again (one pass of the tests)
+        (STAGE / "mutants" / "mutmut-stats.json").unlink(missing_ok=True)
         if not names:
             return report(a.tests)
     else:
