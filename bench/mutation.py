@@ -172,6 +172,10 @@ EQUIVALENT.update({
     _F + "fit_dict__mutmut_45": _WORK,
     _F + "_std_errors__mutmut_2": "m < p for m <= p: " + _FEW,
     _F + "_std_errors__mutmut_3": "the guard's return changed: " + _FEW,
+    _F + "fit_steps__mutmut_87": "iteration starts at 1 for 0: the loop runs at least once "
+                                 "(max_iterations >= 1) and sets it before it is read",
+    _F + "fit_steps__mutmut_88": "jac starts as '' for None: the loop runs at least once and "
+                                 "sets jac = [] before `if jac` reads it",
     _F + "_std_errors__mutmut_24": "cov_ii > 0 for >= 0: the diagonal of the inverse of a "
                                    "positive definite J^T J is strictly positive, never 0.0",
 })
