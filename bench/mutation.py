@@ -198,6 +198,10 @@ EQUIVALENT.update({
     _F + "fit_dict__mutmut_45": _WORK,
     _F + "_std_errors__mutmut_2": "m < p for m <= p: " + _FEW,
     _F + "_std_errors__mutmut_3": "the guard's return changed: " + _FEW,
+    _F + "fit_steps__mutmut_87": "iteration starts at 1 for 0: the loop runs at least once "
+                                 "(max_iterations >= 1) and sets it before it is read",
+    _F + "fit_steps__mutmut_88": "jac starts as '' for None: the loop runs at least once and "
+                                 "sets jac = [] before `if jac` reads it",
     _F + "_std_errors__mutmut_24": "cov_ii > 0 for >= 0: the diagonal of the inverse of a "
                                    "positive definite J^T J is strictly positive, never 0.0",
 })
@@ -347,6 +351,9 @@ def main() -> int:
         for where in (STAGE / "tests", STAGE / "mutants" / "tests"):
             shutil.copytree(TOP / "tests", where, dirs_exist_ok=True,
                             ignore=shutil.ignore_patterns("__pycache__", "browser"))
+        # mutmut maps a new test name to what it calls but keeps its old map of a changed
+        # test: drop the map so that it traces every test again (one pass of the tests)
+        (STAGE / "mutants" / "mutmut-stats.json").unlink(missing_ok=True)
         if not names:
             return report(a.tests)
     else:

@@ -39,12 +39,11 @@ def two_link_data():
                     ref.link(0.15, 0.03, [(0.008, 0.12)], 0.0, 1e-4)], ref.sine(0.0, 600.0))
 
 
-@pytest.fixture
-def decay():
+def fitted_decay():
     """A 25 deg free decay (0.02 deg noise), fitted for the damping from a quarter of it; the
-    simulations the fit runs are counted by a wrapper around motion.simulate. Made for each
-    test (about a second): mutmut maps a test to the functions it calls, and a fixture shared
-    by a module would map the fit to its first test only."""
+    simulations the fit runs are counted by a wrapper around motion.simulate. Called in each
+    test's body (about a second), not a fixture: mutmut maps a test to the functions its body
+    calls, and leaves out what a fixture calls (the mutants of the fit would not run it)."""
     text = decay_log(25.0, duration_s=2.0, step_s=0.02, noise_deg=0.02)
     rig = ss.rig_from_dict(rig_data(TRUE_DAMPING / 4))
     log = read(text)
@@ -74,11 +73,12 @@ def rms(a, b):
 
 # ------------------------------------------------------------------ what the fit reports
 
-def test_starting_misfit_is_the_start_rig_run_from_the_logs_first_samples(decay):
+def test_starting_misfit_is_the_start_rig_run_from_the_logs_first_samples():
     # The start: the rig's own damping, the first logged angle and the second-order one-sided
     # difference of the first three samples as the rate; solve_ivp runs it, and the rms of its
     # difference from the log is the reported rms_start_rad (1e-6 relative: both solvers at
     # 1e-10 or better on a misfit of several degrees).
+    decay = fitted_decay()
     log, res = decay["log"], decay["res"]
     q = [row[0] for row in log.angles_rad]
     w0 = (-3 * q[0] + 4 * q[1] - q[2]) / (2 * log.step_s)
@@ -88,10 +88,11 @@ def test_starting_misfit_is_the_start_rig_run_from_the_logs_first_samples(decay)
     assert res.start == (TRUE_DAMPING / 4,)  # the rig file's own number
 
 
-def test_fitted_run_is_the_run_of_the_fitted_numbers(decay):
+def test_fitted_run_is_the_run_of_the_fitted_numbers():
     # solve_ivp from the fitted start angle and rate with the fitted damping reproduces the
     # model angles the fit reports (1e-7 rad) and their rms misfit (1e-6 relative), which is
     # the log's 0.02 deg noise (10%: 101 samples of Gaussian noise).
+    decay = fitted_decay()
     log, res = decay["log"], decay["res"]
     (q0,), (w0,) = res.initial_angles_rad, res.initial_rates_rad_s
     want = solve_ivp_angles(res.values[0], q0, w0, log.t_s)
@@ -104,11 +105,12 @@ def test_fitted_run_is_the_run_of_the_fitted_numbers(decay):
     assert abs(res.values[0] - TRUE_DAMPING) < 3 * res.std_errors[0]
 
 
-def test_standard_error_is_the_gauss_newton_covariance_at_scipys_minimum(decay):
+def test_standard_error_is_the_gauss_newton_covariance_at_scipys_minimum():
     # scipy.optimize.least_squares minimises the same residuals (damping scaled as the fit
     # scales it, start angle and rate) with a central-difference Jacobian; s^2 (J^T J)^-1 with
     # s^2 = |r|^2 / (m - p) at its minimum gives the standard errors. The fit's own (a forward
     # difference at its last iterate) agrees to 1e-3 relative; m - p against m - p - 1 is 0.5%.
+    decay = fitted_decay()
     rig, log, res = decay["rig"], decay["log"], decay["res"]
     paths = parameter_paths(rig, ["damping"])
     model = _Model(rig, log, paths, _scales(rig, paths))
@@ -125,11 +127,12 @@ def test_standard_error_is_the_gauss_newton_covariance_at_scipys_minimum(decay):
     assert res.initial_rates_rad_s[0] == pytest.approx(sol.x[2], abs=1e-6)
 
 
-def test_progress_is_shown_after_every_simulation_but_the_last(decay):
+def test_progress_is_shown_after_every_simulation_but_the_last():
     # The docstring's contract: one (fraction, words) after each simulation, fractions that
     # never go back and stay below 1 until the final (1.0, "done"); the simulations the reply
     # counts are the calls of motion.simulate counted by a wrapper (the final run of the
     # fitted numbers, which shows nothing, included).
+    decay = fitted_decay()
     shown, res = decay["shown"], decay["res"]
     assert res.work["simulations"] == decay["simulations"]
     assert len(shown) == decay["simulations"]  # every run but the last, and "done"
@@ -146,9 +149,10 @@ def test_progress_is_shown_after_every_simulation_but_the_last(decay):
     assert 1 <= res.iterations <= fitting.MAX_ITERATIONS
 
 
-def test_the_reply_carries_the_fit(decay):
+def test_the_reply_carries_the_fit():
     # fit_dict is the JSON of `fit --json`: each field against the run it describes (the log's
     # row count, the rig file's start, the wrapper's count of simulations).
+    decay = fitted_decay()
     res = decay["res"]
     d = fit_dict(res)
     assert d["samples"] == 101 == len(decay["log"].t_s)  # 2 s at 50 Hz, both ends
@@ -312,8 +316,14 @@ def test_a_log_of_another_link_count_or_no_motion_is_refused():
     # 5e-5 rad of motion (under the 1e-4 rad floor) is refused; in degrees, 0.0029 deg
     one = ss.rig_from_dict(rig_data(1e-4))
     text = "t_s,angle_rad\n" + "\n".join(f"{i * 0.01},{5e-5 * (i % 2)}" for i in range(20))
-    with pytest.raises(ValueError, match=r"log: the logged angles move by 0.0029 deg at most"):
+    with pytest.raises(ValueError) as info:
         fit(one, read(text), ["damping"])
+    assert str(info.value) == ("log: the logged angles move by 0.0029 deg at most: a log with no "
+                               "motion cannot tell damping, friction or inertia")
+    # exactly the floor (0 and 1e-4 rad from upright, both exact in binary) is fitted
+    text = "t_s,angle_rad\n" + "\n".join(f"{i * 0.01},{1e-4 * (i % 2)}" for i in range(20))
+    res = fit(one, read(text, reference="inverted"), ["damping"], max_iterations=1)
+    assert res.iterations == 1
 
 
 # ------------------------------------------------------------------ the Levenberg-Marquardt path
@@ -382,11 +392,12 @@ WORDS = {"gradient": "the gradient vanished",
 
 
 @pytest.mark.parametrize("names", [["damping"], ["damping", "inertia"]])
-def test_the_fit_takes_the_published_levenberg_marquardt_path(decay, names):
+def test_the_fit_takes_the_published_levenberg_marquardt_path(names):
     # The same residuals (the fit's own model of the log) minimised by algorithm 3.16 as
     # written out above: the same numbers (1e-9 relative; both solve the same linear systems,
     # numpy by LAPACK), the same count of iterations and of simulations (the final run of the
     # fitted numbers is the fit's one more), and the same way of stopping, in its words.
+    decay = fitted_decay()
     rig, log = decay["rig"], decay["log"]
     paths = parameter_paths(rig, names)
     model = _Model(rig, log, paths, _scales(rig, paths))
