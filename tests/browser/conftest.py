@@ -142,6 +142,7 @@ def _module_page(browser, server):
     context.recorder.attach(context)
     page = context.new_page()
     open_page(page, server.url)
+    page.boot_urls = list(context.recorder.urls)  # the boot's requests, for tests that check them
     page.evaluate("() => { window.shakestillDemoPage = true; }")  # see pagekit.reset_page
     page.used = False
     yield page
