@@ -22,14 +22,15 @@ if [ -f build_scripts/build_site.py ]; then
   # (tests/fresh_dist.py) instead of building again.
   export SHAKESTILL_DIST_FRESH=1 SHAKESTILL_DIST_SECOND="$second/dist"
 fi
-# pytest-xdist: whole test files per worker (module fixtures built once). Two workers by
-# default, one per core of a CI machine; SHAKESTILL_TEST_WORKERS=0 runs serially.
+# pytest-xdist: whole test files per worker (module fixtures built once), handed out in the
+# order tests/conftest.py gives them (the longest files first). Two workers by default, one
+# per core of a CI machine; SHAKESTILL_TEST_WORKERS=0 runs serially.
 # With SHAKESTILL_RECORD_CI_TIME=1 the wall time of the whole run (set-up, build, tests) and
 # the load averages at its start and end go to bench/figures/ci_time.json for bench/pinned.py
 # (SHAKESTILL_CI_NOTE adds a note); without it the tracked record is left alone, so a
 # developer's run never dirties the tree.
 load_start="$(cut -d' ' -f1 /proc/loadavg 2>/dev/null || echo null)"
-python -m pytest -n "${SHAKESTILL_TEST_WORKERS:-2}" --dist loadfile "$@" || status=$?
+python -m pytest -n "${SHAKESTILL_TEST_WORKERS:-2}" --dist loadfile --no-loadscope-reorder "$@" || status=$?
 if [ "${SHAKESTILL_RECORD_CI_TIME:-}" = "1" ]; then
   python - "$SECONDS" "${SHAKESTILL_TEST_WORKERS:-2}" "${status:-0}" "$load_start" <<'PY'
 import json, os, sys, time

@@ -12,7 +12,7 @@ import json
 import pytest
 import shakestill as ss  # the core on CPython: the independent reading
 
-from pagekit import open_page, reset_page, shot, wait_for_result, wait_for_rig
+from pagekit import open_page, shot, wait_for_result, wait_for_rig
 
 pytestmark = pytest.mark.browser
 
@@ -28,14 +28,11 @@ def make_link(page) -> str:
 
 
 @pytest.fixture(scope="module")
-def sent(_module_page, server):
-    """The sender's side, made once for the module on its booted page (conftest's
-    `_module_page`, reset first if a test used it): the demo rig edited, its check, the rig
-    as the core read it, and its share link. The demo_page of a later test is reset."""
-    page = _module_page
-    if page.used:
-        reset_page(page, server.url)
-    page.used = True
+def sent(booted_pages):
+    """The sender's side, made once for the module on a booted page (conftest's BootedPages,
+    reset; the next test that takes it gets it reset again): the demo rig edited, its check,
+    the rig as the core read it, and its share link."""
+    page = booted_pages.take()
     old = page.get_attribute("#check-report", "data-result")
     page.fill('[data-path="title"]', "Exhibit pendulum, hall 2")
     page.fill('[data-path="drive.stroke_m"]', "22.5 mm")
