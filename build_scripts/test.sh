@@ -4,6 +4,7 @@ set -euo pipefail
 top="$(cd "$(dirname "${BASH_SOURCE[0]}")/.." && pwd)"
 cd "$top"
 . build_scripts/setup_env.sh
+echo "test.sh: set-up done at ${SECONDS} s"
 if [ -f build_scripts/build_site.py ]; then
   # Two builds side by side (a build runs one process at a time, so on two cores they overlap):
   # dist/ from this tree, and a second one from a copy of it at another path, which
@@ -21,6 +22,7 @@ if [ -f build_scripts/build_site.py ]; then
   # dist/ is now a build of this very tree: tests that only read a build use it
   # (tests/fresh_dist.py) instead of building again.
   export SHAKESTILL_DIST_FRESH=1 SHAKESTILL_DIST_SECOND="$second/dist"
+  echo "test.sh: builds done at ${SECONDS} s"
 fi
 # pytest-xdist: whole test files per worker (module fixtures built once), handed out in the
 # order tests/conftest.py gives them (the longest files first). Two workers by default, one
@@ -31,6 +33,7 @@ fi
 # developer's run never dirties the tree.
 load_start="$(cut -d' ' -f1 /proc/loadavg 2>/dev/null || echo null)"
 python -m pytest -n "${SHAKESTILL_TEST_WORKERS:-2}" --dist loadfile --no-loadscope-reorder "$@" || status=$?
+echo "test.sh: tests done at ${SECONDS} s (load average $(cut -d' ' -f1-3 /proc/loadavg 2>/dev/null))"
 if [ "${SHAKESTILL_RECORD_CI_TIME:-}" = "1" ]; then
   python - "$SECONDS" "${SHAKESTILL_TEST_WORKERS:-2}" "${status:-0}" "$load_start" <<'PY'
 import json, os, sys, time

@@ -5,10 +5,11 @@ browser makes recorded, and screenshots saved to test-artifacts/.
 Booting Pyodide is the slow part of a page test, so most tests take `demo_page`: one page per
 test module (booted once, at a laptop viewport) reset before each test to a first visit of the
 demo rig (`pagekit.reset_page`: storage, panel inputs, dialogs, notice, units and undo history
-cleared, the demo checked again) without starting the engine again. A test that needs a cold
-boot (start-up states, the cached verdict before the engine, a restored snapshot, a link opened
-on a fresh page, the offline file, its own viewport or context options) takes `page` or
-`new_context` and says why beside it.
+cleared, the demo checked again) without starting the engine again. `booted(viewport, **options)`
+does the same for other context options (a tablet with touch, a phone), one page per module and
+set of options (BootedPages). A test that needs a cold boot (start-up states, the cached verdict
+before the engine, a restored snapshot, a link opened on a fresh page, the offline file, a page
+reloaded) takes `page` or `new_context` and says why beside it.
 
 Missing prerequisites (dist/ not built, no Chromium, no Playwright) skip these
 tests locally with the reason; with CI=true they fail instead.
