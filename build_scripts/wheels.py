@@ -70,6 +70,14 @@ def _backend(cache: Path = CACHE) -> Path:
     return target
 
 
+def fetch_pinned(cache: Path = CACHE) -> None:
+    """Every pinned wheel and the build backend in the cache, fetched if missing: run before two
+    builds start side by side (build_scripts/test.sh), so they never fetch the same file at once."""
+    for name, (version, sha256) in sorted(pins.WHEELS.items()):
+        pinned_wheel(name, version, sha256, cache)
+    _backend(cache)
+
+
 def _clean_source_copy(src: Path, dest: Path) -> None:
     """Copy what the wheel is built from, without caches, with fixed modes."""
     dest.mkdir()

@@ -133,7 +133,8 @@ window.addEventListener("pagehide", rig.save);
 // person): the page as on a first visit to the demo rig, without starting Python again, so a
 // test module boots the engine once (tests/browser/conftest.py `demo_page`). Cleared: storage,
 // the panels' inputs (back to the page's own defaults), open dialogs, the notice, the units,
-// the undo history; then the demo rig is loaded and checked as on a first visit.
+// the undo history; then the demo rig is loaded and checked as on a first visit (a map for
+// another rig is redrawn at once, as on a first visit, not after the edit pause).
 if (navigator.webdriver) {
   window.shakestillResetForTests = async () => {
     localStorage.clear();
@@ -151,6 +152,7 @@ if (navigator.webdriver) {
     localStorage.clear(); // the panels' inputs just saved themselves again
     report.pending();
     rig.forget();
+    follow.forgetMap();
     await opening.loadDemo(false);
   };
 }

@@ -7,3 +7,23 @@ from hypothesis import settings
 # bench/fuzz_long.py is where fresh random cases are tried at length.
 settings.register_profile("fixed", derandomize=True, database=None)
 settings.load_profile("fixed")
+
+
+# The longest files first (measured with --durations, 2026-12-04: a minute or more each under
+# CI's load), the rest by number of tests, most first (pytest-xdist's own default). build_scripts/
+# test.sh runs xdist with --dist loadfile --no-loadscope-reorder, so a worker takes whole files in
+# this order and no long file starts last while the other core has nothing left to do.
+SLOW_FILES_FIRST = (
+    "tests/test_stdlib_trim.py", "tests/test_plan.py", "tests/test_command_fields.py",
+    "tests/browser/test_page.py", "tests/browser/test_words_page.py", "tests/browser/test_panel_units.py",
+    "tests/browser/test_motion_panel.py", "tests/browser/test_share.py", "tests/browser/test_hostile_page.py",
+    "tests/test_tolerance.py", "tests/browser/test_touch_sizes.py", "tests/browser/test_unit_hints.py",
+)
+
+
+def pytest_collection_modifyitems(config, items):
+    files = [item.nodeid.split("::")[0] for item in items]
+    count = {name: files.count(name) for name in set(files)}
+    rank = {item.nodeid: (SLOW_FILES_FIRST.index(name) if name in SLOW_FILES_FIRST else len(SLOW_FILES_FIRST),
+                          -count[name], name) for item, name in zip(items, files)}
+    items.sort(key=lambda item: rank[item.nodeid])  # stable: each file's own order is kept

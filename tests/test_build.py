@@ -4,8 +4,9 @@ Builds twice, from two copies of the sources at different paths (as a CI clone
 is), and checks the results against each other and against independent
 computations (hashlib, zipfile, gzip, the wheel RECORD format of PEP 376/427,
 CSP3 hash sources). Under build_scripts/test.sh the first build is the dist/ it
-has just made from the working tree (tests/fresh_dist.py), so only one more
-build runs here, from a copy elsewhere.
+has just made from the working tree (tests/fresh_dist.py) and the second the one it
+made beside it from a copy elsewhere, so none runs here; without them (or with
+only the first) the missing ones are built here.
 """
 
 from __future__ import annotations
@@ -27,7 +28,7 @@ from pathlib import Path
 
 import pytest
 
-from fresh_dist import fresh_dist
+from fresh_dist import checkout, fresh_dist, second_dist
 
 TOP = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(TOP / "build_scripts"))
@@ -48,20 +49,6 @@ def _needs_node_modules():
         pytest.fail("node_modules is missing: `npm ci` (build_scripts/setup_env.sh) installs it")
 
 
-def _checkout(source: Path, dest: Path) -> Path:
-    """A copy of what the build reads, as a fresh clone would hold it."""
-    dest.mkdir(parents=True)
-    for name in ("pyproject.toml", "README.md", "package.json", "package-lock.json"):
-        shutil.copyfile(source / name, dest / name)
-    ignore = shutil.ignore_patterns("__pycache__", "*.egg-info")
-    for name in ("pycore", "site", "build_scripts"):
-        shutil.copytree(source / name, dest / name, ignore=ignore)
-    (dest / "node_modules").symlink_to(TOP / "node_modules")
-    (dest / "build").mkdir()
-    (dest / "build" / "cache").symlink_to(TOP / "build" / "cache")  # pinned wheels, no refetch
-    return dest
-
-
 def _start_build(checkout: Path, out: Path) -> subprocess.Popen:
     return subprocess.Popen([sys.executable, str(checkout / "build_scripts" / "build_site.py"), "--dist", str(out)],
                             stdout=subprocess.DEVNULL)
@@ -71,9 +58,13 @@ def _start_build(checkout: Path, out: Path) -> subprocess.Popen:
 def builds(tmp_path_factory) -> tuple[Path, Path]:
     """Two builds of one snapshot of the sources, from two different paths."""
     _needs_node_modules()
+    built, other = fresh_dist(), second_dist()
+    if built is not None and other is not None:
+        # test.sh made both, side by side: its build of the working tree at TOP, and one of a
+        # copy of the same tree at another path (tests/fresh_dist.py).
+        return built, other
     (TOP / "build" / "cache").mkdir(parents=True, exist_ok=True)
-    first = _checkout(TOP, tmp_path_factory.mktemp("a") / "checkout")
-    built = fresh_dist()
+    first = checkout(TOP, tmp_path_factory.mktemp("a") / "checkout")
     if built is not None:
         # test.sh's own build of the working tree at TOP is the first; one more from a copy
         # at another path is the second.
@@ -83,7 +74,7 @@ def builds(tmp_path_factory) -> tuple[Path, Path]:
         if run.returncode != 0:
             raise subprocess.CalledProcessError(run.returncode, run.args)
         return built, out
-    second = _checkout(first, tmp_path_factory.mktemp("b") / "elsewhere" / "deeper")
+    second = checkout(first, tmp_path_factory.mktemp("b") / "elsewhere" / "deeper")
     outs = tmp_path_factory.mktemp("dist-a"), tmp_path_factory.mktemp("dist-b")
     # Both builds at once: a build runs one process at a time (Python, then Node for
     # Pyodide's bytecode), so on two cores the two overlap instead of queueing.

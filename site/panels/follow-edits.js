@@ -104,5 +104,10 @@ export function followEdits($, { engine, rig, form, report, panels }) {
     },
     /** Nothing has been asked of the engine yet (a cached verdict may still be shown). */
     untouched: () => seq === 0,
+    /** The next rig that needs a new map gets it at once, as on a first visit (the page tests'
+     * reset: a map of the rig before must not stay "done" through the redraw's pause). */
+    forgetMap() {
+      mapDrawn = false;
+    },
   };
 }

@@ -5,10 +5,11 @@ browser makes recorded, and screenshots saved to test-artifacts/.
 Booting Pyodide is the slow part of a page test, so most tests take `demo_page`: one page per
 test module (booted once, at a laptop viewport) reset before each test to a first visit of the
 demo rig (`pagekit.reset_page`: storage, panel inputs, dialogs, notice, units and undo history
-cleared, the demo checked again) without starting the engine again. A test that needs a cold
-boot (start-up states, the cached verdict before the engine, a restored snapshot, a link opened
-on a fresh page, the offline file, its own viewport or context options) takes `page` or
-`new_context` and says why beside it.
+cleared, the demo checked again) without starting the engine again. `booted(viewport, **options)`
+does the same for other context options (a tablet with touch, a phone), one page per module and
+set of options (BootedPages). A test that needs a cold boot (start-up states, the cached verdict
+before the engine, a restored snapshot, a link opened on a fresh page, the offline file, a page
+reloaded) takes `page` or `new_context` and says why beside it.
 
 Missing prerequisites (dist/ not built, no Chromium, no Playwright) skip these
 tests locally with the reason; with CI=true they fail instead.
@@ -17,6 +18,7 @@ tests locally with the reason; with CI=true they fail instead.
 from __future__ import annotations
 
 import importlib.util
+import json
 from pathlib import Path
 
 import pytest
@@ -135,28 +137,70 @@ def page(context):
     return context.new_page()
 
 
+class BootedPages:
+    """Booted pages kept for a test module, one per set of context
+    options (viewport, touch, colour scheme, ...), the least recently used closed beyond
+    `KEEP`. `take` hands one out as on a first visit to the demo rig with its check done:
+    reset (pagekit.reset_page) if a test had it before, its viewport and media as its context
+    gives them, its context's recorder emptied (the boot's own requests stay in
+    `page.boot_urls`)."""
+
+    KEEP = 3  # a booted Pyodide page holds a few hundred MB; CI has two workers
+
+    def __init__(self, browser, server):
+        self.browser, self.server = browser, server
+        self.pages: dict[str, object] = {}
+
+    def take(self, viewport=LAPTOP, **options):
+        key = json.dumps({"viewport": viewport, **options}, sort_keys=True)
+        page = self.pages.pop(key, None)
+        if page is None:
+            while len(self.pages) >= self.KEEP:
+                oldest = next(iter(self.pages))
+                self.pages.pop(oldest).context.close()
+            context = self.browser.new_context(viewport=viewport, accept_downloads=True, **options)
+            context.recorder = Recorder()
+            context.recorder.attach(context)
+            page = context.new_page()
+            open_page(page, self.server.url)
+            page.boot_urls = list(context.recorder.urls)
+            page.evaluate("() => { window.shakestillDemoPage = true; }")  # see pagekit.reset_page
+            page.used = False
+        self.pages[key] = page  # now the most recently used
+        # a test before may have printed, switched the colour scheme or resized the window
+        page.emulate_media(media="screen", color_scheme=options.get("color_scheme", "light"))
+        page.set_viewport_size(viewport)
+        if page.used:
+            reset_page(page, self.server.url)
+        page.used = True
+        page.context.recorder.urls.clear()
+        page.context.recorder.errors.clear()
+        return page
+
+    def close(self):
+        for page in self.pages.values():
+            page.context.close()
+
+
 @pytest.fixture(scope="module")
-def _module_page(browser, server):
-    context = browser.new_context(viewport=LAPTOP, accept_downloads=True)
-    context.recorder = Recorder()
-    context.recorder.attach(context)
-    page = context.new_page()
-    open_page(page, server.url)
-    page.evaluate("() => { window.shakestillDemoPage = true; }")  # see pagekit.reset_page
-    page.used = False
-    yield page
-    context.close()
+def booted_pages(browser, server):
+    # Per module, not per session: a reset leaves the panels' drawn results (see
+    # pagekit.reset_page), so a module shares its pages only among its own tests.
+    pages = BootedPages(browser, server)
+    yield pages
+    pages.close()
 
 
 @pytest.fixture
-def demo_page(_module_page, server):
-    """The module's booted page, as on a first visit to the demo rig with its check done
-    (see the module's docstring). Its context's recorder starts empty for each test."""
-    page = _module_page
-    page.emulate_media(media="screen")  # a test before may have printed
-    if page.used:
-        reset_page(page, server.url)
-    page.used = True
-    page.context.recorder.urls.clear()
-    page.context.recorder.errors.clear()
-    return page
+def booted(booted_pages):
+    """`booted(viewport, **context_options)`: a booted page with those options, reset to a first
+    visit of the demo rig (see BootedPages). For tests that would open the page at a size or
+    scheme of their own but need no cold boot."""
+    return booted_pages.take
+
+
+@pytest.fixture
+def demo_page(booted_pages):
+    """A booted page at the laptop viewport, as on a first visit to the demo rig with its check
+    done (see the module's docstring and BootedPages). Its context's recorder starts empty."""
+    return booted_pages.take()

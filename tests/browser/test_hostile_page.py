@@ -47,10 +47,9 @@ def damaged_links(good: str) -> list[str]:
     return links
 
 
-def test_thirty_damaged_links_are_refused_and_the_rig_stays(new_context, server):
-    context = new_context()
-    page = context.new_page()
-    open_page(page, server.url)
+def test_thirty_damaged_links_are_refused_and_the_rig_stays(demo_page, server):
+    page = demo_page  # one booted page per module, reset (conftest.demo_page)
+    context = page.context
     old = page.get_attribute("#check-report", "data-result")
     page.fill('[data-path="title"]', "My own rig")
     wait_for_result(page, old)
@@ -103,10 +102,9 @@ def test_a_damaged_saved_state_is_kept_aside_and_the_page_works(new_context, ser
     assert not context.recorder.errors
 
 
-def test_no_request_leaves_the_pages_origin_under_every_panels_work(new_context, server):
-    context = new_context()
-    page = context.new_page()
-    open_page(page, server.url)
+def test_no_request_leaves_the_pages_origin_under_every_panels_work(demo_page, server):
+    page = demo_page  # one booted page per module, reset (conftest.demo_page)
+    context = page.context
     # every panel's work: the map (drawn by itself), a motion run, the loads, the knock
     # tolerance, and a fit of the sample log (fetched from the page's own folder)
     page.click("#motion-run")
@@ -122,18 +120,17 @@ def test_no_request_leaves_the_pages_origin_under_every_panels_work(new_context,
     page.click("#fit-go")
     page.wait_for_function("() => document.getElementById('fit-result').dataset.state === 'fresh'",
                            timeout=240_000)
-    foreign = [u for u in context.recorder.urls
+    # this test's requests, and those of the page's boot (made before the module's first test)
+    foreign = [u for u in [*page.boot_urls, *context.recorder.urls]
                if not (u.startswith(server.origin) or u.startswith(("data:", "blob:")))]
     assert foreign == []
 
 
-def test_python_dying_on_an_input_restarts_the_engine_and_keeps_the_rig(new_context, server):
+def test_python_dying_on_an_input_restarts_the_engine_and_keeps_the_rig(demo_page, server):
     """The client's side with a stand-in worker: boots, answers, then reports that Python
     died on the second request; the client rejects that request with the engine's words,
     starts a fresh worker, and requests made meanwhile are answered by the new one."""
-    context = new_context()
-    page = context.new_page()
-    open_page(page, server.url)
+    page = demo_page  # one booted page per module, reset (conftest.demo_page)
     got = page.evaluate("""async () => {
         const { EngineClient } = await import("./engine/worker-client.js");
         const { policy } = await import("./lib/trusted.js");

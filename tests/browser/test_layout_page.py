@@ -64,9 +64,9 @@ def test_the_sheet_stays_in_view_beside_the_map_and_the_fit_on_a_desktop(demo_pa
 
 
 @pytest.mark.parametrize("size", NARROW)
-def test_the_sheet_opens_as_a_drawer_over_the_map_and_closes_back_to_it(new_context, server, size):
-    page = new_context(**NARROW[size]).new_page()
-    old = json.dumps(open_page(page, server.url))
+def test_the_sheet_opens_as_a_drawer_over_the_map_and_closes_back_to_it(booted, server, size):
+    page = booted(**NARROW[size])  # a booted page at this size, reset (conftest.BootedPages)
+    old = json.dumps(wait_for_result(page))
     page.evaluate("() => document.getElementById('stability-chart').scrollIntoView({block: 'start'})")
     top = "() => document.getElementById('stability-chart').getBoundingClientRect().top"
     before = page.evaluate(top)
@@ -90,9 +90,8 @@ def test_the_sheet_opens_as_a_drawer_over_the_map_and_closes_back_to_it(new_cont
     shot(page, f"layout-{size}-drawer-closed", full_page=False)
 
 
-def test_no_sideways_scroll_at_390_px_with_the_map_and_its_table_open(new_context, server):
-    page = new_context(**NARROW["phone"]).new_page()
-    open_page(page, server.url)
+def test_no_sideways_scroll_at_390_px_with_the_map_and_its_table_open(booted, server):
+    page = booted(**NARROW["phone"])  # a booted page at this size, reset (conftest.BootedPages)
     page.wait_for_function("() => document.getElementById('stability-chart').dataset.state === 'done'",
                            timeout=180_000)
     page.click("#map-table summary")

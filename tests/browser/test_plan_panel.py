@@ -14,7 +14,7 @@ import shakestill as ss  # the core on CPython: the independent reading
 from shakestill.model import share
 
 from pagekit import (ARTIFACTS, cli_json, RESULT_TIMEOUT_MS, TABLET_PORTRAIT, assert_same_numbers, axe_violations, open_page, shot,
-                     wait_for_result, wait_for_stale)
+                     wait_for_result, wait_for_rig, wait_for_stale)
 from test_access import SMALL_TARGETS, UNNAMED, failures
 
 pytestmark = pytest.mark.browser
@@ -35,6 +35,15 @@ def sine_rig(spreads=SPREADS) -> dict:
 def open_with(page, server, rig: dict) -> dict:
     """The page opened on a share link of ``rig`` (made by the core on CPython)."""
     return open_page(page, f"{server.url}#{share.encode(rig)}")
+
+
+def show_on(page, server, rig: dict) -> dict:
+    """The reset demo page (conftest.demo_page) given a share link of ``rig`` (the hashchange
+    path: same page, new fragment); returns that rig's check."""
+    page.goto(f"{server.url}#{share.encode(rig)}")
+    # the demo rig has no spreads: a rig on the sheet that holds these is the link's
+    return wait_for_rig(page, json.dumps({"drive.speed_rpm": rig["spreads"]["drive.speed_rpm"]},
+                                         separators=(",", ":"))[1:-1])
 
 
 def cli_plan(rig: dict, tmp_path: Path) -> dict:
@@ -102,8 +111,9 @@ def test_plan_is_the_command_lines_and_is_drawn_where_the_axes_put_it(page, serv
     page.locator("section.map").screenshot(path=str(ARTIFACTS / "plan-map.png"))
 
 
-def test_the_recommended_point_becomes_the_operating_point_and_undo_takes_it_back(page, server):
-    first = open_with(page, server, sine_rig())
+def test_the_recommended_point_becomes_the_operating_point_and_undo_takes_it_back(demo_page, server):
+    page = demo_page  # one booted page per module, reset (conftest.demo_page)
+    first = show_on(page, server, sine_rig())
     speed_before = page.input_value('[data-path="drive.speed_rpm"]')
     result = run_plan(page)
     old = page.get_attribute("#check-report", "data-result")
@@ -123,12 +133,13 @@ def test_the_recommended_point_becomes_the_operating_point_and_undo_takes_it_bac
     assert back["speed_rpm"] == first["speed_rpm"] and back["stroke_m"] == first["stroke_m"]
 
 
-def test_cancel_stops_the_plan_and_the_engine_answers_at_once(page, server):
+def test_cancel_stops_the_plan_and_the_engine_answers_at_once(demo_page, server):
+    page = demo_page  # one booted page per module, reset (conftest.demo_page)
     # the demo's crank drive with six spreads: a plan of tens of seconds in the page
     rig = ss.demo_rig_dict()
     rig["spreads"] = {**SPREADS, "links[0].point_masses[0].at_m": "+-1 mm",
                       "links[0].point_masses[0].mass_kg": "+-3%"}
-    open_with(page, server, rig)
+    show_on(page, server, rig)
     page.click("#plan-go")
     page.wait_for_function("() => Number(document.getElementById('plan-progress').value) > 0.05",
                            timeout=RESULT_TIMEOUT_MS)
@@ -143,8 +154,9 @@ def test_cancel_stops_the_plan_and_the_engine_answers_at_once(page, server):
     assert wait_for_result(page, old, timeout=60_000)["speed_rpm"] == pytest.approx(2750.0)
 
 
-def test_bad_spreads_are_named_in_the_panel_and_undone(page, server):
-    open_with(page, server, sine_rig())
+def test_bad_spreads_are_named_in_the_panel_and_undone(demo_page, server):
+    page = demo_page  # one booted page per module, reset (conftest.demo_page)
+    show_on(page, server, sine_rig())
     page.fill("#plan-spreads", "links[0].length_m +-2%\nlinks[7].length_m +-2%\ndrive.stroke_m 3x..4x")
     wait_for_stale(page)
     msgs = page.locator("#plan-spreads-msgs li")

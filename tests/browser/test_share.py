@@ -1,5 +1,9 @@
 """Share links: the rig and view travel in the URL fragment; a fresh browser
-restores them exactly; a tampered link is refused and the rig stays."""
+restores them exactly; a tampered link is refused and the rig stays.
+
+The sender's link is made once for the module (`sent`, on the module's booted page); the pages
+that open it from a fresh browser boot cold, the ones that hold a rig of their own take the
+reset `demo_page`."""
 
 from __future__ import annotations
 
@@ -23,20 +27,23 @@ def make_link(page) -> str:
     return page.input_value("#share-box")
 
 
-def edited_rig(page, server):
-    open_page(page, server.url)
+@pytest.fixture(scope="module")
+def sent(booted_pages):
+    """The sender's side, made once for the module on a booted page (conftest's BootedPages,
+    reset; the next test that takes it gets it reset again): the demo rig edited, its check,
+    the rig as the core read it, and its share link."""
+    page = booted_pages.take()
     old = page.get_attribute("#check-report", "data-result")
     page.fill('[data-path="title"]', "Exhibit pendulum, hall 2")
     page.fill('[data-path="drive.stroke_m"]', "22.5 mm")
     page.fill('[data-path="links[0].joint_damping_N_m_s"]', "0.0003 N m s")
-    return wait_for_result(page, old)
+    result = wait_for_result(page, old)
+    rig = json.loads(page.get_attribute("#check-report", "data-rig"))
+    return {"result": result, "rig": rig, "link": make_link(page)}
 
 
-def test_share_link_restores_the_rig_in_a_fresh_browser(new_context, server):
-    sender = new_context().new_page()
-    result = edited_rig(sender, server)
-    rig = json.loads(sender.get_attribute("#check-report", "data-rig"))
-    link = make_link(sender)
+def test_share_link_restores_the_rig_in_a_fresh_browser(new_context, server, sent):
+    result, rig, link = sent["result"], sent["rig"], sent["link"]
     assert link.startswith(server.url)
 
     receiver = new_context().new_page()  # no storage shared with the sender
@@ -53,17 +60,13 @@ def test_share_link_restores_the_rig_in_a_fresh_browser(new_context, server):
     shot(receiver, "laptop-opened-from-link")
 
 
-def test_tampered_link_is_refused_and_rig_untouched(new_context, server):
-    sender = new_context().new_page()
-    edited_rig(sender, server)
-    link = make_link(sender)
-    base, fragment = link.split("#", 1)
+def test_tampered_link_is_refused_and_rig_untouched(new_context, server, sent, demo_page):
+    base, fragment = sent["link"].split("#", 1)
     middle = len(fragment) // 2
     flipped = "A" if fragment[middle] != "A" else "B"
     tampered = f"{base}#{fragment[:middle]}{flipped}{fragment[middle + 1:]}"
 
-    page = new_context().new_page()
-    open_page(page, server.url)
+    page = demo_page  # one booted page per module, reset (conftest.demo_page)
     old = page.get_attribute("#check-report", "data-result")
     page.fill('[data-path="title"]', "My own rig")
     wait_for_result(page, old)  # the title is part of the result
@@ -87,18 +90,13 @@ def test_tampered_link_is_refused_and_rig_untouched(new_context, server):
     assert json.loads(cold.get_attribute("#check-report", "data-rig")) == ss.rig_to_dict(ss.demo_rig())
 
 
-def test_opening_a_link_keeps_the_previous_rig_to_bring_back(new_context, server):
-    sender = new_context().new_page()
-    edited_rig(sender, server)
-    link = make_link(sender)
-
-    page = new_context().new_page()
-    open_page(page, server.url)
+def test_opening_a_link_keeps_the_previous_rig_to_bring_back(server, sent, demo_page):
+    page = demo_page  # one booted page per module, reset (conftest.demo_page)
     old = page.get_attribute("#check-report", "data-result")
     page.fill('[data-path="title"]', "Bench rig, my own")
     page.fill('[data-path="drive.speed_rpm"]', "2650 rpm")
     mine = wait_for_result(page, old)
-    page.goto(link)
+    page.goto(sent["link"])
     wait_for_rig(page, "hall 2")
     page.get_by_role("button", name="Bring back my previous rig").click()
     back = wait_for_rig(page, "my own")
@@ -106,12 +104,9 @@ def test_opening_a_link_keeps_the_previous_rig_to_bring_back(new_context, server
     assert page.input_value('[data-path="drive.speed_rpm"]') == "2650 rpm"  # the text as typed
 
 
-def test_a_links_rig_is_in_the_sheet_before_the_engine_has_started(new_context, server):
-    sender = new_context().new_page()
-    edited_rig(sender, server)
-    link = make_link(sender)
-    page = new_context().new_page()
-    page.goto(link)
+def test_a_links_rig_is_in_the_sheet_before_the_engine_has_started(new_context, server, sent):
+    page = new_context().new_page()  # cold: the sheet before the engine has started
+    page.goto(sent["link"])
     # decoded in the page for display, read-only, long before Python has started
     page.wait_for_function("() => document.getElementById('rig-sheet').dataset.preview === 'link'",
                            timeout=10_000)
@@ -129,14 +124,12 @@ def test_a_links_rig_is_in_the_sheet_before_the_engine_has_started(new_context, 
     assert page.get_attribute("#rig-sheet", "data-preview") is None
 
 
-def test_a_link_carries_the_senders_result_for_that_rig(new_context, server):
+def test_a_link_carries_the_senders_result_for_that_rig(new_context, server, sent):
     # The sender's page checked the rig; the link carries that result, and the receiving page
     # shows it at once marked as the sender's (data-state cached, data-source link) until its
     # own engine's result replaces it, which must be the same numbers (the same core).
-    sender = new_context().new_page()
-    sent = edited_rig(sender, server)
-    link = make_link(sender)
-    page = new_context().new_page()
+    link, sent = sent["link"], sent["result"]
+    page = new_context().new_page()  # cold: the sender's result before the engine's own
     page.goto(link)
     page.wait_for_function("() => document.getElementById('check-report').dataset.state"
                            " === 'cached'", timeout=10_000)
