@@ -22,7 +22,7 @@ import shakestill as ss
 from shakestill import bridge
 
 from pagekit import (BOOT_TIMEOUT_MS, assert_map_csv_is_the_cli_chart, CHROMIUM, CHROMIUM_ARGS, LAPTOP, RESULT_TIMEOUT_MS,
-                     TABLET_PORTRAIT, assert_same_numbers, cli_check, shot, wait_for_result)
+                     TABLET_PORTRAIT, assert_same_numbers, cli_check, shot, wait_for_result, wait_for_rig)
 
 pytestmark = pytest.mark.browser
 
@@ -196,8 +196,37 @@ def test_keyboard_moves_a_cursor_and_enter_applies(map_page):
     assert result["stroke_m"] == pytest.approx(before["stroke_m"], abs=0.5 * per_px(a["y"]))
 
 
-def test_cancel_stops_the_job(map_page):
+# Three damped links (bench/bench_chart.py's three-link rig): a map that takes seconds in the
+# page, so a test can act while it runs. The demo rig's map is done within one step of the job.
+SLOW_LINKS = [{"length_m": 0.15, "rod_mass_kg": 0.03, "joint_damping_N_m_s": 2e-4},
+              {"length_m": 0.12, "rod_mass_kg": 0.02,
+               "point_masses": [{"mass_kg": 0.01, "at_m": 0.12}], "joint_damping_N_m_s": 1e-4},
+              {"length_m": 0.08, "rod_mass_kg": 0.01,
+               "point_masses": [{"mass_kg": 0.006, "at_m": 0.08}], "joint_damping_N_m_s": 1e-4}]
+SLOW_TITLE = "Three links, a slow map"
+
+
+def open_slow_map_rig(page, tmp_path) -> None:
+    rig = page_rig(page)
+    if rig["title"] == SLOW_TITLE:  # an earlier test of the module opened it: no change, no redraw
+        wait_for_map(page)
+        return
+    rig.update(title=SLOW_TITLE, links=SLOW_LINKS)
+    rig["drive"].update(waveform="sine", stroke_m=0.016)
+    path = tmp_path / "three-links.json"
+    path.write_text(json.dumps(rig))
+    page.set_input_files("#open-file", str(path))
+    wait_for_rig(page, SLOW_TITLE)
+    # The opened rig's own map follows on its own (after the pause for edits); wait for it to
+    # start and end, or it would start again under the test's feet.
+    page.wait_for_function(f"() => document.querySelector('{CHART}').dataset.state === 'running'",
+                           timeout=RESULT_TIMEOUT_MS)
+    wait_for_map(page)
+
+
+def test_cancel_stops_the_job(map_page, tmp_path):
     page = map_page
+    open_slow_map_rig(page, tmp_path)
     page.click("#chart-redraw")
     page.wait_for_function(f"() => document.querySelector('{CHART}').dataset.state === 'running'"
                            f" && Number(document.querySelector('{CHART}').dataset.rows) < 30"
@@ -242,9 +271,10 @@ def test_screenshots_of_the_map_panel(map_page, viewport, name):
     assert page.evaluate("document.documentElement.scrollWidth") == viewport["width"]
 
 
-def test_rig_edit_stops_the_map_and_draws_it_again(map_page):
+def test_rig_edit_stops_the_map_and_draws_it_again(map_page, tmp_path):
     page = map_page
     page.set_viewport_size(LAPTOP)
+    open_slow_map_rig(page, tmp_path)
     page.click("#chart-redraw")
     page.wait_for_function(f"() => document.querySelector('{CHART}').dataset.state === 'running'"
                            f" && Number(document.querySelector('{CHART}').dataset.rows) < 30", timeout=RESULT_TIMEOUT_MS)
