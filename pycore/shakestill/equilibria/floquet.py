@@ -297,8 +297,7 @@ def _phase_accel_nodes(waveform, stroke_m, rod_length_m, samples_m, samples_stro
     so a scan along speed at one stroke computes it once."""
     shape = drv.Drive(waveform, 1.0, stroke_m, rod_length_m, samples_m, samples_stroke_m)
     dphi = 2 * math.pi / steps
-    return tuple(drv.phase_accels_m(shape, [(s + c) * dphi for s in range(steps)
-                                            for c in stages]))
+    return tuple(drv.phase_accel_m(shape, (s + c) * dphi) for s in range(steps) for c in stages)
 
 
 def monodromy(rig: Rig | Model, equilibrium: str, speed_rpm: float | None = None,

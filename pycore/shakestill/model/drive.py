@@ -103,24 +103,6 @@ def phase_accel_m(drive: Drive, phase_rad: float) -> float:
     return phase_derivatives(drive, phase_rad)[2]
 
 
-def phase_accels_m(drive: Drive, phases: list[float]) -> list[float]:
-    """d2y/dphi2 at many phases (a cycle's stage phases): phase_accel_m's values, the
-    sine's and crank's closed forms written out once for the whole list."""
-    if drive.waveform == "sine":
-        amp = -drive.stroke_m / 2.0
-        return [amp * math.cos(phi) for phi in phases]
-    if drive.waveform != "crank":
-        return [phase_derivatives(drive, phi)[2] for phi in phases]
-    r, rod = drive.stroke_m / 2.0, drive.rod_length_m
-    r2, r4, rod2 = r * r, r ** 4, rod * rod  # as phase_derivatives groups them: same bits
-    out = []
-    for phi in phases:
-        c, s = math.cos(phi), math.sin(phi)
-        u = math.sqrt(rod2 - r2 * s * s)
-        out.append(-r * c - r2 * (c * c - s * s) / u - r4 * s * s * c * c / u ** 3)
-    return out
-
-
 def peak_accel_m_s2(drive: Drive, speed_rpm: float | None = None) -> float:
     """The largest |y_p''| over a cycle."""
     omega = TWO_PI * (drive.speed_rpm if speed_rpm is None else speed_rpm) / 60.0
