@@ -31,18 +31,22 @@ def test_typing_is_undone_and_redone_and_the_check_follows(demo_page, tmp_path):
     assert typed["speed_rpm"] == pytest.approx(2900.0, rel=1e-12)
     assert page.is_enabled("#undo")
 
+    # The result being replaced is read before the action: the engine may answer before the
+    # next line of the test runs, and a later read would wait for a change already made.
+    before_undo = page.get_attribute("#check-report", "data-result")
     page.click("#undo")
     assert speed_field(page).input_value() == original
-    undone = wait_for_result(page, page.get_attribute("#check-report", "data-result"))
+    undone = wait_for_result(page, before_undo)
     # Independent value: the command line's check of the demo rig as it was (1e-9 relative).
     assert_same_numbers(undone, cli_check(demo_dict(), tmp_path))
     assert undone["speed_rpm"] == first["speed_rpm"]
     assert page.is_enabled("#redo")
 
     page.locator("body").click(position={"x": 5, "y": 5})  # outside any field
+    before_redo = page.get_attribute("#check-report", "data-result")
     page.keyboard.press("Control+Shift+Z")
     assert speed_field(page).input_value() == "2900 rpm"
-    redone = wait_for_result(page, page.get_attribute("#check-report", "data-result"))
+    redone = wait_for_result(page, before_redo)
     rig = demo_dict()
     rig["drive"]["speed_rpm"] = "2900 rpm"
     assert_same_numbers(redone, cli_check(rig, tmp_path))
