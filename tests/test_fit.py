@@ -155,6 +155,47 @@ def test_bad_logs_name_the_place_and_what_is_allowed(text, path, fragment):
     assert hits and fragment in hits[0].message, info.value.problems
 
 
+def test_columns_the_fit_does_not_read_are_skipped_and_named():
+    # A logger's export carries more than the fit reads (common practice, no source): a motor
+    # current, a counter, a text note. They are skipped; the angles are the logged degrees
+    # turned to radians about the hanging zero (pi + deg * pi / 180, by hand, 1e-15).
+    rows = [f"{i},{0.01 * i:.2f},{20.0 - i},{1.5 + i},{'ok' if i % 2 else ''}" for i in range(12)]
+    log = read_angle_log("sample,t_s,angle_deg,current_A,note\n" + "\n".join(rows), 1)
+    assert log.skipped_columns == ("sample", "current_A", "note")
+    assert log.t_s[5] == pytest.approx(0.05, rel=1e-12)
+    for i, (angle,) in enumerate(log.angles_rad):
+        assert angle == pytest.approx(math.pi + math.radians(20.0 - i), rel=1e-15)
+    # a missing angle names what was skipped: a misspelt header is found at once
+    with pytest.raises(RigError) as info:
+        read_angle_log("t_s,angel_deg\n" + "\n".join(f"{i},0" for i in range(10)), 1)
+    (problem,) = [p for p in info.value.problems if p.path == "log.header"]
+    assert "link(s) 1" in problem.message and "'angel_deg'" in problem.message
+    # a first row of numbers is still no header
+    with pytest.raises(RigError) as info:
+        read_angle_log("\n".join(f"{i},0" for i in range(10)), 1)
+    assert info.value.problems[0].path == "log.header[0]"
+    assert "must name the columns" in info.value.problems[0].message
+
+
+def test_the_fit_reply_names_the_skipped_columns():
+    # The bridge's fit of a log with an extra column: the JSON lists it and the words say it;
+    # the fitted damping is the one the log was made with (solve_ivp's decay, noiseless: 1e-4),
+    # and equals the fit of the same log without the extra column (1e-12: the same numbers).
+    text = decay_log(20.0, duration_s=2.0, step_s=0.02)
+    head, *rows = text.strip().splitlines()
+    extra = "\n".join([head + ",supply_V"] + [r + ",24.0" for r in rows])
+    plain = bridge.call({"op": "fit", "rig": rig_data(2e-4), "log": text, "drive_stopped": True})
+    wider = bridge.call({"op": "fit", "rig": rig_data(2e-4), "log": extra, "drive_stopped": True})
+    assert plain["ok"] and wider["ok"], (plain, wider)
+    assert plain["result"]["skipped_columns"] == []
+    assert wider["result"]["skipped_columns"] == ["supply_V"]
+    assert wider["result"]["parameters"][0]["value"] == pytest.approx(
+        plain["result"]["parameters"][0]["value"], rel=1e-12)
+    assert wider["result"]["parameters"][0]["value"] == pytest.approx(TRUE_DAMPING, rel=1e-4)
+    assert "Columns of the log not read: supply_V" in wider["report_text"]
+    assert "not read" not in plain["report_text"]
+
+
 def test_cli_and_bridge_give_the_same_fit(tmp_path, monkeypatch, capsys):
     # The command line and the page's bridge run the same fit: equal numbers (1e-12), and
     # the fitted rig file the CLI writes carries the fitted damping.

@@ -213,7 +213,8 @@ export function createFitView(els, { engine, getRig, useRig, restoreRig }) {
           h("dd", { "data-value": String(res.converged) }, res.converged
             ? `Yes, after ${res.iterations} iteration(s): ${res.message}.`
             : `No: ${res.message}. Treat these numbers with care.`,
-          h("span", { class: "sub" }, `${res.samples} samples, ${res.simulations} simulations.`)))),
+          h("span", { class: "sub" }, `${res.samples} samples, ${res.simulations} simulations.`,
+            skippedWords(res.skipped_columns))))),
       h("details", { class: "report-text" }, h("summary", {},
         `The same in the command line's words (${reply.units || "metric"} units)`),
         h("pre", {}, reply.report_text)));
@@ -222,6 +223,11 @@ export function createFitView(els, { engine, getRig, useRig, restoreRig }) {
     els.plot.dataset.axes = JSON.stringify(reply.axes);
     els.apply.hidden = false;
     mark("fresh");
+  }
+
+  /** The log's columns the fit did not read (a result kept from an older page has none). */
+  function skippedWords(columns) {
+    return columns && columns.length ? ` Columns of the log not read: ${columns.join(", ")}.` : "";
   }
 
   function stateFor(rigKey) {

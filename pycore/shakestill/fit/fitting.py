@@ -62,6 +62,7 @@ class FitResult:
     message: str
     iterations: int
     work: dict = field(default_factory=dict, compare=False)
+    skipped_columns: tuple[str, ...] = ()  # the log's columns the fit did not read
 
 
 def parameter_paths(rig: Rig, names: Sequence[str]) -> tuple[str, ...]:
@@ -297,7 +298,8 @@ def fit_steps(rig: Rig, log: AngleLog, parameters: Sequence[str], *,
     return FitResult(paths, tuple(start), tuple(values), tuple(errors[:k]), tuple(q0),
                      tuple(w0), math.sqrt(2 * cost_start / m), math.sqrt(2 * cost / m),
                      log.t_s, log.angles_rad, tuple(tuple(a) for a in model_angles), fitted,
-                     converged, message, iteration, {"simulations": model.runs})
+                     converged, message, iteration, {"simulations": model.runs},
+                     log.skipped_columns)
 
 
 def _std_errors(jac, r, scales, p) -> list[float]:
@@ -340,4 +342,5 @@ def fit_dict(res: FitResult) -> dict:
         "message": res.message,
         "iterations": res.iterations,
         "simulations": res.work.get("simulations", 0),
+        "skipped_columns": list(res.skipped_columns),
     }

@@ -12,6 +12,9 @@ either as a suffix or in brackets:
   pendulum hanging, or "inverted": 0 upright), same sense as the model's angles;
 - drive speed: ``speed`` in rpm or Hz (optional; else the rig's own speed).
 
+Other columns (a motor current, a sample counter, a note) are skipped and named in
+``skipped_columns``: a logger's export rarely holds only what the fit reads.
+
 Every problem is collected with a path like ``log[12].angle1_deg`` (the data row,
 counted from 1) and the value, so a bad file is reported whole.
 """
@@ -47,6 +50,7 @@ class AngleLog:
     speed_rpm: tuple[float, ...] | None  # per sample, when logged
     reference: str
     step_s: float  # the even sampling step the times keep to
+    skipped_columns: tuple[str, ...] = ()  # header cells of columns this does not read
 
 
 def _is_number(text: str) -> bool:
@@ -58,14 +62,16 @@ def _is_number(text: str) -> bool:
 
 
 def _column(cell: str, where: str, problems: list):
-    """(kind, link index or None, factor) of a header cell, or None if not recognised."""
+    """(kind, link index or None, factor) of a header cell, None if it is wrong; kind
+    "other" for a column this does not read."""
     m = _HEADER.match(cell)
     name = _NAMES.get(m.group(1).lower()) if m else None
     if name is None:
-        first = "the first row must name the columns; " if _is_number(cell) else ""
-        problems.append(Problem(where, f"{cell!r} is not a column this reads: {first}use t_s (or ms), "
-                                       "angle_deg / angle1_deg, angle2_deg, ... (or rad), "
-                                       "and optionally speed_rpm (or Hz)"))
+        if not _is_number(cell):
+            return "other", None, 1.0
+        problems.append(Problem(where, f"{cell!r} is not a column name: the first row must name "
+                                       "the columns: t_s (or ms), angle_deg / angle1_deg, "
+                                       "angle2_deg, ... (or rad), and optionally speed_rpm (or Hz)"))
         return None
     unit = (m.group(3) or m.group(4) or "").lower()
     factors = _UNITS[name]
@@ -108,11 +114,13 @@ def read_angle_log(text: str, n_links: int, *, reference: str = "hanging") -> An
         problems.append(Problem("log.header", "needs exactly one time column (t_s or t_ms)"))
     if len(speeds) > 1:
         problems.append(Problem("log.header", "has more than one speed column"))
+    skipped = tuple(header[j] for j, c in enumerate(columns) if c and c[0] == "other")
     missing = [i + 1 for i in range(n_links) if i not in angle_cols]
     if kinds and missing:
+        unread = f" (columns not read: {', '.join(map(repr, skipped))})" if skipped else ""
         problems.append(Problem("log.header", f"has no angle column for link(s) "
                                               f"{', '.join(map(str, missing))}: every link's "
-                                              "angle is needed"))
+                                              f"angle is needed{unread}"))
     if problems:
         raise RigError(problems[:MAX_PROBLEMS])
     rows = lines[1:]
@@ -128,6 +136,9 @@ def read_angle_log(text: str, n_links: int, *, reference: str = "hanging") -> An
             continue
         row = []
         for j, (cell, col) in enumerate(zip(cells, columns)):
+            if col[0] == "other":
+                row.append(None)
+                continue
             try:
                 value = float(cell) * col[2]
             except ValueError:
@@ -145,8 +156,9 @@ def read_angle_log(text: str, n_links: int, *, reference: str = "hanging") -> An
             break
     if problems:
         raise RigError(problems[:MAX_PROBLEMS])
-    return _from_table(table, times[0], [angle_cols[i] for i in range(n_links)],
-                       speeds[0] if speeds else None, header, reference)
+    log = _from_table(table, times[0], [angle_cols[i] for i in range(n_links)],
+                      speeds[0] if speeds else None, header, reference)
+    return replace(log, skipped_columns=skipped)
 
 
 def _from_table(table, t_col: int, a_cols: list[int], v_col, header, reference) -> AngleLog:

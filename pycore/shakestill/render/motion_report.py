@@ -161,6 +161,8 @@ def fit_text(result: dict, reference: str = "inverted", units: str = "metric") -
     numbers in ``units`` (metric or imperial)."""
     out = [f"Fit to a logged run: {result['samples']} samples, {result['iterations']} "
            f"iteration(s), {result['simulations']} simulations"]
+    if result.get("skipped_columns"):  # none in a result from before the key
+        out.append("Columns of the log not read: " + ", ".join(result["skipped_columns"]))
     if not result["converged"]:
         out.append(f"NOT SETTLED: {result['message']}; the numbers below are the best so far")
     out.append(f"Misfit (RMS angle): {math.degrees(result['rms_start_rad']):.4g} deg with the "
