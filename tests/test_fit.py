@@ -165,6 +165,10 @@ def test_columns_the_fit_does_not_read_are_skipped_and_named():
     assert log.t_s[5] == pytest.approx(0.05, rel=1e-12)
     for i, (angle,) in enumerate(log.angles_rad):
         assert angle == pytest.approx(math.pi + math.radians(20.0 - i), rel=1e-15)
+    # a trailing separator (a spreadsheet's export) leaves an unnamed column, named by place
+    trailing = read_angle_log("t_s,angle_deg,\n" + "\n".join(f"{i},0," for i in range(10)), 1)
+    assert trailing.skipped_columns == ("(unnamed column 3)",)
+    assert trailing.angles_rad[4][0] == pytest.approx(math.pi, rel=1e-15)
     # a missing angle names what was skipped: a misspelt header is found at once
     with pytest.raises(RigError) as info:
         read_angle_log("t_s,angel_deg\n" + "\n".join(f"{i},0" for i in range(10)), 1)

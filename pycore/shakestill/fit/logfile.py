@@ -114,7 +114,8 @@ def read_angle_log(text: str, n_links: int, *, reference: str = "hanging") -> An
         problems.append(Problem("log.header", "needs exactly one time column (t_s or t_ms)"))
     if len(speeds) > 1:
         problems.append(Problem("log.header", "has more than one speed column"))
-    skipped = tuple(header[j] for j, c in enumerate(columns) if c and c[0] == "other")
+    skipped = tuple(header[j] or f"(unnamed column {j + 1})"  # a trailing separator, say
+                    for j, c in enumerate(columns) if c and c[0] == "other")
     missing = [i + 1 for i in range(n_links) if i not in angle_cols]
     if kinds and missing:
         unread = f" (columns not read: {', '.join(map(repr, skipped))})" if skipped else ""
