@@ -298,6 +298,24 @@ def law(monkeypatch, ln_growth):
     return ru, tried
 
 
+def test_runup_without_a_rate_runs_at_the_hanging_minimum_and_scans_once(model, monkeypatch):
+    # No rate: the ramp runs at the slowest rate that keeps the hanging tongue's growth
+    # (solve_ivp + svd) within 2% under the factor; every stability evaluation made is
+    # counted in `evaluations` (the hanging scan serves both the rate and the crossings: it is
+    # not walked twice), and nothing crossed names why there is no rate.
+    from shakestill.equilibria import runup as ru
+    calls = counted_stability(monkeypatch)
+    got = ru.runup(model, rate_rpm_s=None, start_rpm=500.0)
+    assert got["rate_recommended"] is True and got["evaluations"] == len(calls)
+    lo1, hi1 = tongue_rpm()
+    rate = got["rate_rpm_s"]
+    assert 10.0 / 1.02 * (1 - REL) <= transfer_gain(lo1, hi1, rate) <= 10.0 * (1 + REL)
+    assert rate == got["hanging"]["min_rate_rpm_s"]
+    assert ru.runup(model, rate_rpm_s=rate, start_rpm=500.0)["rate_recommended"] is False
+    with pytest.raises(ru.NoRateToRecommend, match="no resonance of the hanging pendulum"):
+        ru.runup(model, rate_rpm_s=None, start_rpm=350.0, end_rpm=500.0)
+
+
 @pytest.mark.parametrize("prefactor", [math.log(2.0), -5.0])
 def test_minimum_rate_search_on_a_growth_law_linear_in_one_over_r(model, monkeypatch,
                                                                   prefactor):

@@ -10,7 +10,7 @@ from dataclasses import replace
 from ..equilibria.chart import chart, chart_dict, chart_steps, stroke_for_peak_accel
 from ..motion.lean import check, held_windows
 from ..equilibria.floquet import stability
-from ..equilibria.runup import recommended_rate, runup
+from ..equilibria.runup import NoRateToRecommend, runup
 from ..model.drive import peak_accel_m_s2
 from ..model.rig import Problem, RigError, with_operating_point
 from ..model.rigfile import rig_to_dict
@@ -94,20 +94,12 @@ def _runup_arguments(p) -> None:
     _operating_point_options(p)
 
 
-def _rate_or_recommended(rig, rate, start, end, factor, field: str) -> tuple[float, bool]:
-    """The ramp rate given, else the slowest that keeps the hanging pendulum's growth through
-    every crossing under the factor (it rests hanging while the drive runs up and is raised
-    once at speed); (rate, whether it was recommended)."""
-    if rate is not None:
-        return rate, False
-    need = recommended_rate(rig, start_rpm=start, end_rpm=end, factor=factor,
-                            equilibria=("hanging",))
-    if not 0 < need < float("inf"):
-        raise RigError([Problem(field, "no resonance of the hanging pendulum is crossed "
-                                       "(any rate will do): give a rate" if need == 0 else
-                                       "no ramp rate keeps the growth under the factor: "
-                                       "give a rate to see the crossings")])
-    return need, True
+def _runup_or_named(rig, rate, start, end, factor, field: str) -> dict:
+    """runup(), with no rate to recommend named as a problem of the rate's field."""
+    try:
+        return runup(rig, rate_rpm_s=rate, start_rpm=start, end_rpm=end, factor=factor)
+    except NoRateToRecommend as exc:
+        raise RigError([Problem(field, str(exc))]) from None
 
 
 @command("runup", "resonances crossed while the speed ramps", _runup_arguments)
@@ -117,9 +109,7 @@ def _cmd_runup(args) -> int:
     start = quantity(args.start, "speed", "--from", minimum=0.0) or 0.0
     end = quantity(args.to, "speed", "--to", above=0.0)
     factor = quantity(args.factor, "plain", "--factor", above=1.0) or 10.0
-    rate, recommended = _rate_or_recommended(rig, rate, start, end, factor, "--rate")
-    result = runup(rig, rate_rpm_s=rate, start_rpm=start, end_rpm=end, factor=factor)
-    result["rate_recommended"] = recommended
+    result = _runup_or_named(rig, rate, start, end, factor, "--rate")
     if args.json:
         print(json.dumps(jsonable(result), indent=2, allow_nan=False))
     else:
@@ -170,14 +160,12 @@ def _op_runup(request: dict) -> dict:
     try:
         start = float(request.get("start_rpm", 0.0))
         end, factor = request.get("end_rpm"), float(request.get("factor", 10.0))
-        rate, recommended = _rate_or_recommended(rig, None if given is None else float(given),
-                                                 start, end, factor, "rate_rpm_s")
-        result = runup(rig, rate_rpm_s=rate, start_rpm=start, end_rpm=end, factor=factor)
+        result = _runup_or_named(rig, None if given is None else float(given), start, end,
+                                 factor, "rate_rpm_s")
     except RigError:
         raise  # a named field already
     except (TypeError, ValueError) as exc:
         raise RigError([Problem("runup", str(exc))]) from None
-    result["rate_recommended"] = recommended
     return {"result": result, "report_text": runup_text(result, units_of(request))}
 
 

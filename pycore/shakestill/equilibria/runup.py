@@ -136,10 +136,18 @@ def low_speed_floor(rig: Rig) -> float:
     return omega * 60 / (2 * math.pi)
 
 
-def crossings(rig: Rig | Model, equilibrium: str, start_rpm: float, end_rpm: float,
-              rate_rpm_s: float, factor: float = DEFAULT_FACTOR) -> tuple[list[Crossing], int]:
+@dataclass(frozen=True)
+class _Span:
+    """An unstable interval met between two speeds: what no ramp rate changes."""
+
+    start_rpm: float
+    end_rpm: float
+    log_integral: float  # I of the module docstring: ln(amplification) at 1 rpm/s
+    peak_multiplier: float
+
+
+def _spans(model: Model, equilibrium: str, start_rpm: float, end_rpm: float) -> tuple[list[_Span], int]:
     """Unstable intervals met between two speeds at the operating stroke, and evaluations."""
-    model = as_model(rig)
     rig = model.rig
     lo, hi = sorted((start_rpm, end_rpm))
     lo = max(lo, low_speed_floor(rig), scan_floor_rpm(model))
@@ -161,18 +169,36 @@ def crossings(rig: Rig | Model, equilibrium: str, start_rpm: float, end_rpm: flo
             open_at = None
     if open_at is not None:
         intervals.append((open_at, hi))
-    out = []
-    for a, b in intervals:
-        integral, peak = _log_integral(model, equilibrium, a, b, settings)
-        frozen = math.exp(min(integral / rate_rpm_s, 700.0))
-        cycles = (b * b - a * a) / 120.0 / rate_rpm_s
-        simulated = (ramp_amplification(model, equilibrium, a, b, rate_rpm_s)
-                     if cycles <= MAX_SIMULATED_CYCLES and integral / rate_rpm_s < MAX_LOG_GROWTH
-                     else None)
-        min_rate = _min_rate(model, equilibrium, a, b, integral, factor)
-        out.append(Crossing(equilibrium, a, b, (b - a) / rate_rpm_s, frozen, cycles, peak,
-                            min_rate, simulated))
-    return out, probe.count + GAUSS_POINTS * len(intervals)
+    spans = [_Span(a, b, *_log_integral(model, equilibrium, a, b, settings)) for a, b in intervals]
+    return spans, probe.count + GAUSS_POINTS * len(intervals)
+
+
+def _crossing(model: Model, equilibrium: str, span: _Span, rate_rpm_s: float,
+              factor: float) -> Crossing:
+    """A span crossed at a ramp rate: its frozen and (where feasible) simulated growth."""
+    a, b, integral = span.start_rpm, span.end_rpm, span.log_integral
+    frozen = math.exp(min(integral / rate_rpm_s, 700.0))
+    cycles = (b * b - a * a) / 120.0 / rate_rpm_s
+    simulated = (ramp_amplification(model, equilibrium, a, b, rate_rpm_s)
+                 if cycles <= MAX_SIMULATED_CYCLES and integral / rate_rpm_s < MAX_LOG_GROWTH
+                 else None)
+    min_rate = _min_rate(model, equilibrium, a, b, integral, factor)
+    return Crossing(equilibrium, a, b, (b - a) / rate_rpm_s, frozen, cycles, span.peak_multiplier,
+                    min_rate, simulated)
+
+
+def crossings(rig: Rig | Model, equilibrium: str, start_rpm: float, end_rpm: float,
+              rate_rpm_s: float, factor: float = DEFAULT_FACTOR) -> tuple[list[Crossing], int]:
+    """Unstable intervals met between two speeds at the operating stroke, and evaluations."""
+    model = as_model(rig)
+    spans, count = _spans(model, equilibrium, start_rpm, end_rpm)
+    return [_crossing(model, equilibrium, s, rate_rpm_s, factor) for s in spans], count
+
+
+def _slowest_safe_rate(model: Model, equilibrium: str, spans: list[_Span], factor: float) -> float:
+    """The largest of the spans' minimum rates (0 with nothing crossed)."""
+    return max((_min_rate(model, equilibrium, s.start_rpm, s.end_rpm, s.log_integral, factor)
+                for s in spans), default=0.0)
 
 
 RATE_STEPS = 8  # simulated ramps spent finding a crossing's minimum rate
@@ -229,25 +255,45 @@ def _checked_span(model: Model, factor: float, start_rpm: float, end_rpm: float 
     return end
 
 
-def runup(rig: Rig | Model, *, rate_rpm_s: float, start_rpm: float = 0.0,
+class NoRateToRecommend(ValueError):
+    """A run-up asked without a rate where none can be recommended."""
+
+
+def runup(rig: Rig | Model, *, rate_rpm_s: float | None, start_rpm: float = 0.0,
           end_rpm: float | None = None, factor: float = DEFAULT_FACTOR,
           equilibria=EQUILIBRIA) -> dict:
     """Run-up from ``start_rpm`` to ``end_rpm`` (default: the operating speed) and the
-    run-down back; plain data for JSON and the page."""
-    if not (rate_rpm_s > 0 and math.isfinite(rate_rpm_s)):
+    run-down back; plain data for JSON and the page. With ``rate_rpm_s`` None the ramp runs
+    at the slowest rate that keeps the hanging pendulum's growth through every crossing
+    under the factor (it rests hanging while the drive runs up and is raised once at speed);
+    NoRateToRecommend says why there is none."""
+    if rate_rpm_s is not None and not (rate_rpm_s > 0 and math.isfinite(rate_rpm_s)):
         raise ValueError(f"rate_rpm_s: {rate_rpm_s!r} must be a finite number above 0 rpm/s")
     model = as_model(rig)
     rig = model.rig
     end = _checked_span(model, factor, start_rpm, end_rpm)
+    spans = {eq: _spans(model, eq, start_rpm, end) for eq in equilibria}
+    recommended = rate_rpm_s is None
+    if recommended:
+        hanging, _ = spans["hanging"] if "hanging" in spans else _spans(model, "hanging",
+                                                                         start_rpm, end)
+        rate_rpm_s = _slowest_safe_rate(model, "hanging", hanging, factor)
+        if not 0 < rate_rpm_s < math.inf:
+            raise NoRateToRecommend(
+                "no resonance of the hanging pendulum is crossed (any rate will do): give a rate"
+                if rate_rpm_s == 0 else
+                "no ramp rate keeps the growth under the factor: give a rate to see the crossings")
     result = {"rate_rpm_s": rate_rpm_s, "factor": factor, "start_rpm": start_rpm,
               "end_rpm": end, "stroke_m": rig.drive.stroke_m,
               "low_speed_floor_rpm": low_speed_floor(rig), "evaluations": 0,
               "note": ("frozen-speed (adiabatic) estimate: the product of the largest Floquet "
                        "multiplier over the cycles spent in each unstable interval; below the "
                        "low-speed floor the pivot's peak acceleration is under "
-                       f"{LOW_ACCEL_FRACTION:g} g and nothing is taken to grow")}
+                       f"{LOW_ACCEL_FRACTION:g} g and nothing is taken to grow"),
+              "rate_recommended": recommended}
     for eq in equilibria:
-        found, count = crossings(model, eq, start_rpm, end, rate_rpm_s, factor)
+        eq_spans, count = spans[eq]
+        found = [_crossing(model, eq, s, rate_rpm_s, factor) for s in eq_spans]
         result["evaluations"] += count
         items = [c.__dict__ for c in found]
         result[eq] = {
@@ -261,9 +307,6 @@ def runup(rig: Rig | Model, *, rate_rpm_s: float, start_rpm: float = 0.0,
     return result
 
 
-TRIAL_RATE_RPM_S = 100.0  # first ramp rate simulated when recommending one
-
-
 def recommended_rate(rig: Rig | Model, *, start_rpm: float = 0.0,
                      end_rpm: float | None = None, factor: float = DEFAULT_FACTOR,
                      equilibria=EQUILIBRIA) -> float:
@@ -272,6 +315,5 @@ def recommended_rate(rig: Rig | Model, *, start_rpm: float = 0.0,
     is crossed."""
     model = as_model(rig)
     end = _checked_span(model, factor, start_rpm, end_rpm)
-    return max((c.min_rate_rpm_s for eq in equilibria
-                for c in crossings(model, eq, start_rpm, end, TRIAL_RATE_RPM_S, factor)[0]),
-               default=0.0)
+    return max((_slowest_safe_rate(model, eq, _spans(model, eq, start_rpm, end)[0], factor)
+                for eq in equilibria), default=0.0)
