@@ -6,6 +6,8 @@
     python bench/mutation.py --survivors     # the last run's survivors again, on today's tests
     python bench/mutation.py --resume        # carry on a stopped run, on today's tests
     python bench/mutation.py --survivors --resume --modules fit/fitting.py   # both, one module
+    python bench/mutation.py --sample 150 --seed 1 --modules fit/fitting.py  # a random 150 of
+                                             # its untested mutants, the score with its 95% interval
     python bench/pinned.py                   # every module's last score, coverage, CI time
 
 mutmut expects the package under ./ or src/; the engine lives in pycore/. So this script
@@ -23,7 +25,9 @@ from __future__ import annotations
 
 import argparse
 import json
+import math
 import os
+import random
 import re
 import shutil
 import subprocess
@@ -37,6 +41,8 @@ STAGE = TOP / "build" / "mutation"
 # Each run's figures per module (committed, so `bench/pinned.py` prints the last runs).
 SCORES = TOP / "bench" / "figures" / "mutation"
 STATUS = STAGE / "status.json"  # every mutant's last result over the stage's passes
+SAMPLE = STAGE / "sample.json"  # the last --sample draw per module: its stratum and its names
+Z95 = 1.959963984540054  # the standard normal's 97.5% quantile (two-sided 95%)
 
 # The analysis modules issue 12 names (stability/floquet, estimates, check, windows, lines,
 # chart, runup, hill, loads, fit).
@@ -286,6 +292,50 @@ def score(status: dict[str, str]) -> dict:
             "survivors": [k for k in survivors if k not in EQUIVALENT]}
 
 
+def draw(untested: list[str], n: int, seed: int) -> list[str]:
+    """A random n of the untested mutants (all of them when fewer), the same for the same seed."""
+    return sorted(random.Random(seed).sample(sorted(untested), min(n, len(untested))))
+
+
+def wilson(k: int, n: int, z: float = Z95) -> tuple[float, float]:
+    """Wilson's score interval for a binomial proportion k / n (E. B. Wilson, JASA 22, 1927):
+    unlike p +- z sqrt(p (1 - p) / n) it stays inside [0, 1] and is not empty at k = n."""
+    if n == 0:
+        return 0.0, 1.0
+    p, zz = k / n, z * z
+    mid = (p + zz / (2 * n)) / (1 + zz / n)
+    half = z / (1 + zz / n) * math.sqrt(p * (1 - p) / n + zz / (4 * n * n))
+    return max(0.0, mid - half), min(1.0, mid + half)
+
+
+def sampled(status: dict[str, str], drawn: dict) -> dict:
+    """A --sample draw's score with its 95% interval, and the module's score estimated from it.
+
+    The sample counts its killed against its killed and survivors not judged equivalent
+    (mutants no test reached are left out, as in score()). The module's estimate counts the
+    mutants outside the stratum drawn from (the untested at the draw) as they are, and the
+    stratum by the sample's proportion, its size scaled by the share of the sample counted."""
+    names, stratum = drawn["names"], set(drawn["stratum"])
+    got = [status.get(k, "not checked") for k in names]
+    killed = sum(s in ("killed", "timeout") for s in got)
+    judged = sum(s == "survived" and k in EQUIVALENT for k, s in zip(names, got))
+    counted = killed + sum(s == "survived" for s in got) - judged
+    rest = {k: s for k, s in status.items() if k not in stratum}
+    k_out = sum(s in ("killed", "timeout") for s in rest.values())
+    t_out = k_out + sum(s == "survived" and k not in EQUIVALENT for k, s in rest.items())
+    size = len(stratum) * counted / max(len(names), 1)
+    lo, hi = wilson(killed, counted)
+
+    def module(p: float) -> float:
+        return (k_out + p * size) / max(t_out + size, 1e-300)
+
+    p = killed / max(counted, 1)
+    return {"sampled": True, "seed": drawn["seed"], "drawn": len(names),
+            "stratum": len(stratum), "killed": killed, "counted": counted,
+            "equivalent": judged, "score": p, "ci95": [lo, hi],
+            "module_estimate": module(p), "module_ci95": [module(lo), module(hi)]}
+
+
 def save(status: dict[str, str], tests: list[str]) -> None:
     """One JSON record per module mutated in this run: bench/figures/mutation/<module>.json."""
     by_module: dict[str, dict[str, str]] = {}
@@ -296,6 +346,8 @@ def save(status: dict[str, str], tests: list[str]) -> None:
         if not any(s in ("killed", "timeout", "survived") for s in st.values()):
             continue  # not run (yet)
         rec = {"module": module, "date": date.today().isoformat(), "tests": tests, **score(st)}
+        if module in draws():
+            rec["sample"] = sampled(st, draws()[module])
         path = SCORES / (module.replace("/", "__") + ".json")
         path.write_text(json.dumps(rec, indent=1) + "\n")
 
@@ -319,7 +371,29 @@ def report(tests: list[str] | None = None) -> int:
               f"{100 * killed / max(live, 1):.1f}%")
     for k in survivors:
         print("survived:", k, "(equivalent: " + EQUIVALENT[k] + ")" if k in EQUIVALENT else "")
+    for module, drawn in sorted(draws().items()):
+        mine = {k: s for k, s in status.items() if module_of(k) == module}
+        r = sampled(mine, drawn)
+        print(f"SAMPLED {module} (seed {r['seed']}, {r['drawn']} of {r['stratum']} untested "
+              f"drawn): {r['killed']} killed of {r['counted']} non-equivalent tested = "
+              f"{100 * r['score']:.1f}%, 95% interval {100 * r['ci95'][0]:.1f}-"
+              f"{100 * r['ci95'][1]:.1f}% (Wilson); module estimate "
+              f"{100 * r['module_estimate']:.1f}% ({100 * r['module_ci95'][0]:.1f}-"
+              f"{100 * r['module_ci95'][1]:.1f}%)")
     return 0
+
+
+def draws() -> dict[str, dict]:
+    """The last --sample draw of each module in the stage (none before the first)."""
+    return json.loads(SAMPLE.read_text()) if SAMPLE.is_file() else {}
+
+
+def staged_modules() -> list[str]:
+    conf = STAGE / "pyproject.toml"
+    if not conf.is_file():
+        return []
+    only = tomllib.loads(conf.read_text())["tool"]["mutmut"]["only_mutate"]
+    return [m.removeprefix("src/shakestill/") for m in only]
 
 
 def main() -> int:
@@ -335,18 +409,46 @@ def main() -> int:
                     help="re-test the last run's survivors with the working tree's tests")
     ap.add_argument("--resume", action="store_true",
                     help="carry on the staged run (mutants not yet tested) with today's tests")
+    ap.add_argument("--sample", type=int, metavar="N",
+                    help="run a random N of each module's untested mutants (with --seed; the "
+                         "module is staged first when the stage lacks it) and print the score "
+                         "with its binomial 95%% interval, marked SAMPLED")
+    ap.add_argument("--seed", type=int, help="the --sample draw's seed (required with it)")
     a = ap.parse_args()
     if a.report:  # records the staged run's figures too (a run stopped part way included)
         return report(staged_tests())
+    env = {k: v for k, v in os.environ.items() if k != "PYTHONPATH"}  # mutmut's src/ only
+    env["PYTHONPATH"] = str(STAGE / "tests")  # the tests' own helpers (refsolvers)
+    if a.sample is not None:
+        if a.seed is None or a.resume or a.sample < 1:
+            ap.error(f"--sample: {a.sample} needs N >= 1 and --seed, and not --resume (a "
+                     "sample is drawn from the mutants --resume would run all of)")
+        if not set(a.modules) <= set(staged_modules()):
+            a.tests = a.tests or TESTS
+            stage(a.modules, a.tests)
+            # mutmut names the mutants only when it makes them: a run of a name that matches
+            # none makes them (and maps the tests) and tests nothing
+            subprocess.run([sys.executable, "-m", "mutmut", "run", "--max-children",
+                            str(a.jobs), "shakestill.none_yet"], cwd=STAGE, env=env)
     names: list[str] = []
-    if a.survivors or a.resume:  # new tests: copy them in; re-test the survivors, or carry on
-        # the survivors and the mutants no test reached (a new test file may reach them now)
-        # named, not left to mutmut: new test files make it forget every result, and it
-        # would re-run them all (the earlier results stay in STATUS)
+    if a.survivors or a.resume or a.sample:  # new tests: copy them in; re-test the survivors,
+        # or carry on the survivors and the mutants no test reached (a new test file may
+        # reach them now) named, not left to mutmut: new test files make it forget every
+        # result, and it would re-run them all (the earlier results stay in STATUS)
         wanted = (("survived", "no tests") if a.survivors else ()) + \
             (("not checked",) if a.resume else ())
-        names = sorted(k for k, s in results().items()
+        status = results()
+        names = sorted(k for k, s in status.items()
                        if s in wanted and module_of(k) in a.modules)
+        if a.sample:
+            drawn = draws()
+            for module in a.modules:
+                untested = [k for k, s in status.items()
+                            if s == "not checked" and module_of(k) == module]
+                picked = draw(untested, a.sample, a.seed)
+                drawn[module] = {"seed": a.seed, "names": picked, "stratum": sorted(untested)}
+                names = sorted(set(names) | set(picked))
+            SAMPLE.write_text(json.dumps(drawn, indent=0) + "\n")
         a.tests = add_tests(staged_tests() or TESTS, a.tests or [])
         for where in (STAGE / "tests", STAGE / "mutants" / "tests"):
             shutil.copytree(TOP / "tests", where, dirs_exist_ok=True,
@@ -359,8 +461,6 @@ def main() -> int:
     else:
         a.tests = a.tests or TESTS
         stage(a.modules, a.tests)
-    env = {k: v for k, v in os.environ.items() if k != "PYTHONPATH"}  # mutmut's src/ only
-    env["PYTHONPATH"] = str(STAGE / "tests")  # the tests' own helpers (refsolvers)
     run = subprocess.run([sys.executable, "-m", "mutmut", "run", "--max-children", str(a.jobs),
                           *names], cwd=STAGE, env=env)
     if run.returncode not in (0, 1):
