@@ -17,6 +17,7 @@ from __future__ import annotations
 
 import math
 import random
+from dataclasses import replace
 
 import numpy as np
 import pytest
@@ -25,7 +26,7 @@ from scipy.optimize import least_squares
 import refsolvers as ref
 import shakestill as ss
 from shakestill.fit import fitting
-from shakestill.fit.fitting import _Model, _scales, fit_dict, fit_steps, parameter_paths
+from shakestill.fit.fitting import _Model, _scales, fit, fit_dict, fit_steps, parameter_paths
 from test_fit import TRUE_DAMPING, decay_log, read, rig_data, still
 from test_fit_paths import WORDS, madsen_lm, two_link_data
 from test_motion import scipy_states
@@ -158,3 +159,48 @@ def test_a_one_second_fit_of_a_two_link_chain_is_scipys_and_the_published_path()
     shown, res = run(rig, log, ["damping"])
     assert res.parameters == ("links[0].joint_damping_N_m_s", "links[1].joint_damping_N_m_s")
     check_against_references(rig, log, ["damping"], res, shown, two_link, TWO_TRUE)
+
+
+def failing(nth, how):
+    """motion.simulate whose nth call reports a failure: success False, or its frames cut
+    short (as when the integrator gives up part way)."""
+    calls = [0]
+
+    def simulate(*args, **kwargs):
+        calls[0] += 1
+        out = ss.simulate(*args, **kwargs)
+        if calls[0] != nth:
+            return out
+        return replace(out, success=False) if how == "failed" else replace(
+            out, t_s=out.t_s[:-1], angles_rad=out.angles_rad[:-1])
+    return simulate
+
+
+@pytest.mark.parametrize("how", ["failed", "short"])
+def test_a_first_run_that_fails_is_refused_with_what_to_check(monkeypatch, how):
+    # The start rig's run from the log's first samples fails (or stops before the log's end):
+    # no misfit exists to lower, and the refusal says what to check (the documented words).
+    monkeypatch.setattr(fitting, "simulate", failing(1, how))
+    rig = ss.rig_from_dict(rig_data(TRUE_DAMPING / 3))
+    log = read(decay_log(20.0, duration_s=1.0, step_s=0.05, noise_deg=0.05, seed=3))
+    with pytest.raises(ValueError) as info:
+        fit(rig, log, ["damping"])
+    assert str(info.value) == ("log: the model cannot follow this log from its first samples "
+                               "(the simulation failed); check the reference position and "
+                               "the units")
+
+
+@pytest.mark.parametrize("how", ["failed", "short"])
+def test_a_sensitivity_run_that_fails_leaves_the_fit_on_scipys_minimum(monkeypatch, how):
+    # The first sensitivity run (the damping's column of the first Jacobian) fails: that
+    # column counts as zero, the first step leaves the damping alone, and the next iterations
+    # (new Jacobians) still land on least_squares' minimum of the same residuals (1e-5).
+    monkeypatch.setattr(fitting, "simulate", failing(2, how))
+    rig = ss.rig_from_dict(rig_data(TRUE_DAMPING / 3))
+    log = read(decay_log(20.0, duration_s=1.0, step_s=0.05, noise_deg=0.05, seed=3))
+    res = fit(rig, log, ["damping"])
+    paths = parameter_paths(rig, ["damping"])
+    model = _Model(rig, log, paths, _scales(rig, paths))
+    x, _, _ = scipy_fit(model, [TRUE_DAMPING / 3 / model.scales[0], log.angles_rad[0][0], 0.0])
+    assert res.converged, res.message
+    assert res.values[0] == pytest.approx(x[0] * model.scales[0], rel=1e-5)
