@@ -101,3 +101,23 @@ def test_a_given_start_angle_settles_ten_seconds_by_default():
     force, power, axial, _ = newton([math.pi + 0.3, 0.0], 100)
     assert out["settle_s"] == pytest.approx(10.0, rel=1e-12) and out["state"] == "moving"
     check_cycle(out, force, power, axial)
+    # one event, in the frameless run: the swing decays back inside the "recovered" band
+    # (0.2 rad of hanging, the Scenario default; 1 s stay) when solve_ivp's swing last leaves
+    # 0.2 rad (on a 0.25 ms grid: that close), and never reaches the "fell" band (pi/2)
+    times = np.linspace(0.0, 10.1, 40401)
+    swing = np.abs(scipy_states(bob_data(), [math.pi + 0.3, 0.0], times)[:, 0] - math.pi)
+    last_out = times[np.nonzero(swing > 0.2)[0][-1]]
+    assert swing.max() < math.pi / 2 and 1.0 < last_out < 9.0
+    (event,) = out["events"]
+    assert event["kind"] == "recovered" and abs(event["t_s"] - last_out) < 5e-4
+
+
+def test_a_settle_within_the_last_second_runs_once_from_the_knock():
+    # 1 s settle: 10 whole cycles, all of them the last second (no frameless run first); the
+    # cycle after it against Newton on solve_ivp's motion from the knock, and the run's words
+    # empty as the run succeeded.
+    out = loads(ss.rig_from_dict(bob_data()), equilibrium="hanging", knock_rad_s=1.0,
+                settle_s=1.0, points_per_cycle=POINTS)
+    force, power, axial, _ = newton([math.pi, 1.0], 10)
+    assert out["settle_s"] == 1.0
+    check_cycle(out, force, power, axial)
