@@ -210,7 +210,20 @@ EQUIVALENT.update({
                                  "sets jac = [] before `if jac` reads it",
     _F + "_std_errors__mutmut_24": "cov_ii > 0 for >= 0: the diagonal of the inverse of a "
                                    "positive definite J^T J is strictly positive, never 0.0",
+    _F + "_std_errors__mutmut_13": "the m <= p guard's return as [nan] / p: " + _FEW,
+    _F + "fit_steps__mutmut_253": "gain -2.0 for -1.0 when the predicted decrease is not "
+                                  "positive: gain is read only as gain > 0 and, past that "
+                                  "test, in the damping update; both values fail the test",
+    "shakestill.fit.fitting.xǁ_Modelǁangles__mutmut_32": "the run's reference dropped (the "
+        "Scenario default): it places only the event bands, stop_at_fall is off, and the fit "
+        "reads the frames' absolute angles and success, never the events",
 })
+
+# motion/loads.py, second pass: chain_model=m dropped or None in either run
+_SAME_MODEL = ("simulate() builds `chain_model or model(rig)`: the same model of the same rig "
+               "that loads() passes (a saving, not a number)")
+EQUIVALENT.update({f"shakestill.motion.loads.x_loads__mutmut_{i}": _SAME_MODEL
+                   for i in (91, 94, 114, 117)})
 
 
 def stage(modules: list[str], tests: list[str]) -> None:

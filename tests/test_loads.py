@@ -263,6 +263,10 @@ def test_limit_flags_give_value_margin_and_words():
     assert not flags["max_power_W"]["exceeded"]
     at = loads(tip_rig(0.02, 2400.0, limits={"max_force_N": force}))["flags"][0]
     assert not at["exceeded"] and at["margin_percent"] == 0.0  # at the limit is not over it
+    # the force limit not given: the later limits still flag (A omega^2 as above)
+    later = loads(tip_rig(0.02, 2400.0, limits={"max_accel_m_s2": 600.0}))["flags"]
+    assert [(f["limit"], f["exceeded"]) for f in later] == [("max_accel_m_s2", True)]
+    assert later[0]["value"] == pytest.approx(accel, rel=1e-12)
 
 
 @pytest.mark.parametrize("options, words", [
