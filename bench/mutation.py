@@ -214,6 +214,11 @@ EQUIVALENT.update({
     _F + "fit_steps__mutmut_253": "gain -2.0 for -1.0 when the predicted decrease is not "
                                   "positive: gain is read only as gain > 0 and, past that "
                                   "test, in the damping update; both values fail the test",
+    _F + "_profile__mutmut_13": "table_profile's where=None: it reads `where` only to name a "
+                                "problem, and the log reader has already refused what it "
+                                "checks (times that do not increase, speeds not finite or "
+                                "below 0); the rows are thinned to at most MAX_KNOTS",
+    _F + "_profile__mutmut_16": "where= dropped (its default label): as mutmut_13",
     "shakestill.fit.fitting.xǁ_Modelǁangles__mutmut_32": "the run's reference dropped (the "
         "Scenario default): it places only the event bands, stop_at_fall is off, and the fit "
         "reads the frames' absolute angles and success, never the events",
