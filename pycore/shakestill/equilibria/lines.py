@@ -31,8 +31,11 @@ PEAK_FLOOR = 1e-12  # relative rise that counts as a peak (well above round-off)
 # the ratio matters): Hill's band LU with more than one harmonic per entry of its band, the
 # fixed RK cycle per step. A scan takes the cheaper one (a sine keeps Hill's tridiagonal form).
 # These figures are DOP853's; the 2 x 2 cycle is now floquet's Magnus trace, whose step the
-# chart prices itself (chart_rows.CHART_RK_STEP_US): other scans still price the old cycle
-# (tests/test_scan_settings.py pins these two numbers).
+# chart prices itself (chart_rows.CHART_RK_STEP_US). Other scans keep 12: re-priced 2026-12-05
+# (bench_plan's one-link crank plan, load ~1-2) 6 / 9 / 16 / 24 took 1.01 / 0.97 / 0.67 /
+# 1.53 s against 12's 0.64 s, and a one-link crank check at 9 took 0.039 s against 0.019 s
+# (a scan's cycle also pays its stage accelerations at every new stroke, which the bare
+# step, 1.6-1.7 us against 0.03-0.09 us a band unit, leaves out). test_scan_settings pins both.
 HILL_BAND_US = 0.25
 RK_STEP_US = 12.0
 
