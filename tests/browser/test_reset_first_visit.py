@@ -97,18 +97,15 @@ def use_every_panel(page) -> None:
     page.locator('[data-path="drive.speed_rpm"]').fill("2900 rpm")
     wait_for_result(page, old)
     page.fill("#runup-rate", "40")
-    page.click("#runup-go")
-    page.wait_for_function("() => ['fresh', 'failed'].includes(document.getElementById('runup-result').dataset.state)",
-                           timeout=240_000)
-    page.click("#loads-go")
-    page.wait_for_function("() => document.getElementById('loads-result').dataset.state === 'fresh'",
-                           timeout=240_000)
-    page.click("#fit-sample")
-    page.wait_for_function("() => document.getElementById('fit-log').value.length > 0", timeout=60_000)
     page.fill("#motion-duration", "1")
-    page.click("#motion-run")
-    page.wait_for_function("() => document.getElementById('motion-anim').dataset.state === 'fresh'",
-                           timeout=240_000)
+    # each button, then what shows its work is done
+    for button, done in (("#runup-go", "['fresh', 'failed'].includes($('runup-result').dataset.state)"),
+                         ("#loads-go", "$('loads-result').dataset.state === 'fresh'"),
+                         ("#fit-sample", "$('fit-log').value.length > 0"),
+                         ("#motion-run", "$('motion-anim').dataset.state === 'fresh'")):
+        page.click(button)
+        page.wait_for_function(f"() => {{ const $ = (id) => document.getElementById(id); return {done}; }}",
+                               timeout=240_000)
     page.check('input[name="units"][value="imperial"]')
     page.wait_for_timeout(600)
 
