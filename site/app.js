@@ -94,7 +94,7 @@ const panels = mountPanels($, {
   },
 });
 
-keepPanelInputs(); // after the panels exist: they hear the restored values
+const forgetPanelInputs = keepPanelInputs(); // after the panels exist: they hear the restored values
 wireSaveButtons();
 const follow = followEdits($, { engine, rig, form, report, panels });
 
@@ -131,10 +131,12 @@ window.addEventListener("pagehide", rig.save);
 
 // Automated page tests only (navigator.webdriver is true under Playwright, never for a
 // person): the page as on a first visit to the demo rig, without starting Python again, so a
-// test module boots the engine once (tests/browser/conftest.py `demo_page`). Cleared: storage,
-// the panels' inputs (back to the page's own defaults), open dialogs, the notice, the units,
-// the undo history; then the demo rig is loaded and checked as on a first visit (a map for
-// another rig is redrawn at once, as on a first visit, not after the edit pause).
+// test module boots the engine once (tests/browser/conftest.py `demo_page`). Cleared: storage
+// (and a panel-input save still waiting), the panels' inputs (back to the page's own
+// defaults), open dialogs, the notice, the units, the undo history, every panel's work and
+// output (panels.forget); then the build's demo rig is loaded and checked as on a first visit
+// (a map for another rig is redrawn at once, not after the edit pause).
+// tests/browser/test_reset_first_visit.py compares a reset page with a freshly booted one.
 if (navigator.webdriver) {
   window.shakestillResetForTests = async () => {
     localStorage.clear();
@@ -149,10 +151,13 @@ if (navigator.webdriver) {
       el.dispatchEvent(new Event(el.tagName === "SELECT" || el.type === "radio" || el.type === "checkbox"
         ? "change" : "input", { bubbles: true }));
     }
-    localStorage.clear(); // the panels' inputs just saved themselves again
+    forgetPanelInputs(); // the inputs just set would save themselves again after a pause
+    localStorage.clear(); // and anything they saved at once
     report.pending();
     rig.forget();
+    panels.forget();
+    opening.sayEngineStarted(); // the panels' words put back are those from before the engine
     follow.forgetMap();
-    await opening.loadDemo(false);
+    await opening.loadFirstDemo();
   };
 }

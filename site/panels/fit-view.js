@@ -277,6 +277,11 @@ export function createFitView(els, { engine, getRig, useRig, restoreRig }) {
   });
 
   return {
+    /** As on a first visit (the tests' reset): a running fit stopped, no fit or earlier log kept. */
+    forget() {
+      runner.stop();
+      Object.assign(state, { runKey: "", fitKey: "", appliedKey: "", reply: null, previousLog: null });
+    },
     /** The display units changed: the fitted numbers are written again in them. */
     unitsChanged() {
       const table = els.out.querySelector("table.fit-table");

@@ -96,6 +96,12 @@ export function createLeanView(els, { engine, getRig }) {
   cancelWith(els.cancel, runner, busy, els.out, status, "Cancelled: no lean chart was drawn.");
 
   return {
+    /** As on a first visit (the tests' reset): a drawing under way stopped, no chart kept. */
+    forget() {
+      runner.stop();
+      rigKey = "";
+      shown = null;
+    },
     /** The rig changed: running work stops; a shown chart is of the old rig. */
     rigChanged(rig) {
       if (JSON.stringify(rig) === rigKey) return;

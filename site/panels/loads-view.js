@@ -137,6 +137,12 @@ export function createLoadsView(els, { engine, getRig, getEquilibrium }) {
   els.go.addEventListener("click", run);
 
   return {
+    /** As on a first visit (the tests' reset): no loads on show, a reply under way dropped. */
+    forget() {
+      seq += 1;
+      shownReply = null;
+      rigKey = "";
+    },
     /** The display units changed: loads on show are worked out again in them (the core's
      * plot and words follow the units; a quick op). */
     unitsChanged() {

@@ -387,6 +387,14 @@ export function createMotionView(els, { engine, getRig }) {
   });
 
   return {
+    /** As on a first visit (the tests' reset): work under way stopped, playback paused, no run kept. */
+    forget() {
+      runner.stop();
+      pause();
+      animation.clear();
+      Object.assign(state, { shown: null, pending: null, runKey: "", time: 0, playing: false, last: 0,
+        raf: 0, playheads: [] });
+    },
     /** The rig on the sheet changed: running work stops; a shown run is of the old rig. */
     rigChanged(rig) {
       const key = JSON.stringify(rig);

@@ -10,6 +10,7 @@ import { createMotionView } from "./motion-view.js";
 import { createPlanView } from "./plan-view.js";
 import { createRunupView } from "./runup-view.js";
 import { createToleranceView } from "./tolerance-view.js";
+import { keepPristine } from "../lib/pristine.js";
 
 /**
  * ``page`` gives: engine, getRig(), onPick(point) for a point picked on the map,
@@ -17,6 +18,16 @@ import { createToleranceView } from "./tolerance-view.js";
  * editSpreads(spreads or null) to put the plan's spreads in the rig (an undo step).
  */
 export function mountPanels($, { engine, getRig, onPick, useRig, restoreRig, editSpreads }) {
+  // What the panels write into, as the HTML gives it (for `forget`, the tests' reset). The map
+  // (stability-chart and its table) is the chart's own: a first visit's check redraws it.
+  const restoreOutputs = keepPristine(["plan-spreads-msgs", "plan-status", "plan-progress", "plan-result",
+    "plan-use", "runup-messages", "runup-result", "lean-cancel", "lean-status", "lean-progress", "lean-chart",
+    "motion-angle-msg", "motion-duration-msg", "motion-knock-msg", "motion-ramp-from-msg", "motion-ramp-time-msg",
+    "motion-ramp-rate-msg", "motion-ramp-delay-msg", "motion-status", "motion-progress", "motion-cancel",
+    "motion-anim", "motion-play", "motion-time", "motion-clock", "motion-drive-speed", "motion-events",
+    "motion-plot", "motion-knock-go", "motion-save-csv", "tolerance-cancel", "tolerance-status", "tolerance-progress", "tolerance-result", "basin-map",
+    "loads-result", "fit-log-source", "fit-log-msgs", "fit-status", "fit-progress", "fit-cancel", "fit-result",
+    "fit-apply", "fit-undo", "fit-apply-note", "fit-plot", "fit-go", "plan-go", "plan-cancel"].map($));
   const chart = createChartView({
     holder: $("stability-chart"),
     progress: $("chart-progress"),
@@ -116,6 +127,12 @@ export function mountPanels($, { engine, getRig, onPick, useRig, restoreRig, edi
 
   return {
     chart,
+    /** As on a first visit (automated tests only, see app.js): every panel's work stopped and
+     * forgotten, its output as the HTML gives it. The map is the caller's (follow.forgetMap). */
+    forget() {
+      for (const panel of [plan, runup, motion, tolerance, fit, lean, loads]) panel.forget();
+      restoreOutputs();
+    },
     /** The check's problems: the plan panel shows those of the spreads. */
     problems: (problems) => plan.problems(problems),
     /** Every panel hears of a new rig; the map's own redraw is the caller's to time. */

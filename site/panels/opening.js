@@ -27,6 +27,20 @@ export function createOpening({ engine, rig, report, notice, render, untouched }
     }
   }
 
+  /** The demo rig as a first visit has it (the build's copy in demo-check.json, whose key order
+   * the autosave and a share link keep), then checked; the engine's own copy if that fails. */
+  async function loadFirstDemo() {
+    let cached = null;
+    try {
+      const response = await fetch("demo-check.json");
+      cached = response.ok ? await response.json() : null;
+    } catch {
+      cached = null;
+    }
+    if (cached && cached.rig) rig.use(draftFromRig(cached.rig));
+    else await loadDemo(false);
+  }
+
   async function openFragment(fragment) {
     clearFragment();
     let reply;
@@ -93,6 +107,8 @@ export function createOpening({ engine, rig, report, notice, render, untouched }
 
   return {
     loadDemo,
+    loadFirstDemo,
+    sayEngineStarted,
     /** Before the engine: the cached verdict, or the link's rig previewed. */
     start() {
       showCachedVerdict();

@@ -224,6 +224,13 @@ export function createPlanView(els, { engine, getRig, editSpreads, onPick, chart
   });
 
   return {
+    /** As on a first visit (the tests' reset): a plan under way stopped, none kept. */
+    forget() {
+      runner.stop();
+      result = null;
+      shownReply = null;
+      key = "";
+    },
     /** A new rig on the sheet: its spreads into the box (unless being typed), the plan kept
      * only while it is for this rig. */
     rigChanged(rig) {

@@ -123,6 +123,12 @@ export function createRunupView(els, { engine, getRig }) {
   });
 
   return {
+    /** As on a first visit (the tests' reset): no run-up on show, a reply under way dropped. */
+    forget() {
+      seq += 1;
+      shown = null;
+      rigKey = "";
+    },
     /** The display units changed: the run-up on show is written again in them. */
     unitsChanged() {
       if (!shown) return;

@@ -131,6 +131,13 @@ export function createToleranceView(els, { engine, getRig }) {
   cancelWith(els.cancel, runner, busy, els.basin, status, "Cancelled: what is shown is what was finished.");
 
   return {
+    /** As on a first visit (the tests' reset): work under way stopped, no result or map kept. */
+    forget() {
+      runner.stop();
+      result = null;
+      rigKey = "";
+      basin = null;
+    },
     /** The rig changed: running work stops; shown numbers are of the old rig. */
     rigChanged(rig) {
       const key = JSON.stringify(rig);

@@ -14,7 +14,8 @@ function read(el) {
   return el.type === "radio" || el.type === "checkbox" ? el.checked : el.value;
 }
 
-/** Restore the kept values (telling each panel as if the user had set them), then keep them. */
+/** Restore the kept values (telling each panel as if the user had set them), then keep them.
+ * Returns `forget()`, which drops a save still waiting (the tests' reset, see app.js). */
 export function keepPanelInputs(root = document) {
   const controls = () => [...root.querySelectorAll("[data-keep]")];
   const kept = panelInputs.load();
@@ -37,4 +38,5 @@ export function keepPanelInputs(root = document) {
   };
   root.addEventListener("input", (event) => { if (event.target.closest("[data-keep]")) save(); });
   root.addEventListener("change", (event) => { if (event.target.closest("[data-keep]")) save(); });
+  return () => clearTimeout(timer);
 }

@@ -3,11 +3,11 @@ Chromium driven by Playwright (never a downloaded browser), every request the
 browser makes recorded, and screenshots saved to test-artifacts/.
 
 Booting Pyodide is the slow part of a page test, so most tests take `demo_page`: one page per
-test module (booted once, at a laptop viewport) reset before each test to a first visit of the
-demo rig (`pagekit.reset_page`: storage, panel inputs, dialogs, notice, units and undo history
-cleared, the demo checked again) without starting the engine again. `booted(viewport, **options)`
-does the same for other context options (a tablet with touch, a phone), one page per module and
-set of options (BootedPages). A test that needs a cold boot (start-up states, the cached verdict
+worker (booted once, at a laptop viewport) reset before each test to a first visit of the
+demo rig (`pagekit.reset_page`: storage, panel inputs, every panel's work and output, dialogs,
+notice, units and undo history cleared, the build's demo checked again) without starting the
+engine again. `booted(viewport, **options)` does the same for other context options (a tablet
+with touch, a phone), one page per worker and set of options (BootedPages). A test that needs a cold boot (start-up states, the cached verdict
 before the engine, a restored snapshot, a link opened on a fresh page, the offline file, a page
 reloaded) takes `page` or `new_context` and says why beside it.
 
@@ -138,7 +138,7 @@ def page(context):
 
 
 class BootedPages:
-    """Booted pages kept for a test module, one per set of context
+    """Booted pages kept for a test session (one xdist worker), one per set of context
     options (viewport, touch, colour scheme, ...), the least recently used closed beyond
     `KEEP`. `take` hands one out as on a first visit to the demo rig with its check done:
     reset (pagekit.reset_page) if a test had it before, its viewport and media as its context
@@ -182,10 +182,12 @@ class BootedPages:
             page.context.close()
 
 
-@pytest.fixture(scope="module")
+@pytest.fixture(scope="session")
 def booted_pages(browser, server):
-    # Per module, not per session: a reset leaves the panels' drawn results (see
-    # pagekit.reset_page), so a module shares its pages only among its own tests.
+    # One set per worker, shared across modules: the reset returns a page to a first visit,
+    # panels' work and output included, as test_reset_first_visit.py checks against a page
+    # booted afresh. What a test adds to the page object itself (a listener, a route) is not
+    # undone: a test that adds one takes `page` or closes what it added.
     pages = BootedPages(browser, server)
     yield pages
     pages.close()
