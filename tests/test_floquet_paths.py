@@ -225,18 +225,30 @@ def test_chain_margin_is_the_log_of_the_largest_multiplier(damping):
 
 
 def test_step_settings_reach_the_step_count():
-    # Hand rule of default_steps: at least min_steps, and (rate x step) = step_phase, so a
-    # tenth of the phase asks for about ten times the steps (ceil: within 10).
+    # Hand rule of chain_steps (the chain's Taylor cycle): (rate x period + 2 pi) / steps =
+    # cycle_phase, the rate sqrt((g + A w^2) max|eig M^-1 K|) + max|eig M^-1 D| (numpy),
+    # so a tenth of the phase asks for ten times the steps (ceil: within 1 and 10); the sine
+    # drive's series then holds at any count this fine; an explicit step count is taken as is.
+    from shakestill.equilibria.cycle import CYCLE_MIN_STEPS
     data = ss.rig_from_dict(two_links((2e-4, 1e-4)))
+    lin = ss.linearise(data, "inverted")
+    m_inv = np.linalg.inv(np.array(lin.M))
+    d = data.drive
+    omega = 2 * math.pi * d.speed_rpm / 60
+    rate = math.sqrt((data.g_m_s2 + d.stroke_m / 2 * omega ** 2) *
+                     max(abs(np.linalg.eigvals(m_inv @ np.array(lin.K)))))
+    rate += max(abs(np.linalg.eigvals(m_inv @ np.array(lin.D))))
+    cycle = math.ceil(rate / (d.speed_rpm / 60))  # default_steps' ceil of the rate per cycle
     at = {}
-    for phase, least in ((0.2, 200), (0.2, 4), (0.02, 4)):
-        res = ss.stability(data, "inverted", settings=Settings(step_phase=phase, min_steps=least),
-                           verify=False)
-        at[phase, least] = res.work["steps"]
+    for phase in (1.0, 0.1):
+        res = ss.stability(data, "inverted", settings=Settings(cycle_phase=phase), verify=False)
+        at[phase] = res.work["steps"]
+        assert at[phase] == max(CYCLE_MIN_STEPS, math.ceil((cycle + 2 * math.pi) / phase))
         # no refinement asked: nothing measured, nothing to report (documented defaults)
         assert (res.error_estimate, res.converged, res.message) == (0.0, True, "")
-    assert at[0.2, 200] == 200
-    assert abs(at[0.02, 4] - 10 * at[0.2, 4]) <= 10 and at[0.2, 4] > 4
+    assert abs(at[0.1] - 10 * at[1.0]) <= 10
+    res = ss.stability(data, "inverted", settings=Settings(steps=200), verify=False)
+    assert res.work["steps"] == 200
 
 
 def test_one_harmonic_with_a_phase_is_mathieus():

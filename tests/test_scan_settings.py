@@ -19,8 +19,8 @@ from scipy.special import mathieu_a, mathieu_b
 
 import refsolvers as ref
 import shakestill as ss
-from shakestill.equilibria.floquet import (Settings, default_steps, hill_form, mode_forms,
-                                            modes_decouple)
+from shakestill.equilibria.cycle import CYCLE_MIN_STEPS, chain_steps
+from shakestill.equilibria.floquet import Settings, hill_form, mode_forms, modes_decouple
 from shakestill.equilibria.lines import Probe, scan_settings, walk
 from shakestill.equilibria.windows import window
 from shakestill.model.derived import as_model
@@ -223,9 +223,9 @@ def test_speed_points_step_a_tongue_spacing_or_four_percent():
 
 
 def test_a_probe_counts_and_caps_its_work(monkeypatch):
-    # Probe refuses past MAX_EVALUATIONS evaluations and MAX_RK_STEPS Runge-Kutta steps on one
-    # line (equilibria/reach.py), with words naming the cap; caps lowered here so that a
-    # few calls reach them. The steps are the RK monodromy's, as each evaluation reports them.
+    # Probe refuses past MAX_EVALUATIONS evaluations and MAX_CYCLE_STEPS integration steps on
+    # one line (equilibria/reach.py), with words naming the cap; caps lowered here so that a
+    # few calls reach them. The steps are the Taylor cycle's, as each evaluation reports them.
     from shakestill.equilibria import lines
     from shakestill.model.rig import OutOfReach
     damped = as_model(ss.rig_from_dict(ref.rig(TWO, ref.sine(0.024, 2700.0), limits=LIMITS)))
@@ -237,9 +237,9 @@ def test_a_probe_counts_and_caps_its_work(monkeypatch):
     monkeypatch.setattr(lines, "MAX_EVALUATIONS", 3)
     probe = probe_of(damped)
     steps = [probe(v).work["steps"] for v in (2700.0, 2800.0, 2900.0)]
-    assert probe.count == 3 and probe.steps == sum(steps) and min(steps) >= 24  # MIN_STEPS
+    assert probe.count == 3 and probe.steps == sum(steps) and min(steps) >= CYCLE_MIN_STEPS
     # a scan point is one monodromy at the steps its own rates ask for (no refinement pass)
-    assert steps == [default_steps(damped.at(speed_rpm=v), "inverted")
+    assert steps == [chain_steps(damped.at(speed_rpm=v), "inverted")
                      for v in (2700.0, 2800.0, 2900.0)]
     with pytest.raises(OutOfReach) as info:
         probe(3000.0)
@@ -247,7 +247,7 @@ def test_a_probe_counts_and_caps_its_work(monkeypatch):
         ("limits", "outside what this method can resolve: the scan needed more than 3 "
                    "stability evaluations")]
     monkeypatch.setattr(lines, "MAX_EVALUATIONS", 6000)
-    monkeypatch.setattr(lines, "MAX_RK_STEPS", 3 * steps[0])
+    monkeypatch.setattr(lines, "MAX_CYCLE_STEPS", 3 * steps[0])
     probe = probe_of(damped)
     for _ in range(3):
         probe(2700.0)  # 3 x steps[0]: at the cap, not past it
@@ -255,9 +255,9 @@ def test_a_probe_counts_and_caps_its_work(monkeypatch):
         probe(2700.0)
     assert [(p.path, p.message) for p in info.value.problems] == [
         ("limits", "outside what this method can resolve: the scan needed more than "
-                   f"{3 * steps[0]} Runge-Kutta steps of the monodromy")]
+                   f"{3 * steps[0]} integration steps of the monodromy")]
     # Hill's determinant takes no RK steps: a one-link sine scan never meets the step cap
-    monkeypatch.setattr(lines, "MAX_RK_STEPS", 0)
+    monkeypatch.setattr(lines, "MAX_CYCLE_STEPS", 0)
     one = as_model(ss.rig_from_dict(ref.rig(ONE, ref.sine(0.024, 2700.0), limits=LIMITS)))
     probe = probe_of(one)
     assert all(probe(v).stable in (True, False) for v in (2700.0, 2800.0, 2900.0))

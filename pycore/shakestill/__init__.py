@@ -10,7 +10,8 @@ from .motion.lean import check  # the vertical check unless the drive is off ver
 from .model.demo import demo_rig, demo_rig_dict
 from .model.drive import PivotState, harmonics, peak_accel_m_s2, pivot
 from .equilibria.estimates import effective_potential_J, estimates
-from .equilibria.floquet import Settings, Stability, monodromy, stability
+from .equilibria.cycle import monodromy
+from .equilibria.floquet import Settings, Stability, stability
 from .model.linear import chain, linearise
 from .model.properties import properties
 from .model.rig import Drive, Limits, Link, PointMass, Problem, Rig, RigError, with_operating_point

@@ -38,6 +38,11 @@ CHART_HARMONIC_STEPS = 1
 # against 0.04-0.06 us a band unit, i.e. 1.25 : 0.05 = 6.25 : 0.25 (in whole crank charts
 # 6.25 beat 9.4 by 30%: wider bands cost more a unit).
 CHART_RK_STEP_US = 6.25
+# The chain's Taylor steps of chart points (cycle.chain_steps): multipliers to ~5e-9
+# relative of max(1, |rho|) against solve_ivp on two- and three-link sine and crank drives,
+# a shorter rod too, where the check's settings give ~1e-10 (measured 2026-12-05)
+CHART_CYCLE_PHASE = 1.4
+CHART_DRIVE_TOLERANCE = 1e-7
 @dataclass(frozen=True)
 class Row:
     """One row of the chart: its y value, stroke per speed, and each equilibrium's edges."""
@@ -103,7 +108,8 @@ def chart_settings(model: Model, eq: str, corners: list[Model], modal=None):
     """The chart's scan settings for a line between ``corners`` (its RK steps above)."""
     return scan_settings(model, eq, corners, step_phase=CHART_STEP_PHASE,
                          min_steps=CHART_MIN_STEPS, per_harmonic=CHART_HARMONIC_STEPS,
-                         modal=modal, step_us=CHART_RK_STEP_US)
+                         modal=modal, step_us=CHART_RK_STEP_US, cycle_phase=CHART_CYCLE_PHASE,
+                         drive_tolerance=CHART_DRIVE_TOLERANCE)
 
 
 def row_settings(model: Model, point, lo: float, hi: float, eq: str, modal=None):

@@ -1,8 +1,9 @@
 """Floquet stability of the inverted and hanging equilibria at one operating point.
 
 One link: Hill's determinant (module ``hill``) after removing the viscous
-damping by q = exp(-gamma t) u, gamma = c / (2 J). Several links: the
-one-cycle fundamental matrix by fixed-step 8th-order Runge-Kutta (``rk``),
+damping by q = exp(-gamma t) u, gamma = c / (2 J). Several links: each sway
+mode's where the modes are the chain exactly, else the chain's one-cycle
+monodromy by the Taylor-series cycle in its sway-mode coordinates (``cycle``),
 then its eigenvalues. Both check their own truncation at run time and say
 in the result when it was not met.
 """
@@ -12,24 +13,19 @@ from __future__ import annotations
 import cmath
 import math
 from dataclasses import dataclass, field
-from functools import lru_cache
 
-from ..model import drive as drv
 from ..numerics.hill import default_truncation, hill_trace, multipliers_from_trace
 from ..numerics.linalg import eigvals
 from ..numerics.magnus import GAUSS_NODES
 from ..numerics.magnus import hill_trace as magnus_trace
 from ..model.derived import Model, as_model
-from ..model.linear import EQUILIBRIA
 from ..model.rig import OutOfReach, Problem, Rig
-from ..numerics.rk import STAGE_NODES, fundamental_matrix
+from .cycle import (CYCLE_PHASE, DRIVE_SERIES_TOLERANCE, HARMONIC_STEPS, MAX_STEPS, MIN_STEPS,
+                    STEP_PHASE, chain_steps, check_equilibrium, default_steps, drive_nodes,
+                    modal_monodromy, operating)
 
 UNDAMPED_TOLERANCE = 1e-9  # |rho| <= 1 + this counts as on the unit circle (undamped)
 CONVERGENCE_TOLERANCE = 1e-8  # accepted change of the multipliers under refinement
-MIN_STEPS = 24  # RK steps per cycle, never fewer
-STEP_PHASE = 0.2  # target of (fastest linear rate) x (step) for the 8th-order step
-MAX_STEPS = 4000  # a cycle finer than this is not worth it: report non-convergence
-HARMONIC_STEPS = 2  # RK steps per drive harmonic, at least
 # Magnus steps (sixth order) per DOP853 step (eighth) of a 2 x 2 trace: at the chart's crank
 # steps one each left traces ~2e-8 to 9e-8 from solve_ivp's, 1.5 each ~1e-9 to 5e-9 (2026-12-04)
 MAGNUS_STEP_RATIO = 1.5
@@ -78,6 +74,8 @@ class Settings:
     step_phase: float = STEP_PHASE  # RK steps chosen per point: see default_steps
     min_steps: int = MIN_STEPS
     per_harmonic: float = HARMONIC_STEPS
+    cycle_phase: float = CYCLE_PHASE  # the chain's Taylor steps chosen per point: see
+    drive_tolerance: float = DRIVE_SERIES_TOLERANCE  # chain_steps
 
 
 def modes_decouple(model: Rig | Model) -> bool:
@@ -85,19 +83,6 @@ def modes_decouple(model: Rig | Model) -> bool:
     coupling is at round-off (Acheson 1993); then each mode's Hill determinant is exact."""
     m = as_model(model)
     return not m.damped or m.modes.coupling <= DECOUPLED
-
-
-def _check_equilibrium(equilibrium: str) -> None:
-    if equilibrium not in EQUILIBRIA:
-        raise ValueError(f"equilibrium: {equilibrium!r} is not one of {EQUILIBRIA}")
-
-
-def _operating(m: Model, speed_rpm, stroke_m) -> Model:
-    if speed_rpm is not None and not (speed_rpm > 0 and math.isfinite(speed_rpm)):
-        raise ValueError(f"speed_rpm: {speed_rpm!r} must be a finite number above 0")
-    if stroke_m is not None and not (stroke_m >= 0 and math.isfinite(stroke_m)):
-        raise ValueError(f"stroke_m: {stroke_m!r} must be a finite number of at least 0")
-    return m.at(speed_rpm, stroke_m)
 
 
 def _summarise(m: Model, equilibrium: str, rhos, margin: float, method: str, **extra):
@@ -227,7 +212,7 @@ def _rk_trace_stability(m: Model, equilibrium: str, settings: Settings, *,
     else:
         lin = m.of(equilibrium).linear
         forms = [(lin.K[0][0] / lin.M[0][0], lin.D[0][0] / lin.M[0][0])]
-    accel, w2, g = _cycle(m.rig, steps, GAUSS_NODES)
+    accel, w2, g = drive_nodes(m.rig, steps, GAUSS_NODES)
     period = 1.0 / m.rig.drive.frequency_hz
     margins, rhos = [], []
     for kappa, c in forms:
@@ -244,75 +229,10 @@ def _rk_trace_stability(m: Model, equilibrium: str, settings: Settings, *,
 # ----------------------------------------------------------------------------- several links
 
 
-def default_steps(model: Rig | Model, equilibrium: str, *, step_phase: float = STEP_PHASE,
-                  min_steps: int = MIN_STEPS, per_harmonic: float = HARMONIC_STEPS) -> int:
-    """Steps per cycle from the fastest rate of the linear system over the cycle:
-    (rate) x (step) = ``step_phase``, at least ``min_steps`` and ``per_harmonic`` per drive
-    harmonic.
-
-    The rate is sqrt(G_peak * |eig B|) + |eig C|; the crank's peak acceleration is taken
-    at top dead centre, r omega^2 (1 + r/l), which is close enough to choose a step.
-    """
-    m = as_model(model)
-    rig, eq = m.rig, m.of(equilibrium)
-    d = rig.drive
-    omega = 2 * math.pi * d.frequency_hz
-    if d.waveform == "crank":
-        r = d.stroke_m / 2
-        peak = r * (1 + r / d.rod_length_m) * omega ** 2
-    else:
-        peak = drv.peak_accel_m_s2(d)
-    rate = math.sqrt((rig.g_m_s2 + peak) * eq.stiffness_rate) + eq.damping_rate
-    harmonics = m.harmonics.count
-    steps = math.ceil(rate / d.frequency_hz / step_phase)
-    return min(MAX_STEPS, max(min_steps, math.ceil(per_harmonic * harmonics), steps))
-
-
 def _steps(m: Model, equilibrium: str, settings: Settings) -> int:
     return settings.steps or default_steps(m, equilibrium, step_phase=settings.step_phase,
                                            min_steps=settings.min_steps,
                                            per_harmonic=settings.per_harmonic)
-
-
-def _G_nodes(rig: Rig, steps: int) -> list[float]:
-    """G = g + y_p'' at the RK stages of every step, step-major."""
-    nodes, w2, g = _cycle(rig, steps, STAGE_NODES)
-    return [g + w2 * a for a in nodes]
-
-
-def _cycle(rig: Rig, steps: int, stages: tuple[float, ...]):
-    """(d2y/dphi2 at ``stages`` (fractions of a step) of every step, omega^2, g): G = g +
-    omega^2 d2y/dphi2 there."""
-    d = rig.drive
-    omega = 2 * math.pi * d.frequency_hz
-    nodes = _phase_accel_nodes(d.waveform, d.stroke_m, d.rod_length_m, d.samples_m,
-                               d.samples_stroke_m, steps, stages)
-    return nodes, omega * omega, rig.g_m_s2
-
-
-@lru_cache(maxsize=256)
-def _phase_accel_nodes(waveform, stroke_m, rod_length_m, samples_m, samples_stroke_m,
-                       steps: int, stages: tuple[float, ...]) -> tuple[float, ...]:
-    """d2y/dphi2 at every stage phase: the shape of the cycle, the same at every speed,
-    so a scan along speed at one stroke computes it once."""
-    shape = drv.Drive(waveform, 1.0, stroke_m, rod_length_m, samples_m, samples_stroke_m)
-    dphi = 2 * math.pi / steps
-    return tuple(drv.phase_accel_m(shape, (s + c) * dphi) for s in range(steps) for c in stages)
-
-
-def monodromy(rig: Rig | Model, equilibrium: str, speed_rpm: float | None = None,
-              stroke_m: float | None = None, *, steps: int | None = None):
-    """The one-cycle monodromy matrix (2N x 2N) for the state (q, q'), as tuples."""
-    _check_equilibrium(equilibrium)
-    m = _operating(as_model(rig), speed_rpm, stroke_m)
-    return tuple(tuple(row) for row in _monodromy(m, equilibrium, steps or
-                                                  default_steps(m, equilibrium)))
-
-
-def _monodromy(m: Model, equilibrium: str, steps: int):
-    eq = m.of(equilibrium)
-    return fundamental_matrix(eq.B, eq.C, _G_nodes(m.rig, steps), 1.0 / m.rig.drive.frequency_hz,
-                              steps)
 
 
 def _multi_margin(m: Model, rhos) -> float:
@@ -324,12 +244,13 @@ def _multi_margin(m: Model, rhos) -> float:
 
 
 def _rk_stability(m: Model, equilibrium: str, settings: Settings, verify: bool) -> Stability:
-    n = _steps(m, equilibrium, settings)
-    rhos = eigvals(_monodromy(m, equilibrium, n))
+    n = settings.steps or chain_steps(m, equilibrium, cycle_phase=settings.cycle_phase,
+                                      drive_tolerance=settings.drive_tolerance)
+    rhos = eigvals(modal_monodromy(m, equilibrium, n))
     error, converged, message = 0.0, True, ""
     if verify:
         finer_n = min(MAX_STEPS * 2, n + max(8, n // 2))
-        finer = eigvals(_monodromy(m, equilibrium, finer_n))
+        finer = eigvals(modal_monodromy(m, equilibrium, finer_n))
         error = _set_distance(rhos, finer)
         scale = max(1.0, max(abs(r) for r in finer))
         converged = error <= CONVERGENCE_TOLERANCE * scale
@@ -364,8 +285,8 @@ def stability(rig: Rig | Model, equilibrium: str, speed_rpm: float | None = None
     verify : bool
         Refine once and report the change as ``error_estimate`` / ``converged``.
     """
-    _check_equilibrium(equilibrium)
-    m = _operating(as_model(rig), speed_rpm, stroke_m)
+    check_equilibrium(equilibrium)
+    m = operating(as_model(rig), speed_rpm, stroke_m)
     rig = m.rig
     settings = settings or Settings()
     if settings.method not in (None, "hill", "monodromy", "modal"):

@@ -14,13 +14,14 @@ import math
 from dataclasses import dataclass
 from typing import Callable, Iterator
 
-from .floquet import (HARMONIC_STEPS, MIN_STEPS, STEP_PHASE, Settings, Stability,
-                      default_steps, hill_form, mode_forms, modes_decouple, stability)
+from .cycle import (CYCLE_PHASE, DRIVE_SERIES_TOLERANCE, HARMONIC_STEPS, MIN_STEPS, STEP_PHASE,
+                    default_steps)
+from .floquet import Settings, Stability, hill_form, mode_forms, modes_decouple, stability
 from ..numerics.hill import default_truncation, needed_harmonics
 from ..model.derived import Model, as_model
 from ..model.rig import Rig
 from ..numerics.roots import brentq, golden_max
-from .reach import MAX_EVALUATIONS, MAX_RK_STEPS, too_much_work
+from .reach import MAX_CYCLE_STEPS, MAX_EVALUATIONS, too_much_work
 
 EDGE_RTOL = 1e-10  # edges to this relative precision
 PHASE_STEP = 0.08  # scan spacing in sqrt(|theta0|) ~ 2 f0 / f (tongue n sits near n)
@@ -51,18 +52,21 @@ class Edge:
 def scan_settings(model: Model, equilibrium: str, corners: list[Model], *,
                   step_phase: float = STEP_PHASE, min_steps: int = MIN_STEPS,
                   per_harmonic: float = HARMONIC_STEPS, modal: bool | None = None,
-                  step_us: float = RK_STEP_US) -> Settings:
+                  step_us: float = RK_STEP_US, cycle_phase: float = CYCLE_PHASE,
+                  drive_tolerance: float = DRIVE_SERIES_TOLERANCE) -> Settings:
     """Numerical settings good enough at every corner of a scan: Hill rows and harmonics
     (one link, or each sway mode of several), or fixed RK steps. Several links are taken by
     their modes where that is exact (``modes_decouple``), or where ``modal`` asks for it as
     a predictor; else RK steps are chosen at each point from its own rates. ``step_phase``,
     ``min_steps`` and ``per_harmonic`` size the RK steps (see default_steps); ``step_us``
-    prices one of them against Hill's band (HILL_BAND_US)."""
+    prices one of them against Hill's band (HILL_BAND_US); ``cycle_phase`` and
+    ``drive_tolerance`` size the chain's Taylor steps (see chain_steps)."""
     several = model.rig.n_links > 1
     if modal is None:
         modal = several and modes_decouple(model)
     if several and not modal:
-        return Settings(step_phase=step_phase, min_steps=min_steps, per_harmonic=per_harmonic)
+        return Settings(step_phase=step_phase, min_steps=min_steps, per_harmonic=per_harmonic,
+                        cycle_phase=cycle_phase, drive_tolerance=drive_tolerance)
     forms = [f for c in corners
              for f in (mode_forms(c, equilibrium) if several else (hill_form(c, equilibrium),))]
     steps = None
@@ -106,7 +110,7 @@ class Probe:
         self.model, self.equilibrium, self.point = model, equilibrium, point
         self.settings = settings
         self.count = 0
-        self.steps = 0  # Runge-Kutta steps of the monodromies taken on this line
+        self.steps = 0  # integration steps of the monodromies taken on this line
 
     def __call__(self, x: float) -> Stability:
         self.count += 1
@@ -116,8 +120,8 @@ class Probe:
         s = stability(self.model, self.equilibrium, speed_rpm=speed, stroke_m=stroke,
                       settings=self.settings, verify=False)
         self.steps += s.work.get("steps", 0)
-        if self.steps > MAX_RK_STEPS:
-            raise too_much_work("limits", f"{MAX_RK_STEPS} Runge-Kutta steps of the monodromy")
+        if self.steps > MAX_CYCLE_STEPS:
+            raise too_much_work("limits", f"{MAX_CYCLE_STEPS} integration steps of the monodromy")
         return s
 
 

@@ -18,7 +18,7 @@ MAX_SPEED_RPM = REACH["speed"][1]  # the fastest drive the scans go to (the rig 
 MAX_TONGUE_ORDER = 50  # tongues a speed scan steps through below the drive, at most
 MAX_EVALUATIONS = 6000  # stability evaluations on one scan line (a rig inside the reach
 # needs a few hundred; this bounds a line of Hill's determinants to seconds)
-MAX_RK_STEPS = 40_000  # Runge-Kutta steps of the monodromies on one scan line: under a
+MAX_CYCLE_STEPS = 40_000  # integration steps of the monodromies on one scan line: under a
 # second for two links; an ordinary two- or three-link window needs about 2,000, while a rig
 # with joint dampers 10,000 times the demo's takes 4,000 a monodromy and minutes a check
 

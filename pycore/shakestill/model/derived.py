@@ -33,6 +33,10 @@ class EquilibriumModel:
     C: Matrix  # M^-1 D
     stiffness_rate: float  # max |eig B|: the fastest stiffness rate per unit of g + y_p''
     damping_rate: float  # max |eig C| (0 without dampers)
+    # The sway-mode coordinates q = X z (X^T M X = I): z'' + X^T D X z' + G diag(kappa) z = 0
+    modal_basis: Matrix = ()  # X, a mode per column
+    modal_stiffness: tuple[float, ...] = ()  # kappa = diag(X^T K X)
+    modal_damping: Matrix = ()  # X^T D X
 
 
 @dataclass(frozen=True)
@@ -79,7 +83,12 @@ def _equilibrium(ch: Chain, name: str, sway: Modes, damped: bool) -> Equilibrium
     # Jacobi, which converge for any scale of numbers (general QR failed at 2e-226 N m s).
     stiff = 1.0 / min(sway.lengths_m)
     damp = max(abs(v) for v in generalized_eigh(lin.D, lin.M)[0]) if damped else 0.0
-    return EquilibriumModel(lin, _freeze(B), _freeze(C), stiff, damp)
+    kappa, X = generalized_eigh([list(r) for r in lin.K], [list(r) for r in lin.M])
+    n = len(kappa)
+    modal_d = [[sum(X[a][i] * lin.D[a][b] * X[b][j] for a in range(n) for b in range(n))
+                for j in range(n)] for i in range(n)]
+    return EquilibriumModel(lin, _freeze(B), _freeze(C), stiff, damp, _freeze(X),
+                            tuple(float(k) for k in kappa), _freeze(modal_d))
 
 
 def derive(rig: Rig) -> Model:

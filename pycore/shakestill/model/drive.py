@@ -91,6 +91,93 @@ def phase_derivatives(drive: Drive, phi: float) -> tuple[float, float, float]:
     return y, dy, d2y
 
 
+def accel_series(drive: Drive, steps: int, terms: int) -> tuple[float, ...]:
+    """d2y/dphi2 over ``steps`` equal phase steps as Taylor series, scaled for a step:
+    sigma_j = dphi^(j+2) (d^(j+2) y / dphi^(j+2))(phi0) / j! for j < ``terms`` at each step's
+    start phi0 = k dphi (dphi = 2 pi / steps), step-major.
+
+    Times omega^2 over omega^2 this is the time series of y_p'' scaled by h^(j+2) (omega h =
+    dphi), the same at every speed, so a scan along speed at one stroke computes it once.
+    """
+    return _accel_series(drive.waveform, drive.stroke_m, drive.rod_length_m, drive.samples_m,
+                         drive.samples_stroke_m, steps, terms)
+
+
+def accel_series_error(drive: Drive, steps: int, terms: int) -> float:
+    """How far ``accel_series`` strays from the exact d2y/dphi2 within a step: the largest
+    difference at a half and a whole step, over every step, relative to the largest value
+    there (the peak, to within the sampling)."""
+    return _accel_series_error(drive.waveform, drive.stroke_m, drive.rod_length_m,
+                               drive.samples_m, drive.samples_stroke_m, steps, terms)
+
+
+@lru_cache(maxsize=1024)
+def _accel_series(waveform, stroke_m, rod_length_m, samples_m, samples_stroke_m, steps: int,
+                  terms: int) -> tuple[float, ...]:
+    shape = Drive(waveform, 1.0, stroke_m, rod_length_m, samples_m, samples_stroke_m)
+    dphi = TWO_PI / steps
+    out: list[float] = []
+    for k in range(steps):
+        y = _position_series(shape, k * dphi, dphi, terms + 2)
+        out.extend((j + 1) * (j + 2) * y[j + 2] for j in range(terms))
+    return tuple(out)
+
+
+@lru_cache(maxsize=1024)
+def _accel_series_error(waveform, stroke_m, rod_length_m, samples_m, samples_stroke_m,
+                        steps: int, terms: int) -> float:
+    shape = Drive(waveform, 1.0, stroke_m, rod_length_m, samples_m, samples_stroke_m)
+    series = _accel_series(waveform, stroke_m, rod_length_m, samples_m, samples_stroke_m,
+                           steps, terms)
+    dphi = TWO_PI / steps
+    worst = peak = 0.0
+    for k in range(steps):
+        coefficients = series[k * terms:(k + 1) * terms]
+        for tau in (0.5, 1.0):
+            value = sum(c * tau ** j for j, c in enumerate(coefficients))
+            exact = dphi * dphi * phase_accel_m(shape, (k + tau) * dphi)
+            worst, peak = max(worst, abs(value - exact)), max(peak, abs(exact))
+    return worst / peak if peak > 0 else 0.0
+
+
+def _position_series(drive: Drive, phi0: float, dphi: float, count: int) -> list[float]:
+    """Y_j, j < count: y(phi0 + tau dphi) = sum_j Y_j tau^j (Taylor coefficients in tau)."""
+    if drive.waveform == "crank":
+        return _crank_series(drive.stroke_m / 2.0, drive.rod_length_m, phi0, dphi, count)
+    if drive.waveform == "sine":
+        mean, cos_c, sin_c = 0.0, [drive.stroke_m / 2.0], [0.0]
+    else:
+        mean, cos_c, sin_c = _samples_series(drive)
+    y = [mean] + [0.0] * (count - 1)
+    for k, (a, b) in enumerate(zip(cos_c, sin_c), start=1):
+        scale = 1.0  # (k dphi)^j / j!
+        for j in range(count):
+            angle = k * phi0 + j * math.pi / 2.0
+            y[j] += scale * (a * math.cos(angle) + b * math.sin(angle))
+            scale *= k * dphi / (j + 1)
+    return y
+
+
+def _crank_series(r: float, rod: float, phi0: float, dphi: float, count: int) -> list[float]:
+    """The slider-crank's y = r cos phi + sqrt(l^2 - r^2 sin^2 phi) - l as a series in tau:
+    cos and sin by their derivatives, the square by a Cauchy product and the root by the
+    series square-root recurrence W_n = (U_n - sum_{0<k<n} W_k W_{n-k}) / (2 W_0)."""
+    cos_s, sin_s, scale = [], [], 1.0
+    for j in range(count):
+        angle = phi0 + j * math.pi / 2.0
+        cos_s.append(scale * math.cos(angle))
+        sin_s.append(scale * math.sin(angle))
+        scale *= dphi / (j + 1)
+    under = [-r * r * sum(sin_s[k] * sin_s[j - k] for k in range(j + 1)) for j in range(count)]
+    under[0] += rod * rod
+    root = [math.sqrt(under[0])]
+    for j in range(1, count):
+        root.append((under[j] - sum(root[k] * root[j - k] for k in range(1, j))) / (2.0 * root[0]))
+    y = [r * c + w for c, w in zip(cos_s, root)]
+    y[0] -= rod
+    return y
+
+
 def pivot(drive: Drive, phase_rad: float, speed_rpm: float | None = None) -> PivotState:
     """Pivot displacement, velocity and acceleration at a drive phase."""
     omega = TWO_PI * (drive.speed_rpm if speed_rpm is None else speed_rpm) / 60.0

@@ -28,7 +28,8 @@ import cmath
 import math
 from dataclasses import dataclass, replace
 
-from ..equilibria.floquet import UNDAMPED_TOLERANCE, default_steps
+from ..equilibria.cycle import default_steps
+from ..equilibria.floquet import UNDAMPED_TOLERANCE
 from ..model.linear import EQUILIBRIA
 from ..model.rig import Rig
 from ..numerics.linalg import eigvals, solve
