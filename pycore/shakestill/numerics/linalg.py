@@ -42,24 +42,3 @@ def inverse(a: Matrix) -> Matrix:
 def solve(a: Matrix, b: list[float]) -> list[float]:
     inv = inverse(a)
     return [sum(x * y for x, y in zip(row, b)) for row in inv]
-
-
-def det(a: Matrix) -> float:
-    """Determinant by elimination with partial pivoting."""
-    n = len(a)
-    m = [list(map(float, row)) for row in a]
-    d = 1.0
-    for col in range(n):
-        piv = max(range(col, n), key=lambda r: abs(m[r][col]))
-        if m[piv][col] == 0.0:
-            return 0.0
-        if piv != col:
-            m[col], m[piv] = m[piv], m[col]
-            d = -d
-        p = m[col][col]
-        d *= p
-        for r in range(col + 1, n):
-            f = m[r][col] / p
-            if f:
-                m[r] = [x - f * y for x, y in zip(m[r], m[col])]
-    return d
