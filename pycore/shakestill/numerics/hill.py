@@ -264,9 +264,12 @@ def hill_trace(theta0: float, theta: tuple, truncation: int) -> float:
 
 
 def default_truncation(theta0: float, theta: tuple) -> int:
-    """Rows for a trace error near 1e-11: past the resonant rows, and enough for the
-    fourth-order tail (error ~ 7.5e-3 |theta|^4 / R^7, measured against the Mathieu
-    values of scipy.special in tests/test_hill.py)."""
+    """Rows for a trace error near 1e-11 at moderate |theta| (one harmonic, q <= 3): past the
+    resonant rows, and enough for the fourth-order tail (error ~ 7.5e-3 |theta|^4 / R^7,
+    measured against the Mathieu values of scipy.special in tests/test_hill.py). Larger
+    |theta| and several harmonics leave more: ~1e-10 at q = 9, 2e-8 at q = 25, 1e-10 to 9e-10
+    of max(1, |trace|) with two or three harmonics (tests/test_hill_parts.py), all inside the
+    1e-8 a refinement must meet."""
     spread = math.sqrt(abs(theta0)) / 2.0
     size = sum(abs(c) for c in theta)
     return max(8, len(theta) + 2, math.ceil(8 + spread + 10.0 * size ** (4.0 / 7.0)))

@@ -1,0 +1,64 @@
+"""Hill's small parts against outside values: multipliers from a trace, the default truncation.
+
+References: numpy.roots of rho^2 - trace rho + 1 (a real Hill equation's monodromy has
+determinant 1, so its multipliers are those roots, times exp(-gamma T) with damping taken
+out); scipy.special.mathieu_a / mathieu_b, at which the trace is exactly +-2.
+"""
+import math
+
+import numpy as np
+import pytest
+from scipy.special import mathieu_a, mathieu_b
+
+from shakestill.numerics.hill import default_truncation, hill_trace, multipliers_from_trace
+
+
+@pytest.mark.parametrize("trace", [-7.5, -2.0, -1.3, 0.0, 0.4, 1.999, 2.0, 2.5, 41.0])
+@pytest.mark.parametrize("decay", [1.0, 0.83])
+def test_multipliers_are_the_roots_of_the_characteristic_polynomial(trace, decay):
+    # numpy.roots, scaled by the decay; each matched within 1e-12 of max(1, |rho|), and the
+    # pair's product decay^2 (Liouville: det = exp(-2 gamma T)) to 1e-12.
+    got = multipliers_from_trace(trace, decay)
+    want = decay * np.roots([1.0, -trace, 1.0])
+    for w in want:
+        assert min(abs(g - w) for g in got) <= 1e-12 * max(1.0, abs(w))
+    assert abs(got[0] * got[1] - decay * decay) <= 1e-12 * max(1.0, abs(got[0] * got[1]))
+
+
+@pytest.mark.parametrize("sign", [1.0, -1.0])
+def test_an_infinite_trace_gives_an_infinite_multiplier_of_its_sign(sign):
+    # The documented limit: rho = trace - 1/trace + ... -> +-inf, its partner 1/rho -> 0.
+    big, small = multipliers_from_trace(sign * math.inf, 0.9)
+    assert big == complex(sign * math.inf) and small == 0j
+
+
+CHARACTERISTIC = [(mathieu_a, 0), (mathieu_b, 1), (mathieu_a, 2), (mathieu_b, 3), (mathieu_a, 5)]
+
+
+@pytest.mark.parametrize("q", [0.02, 0.7, 3.0, 9.0, 25.0])
+@pytest.mark.parametrize("kind, order", CHARACTERISTIC)
+def test_the_default_truncation_holds_the_trace_at_mathieu_values(q, kind, order):
+    # At a = mathieu_a/b(order, q) the equation y'' + (a - 2 q cos 2z) y = 0 has a solution
+    # of period pi (even order: trace +2) or 2 pi (odd: -2). Hill's trace with the default
+    # rows within 3e-8 (measured up to 2.1e-8 at q = 25, order 0; 1e-10 and less for q <= 9),
+    # and 20 rows more move it by under 1e-8 of max(1, |trace|), the engine's own acceptance
+    # of a refinement (floquet.CONVERGENCE_TOLERANCE): the default rows pass that check.
+    a = float(kind(order, q))
+    theta = (-q,)
+    R = default_truncation(a, theta)
+    want = 2.0 if order % 2 == 0 else -2.0
+    assert abs(hill_trace(a, theta, R) - want) <= 3e-8
+    finer = hill_trace(a, theta, R + 20)
+    assert abs(hill_trace(a, theta, R) - finer) <= 1e-8 * max(1.0, abs(finer))
+
+
+@pytest.mark.parametrize("theta0, theta", [
+    (2.5, (0.7, 0.3)), (-3.3, (1.2, -0.5, 0.2)), (40.0, (6.0, 2.5)),
+    (0.5, tuple(2.0 * 0.4 ** k for k in range(1, 9))),
+])
+def test_the_default_truncation_is_converged_with_several_harmonics(theta0, theta):
+    # No closed form: the trace at the default rows against 30 rows more, within 1e-9 of
+    # max(1, |trace|) (measured 1.1e-10 to 8.7e-10 on these; the check accepts 1e-8).
+    R = default_truncation(theta0, theta)
+    full = hill_trace(theta0, theta, R + 30)
+    assert abs(hill_trace(theta0, theta, R) - full) <= 1e-9 * max(1.0, abs(full))
