@@ -227,6 +227,19 @@ def monodromy(rig_data, equilibrium, speed_rpm=None, stroke_m=None,
     return sol.y[:, -1].reshape(2 * n, 2 * n)
 
 
+def hill_trace_by_integration(theta0, theta):
+    """Trace of the pi-periodic monodromy of Hill's equation u'' + (theta0 + sum_k 2 Re(theta_k
+    e^{2ikz})) u = 0 by scipy.integrate.solve_ivp (DOP853, rtol = atol = 1e-13)."""
+    def p(z):
+        return theta0 + sum(2 * (c * np.exp(2j * (k + 1) * z)).real for k, c in enumerate(theta))
+
+    def rhs(z, y):
+        return [y[1], -p(z) * y[0], y[3], -p(z) * y[2]]
+
+    sol = solve_ivp(rhs, (0, math.pi), [1, 0, 0, 1], method="DOP853", rtol=1e-13, atol=1e-13)
+    return sol.y[0, -1] + sol.y[3, -1]
+
+
 def liouville_det(rig_data, equilibrium, speed_rpm=None):
     """det(monodromy) = exp(-integral of trace(M^-1 D) over one cycle) (Liouville's formula)."""
     mass, damp, _ = chain_matrices(rig_data, equilibrium)

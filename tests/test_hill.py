@@ -2,24 +2,11 @@
 
 import math
 
-import numpy as np
 import pytest
-from scipy.integrate import solve_ivp
 from scipy.special import mathieu_a, mathieu_b
 
+from refsolvers import hill_trace_by_integration as trace_by_integration
 from shakestill.numerics.hill import default_truncation, hill_trace, needed_harmonics
-
-
-def trace_by_integration(theta0, theta):
-    """Reference: trace of the pi-periodic monodromy of Hill's equation by solve_ivp (DOP853)."""
-    def p(z):
-        return theta0 + sum(2 * (c * np.exp(2j * (k + 1) * z)).real for k, c in enumerate(theta))
-
-    def rhs(z, y):
-        return [y[1], -p(z) * y[0], y[3], -p(z) * y[2]]
-
-    sol = solve_ivp(rhs, (0, math.pi), [1, 0, 0, 1], method="DOP853", rtol=1e-13, atol=1e-13)
-    return sol.y[0, -1] + sol.y[3, -1]
 
 
 @pytest.mark.parametrize("q", [0.05, 0.4, 0.908, 2.0, 5.0])

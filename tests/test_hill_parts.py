@@ -10,6 +10,7 @@ import numpy as np
 import pytest
 from scipy.special import mathieu_a, mathieu_b
 
+from refsolvers import hill_trace_by_integration as trace_by_integration
 from shakestill.numerics.hill import default_truncation, hill_trace, multipliers_from_trace
 
 
@@ -62,3 +63,64 @@ def test_the_default_truncation_is_converged_with_several_harmonics(theta0, thet
     R = default_truncation(theta0, theta)
     full = hill_trace(theta0, theta, R + 30)
     assert abs(hill_trace(theta0, theta, R) - full) <= 1e-9 * max(1.0, abs(full))
+
+
+@pytest.mark.parametrize("theta0, theta", [
+    (4.3, (0.5,)),          # rows +-1 within 1 of the pole: the sine factor's paired form
+    (16.6, (0.8,)),         # rows +-2 likewise, eps ~ 0.07
+    (0.3, (0.4,)),          # row 0 special, theta0 > 0
+    (-0.4, (0.4,)),         # row 0 special, theta0 < 0 (sinh)
+    (4.0 + 1e-10, (0.3, 0.1)),  # a pivot of 1e-10 on the diagonal: pivoting is needed
+    (2.5, (0.0, 0.3)),      # a zero first harmonic: its tail term is zero, the next one is not
+])
+def test_traces_next_to_the_poles_at_ordinary_points(theta0, theta):
+    # Away from the Mathieu characteristic values the trace is not +-2, so the sine factor and
+    # the determinant both count (at a characteristic value the determinant vanishes and
+    # hides the factor). solve_ivp's trace, 1e-9 of max(1, |trace|).
+    want = trace_by_integration(theta0, theta)
+    got = hill_trace(theta0, theta, default_truncation(theta0, theta))
+    assert abs(got - want) <= 1e-9 * max(1.0, abs(want)), (got, want)
+
+
+def test_a_vanishing_column_gives_the_undriven_trace():
+    # theta0 = 4 exactly with no drive: row 1 is all zero, the determinant 0, and the trace
+    # is the undriven 2 cos(pi sqrt(4)) = 2.
+    assert hill_trace(4.0, (0.0, 0.0), 8) == pytest.approx(2.0, abs=1e-15)
+
+
+def test_the_truncation_may_equal_the_harmonics_but_not_fall_below():
+    # hill_trace's documented floor: rows -R..R with R at least the number of harmonics.
+    for theta in ((0.3,), (0.3, 0.1)):
+        assert math.isfinite(hill_trace(1.7, theta, len(theta)))
+    with pytest.raises(ValueError, match="^truncation: must be at least the number of harmonics$"):
+        hill_trace(1.7, (0.3, 0.1), 1)
+
+
+def test_many_small_harmonics_get_rows_for_every_one():
+    # Thirty tiny harmonics: the rows must cover them all (at least H + 2) or Hill's
+    # determinant cannot hold them; the trace then matches solve_ivp to 1e-10.
+    theta = tuple(1e-4 * 0.7 ** k for k in range(30))
+    R = default_truncation(1.3, theta)
+    assert R >= len(theta)
+    assert abs(hill_trace(1.3, theta, R) - trace_by_integration(1.3, theta)) <= 1e-10
+
+
+def test_an_overflowing_trace_is_plus_infinity():
+    # theta0 = -1e6: sinh(pi * 1000 / 2) overflows; the trace 2 cosh(...) is +inf, said so.
+    assert hill_trace(-1e6, (0.1,), default_truncation(-1e6, (0.1,))) == math.inf
+
+
+def test_needed_harmonics_scale_the_tolerance_by_a_large_trace():
+    # The documented rule relative to max(1, |trace|): on an unstable point with |trace| ~ 72
+    # the steps 0.40, 5.5e-3, 5.8e-5 against tol x 72 give 2 harmonics at 1e-3 and 3 at 1e-5
+    # (each step at least 12x from its threshold), where an absolute rule would keep all 4;
+    # the rule by hand on solve_ivp's traces.
+    from shakestill.numerics.hill import needed_harmonics
+    theta0, theta = -2.0, (0.9, 0.1, 0.01, 0.001)
+    traces = [None] + [trace_by_integration(theta0, theta[:k]) for k in range(1, 5)]
+    full = traces[4]
+    assert abs(full) > 10
+    for tol in (1e-3, 1e-5):
+        want = min(k for k in range(1, 5) if abs(traces[k] - full) <= tol * max(1.0, abs(full)))
+        got = needed_harmonics(theta0, theta, default_truncation(theta0, theta), tol=tol)
+        assert got == want, (tol, got, want)

@@ -122,3 +122,18 @@ def test_fixed_steps_path_keeps_its_steps():
     want = ref.multipliers(ref.monodromy(data, "inverted"))
     assert ref.same_multipliers(res.multipliers, want, 1.0) <= 1e-7 * max(1.0, max(abs(want)))
     assert np.isclose(res.max_multiplier, max(abs(want)), rtol=1e-7)
+
+
+@pytest.mark.parametrize("c", [5e-7, -5e-7, 0.0])
+def test_steps_of_a_nearly_free_pendulum_take_the_series(c):
+    # p = c, so small that every step's exponent has |s^2| = |c| h^2 <= 1e-8 and the closed
+    # exponential is taken by its series: u'' + c u = 0 over T = 1 has trace 2 cos(sqrt(c)),
+    # 2 cosh(sqrt(-c)) for c < 0, 2 for c = 0 (a free mass: [[1, T], [0, 1]]); 1e-13. The
+    # second-order terms of the series (s^2 / 2, s^2 / 6) move the trace by ~c: checked; the
+    # fourth-order ones (~c^2 h^4 / 24) lie below rounding, as the module says.
+    steps = 10
+    nodes = [0.0] * (3 * steps)
+    got = hill_trace(nodes, 1.0, steps, offset=c)
+    want = 2 * math.cos(math.sqrt(c)) if c >= 0 else 2 * math.cosh(math.sqrt(-c))
+    assert abs(got - want) <= 1e-13
+    assert c == 0.0 or abs(got - 2.0) >= 0.9 * abs(c)  # the term under test is visible
