@@ -45,13 +45,16 @@ SAMPLE = STAGE / "sample.json"  # the last --sample draw per module: its stratum
 Z95 = 1.959963984540054  # the standard normal's 97.5% quantile (two-sided 95%)
 
 # The analysis modules issue 12 names (stability/floquet, estimates, check, windows, lines,
-# chart, runup, hill, loads, fit).
+# chart, runup, hill, loads, fit), and the numerics the stability rests on.
 MODULES = [
     "equilibria/floquet.py", "equilibria/lines.py", "equilibria/windows.py",
     "equilibria/estimates.py", "equilibria/check.py", "equilibria/chart.py",
     "equilibria/chart_rows.py", "equilibria/chart_modes.py", "equilibria/chart_columns.py",
     "equilibria/confirm.py", "equilibria/runup.py", "numerics/hill.py", "motion/loads.py",
     "fit/fitting.py",
+    # the chain's stability engine since 2026-12-05 (the Taylor cycle, its eigenvalues) and
+    # the scans' 2 x 2 traces
+    "equilibria/cycle.py", "numerics/taylor.py", "numerics/real_qr.py", "numerics/magnus.py",
 ]
 # The fast engine tests that exercise those modules (the slow long-run cases and the
 # Pyodide/browser passes are left out: each mutant re-runs the tests that reach it).
