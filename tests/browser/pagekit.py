@@ -131,6 +131,17 @@ def assert_same_numbers(got, want, rel=1e-9, abs_tol=1e-12, where="result"):
         assert got == want, f"{where}: {got!r} != {want!r}"
 
 
+def make_link(page, tap: bool = False) -> str:
+    """The page's share link for its rig, as the Copy link button puts it in the share box."""
+    old = page.input_value("#share-box")
+    (page.tap if tap else page.click)("#copy-link")
+    page.wait_for_function("""(old) => {
+        const value = document.getElementById("share-box").value;
+        return value.includes("#") && value !== old;
+    }""", arg=old)
+    return page.input_value("#share-box")
+
+
 def wait_for_stale(page, timeout: int = RESULT_TIMEOUT_MS) -> None:
     """Wait until the verdict is marked stale (a problem in the sheet keeps the old result)."""
     page.wait_for_function("() => document.getElementById('check-report').dataset.state === 'stale'",

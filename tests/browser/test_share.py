@@ -12,19 +12,9 @@ import json
 import pytest
 import shakestill as ss  # the core on CPython: the independent reading
 
-from pagekit import open_page, shot, wait_for_result, wait_for_rig
+from pagekit import make_link, open_page, shot, wait_for_result, wait_for_rig
 
 pytestmark = pytest.mark.browser
-
-
-def make_link(page) -> str:
-    old = page.input_value("#share-box")
-    page.click("#copy-link")
-    page.wait_for_function("""(old) => {
-        const value = document.getElementById("share-box").value;
-        return value.includes("#") && value !== old;
-    }""", arg=old)
-    return page.input_value("#share-box")
 
 
 @pytest.fixture(scope="module")
