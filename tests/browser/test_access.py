@@ -99,11 +99,14 @@ UNNAMED = """() => [...document.querySelectorAll("input, select, textarea, butto
   return !named;
 }).map((el) => el.outerHTML.slice(0, 80))"""
 
-SMALL_TARGETS = """() => [...document.querySelectorAll("input, select, textarea, button, label.button, summary")]
+# Each control's tap target: a check box or radio button is tapped through its label.
+SMALL_TARGETS = """(least) => [...document.querySelectorAll("input, select, textarea, button, label.button, summary")]
   .filter((el) => !el.closest("[hidden], .visually-hidden") && !el.classList.contains("link-button")
           && !el.classList.contains("visually-hidden"))
-  .map((el) => [el.id || el.textContent.trim().slice(0, 30), el.getBoundingClientRect()])
-  .filter(([, r]) => r.width < 24 || r.height < 24).map(([name]) => name)"""
+  .map((el) => [el.id || el.textContent.trim().slice(0, 30),
+                ((el.type === "checkbox" || el.type === "radio") && el.closest("label")
+                 ? el.closest("label") : el).getBoundingClientRect()])
+  .filter(([, r]) => r.width < least || r.height < least).map(([name]) => name)"""
 
 
 def test_every_control_is_named_and_big_enough_on_a_tablet(new_context, server):
@@ -111,8 +114,10 @@ def test_every_control_is_named_and_big_enough_on_a_tablet(new_context, server):
     open_page(page, server.url)
     page.click('button[data-action="add-mass"]')
     assert page.evaluate(UNNAMED) == []
-    # WCAG 2.2 SC 2.5.8: targets at least 24 by 24 CSS px (inline text links excepted).
-    assert page.evaluate(SMALL_TARGETS) == []
+    # Touch targets of at least 44 by 44 CSS px at tablet width (the issue's figure; WCAG 2.2
+    # SC 2.5.5's enhanced size; 2.5.8's minimum is 24): every control, a box by its label
+    # (inline text links excepted, as both criteria do).
+    assert page.evaluate(SMALL_TARGETS, 44) == []
     shot(page, "tablet-portrait-added-mass")
 
 
