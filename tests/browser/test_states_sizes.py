@@ -107,3 +107,23 @@ def test_a_links_rig_and_the_senders_result_show_before_the_engine(booted, new_c
     want = json.loads(json.dumps(ss.check(ss.rig_from_dict(data))))  # the core on CPython
     assert_same_numbers(fresh, want, rel=1e-9, where=f"{size} link's rig")
     shot(page, f"{size}-link-opened", full_page=False)
+
+
+@pytest.mark.parametrize("size", sorted(SIZES))
+def test_dark_mode_follows_the_system_at_every_size(booted, size):
+    # As test_access.py at desktop size: with the system set to dark (prefers-color-scheme) the
+    # paper is dark and every text keeps WCAG 2.2's contrast (SC 1.4.3 / 1.4.11), also with a
+    # field in error and the strip neutral.
+    from test_access import failures, luminance
+    page = booted(color_scheme="dark", **SIZES[size])
+    wait_for_result(page)
+    background = page.evaluate("getComputedStyle(document.body).backgroundColor")
+    assert luminance([float(v) for v in background[4:-1].split(",")[:3]]) < 0.05
+    assert failures(page) == []
+    open_sheet(page)
+    page.fill('[data-path="drive.stroke_m"]', "-4 mm")
+    wait_for_stale(page)
+    assert failures(page) == []
+    close_sheet(page)
+    assert failures(page) == []
+    shot(page, f"{size}-dark-strip-neutral", full_page=False)
