@@ -25,6 +25,10 @@ RESULT_TIMEOUT_MS = 120_000
 LAPTOP = {"width": 1366, "height": 768}
 TABLET_PORTRAIT = {"width": 768, "height": 1024}
 TABLET_LANDSCAPE = {"width": 1024, "height": 768}
+PHONE = {"width": 390, "height": 844}
+# Context options of a tablet held upright and of a phone, both by touch.
+TOUCH_SIZES = {"tablet": {"viewport": TABLET_PORTRAIT, "has_touch": True, "is_mobile": True},
+               "phone": {"viewport": PHONE, "has_touch": True, "is_mobile": True}}
 
 
 
@@ -129,6 +133,18 @@ def assert_same_numbers(got, want, rel=1e-9, abs_tol=1e-12, where="result"):
         assert math.isclose(got, want, rel_tol=rel, abs_tol=abs_tol), f"{where}: {got!r} != {want!r}"
     else:
         assert got == want, f"{where}: {got!r} != {want!r}"
+
+
+def open_sheet(page):
+    """The rig sheet in reach: on a narrow screen it is a drawer behind its tab."""
+    if page.is_visible("#sheet-tab"):
+        page.tap("#sheet-tab")
+
+
+def close_sheet(page):
+    """The drawer closed again (it lies over the page on a narrow screen)."""
+    if page.is_visible("#sheet-close"):
+        page.tap("#sheet-close")
 
 
 def make_link(page, tap: bool = False) -> str:

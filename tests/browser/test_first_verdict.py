@@ -10,7 +10,7 @@ import json
 import pytest
 import shakestill as ss  # the core on CPython: the independent reading
 
-from pagekit import SITE, shot, wait_for_result
+from pagekit import SITE, TOUCH_SIZES, open_sheet, shot, wait_for_result
 
 pytestmark = pytest.mark.browser
 
@@ -42,11 +42,13 @@ def test_a_first_visit_shows_the_build_time_verdict_then_the_engines(new_context
         assert fresh[eq]["max_multiplier"] == pytest.approx(cached[eq]["max_multiplier"], rel=1e-9)
 
 
-def test_a_return_visit_shows_the_last_check_of_the_same_rig_only(new_context, server):
-    context = new_context()
+@pytest.mark.parametrize("size", ["desktop", "tablet", "phone"])
+def test_a_return_visit_shows_the_last_check_of_the_same_rig_only(new_context, server, size):
+    context = new_context(**TOUCH_SIZES.get(size, {}))  # desktop: the laptop viewport
     page = context.new_page()
     page.goto(server.url)
     old = json.dumps(wait_for_result(page))
+    open_sheet(page)
     page.fill('[data-path="drive.speed_rpm"]', "2650 rpm")
     mine = wait_for_result(page, old)
 

@@ -17,26 +17,11 @@ import pytest
 import shakestill as ss
 
 
-from pagekit import (BOOT_TIMEOUT_MS, TABLET_PORTRAIT, assert_same_numbers, make_link, shot,
-                     wait_for_result, wait_for_stale)
+from pagekit import (BOOT_TIMEOUT_MS, TOUCH_SIZES as SIZES, assert_same_numbers, close_sheet,
+                     make_link, open_sheet, shot, wait_for_result, wait_for_stale)
 
 pytestmark = pytest.mark.browser
 
-PHONE = {"width": 390, "height": 844}
-SIZES = {"tablet": {"viewport": TABLET_PORTRAIT, "has_touch": True, "is_mobile": True},
-         "phone": {"viewport": PHONE, "has_touch": True, "is_mobile": True}}
-
-
-def open_sheet(page):
-    """The rig sheet in reach: on a narrow screen it is a drawer behind its tab."""
-    if page.is_visible("#sheet-tab"):
-        page.tap("#sheet-tab")
-
-
-def close_sheet(page):
-    """The drawer closed again (it lies over the page on a narrow screen)."""
-    if page.is_visible("#sheet-close"):
-        page.tap("#sheet-close")
 
 
 @pytest.mark.parametrize("size", sorted(SIZES))
