@@ -13,6 +13,7 @@ import { displayUnits, lengthShown } from "../state/units.js";
 const STEP_BUDGET_MS = 150; // one job step: short enough for a check to slip in between
 const POINT_THROTTLE_MS = 90; // read-out requests while the cursor moves
 const KEY_STEP = 0.01; // arrow keys move the cursor by this share of an axis (Shift: 10x)
+const SAME_PICK_PX = 12; // a second click or tap this near the first one applies it (a fingertip)
 const SVG_NS = "http://www.w3.org/2000/svg";
 
 const AXIS_WORDS = { stroke: "stroke", accel: "peak acceleration" };
@@ -52,6 +53,7 @@ export function createChartView(els, { engine, onPick }) {
     svg: null,
     chart: null, // the core's chart data behind the picture
     cursor: null, // {x, y} in axis values
+    picked: null, // {values, clientX, clientY}: a clicked point shown with its verdict, not applied
     operating: null, // {speed_rpm, stroke_m, peak_accel_m_s2} from the last check
     overlay: null, // (svg, axes) -> an SVG group drawn over the map (the plan's robust region), or null
     point: { seq: 0, timer: 0, last: 0 },
@@ -228,6 +230,7 @@ export function createChartView(els, { engine, onPick }) {
   }
 
   function moveCursor(values) {
+    if (!values) state.picked = null;
     state.cursor = values;
     placeCursor();
     if (!values) {
@@ -281,7 +284,34 @@ export function createChartView(els, { engine, onPick }) {
         `At ${fmt(reply.speed_rpm, 6)} rpm, ${strokeText(reply.stroke_m)}, `
         + `peak acceleration ${fmt(reply.peak_accel_m_s2 / 9.80665, 4)} g`),
       h("ul", { class: "readout-list" }, line("inverted", reply.inverted), line("hanging", reply.hanging)),
-      h("p", { class: "hint" }, "Click, tap or press Enter to make this the operating point."));
+      ...(state.picked ? [h("button", { type: "button", id: "chart-apply-point", class: "secondary" },
+        "Make this the operating point")] : []),
+      h("p", { class: "hint" }, state.picked
+        ? "Click or tap here again, or press the button, to make this the operating point."
+        : "Click or tap to see this point's verdict, then again to make it the operating point; "
+          + "with the keys, Enter."));
+    const button = els.readout.querySelector("#chart-apply-point");
+    if (button) button.addEventListener("click", () => applyPicked());
+  }
+
+  /** A click or tap: the first shows the point and its verdict, a second one near it applies. */
+  function clickAt(event, values) {
+    const near = state.picked && Math.hypot(event.clientX - state.picked.clientX,
+      event.clientY - state.picked.clientY) <= SAME_PICK_PX;
+    if (near) {
+      applyPicked();
+      return;
+    }
+    state.picked = { values, clientX: event.clientX, clientY: event.clientY };
+    moveCursor(values);
+  }
+
+  function applyPicked() {
+    const values = state.picked && state.picked.values;
+    state.picked = null;
+    if (!values) return;
+    apply(values);
+    moveCursor(values); // the read-out again, without the button
   }
 
   async function apply(values) {
@@ -304,17 +334,22 @@ export function createChartView(els, { engine, onPick }) {
 
   // Pointer events serve mouse, pen and touch alike; a tap moves the cursor, then applies.
   // On a touch screen a sideways drag moves the cursor and an up-down swipe scrolls the page.
-  els.holder.addEventListener("pointermove", (event) => moveCursor(valuesAt(event)));
+  // A picked point holds the read-out (and the cursor) until it is applied, another point is
+  // picked, or Escape.
+  els.holder.addEventListener("pointermove", (event) => {
+    if (!state.picked) moveCursor(valuesAt(event));
+  });
   els.holder.addEventListener("pointerdown", (event) => {
     const values = valuesAt(event);
-    if (values) moveCursor(values);
+    if (values && !state.picked) moveCursor(values);
   });
   els.holder.addEventListener("pointerleave", (event) => {
-    if (event.pointerType === "mouse") moveCursor(null);
+    if (event.pointerType === "mouse" && !state.picked) moveCursor(null);
   });
   // A click's clientX/Y are whole pixels; the pointer events before it carry the exact point.
   els.holder.addEventListener("click", (event) => {
-    if (valuesAt(event)) apply(state.cursor || valuesAt(event));
+    const values = valuesAt(event);
+    if (values) clickAt(event, state.picked ? values : state.cursor || values);
   });
   els.holder.addEventListener("keydown", (event) => {
     if (!state.axes) return;
@@ -325,11 +360,13 @@ export function createChartView(els, { engine, onPick }) {
     }
     if (event.key === "Enter" || event.key === " ") {
       event.preventDefault();
-      apply(state.cursor);
+      if (state.picked) applyPicked();
+      else apply(state.cursor);
       return;
     }
     if (!(event.key in dirs)) return;
     event.preventDefault();
+    state.picked = null;
     const { x, y } = state.axes;
     const start = state.cursor || operatingValues() || { x: (x.min + x.max) / 2, y: (y.min + y.max) / 2 };
     const [dx, dy] = dirs[event.key];
@@ -337,7 +374,9 @@ export function createChartView(els, { engine, onPick }) {
     const clamp = (v, a) => Math.min(a.max, Math.max(a.min, v));
     moveCursor({ x: clamp(start.x + dx * k * (x.max - x.min), x), y: clamp(start.y + dy * k * (y.max - y.min), y) });
   });
-  els.holder.addEventListener("blur", () => moveCursor(null));
+  els.holder.addEventListener("blur", (event) => {
+    if (!els.readout.contains(event.relatedTarget)) moveCursor(null);
+  });
 
   function operatingValues() {
     const op = state.operating;

@@ -22,7 +22,8 @@ import shakestill as ss
 from shakestill import bridge
 
 from pagekit import (BOOT_TIMEOUT_MS, assert_map_csv_is_the_cli_chart, CHROMIUM, CHROMIUM_ARGS, LAPTOP, RESULT_TIMEOUT_MS,
-                     TABLET_PORTRAIT, assert_same_numbers, cli_check, shot, wait_for_result, wait_for_rig)
+                     TABLET_PORTRAIT, TOUCH_SIZES, assert_same_numbers, cli_check, shot, wait_for_result,
+                     wait_for_rig)
 
 pytestmark = pytest.mark.browser
 
@@ -163,10 +164,23 @@ def test_runup_lists_the_demo_hanging_crossing_as_the_cli(map_page):
     assert "NOT MET" in page.locator(".crossing[data-eq=inverted]").first.inner_text()
 
 
-def test_click_moves_the_operating_point(map_page, tmp_path):
+def test_a_click_shows_the_point_and_a_second_one_moves_the_operating_point(map_page, tmp_path):
+    # The first click shows the point and its verdict (the `point` op: the core's stability
+    # there on CPython, 1e-9) and moves nothing; a second click on it makes it the operating
+    # point, one step that Undo takes back.
     page = map_page
     old = page.get_attribute("#check-report", "data-result")
+    typed = page.input_value('[data-path="drive.speed_rpm"]')
     (cx, cy), (speed, stroke) = at_fraction(page, 0.7, 0.4)
+    page.mouse.click(cx, cy)
+    page.wait_for_selector("#chart-apply-point", timeout=RESULT_TIMEOUT_MS)
+    shown = json.loads(page.get_attribute("#chart-readout", "data-point"))
+    for eq in ("inverted", "hanging"):
+        want = ss.stability(ss.demo_rig(), eq, shown["speed_rpm"], shown["stroke_m"])
+        assert shown[eq]["stable"] == want.stable
+        assert shown[eq]["max_multiplier"] == pytest.approx(want.max_multiplier, rel=1e-9)
+    assert page.get_attribute("#check-report", "data-result") == old
+    assert page.input_value('[data-path="drive.speed_rpm"]') == typed
     page.mouse.click(cx, cy)
     result = wait_for_result(page, old)
     a = axes_of(page)
@@ -178,6 +192,11 @@ def test_click_moves_the_operating_point(map_page, tmp_path):
     rig = ss.rig_to_dict(ss.demo_rig())
     rig["drive"]["speed_rpm"], rig["drive"]["stroke_m"] = typed_speed, typed_stroke
     assert_same_numbers(result, cli_check(rig, tmp_path))
+    moved = page.get_attribute("#check-report", "data-result")
+    page.click("#undo")
+    back = wait_for_result(page, moved)
+    assert page.input_value('[data-path="drive.speed_rpm"]') == typed
+    assert back == json.loads(old)
 
 
 def test_keyboard_moves_a_cursor_and_enter_applies(map_page):
@@ -291,8 +310,9 @@ def test_rig_edit_stops_the_map_and_draws_it_again(map_page, tmp_path):
     assert rig["links"][0]["length_m"] == pytest.approx(0.26, rel=1e-12)
 
 
-def test_tap_on_a_tablet_moves_the_operating_point(new_context, server):
-    page = new_context(viewport=TABLET_PORTRAIT, has_touch=True, is_mobile=True).new_page()
+@pytest.mark.parametrize("size", sorted(TOUCH_SIZES))
+def test_a_tap_shows_the_point_and_its_button_moves_the_operating_point(new_context, server, size):
+    page = new_context(**TOUCH_SIZES[size]).new_page()
     page.goto(server.url)
     wait_for_result(page, timeout=BOOT_TIMEOUT_MS)
     old = page.get_attribute("#check-report", "data-result")
@@ -303,11 +323,15 @@ def test_tap_on_a_tablet_moves_the_operating_point(new_context, server):
     left, top, scale = svg_box(page)
     value = lambda ax, p: ax["min"] + (p - ax["px_min"]) / (ax["px_max"] - ax["px_min"]) * (ax["max"] - ax["min"])
     speed, stroke = value(a["x"], (cx - left) / scale), value(a["y"], (cy - top) / scale)
-    page.touchscreen.tap(cx, cy)
+    page.touchscreen.tap(cx, cy)  # the first tap shows the point and its verdict
+    page.wait_for_selector("#chart-apply-point", timeout=RESULT_TIMEOUT_MS)
+    assert page.get_attribute("#check-report", "data-result") == old
+    shot(page, f"{size}-map-point-shown")
+    page.tap("#chart-apply-point")  # the button makes it the operating point
     result = wait_for_result(page, old)
     assert abs(result["speed_rpm"] - speed) <= 0.5 * per_px(a["x"])
     assert abs(result["stroke_m"] - stroke) <= 0.5 * per_px(a["y"])
-    shot(page, "tablet-portrait-map-tapped")
+    shot(page, f"{size}-map-tapped")
 
 
 def test_the_map_saves_as_svg_png_and_csv(map_page, tmp_path):
