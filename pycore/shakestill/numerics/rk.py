@@ -1,10 +1,11 @@
 """Fixed-step Runge-Kutta for the linearised chain's fundamental matrix.
 
 x' = A(t) x with x = (q, q') and A(t) = [[0, I], [-G(t) B, -C]], B = M^-1 K,
-C = M^-1 D, G(t) = g + y_p''(t). One cycle of the 2N x 2N fundamental matrix
-is the monodromy matrix. The step is DOP853's 8th-order formula (Hairer,
-Norsett & Wanner), used at a fixed step because the cycle is short and
-smooth and the stage times then never change between evaluations.
+C = M^-1 D, G(t) = g + y_p''(t), over a speed ramp: the run-up's transfer matrix
+(one drive cycle's monodromy is the Taylor cycle of numerics/taylor.py). The step is
+DOP853's 8th-order formula (Hairer, Norsett & Wanner), used at a fixed step because
+the stage times then never change between evaluations; ``fixed_steps`` serves the
+held orbit's shooting.
 """
 
 from __future__ import annotations
