@@ -14,6 +14,7 @@ from ..model import drive as drv
 from ..model.derived import Model, as_model
 from ..model.linear import EQUILIBRIA
 from ..model.rig import Rig
+from ..numerics.linalg import matmul
 from ..numerics.taylor import ORDER as TAYLOR_ORDER
 from ..numerics.taylor import modal_cycle
 
@@ -92,14 +93,18 @@ def monodromy(rig: Rig | Model, equilibrium: str, speed_rpm: float | None = None
     check_equilibrium(equilibrium)
     m = operating(as_model(rig), speed_rpm, stroke_m)
     modal = modal_monodromy(m, equilibrium, steps or chain_steps(m, equilibrium))
-    # back from (z, z') to (q, q'): q = X z, z = X^T M q
+    # back from (z, z') to (q, q'): q = X z and z = X^T M q, for positions and rates alike
     eq = m.of(equilibrium)
-    X, M, n = eq.modal_basis, eq.linear.M, len(eq.modal_basis)
-    to_z = [[sum(X[k][i] * M[k][j] for k in range(n)) for j in range(n)] for i in range(n)]
-    out = [[sum(X[i][k] * sum(modal[half_r * n + k][half_c * n + l] * to_z[l][j]
-                              for l in range(n)) for k in range(n))
-            for half_c in (0, 1) for j in range(n)] for half_r in (0, 1) for i in range(n)]
+    X = [list(row) for row in eq.modal_basis]
+    to_z = matmul([list(col) for col in zip(*X)], [list(row) for row in eq.linear.M])
+    out = matmul(matmul(_twice(X), modal), _twice(to_z))
     return tuple(tuple(row) for row in out)
+
+
+def _twice(a: list[list[float]]) -> list[list[float]]:
+    """The block-diagonal [[a, 0], [0, a]]."""
+    n = len(a)
+    return [row + [0.0] * n for row in a] + [[0.0] * n + row for row in a]
 
 
 def chain_steps(model: Rig | Model, equilibrium: str, *, cycle_phase: float = CYCLE_PHASE,

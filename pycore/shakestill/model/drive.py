@@ -96,8 +96,8 @@ def accel_series(drive: Drive, steps: int, terms: int) -> tuple[float, ...]:
     sigma_j = dphi^(j+2) (d^(j+2) y / dphi^(j+2))(phi0) / j! for j < ``terms`` at each step's
     start phi0 = k dphi (dphi = 2 pi / steps), step-major.
 
-    Times omega^2 over omega^2 this is the time series of y_p'' scaled by h^(j+2) (omega h =
-    dphi), the same at every speed, so a scan along speed at one stroke computes it once.
+    Since omega h = dphi these are also the time series of y_p'' scaled by h^(j+2), at any
+    speed: a scan along speed at one stroke computes them once.
     """
     return _accel_series(drive.waveform, drive.stroke_m, drive.rod_length_m, drive.samples_m,
                          drive.samples_stroke_m, steps, terms)
