@@ -7,7 +7,7 @@ from __future__ import annotations
 import pytest
 import shakestill as ss  # the core on CPython: the independent reading
 
-from pagekit import BOOT_TIMEOUT_MS, assert_same_numbers, cli_check, shot, wait_for_result
+from pagekit import BOOT_TIMEOUT_MS, TOUCH_SIZES, assert_same_numbers, cli_check, shot, wait_for_result
 
 pytestmark = pytest.mark.browser
 
@@ -84,8 +84,10 @@ def test_a_replaced_rig_and_a_picked_point_are_one_step_each(demo_page):
     assert page.locator('[data-path="title"]').input_value() == title
 
 
-def test_the_panels_inputs_and_a_pasted_log_come_back_after_a_reload(demo_page):
-    page = demo_page  # it reloads the page itself; the next test's reset finds the engine up again
+@pytest.mark.parametrize("size", ["desktop", "tablet", "phone"])
+def test_the_panels_inputs_and_a_pasted_log_come_back_after_a_reload(booted, size):
+    page = booted(**TOUCH_SIZES.get(size, {}))  # it reloads the page itself; the next reset
+    # finds the engine up again (desktop: the laptop viewport)
     # Nothing the user typed is lost: the run-up rate, the motion angle and ramp choice, the
     # fit's options and a pasted log are as they were after the page is reloaded.
     log = "t_s,angle_deg\n0.00,20.0\n0.01,19.9\n0.02,19.7\n"
