@@ -11,7 +11,7 @@ import json
 
 import pytest
 
-from pagekit import BOOT_TIMEOUT_MS, wait_for_result
+from pagekit import BOOT_TIMEOUT_MS, TOUCH_SIZES, wait_for_result
 
 pytestmark = pytest.mark.browser
 
@@ -90,6 +90,20 @@ def test_second_visit_restores_and_bad_snapshots_fall_back(new_context, server):
     assert log == ["Deleted a snapshot of another build; plain start."], log
     assert other == plain
     assert page.evaluate(KEYS_JS, CACHE) == keys
+    page.close()
+
+
+@pytest.mark.parametrize("size", sorted(TOUCH_SIZES))
+def test_a_second_visit_on_a_tablet_or_a_phone_starts_from_the_snapshot(new_context, server, size):
+    # As above at desktop size: the first visit stores a snapshot, the second starts from it and
+    # gives the plain start's check JSON character for character.
+    context = new_context(**TOUCH_SIZES[size])
+    plain, started, _, page = visit(context, server.url, wait_for_snapshot=True)
+    assert started == "plain"
+    page.close()
+    restored, started, log, page = visit(context, server.url, wait_for_snapshot=False)
+    assert started == "snapshot", log
+    assert restored == plain
     page.close()
 
 
