@@ -332,8 +332,9 @@ export function createChartView(els, { engine, onPick }) {
     onPick(reply.ok ? { speed_rpm: p.speed_rpm, stroke_m: reply.stroke_m } : { speed_rpm: p.speed_rpm });
   }
 
-  // Pointer events serve mouse, pen and touch alike; a tap moves the cursor, then applies.
-  // On a touch screen a sideways drag moves the cursor and an up-down swipe scrolls the page.
+  // Pointer events serve mouse, pen and touch alike; a click or tap shows a point's verdict,
+  // a second one there applies it. On a touch screen a sideways drag moves the cursor and an
+  // up-down swipe scrolls the page.
   // A picked point holds the read-out (and the cursor) until it is applied, another point is
   // picked, or Escape.
   els.holder.addEventListener("pointermove", (event) => {

@@ -43,6 +43,8 @@ CHART_RK_STEP_US = 6.25
 # a shorter rod too, where the check's settings give ~1e-10 (measured 2026-12-05)
 CHART_CYCLE_PHASE = 1.4
 CHART_DRIVE_TOLERANCE = 1e-7
+
+
 @dataclass(frozen=True)
 class Row:
     """One row of the chart: its y value, stroke per speed, and each equilibrium's edges."""

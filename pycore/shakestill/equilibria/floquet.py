@@ -74,8 +74,9 @@ class Settings:
     step_phase: float = STEP_PHASE  # RK steps chosen per point: see default_steps
     min_steps: int = MIN_STEPS
     per_harmonic: float = HARMONIC_STEPS
-    cycle_phase: float = CYCLE_PHASE  # the chain's Taylor steps chosen per point: see
-    drive_tolerance: float = DRIVE_SERIES_TOLERANCE  # chain_steps
+    # the chain's Taylor steps, chosen per point (see cycle.chain_steps)
+    cycle_phase: float = CYCLE_PHASE
+    drive_tolerance: float = DRIVE_SERIES_TOLERANCE
 
 
 def modes_decouple(model: Rig | Model) -> bool:
@@ -243,7 +244,8 @@ def _multi_margin(m: Model, rhos) -> float:
     return math.log(biggest) - tol
 
 
-def _rk_stability(m: Model, equilibrium: str, settings: Settings, verify: bool) -> Stability:
+def _chain_stability(m: Model, equilibrium: str, settings: Settings, verify: bool) -> Stability:
+    """Several links coupled by their dampers: the chain's monodromy, then its eigenvalues."""
     n = settings.steps or chain_steps(m, equilibrium, cycle_phase=settings.cycle_phase,
                                       drive_tolerance=settings.drive_tolerance)
     rhos = eigvals(modal_monodromy(m, equilibrium, n))
@@ -305,7 +307,7 @@ def stability(rig: Rig | Model, equilibrium: str, speed_rpm: float | None = None
                 return _hill_stability(m, equilibrium, settings, verify, modal=True)
             except HillTooLarge:  # a crank near its dead point: the modes' band is too wide,
                 pass  # the chain's RK monodromy (the modes' own choice) still answers
-        return _rk_stability(m, equilibrium, settings, verify)
+        return _chain_stability(m, equilibrium, settings, verify)
     except ArithmeticError as exc:  # eigenvalues that did not converge, an overflow
         raise OutOfReach([Problem("links", f"outside what this method can resolve at "
                                            f"{rig.drive.speed_rpm:g} rpm and a stroke of "

@@ -121,7 +121,8 @@ class Probe:
                       settings=self.settings, verify=False)
         self.steps += s.work.get("steps", 0)
         if self.steps > MAX_CYCLE_STEPS:
-            raise too_much_work("limits", f"{MAX_CYCLE_STEPS} integration steps of the monodromy")
+            raise too_much_work("limits",
+                                f"{MAX_CYCLE_STEPS} integration steps of the monodromy")
         return s
 
 
