@@ -12,6 +12,7 @@ import { LINK_FIELDS } from "../state/rig-fields.js";
 import { displayUnits, shown } from "../state/units.js";
 import { svgNode } from "./schematic-view.js";
 import { registerCsv } from "./export.js";
+import { lastSession } from "./last-session.js";
 
 const DEG = 180 / Math.PI; // display only: the core's misfit is in radians
 const SAMPLE_URL = "sample-decay.csv";
@@ -83,6 +84,7 @@ export function createFitView(els, { engine, getRig, useRig, restoreRig }) {
     appliedKey: "", // the rig sheet once the fitted numbers went in
     reply: null, // the fit on show
     previousLog: null, // log text replaced by a file or the sample, to bring back
+    lastSession: false, // the fit on show is the last session's, not worked out on this visit
   };
 
   // the plot's numbers (the core's CSV: every sample, logged and fitted, from the log's zero)
@@ -192,6 +194,7 @@ export function createFitView(els, { engine, getRig, useRig, restoreRig }) {
     showProblems([]);
     reply.units = asked;
     show(reply, state.runKey);
+    keep();
     status(reply.result.converged ? "Fit done." : "Fit done, but it did not settle: see below.", 1);
   }
 
@@ -202,6 +205,8 @@ export function createFitView(els, { engine, getRig, useRig, restoreRig }) {
     state.reply = reply;
     state.fitKey = rigKey;
     state.appliedKey = "";
+    state.lastSession = false;
+    delete els.out.dataset.kept;
     els.out.dataset.result = JSON.stringify(res);
     replaceChildren(els.out,
       fitTable(res),
@@ -236,8 +241,9 @@ export function createFitView(els, { engine, getRig, useRig, restoreRig }) {
 
   /** fresh: of the rig on the sheet; applied: its numbers are on the sheet; stale: of another rig. */
   function mark(shown) {
-    els.out.dataset.state = shown;
-    els.plot.dataset.state = shown;
+    const marked = shown === "fresh" && state.lastSession ? "cached" : shown;
+    els.out.dataset.state = marked;
+    els.plot.dataset.state = marked;
     els.apply.disabled = shown !== "fresh";
     els.undo.hidden = shown !== "applied";
     els.applyNote.textContent = {
@@ -252,6 +258,7 @@ export function createFitView(els, { engine, getRig, useRig, restoreRig }) {
     useRig(state.reply.fitted_rig);
     state.appliedKey = JSON.stringify(getRig());
     mark("applied");
+    keep();
     els.undo.focus(); // the pressed button is disabled now: keyboard focus stays beside it
     status("The fitted numbers are in the rig sheet.", 1);
   }
@@ -276,11 +283,26 @@ export function createFitView(els, { engine, getRig, useRig, restoreRig }) {
     status("Fit cancelled: nothing was changed.", 0);
   });
 
+  // The fit on show for the next visit: its rig, and the sheet's once its numbers went in.
+  const kept = lastSession("fit", els.out);
+  const keep = () => kept.keep(state.fitKey, { reply: state.reply, appliedKey: state.appliedKey },
+    { reply: { ...state.reply, csv: null }, appliedKey: state.appliedKey });
+  state.fitKey = kept.restore(({ reply, appliedKey }) => {
+    show(reply, "");
+    state.appliedKey = appliedKey;
+  });
+  state.lastSession = state.fitKey !== "";
+  if (state.lastSession) {
+    mark("fresh"); // the plot marked too; the rig's arrival marks them again
+    status("Fit kept from your last session, below: fit again to refresh it.", 1);
+  }
+
   return {
     /** As on a first visit (the tests' reset): a running fit stopped, no fit or earlier log kept. */
     forget() {
       runner.stop();
-      Object.assign(state, { runKey: "", fitKey: "", appliedKey: "", reply: null, previousLog: null });
+      Object.assign(state, { runKey: "", fitKey: "", appliedKey: "", reply: null, previousLog: null,
+        lastSession: false });
     },
     /** The display units changed: the fitted numbers are written again in them. */
     unitsChanged() {

@@ -9,6 +9,7 @@ import {
 import { svgNode } from "./schematic-view.js";
 import { registerCsv } from "./export.js";
 import { displayUnits } from "../state/units.js";
+import { isCurrent, lastSession, markFresh } from "./last-session.js";
 
 /** Where a curve stops, in words (the core says where and why). */
 function endWords(name, axis, unit, end) {
@@ -66,6 +67,7 @@ export function createLeanView(els, { engine, getRig }) {
       return;
     }
     show(reply);
+    kept.keep(rigKey, reply);
     status("Lean chart drawn.", 1);
     if (JSON.stringify(getRig()) !== rigKey) els.out.dataset.state = "stale";
   }
@@ -73,7 +75,7 @@ export function createLeanView(els, { engine, getRig }) {
   function show(reply) {
     const r = reply.result;
     shown = r;
-    els.out.dataset.state = "fresh";
+    markFresh(els.out);
     els.out.dataset.result = JSON.stringify(r);
     els.out.dataset.axes = JSON.stringify(reply.axes);
     const ends = [];
@@ -94,6 +96,9 @@ export function createLeanView(els, { engine, getRig }) {
 
   els.go.addEventListener("click", draw);
   cancelWith(els.cancel, runner, busy, els.out, status, "Cancelled: no lean chart was drawn.");
+  const kept = lastSession("lean", els.out);
+  rigKey = kept.restore(show);
+  if (rigKey) status("Lean chart kept from your last session, below: draw it again to refresh it.", 1);
 
   return {
     /** As on a first visit (the tests' reset): a drawing under way stopped, no chart kept. */
@@ -107,7 +112,7 @@ export function createLeanView(els, { engine, getRig }) {
       if (JSON.stringify(rig) === rigKey) return;
       stopForEdit(runner, busy, status,
         "The rig changed: the lean chart in progress was stopped. Draw it again for the new rig.");
-      if (els.out.dataset.state === "fresh") els.out.dataset.state = "stale";
+      if (isCurrent(els.out)) els.out.dataset.state = "stale";
     },
   };
 }

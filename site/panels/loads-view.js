@@ -8,6 +8,7 @@ import { svgNode } from "./schematic-view.js";
 import { Cancelled } from "../engine/worker-client.js";
 import { STANDARD_GRAVITY, displayUnits, quantityText, unitOf } from "../state/units.js";
 import { registerCsv } from "./export.js";
+import { isCurrent, lastSession, markFresh } from "./last-session.js";
 
 const say = (si, kind, digits = 4) => quantityText(si, kind, (v) => num(v, digits));
 
@@ -81,6 +82,7 @@ export function createLoadsView(els, { engine, getRig, getEquilibrium }) {
       return;
     }
     show(reply);
+    kept.keep(rigKey, reply);
     // an edit made while the loads were worked out: they are of the rig before it
     if (JSON.stringify(getRig()) !== rigKey) els.out.dataset.state = "stale";
   }
@@ -88,7 +90,7 @@ export function createLoadsView(els, { engine, getRig, getEquilibrium }) {
   function show(reply) {
     shownReply = reply;
     const r = reply.result;
-    els.out.dataset.state = "fresh";
+    markFresh(els.out);
     els.out.dataset.units = displayUnits();
     els.out.dataset.result = JSON.stringify({ ...r, samples: undefined });
     const exceeded = r.flags.filter((f) => f.exceeded);
@@ -135,6 +137,8 @@ export function createLoadsView(els, { engine, getRig, getEquilibrium }) {
   }
 
   els.go.addEventListener("click", run);
+  const kept = lastSession("loads", els.out);
+  rigKey = kept.restore(show);
 
   return {
     /** As on a first visit (the tests' reset): no loads on show, a reply under way dropped. */
@@ -146,11 +150,11 @@ export function createLoadsView(els, { engine, getRig, getEquilibrium }) {
     /** The display units changed: loads on show are worked out again in them (the core's
      * plot and words follow the units; a quick op). */
     unitsChanged() {
-      if (shownReply && els.out.dataset.state === "fresh") run();
+      if (shownReply && isCurrent(els.out)) run();
     },
     /** The rig changed: shown loads are of the old rig. */
     rigChanged(rig) {
-      if (JSON.stringify(rig) !== rigKey && els.out.dataset.state === "fresh") els.out.dataset.state = "stale";
+      if (JSON.stringify(rig) !== rigKey && isCurrent(els.out)) els.out.dataset.state = "stale";
     },
   };
 }

@@ -11,6 +11,7 @@ import { createAnimation, frameIndex } from "./animation.js";
 import { Runner, busyMark, num, statusLine, withUnit } from "../engine/motion-job.js";
 import { svgNode } from "./schematic-view.js";
 import { registerCsv } from "./export.js";
+import { isCurrent, lastSession, markFresh } from "./last-session.js";
 
 const FRAMES_PER_CYCLE = 24; // frames per drive cycle: slow motion shows each shake smoothly
 const MIN_FRAME_RATE_HZ = 60; // at least one frame per screen refresh in real time
@@ -219,6 +220,8 @@ export function createMotionView(els, { engine, getRig }) {
     }
     showProblems([]);
     show(reply, req, JSON.stringify(rig), startAt);
+    // the frames twice (as numbers and as the CSV) may not fit the browser's store: then once
+    kept.keep(state.runKey, { reply, request: req }, { reply: { ...reply, csv: null }, request: req });
     if (knock) play();
   }
 
@@ -239,7 +242,7 @@ export function createMotionView(els, { engine, getRig }) {
     els.anim.dataset.summary = JSON.stringify(reply.summary);
     els.anim.dataset.events = JSON.stringify(reply.events);
     els.anim.dataset.endAngles = JSON.stringify(reply.frames.angles_rad.at(-1) ?? null);
-    els.anim.dataset.state = "fresh";
+    markFresh(els.anim);
     animation.build(reply);
     els.anim.setAttribute("aria-label", `The rig drawn to scale, moving as simulated over ${num(end, 4)} s`);
     els.time.max = String(Math.max(0, reply.frames.t_s.length - 1)); // the slider steps through the frames
@@ -380,6 +383,9 @@ export function createMotionView(els, { engine, getRig }) {
   els.knockGo.addEventListener("click", knockNow);
   // the run's frames as the command line's `simulate -o` writes them (saved by export.js)
   registerCsv(els.plot.id, () => state.shown?.reply.csv || null);
+  const kept = lastSession("motion", els.anim, els.events);
+  const lastRig = kept.restore(({ reply, request }) => show(reply, request, "", 0));
+  if (state.shown) state.shown.rigKey = lastRig;
   els.cancel.addEventListener("click", async () => {
     await runner.stop();
     busy(false);
@@ -403,7 +409,7 @@ export function createMotionView(els, { engine, getRig }) {
         busy(false);
         status("The rig changed while the motion was worked out: run it again.");
       }
-      if (state.shown && state.shown.rigKey !== key && els.anim.dataset.state === "fresh") {
+      if (state.shown && state.shown.rigKey !== key && isCurrent(els.anim)) {
         els.anim.dataset.state = "stale";
         status("This motion is of the rig before your last edit: run it again for the rig on the sheet.");
       }

@@ -8,6 +8,7 @@
 import { h, replaceChildren } from "../lib/dom.js";
 import { Runner, busyMark, num, statusLine } from "../engine/motion-job.js";
 import { displayUnits, lengthShown, unitOf } from "../state/units.js";
+import { isCurrent, lastSession, markFresh } from "./last-session.js";
 
 const SVG_NS = "http://www.w3.org/2000/svg";
 const EDGE_WORDS = {
@@ -89,7 +90,7 @@ export function createPlanView(els, { engine, getRig, editSpreads, onPick, chart
   }
 
   function setOverlay() {
-    chart.setOverlay(result && els.out.dataset.state === "fresh" ? (svg, axes) => drawRegion(svg, axes, result) : null);
+    chart.setOverlay(result && isCurrent(els.out) ? (svg, axes) => drawRegion(svg, axes, result) : null);
   }
 
   async function run() {
@@ -122,12 +123,13 @@ export function createPlanView(els, { engine, getRig, editSpreads, onPick, chart
     status(result.speed_rpm === null ? "Planned: no point of the search grid holds for every rig of the set."
       : "Planned: the recommendation is below and marked on the map.", 1);
     show(reply);
+    kept.keep(key, reply);
   }
 
   function show(reply) {
     shownReply = reply;
     const r = reply.result;
-    els.out.dataset.state = "fresh";
+    markFresh(els.out);
     els.out.dataset.result = JSON.stringify(r);
     const region = r.robust_region;
     const size = Object.entries(region.area_percent_of_limits)
@@ -223,6 +225,14 @@ export function createPlanView(els, { engine, getRig, editSpreads, onPick, chart
     onPick({ speed_rpm: Number(result.speed_rpm.toPrecision(7)), stroke_m: Number(result.stroke_m.toPrecision(7)) });
   });
 
+  const kept = lastSession("plan", els.out);
+  key = kept.restore((reply) => {
+    result = reply.result;
+    show(reply);
+  });
+  setOverlay();
+  if (key) status("Plan kept from your last session, below: find the operating point again to refresh it.", 1);
+
   return {
     /** As on a first visit (the tests' reset): a plan under way stopped, none kept. */
     forget() {
@@ -248,10 +258,12 @@ export function createPlanView(els, { engine, getRig, editSpreads, onPick, chart
     /** The display units changed: the plan on show is written again in them (the command
      * line's words below stay in the units it was worked out in, as their summary says). */
     unitsChanged() {
-      if (!shownReply || !["fresh", "stale"].includes(els.out.dataset.state)) return;
-      const state = els.out.dataset.state;
+      if (!shownReply || !["fresh", "cached", "stale"].includes(els.out.dataset.state)) return;
+      const { state, kept: from } = els.out.dataset;
       show(shownReply);
       els.out.dataset.state = state;
+      if (from) els.out.dataset.kept = from;
+      kept.sayAgain();
       setOverlay();
     },
   };

@@ -5,6 +5,7 @@
 import { h, replaceChildren } from "../lib/dom.js";
 import { Cancelled } from "../engine/worker-client.js";
 import { lengthShown } from "../state/units.js";
+import { isCurrent, lastSession, markFresh } from "./last-session.js";
 
 const NAMES = { inverted: "Inverted (upright)", hanging: "Hanging" };
 
@@ -92,12 +93,13 @@ export function createRunupView(els, { engine, getRig }) {
       return;
     }
     show(reply.result);
+    kept.keep(rigKey, reply.result);
   }
 
   function show(result) {
     shown = result;
     const [stroke, unit] = lengthShown(result.stroke_m);
-    els.out.dataset.state = "fresh";
+    markFresh(els.out);
     els.out.dataset.result = JSON.stringify(result);
     const all = ["inverted", "hanging"].flatMap((eq) => result[eq].crossings);
     const bad = ["inverted", "hanging"].filter((eq) => !result[eq].ok);
@@ -121,6 +123,8 @@ export function createRunupView(els, { engine, getRig }) {
     event.preventDefault();
     run();
   });
+  const kept = lastSession("runup", els.out, els.messages); // the words stay when the units change
+  rigKey = kept.restore(show);
 
   return {
     /** As on a first visit (the tests' reset): no run-up on show, a reply under way dropped. */
@@ -133,12 +137,14 @@ export function createRunupView(els, { engine, getRig }) {
     unitsChanged() {
       if (!shown) return;
       const state = els.out.dataset.state;
+      const { kept: from } = els.out.dataset;
       show(shown);
       els.out.dataset.state = state;
+      if (from) els.out.dataset.kept = from;
     },
     /** The rig changed: a shown result is of the old rig (the same rig checked again is not). */
     rigChanged(rig) {
-      if (JSON.stringify(rig) !== rigKey && els.out.dataset.state === "fresh") {
+      if (JSON.stringify(rig) !== rigKey && isCurrent(els.out)) {
         els.out.dataset.state = "stale";
         els.messages.replaceChildren(h("p", { class: "msg" }, "The rig has changed since this run-up: check it again."));
       }

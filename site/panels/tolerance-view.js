@@ -9,6 +9,7 @@ import {
 } from "../engine/motion-job.js";
 import { svgNode } from "./schematic-view.js";
 import { registerCsv } from "./export.js";
+import { isCurrent, lastSession, markFresh } from "./last-session.js";
 
 const DEG = 180 / Math.PI; // display only: the core gives radians and degrees alike
 
@@ -19,7 +20,9 @@ const DEG = 180 / Math.PI; // display only: the core gives radians and degrees a
 export function createToleranceView(els, { engine, getRig }) {
   const runner = new Runner(engine);
   let result = null; // the last tolerance result, whose edges the map marks
-  let rigKey = "";
+  let rigKey = ""; // the rig of the tolerance on show (or being found)
+  let mapKey = ""; // the rig of the recovery map on show (or being mapped)
+  let runKey = ""; // the rig of the work under way
   let basin = null; // the recovery map on show (so far, while it fills in)
   // its cells as CSV: one row per start (SI, as the core gives them); blank: not yet mapped
   registerCsv(els.basin.id, () => basin && {
@@ -36,7 +39,7 @@ export function createToleranceView(els, { engine, getRig }) {
   async function findTolerance() {
     const rig = getRig();
     if (!rig) return;
-    rigKey = JSON.stringify(rig);
+    rigKey = runKey = JSON.stringify(rig);
     busy(true);
     status("Finding the knock tolerance: knocks and releases, larger each time, then halving the gap…", 0);
     const reply = await runner.start("tolerance", { rig },
@@ -49,11 +52,12 @@ export function createToleranceView(els, { engine, getRig }) {
     }
     status("Knock tolerance found.", 1);
     showTolerance(reply);
+    keptTolerance.keep(rigKey, { result: reply.result, report_text: reply.report_text });
   }
 
   function showTolerance(reply) {
     result = reply.result;
-    els.out.dataset.state = "fresh";
+    markFresh(els.out);
     els.out.dataset.result = JSON.stringify(result);
     const est = result.estimates || {};
     const edgeNote = (name, part) => {
@@ -91,7 +95,7 @@ export function createToleranceView(els, { engine, getRig }) {
   async function mapRecovery() {
     const rig = getRig();
     if (!rig) return;
-    rigKey = JSON.stringify(rig);
+    mapKey = runKey = JSON.stringify(rig);
     const size = Number(els.size.value);
     const marks = result && result.stable
       ? { knock_rad_s: result.max_knock_rad_s, release_rad: result.max_release_angle_rad } : {};
@@ -111,6 +115,7 @@ export function createToleranceView(els, { engine, getRig }) {
       return;
     }
     showMap(reply, "done");
+    keptMap.keep(mapKey, { svg: reply.svg, axes: reply.axes, basin: reply.basin });
     status(`Recovery map complete: ${reply.basin.message || "done"}.`, 1);
   }
 
@@ -118,6 +123,7 @@ export function createToleranceView(els, { engine, getRig }) {
     basin = step.basin || null;
     els.basin.replaceChildren(svgNode(step.svg, "Recovery map over start angle and rate"));
     els.basin.dataset.state = mapState;
+    delete els.basin.dataset.kept;
     els.basin.dataset.axes = JSON.stringify(step.axes);
     if (mapState === "done") {
       els.basin.dataset.recovered = JSON.stringify(step.basin.recovered);
@@ -129,6 +135,14 @@ export function createToleranceView(els, { engine, getRig }) {
   els.go.addEventListener("click", findTolerance);
   els.basinGo.addEventListener("click", mapRecovery);
   cancelWith(els.cancel, runner, busy, els.basin, status, "Cancelled: what is shown is what was finished.");
+  const keptTolerance = lastSession("tolerance", els.out);
+  const keptMap = lastSession("basin", els.basin);
+  rigKey = keptTolerance.restore(showTolerance);
+  mapKey = keptMap.restore((step) => {
+    els.basin.hidden = false;
+    showMap(step, "done");
+  });
+  if (rigKey || mapKey) status("Kept from your last session, below: work it out again to refresh it.", 1);
 
   return {
     /** As on a first visit (the tests' reset): work under way stopped, no result or map kept. */
@@ -136,19 +150,22 @@ export function createToleranceView(els, { engine, getRig }) {
       runner.stop();
       result = null;
       rigKey = "";
+      mapKey = "";
+      runKey = "";
       basin = null;
     },
     /** The rig changed: running work stops; shown numbers are of the old rig. */
     rigChanged(rig) {
       const key = JSON.stringify(rig);
-      if (key === rigKey) return;
-      const stopped = stopForEdit(runner, busy, status,
+      const tolerance = key !== rigKey && isCurrent(els.out);
+      const map = key !== mapKey && ["done", "cached"].includes(els.basin.dataset.state);
+      const stopped = key !== runKey && stopForEdit(runner, busy, status,
         "The rig changed: the work in progress was stopped. Start it again for the new rig.");
-      if (!stopped && (els.out.dataset.state === "fresh" || els.basin.dataset.state === "done")) {
+      if (!stopped && (tolerance || map)) {
         status("These numbers are of the rig before your last edit: work them out again.");
       }
-      if (els.out.dataset.state === "fresh") els.out.dataset.state = "stale";
-      if (els.basin.dataset.state === "done") els.basin.dataset.state = "stale";
+      if (tolerance) els.out.dataset.state = "stale";
+      if (map) els.basin.dataset.state = "stale";
     },
   };
 }

@@ -114,7 +114,7 @@ export function wireToolbar($, page) {
 // The results a panel keeps after the rig changed (data-state "stale"): they are of an
 // earlier rig. The map has its own "incomplete" words (print.css).
 const EARLIER_RESULTS = "#check-report, #plan-result, #runup-result, #lean-chart, #loads-result, "
-  + "#basin-map, #fit-result";
+  + "#tolerance-result, #basin-map, #fit-result";
 
 /** Mark each result of an earlier rig for print; returns how many are left out. */
 function markEarlierResults(keep) {

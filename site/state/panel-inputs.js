@@ -30,13 +30,20 @@ export function keepPanelInputs(root = document) {
     }
   }
   let timer = 0;
+  const saveNow = () => {
+    timer = 0;
+    panelInputs.save(Object.fromEntries(controls().map((el) => [keyOf(el), read(el)])));
+  };
   const save = () => {
     clearTimeout(timer);
-    timer = setTimeout(() => {
-      panelInputs.save(Object.fromEntries(controls().map((el) => [keyOf(el), read(el)])));
-    }, SAVE_AFTER_MS);
+    timer = setTimeout(saveNow, SAVE_AFTER_MS);
   };
   root.addEventListener("input", (event) => { if (event.target.closest("[data-keep]")) save(); });
   root.addEventListener("change", (event) => { if (event.target.closest("[data-keep]")) save(); });
-  return () => clearTimeout(timer);
+  // a reload or a closed tab inside the pause still keeps what was just typed
+  globalThis.addEventListener?.("pagehide", () => { if (timer) { clearTimeout(timer); saveNow(); } });
+  return () => {
+    clearTimeout(timer);
+    timer = 0;
+  };
 }

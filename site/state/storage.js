@@ -119,3 +119,42 @@ export const autosave = {
     }
   },
 };
+
+// The work panels' last results, one key each, with the exact rig each is for and when it was
+// worked out: a reload shows them again, marked as from the last session (panels/last-session.js).
+const RESULT = (panel) => `shakestill.result.${panel}.v1`;
+// Characters of JSON one panel may keep: a long motion run is megabytes, and the autosave and the
+// inputs must still fit in the browser's few megabytes; a larger result is remembered as too large.
+export const RESULT_BUDGET = 1_000_000;
+
+export const lastResults = {
+  /** Keep a panel's result for the rig ``rigKey`` (its JSON text): the first of ``choices``
+   * (plain JSON, fullest first) that fits the budget, else a note that it was too large. */
+  keep(panel, rigKey, ...choices) {
+    const saved = new Date().toISOString();
+    const text = choices.map((data) => JSON.stringify({ rig: rigKey, saved, data }))
+      .find((t) => t.length <= RESULT_BUDGET) ?? JSON.stringify({ rig: rigKey, saved, data: null });
+    try {
+      store()?.setItem(RESULT(panel), text);
+    } catch {
+      lastResults.drop(panel); // full or blocked: better none than one of another run
+    }
+  },
+  /** {rig, saved, data} as kept (data null: it was too large), or null. */
+  take(panel) {
+    try {
+      const kept = JSON.parse(store()?.getItem(RESULT(panel)) || "null");
+      return kept && typeof kept.rig === "string" && typeof kept.saved === "string" && "data" in kept
+        ? kept : null;
+    } catch {
+      return null;
+    }
+  },
+  drop(panel) {
+    try {
+      store()?.removeItem(RESULT(panel));
+    } catch {
+      // blocked: nothing was kept either
+    }
+  },
+};

@@ -141,6 +141,15 @@ def open_sheet(page):
         page.tap("#sheet-tab")
 
 
+def press(page, selector: str, touch: bool) -> None:
+    """A button pressed as the size's user would: tapped on a touch screen, clicked with a mouse."""
+    if touch:
+        page.locator(selector).scroll_into_view_if_needed()
+        page.tap(selector)
+    else:
+        page.click(selector)
+
+
 def close_sheet(page):
     """The drawer closed again (it lies over the page on a narrow screen)."""
     if page.is_visible("#sheet-close"):

@@ -16,7 +16,7 @@ import re
 
 import pytest
 
-from pagekit import (LAPTOP, TABLET_PORTRAIT, axe_violations, cli_json, open_page, shot)
+from pagekit import (LAPTOP, TABLET_PORTRAIT, axe_violations, cli_json, open_page, press, shot)
 
 pytestmark = pytest.mark.browser
 
@@ -40,14 +40,6 @@ def number_before(text: str, unit: str) -> float:
     match = re.search(r"(-?[\d.]+(?:e-?\d+)?) " + re.escape(unit) + r"(?![\w/])", text)
     assert match, f"no number in {unit!r} in {text!r}"
     return float(match.group(1))
-
-
-def press(page, selector: str, touch: bool) -> None:
-    if touch:
-        page.locator(selector).scroll_into_view_if_needed()
-        page.tap(selector)
-    else:
-        page.click(selector)
 
 
 def wait_state(page, selector: str, states=("fresh",), timeout=LONG_MS) -> None:
