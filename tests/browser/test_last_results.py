@@ -14,8 +14,8 @@ import json
 import pytest
 from shakestill import bridge
 
-from pagekit import (BOOT_TIMEOUT_MS, TOUCH_SIZES, assert_same_numbers, close_sheet, open_sheet, press, shot,
-                     wait_for_result)
+from pagekit import (BOOT_TIMEOUT_MS, TOUCH_SIZES, assert_same_numbers, axe_violations, close_sheet,
+                     open_sheet, press, shot, wait_for_result)
 
 pytestmark = pytest.mark.browser
 
@@ -113,7 +113,7 @@ def test_run_up_loads_and_motion_come_back_marked_after_a_reload(booted, size):
 
 
 def test_tolerance_map_and_fit_come_back_marked_and_a_kept_fit_can_be_applied(booted):
-    page = booted()
+    page = booted(bypass_csp=True)  # the accessibility audit's script goes in
     page.click("#tolerance-go")
     wait_state(page, "#tolerance-result", "fresh")
     page.select_option("#basin-size", "21")
@@ -134,6 +134,7 @@ def test_tolerance_map_and_fit_come_back_marked_and_a_kept_fit_can_be_applied(bo
     assert_marked_last_session(page, ["tolerance", "basin", "fit"])
     page.locator("#tolerance-result").scroll_into_view_if_needed()
     shot(page, "last-session-tolerance", full_page=False)
+    assert axe_violations(page) == []  # the kept results' words and marks pass the audit too
     kept = {"tolerance": data(page, "#tolerance-result", "result"),
             "basin": data(page, "#basin-map", "recovered"), "fit": data(page, "#fit-result", "result")}
     assert kept == before
@@ -193,7 +194,7 @@ def test_inputs_typed_just_before_a_reload_are_kept(booted):
 
 
 def test_plan_and_lean_chart_come_back_marked_and_the_plan_stays_on_the_map(booted):
-    page = booted()
+    page = booted(bypass_csp=True)
     page.click("#plan-go")
     wait_state(page, "#plan-result", "fresh")
     page.click("#lean-go")
@@ -207,6 +208,7 @@ def test_plan_and_lean_chart_come_back_marked_and_the_plan_stays_on_the_map(boot
         assert marks(page, selector) == ["cached", "last-session"], selector
         assert page.locator(f"{selector} .last-session").inner_text().startswith("From your last session (")
     assert {"plan": data(page, "#plan-result", "result"), "lean": data(page, "#lean-chart", "result")} == before
+    assert axe_violations(page) == []
     # the plan's recommended point against the core on CPython (1e-9 relative)
     job = bridge.call({"op": "motion_job_start", "kind": "plan", "rig": rig, "for": "inverted"})
     while not (step := bridge.call({"op": "motion_job_step", "job": job["job"], "budget_ms": 2000}))["done"]:
