@@ -117,7 +117,7 @@ def test_too_few_steps_are_reported_not_hidden():
     # 24 steps per cycle against 36: the multipliers move by more than 1e-8 (the RK8 error
     # at this step, hand estimate (rate h)^8 ~ 1e-6); the result says so and keeps the finer.
     data = two_links((2e-4, 1e-4))
-    res = ss.stability(ss.rig_from_dict(data), "inverted", settings=Settings(steps=4, min_steps=4))
+    res = ss.stability(ss.rig_from_dict(data), "inverted", settings=Settings(steps=4))
     assert not res.converged
     assert res.message.startswith("monodromy not converged at 4 steps per cycle")
     assert res.error_estimate > 1e-8

@@ -82,15 +82,18 @@ def test_window_edges_are_where_the_solve_ivp_verdict_flips(name, axis):
 
 
 def test_the_scan_method_follows_the_documented_rule():
-    # scan_settings: several links with coupled modes -> RK steps chosen at each point with the
-    # step_phase and min_steps given; asked for modes (modal=True) -> the modal predictor;
+    # scan_settings: several links with coupled modes -> the chain's Taylor steps chosen at
+    # each point with the cycle_phase and drive_tolerance given (the RK sizes step_phase and
+    # min_steps are the 2 x 2 cycles' and leave it alone); asked for modes (modal=True) -> the
+    # modal predictor;
     # undamped chain -> the exact modes; one link -> Hill (method None), a sine with one
     # harmonic and no RK steps to compare.
     damped = as_model(ss.rig_from_dict(ref.rig(TWO, ref.sine(0.024, 2700.0), limits=LIMITS)))
     corners = [damped.at(speed_rpm=v) for v in (300.0, 6000.0)]
     assert not modes_decouple(damped)
-    assert scan_settings(damped, "inverted", corners, step_phase=0.3, min_steps=30) == \
-        Settings(step_phase=0.3, min_steps=30)
+    assert scan_settings(damped, "inverted", corners, step_phase=0.3, min_steps=30) == Settings()
+    assert scan_settings(damped, "inverted", corners, cycle_phase=1.4, drive_tolerance=1e-7) == \
+        Settings(cycle_phase=1.4, drive_tolerance=1e-7)
     assert scan_settings(damped, "inverted", corners, modal=True).method == "modal"
     undamped = as_model(ss.rig_from_dict(ref.rig(UNDAMPED_TWO, ref.sine(0.024, 2700.0),
                                                  limits=LIMITS)))

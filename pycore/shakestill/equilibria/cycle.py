@@ -40,6 +40,12 @@ def operating(m: Model, speed_rpm, stroke_m) -> Model:
         raise ValueError(f"speed_rpm: {speed_rpm!r} must be a finite number above 0")
     if stroke_m is not None and not (stroke_m >= 0 and math.isfinite(stroke_m)):
         raise ValueError(f"stroke_m: {stroke_m!r} must be a finite number of at least 0")
+    d = m.rig.drive
+    if stroke_m is not None and d.waveform == "crank" and stroke_m >= 2 * d.rod_length_m:
+        # a crank radius of the rod's length or more cannot turn (a rig file is held to
+        # MAX_CRANK_RATIO of it, model.rigread; between the two Hill's band may refuse)
+        raise ValueError(f"stroke_m: {stroke_m!r} is more than this crank can turn: a stroke "
+                         f"under twice its {d.rod_length_m:g} m rod ({2 * d.rod_length_m:g} m)")
     return m.at(speed_rpm, stroke_m)
 
 

@@ -20,9 +20,8 @@ from ..numerics.magnus import GAUSS_NODES
 from ..numerics.magnus import hill_trace as magnus_trace
 from ..model.derived import Model, as_model
 from ..model.rig import OutOfReach, Problem, Rig
-from .cycle import (CYCLE_PHASE, DRIVE_SERIES_TOLERANCE, HARMONIC_STEPS, MAX_STEPS, MIN_STEPS,
-                    STEP_PHASE, chain_steps, check_equilibrium, default_steps, drive_nodes,
-                    modal_monodromy, operating)
+from .cycle import (CYCLE_PHASE, DRIVE_SERIES_TOLERANCE, MAX_STEPS, chain_steps,
+                    check_equilibrium, drive_nodes, modal_monodromy, operating)
 
 UNDAMPED_TOLERANCE = 1e-9  # |rho| <= 1 + this counts as on the unit circle (undamped)
 CONVERGENCE_TOLERANCE = 1e-8  # accepted change of the multipliers under refinement
@@ -65,16 +64,13 @@ class Settings:
 
     truncation: int | None = None  # Hill rows -R..R (one link)
     harmonics: int | None = None  # leading drive harmonics kept in Hill's determinant
-    steps: int | None = None  # RK steps per cycle (several links, or one link by monodromy)
+    steps: int | None = None  # steps per cycle: a scan's Magnus cycles, or the chain's Taylor cycle
     method: str | None = None  # one link, unverified scan points: "hill" (default) or
     # "monodromy"; a verified point (verify=True) is always Hill's, which checks its truncation.
     # Several links: "modal" asks for the sway modes (Hill's determinants, or their 2 x 2
     # monodromies when ``steps`` is set) even with damping coupling the modes (a predictor
     # then); by default they are used where exact.
-    step_phase: float = STEP_PHASE  # RK steps chosen per point: see default_steps
-    min_steps: int = MIN_STEPS
-    per_harmonic: float = HARMONIC_STEPS
-    # the chain's Taylor steps, chosen per point (see cycle.chain_steps)
+    # the chain's Taylor steps chosen per point when ``steps`` is not set (cycle.chain_steps)
     cycle_phase: float = CYCLE_PHASE
     drive_tolerance: float = DRIVE_SERIES_TOLERANCE
 
@@ -198,14 +194,14 @@ def _from_trace(m: Model, equilibrium: str, trace: float, gamma_T: float, method
 
 
 def _rk_trace_stability(m: Model, equilibrium: str, settings: Settings, *,
-                        modal: bool = False) -> Stability:
+                        modal: bool) -> Stability:
     """One link (or each sway mode, ``modal``) by the trace of its 2 x 2 monodromy, judged
     like Hill's trace (same margin), for scans of drives with many harmonics, where a fixed
     cycle is cheaper than the band LU. The damping is taken out (u = exp(gamma t) q) and the
     cycle of u'' + (kappa G(t) - gamma^2) u = 0 is the sixth-order Magnus step (``magnus``),
     MAGNUS_STEP_RATIO of them per RK step: traces to ~1e-9 (the chart's crank rows), in a
     third of DOP853's time (tests/test_magnus.py holds them to solve_ivp)."""
-    n = _steps(m, equilibrium, settings)
+    n = settings.steps  # a scan's RK steps (lines.scan_settings), the same at every point
     steps = math.ceil(MAGNUS_STEP_RATIO * n)
     if modal:
         sign = -1.0 if equilibrium == "inverted" else 1.0
@@ -228,12 +224,6 @@ def _rk_trace_stability(m: Model, equilibrium: str, settings: Settings, *,
 
 
 # ----------------------------------------------------------------------------- several links
-
-
-def _steps(m: Model, equilibrium: str, settings: Settings) -> int:
-    return settings.steps or default_steps(m, equilibrium, step_phase=settings.step_phase,
-                                           min_steps=settings.min_steps,
-                                           per_harmonic=settings.per_harmonic)
 
 
 def _multi_margin(m: Model, rhos) -> float:

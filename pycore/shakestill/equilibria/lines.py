@@ -57,16 +57,15 @@ def scan_settings(model: Model, equilibrium: str, corners: list[Model], *,
     """Numerical settings good enough at every corner of a scan: Hill rows and harmonics
     (one link, or each sway mode of several), or fixed RK steps. Several links are taken by
     their modes where that is exact (``modes_decouple``), or where ``modal`` asks for it as
-    a predictor; else RK steps are chosen at each point from its own rates. ``step_phase``,
-    ``min_steps`` and ``per_harmonic`` size the RK steps (see default_steps); ``step_us``
-    prices one of them against Hill's band (HILL_BAND_US); ``cycle_phase`` and
-    ``drive_tolerance`` size the chain's Taylor steps (see chain_steps)."""
+    a predictor; else the chain's Taylor steps are chosen at each point from its own rates
+    (``cycle_phase`` and ``drive_tolerance``: see chain_steps). ``step_phase``, ``min_steps``
+    and ``per_harmonic`` size the RK steps of the 2 x 2 cycles (see default_steps);
+    ``step_us`` prices one of them against Hill's band (HILL_BAND_US)."""
     several = model.rig.n_links > 1
     if modal is None:
         modal = several and modes_decouple(model)
     if several and not modal:
-        return Settings(step_phase=step_phase, min_steps=min_steps, per_harmonic=per_harmonic,
-                        cycle_phase=cycle_phase, drive_tolerance=drive_tolerance)
+        return Settings(cycle_phase=cycle_phase, drive_tolerance=drive_tolerance)
     forms = [f for c in corners
              for f in (mode_forms(c, equilibrium) if several else (hill_form(c, equilibrium),))]
     steps = None
