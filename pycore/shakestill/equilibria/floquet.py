@@ -185,14 +185,6 @@ def _hill_stability(m: Model, equilibrium: str, settings: Settings, verify: bool
                       work={"truncation": rows, "harmonics": len(forms[0].theta)})
 
 
-def _from_trace(m: Model, equilibrium: str, trace: float, gamma_T: float, method: str,
-                **extra) -> Stability:
-    """One link's verdict from the trace of its undamped form u = exp(gamma t) q."""
-    margin = abs(trace) - 2.0 * math.cosh(gamma_T)
-    rhos = multipliers_from_trace(trace, math.exp(-gamma_T))
-    return _summarise(m, equilibrium, rhos, margin, method, **extra)
-
-
 def _rk_trace_stability(m: Model, equilibrium: str, settings: Settings, *,
                         modal: bool) -> Stability:
     """One link (or each sway mode, ``modal``) by the trace of its 2 x 2 monodromy, judged
