@@ -276,6 +276,11 @@ def stability(rig: Rig | Model, equilibrium: str, speed_rpm: float | None = None
     if settings.method not in (None, "hill", "monodromy", "modal"):
         raise ValueError(f"settings.method: {settings.method!r} is not 'hill', 'monodromy' "
                          "or 'modal'")
+    for name in ("truncation", "harmonics", "steps"):
+        value = getattr(settings, name)
+        if value is not None and not (isinstance(value, int) and value >= 1):
+            raise ValueError(f"settings.{name}: {value!r} must be a whole number of at least 1, "
+                             "or None to choose it")
     try:
         if settings.method in ("monodromy", "modal") and settings.steps and not verify and \
                 (rig.n_links == 1 or settings.method == "modal"):
