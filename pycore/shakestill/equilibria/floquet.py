@@ -74,6 +74,14 @@ class Settings:
     cycle_phase: float = CYCLE_PHASE
     drive_tolerance: float = DRIVE_SERIES_TOLERANCE
 
+    def __post_init__(self):
+        # once per scan, not per point: a zero here crashed inside Hill's determinant
+        for name in ("truncation", "harmonics", "steps"):
+            value = getattr(self, name)
+            if value is not None and not (isinstance(value, int) and value >= 1):
+                raise ValueError(f"settings.{name}: {value!r} must be a whole number of at "
+                                 "least 1, or None to choose it")
+
 
 def modes_decouple(model: Rig | Model) -> bool:
     """True where the sway modes are the chain exactly: no damping, or damping whose modal
@@ -276,11 +284,6 @@ def stability(rig: Rig | Model, equilibrium: str, speed_rpm: float | None = None
     if settings.method not in (None, "hill", "monodromy", "modal"):
         raise ValueError(f"settings.method: {settings.method!r} is not 'hill', 'monodromy' "
                          "or 'modal'")
-    for name in ("truncation", "harmonics", "steps"):
-        value = getattr(settings, name)
-        if value is not None and not (isinstance(value, int) and value >= 1):
-            raise ValueError(f"settings.{name}: {value!r} must be a whole number of at least 1, "
-                             "or None to choose it")
     try:
         if settings.method in ("monodromy", "modal") and settings.steps and not verify and \
                 (rig.n_links == 1 or settings.method == "modal"):
