@@ -7,7 +7,10 @@ one-link chart as a pendulum of its own (a point mass on a massless rod of
 length L_i, damper c_i L_i^2, so that its equation is the mode's), and the
 chain holds where every mode holds: a row's stable stretches are the
 intersection of its modes'. A mode's row is walked with its own tongues'
-spacing and costs a one-link row, so N links cost about N one-link charts.
+spacing and costs a one-link row, so N links cost about N one-link charts; a mode
+is left out of a row for an equilibrium where the modes before it (the longest
+first) already leave no stable stretch (the upright chain of a short top link is
+often held by no row that its longest mode holds).
 
 Where joint dampers couple the modes the intersection is a prediction: every
 edge is confirmed and placed by the chain's exact monodromy (module
@@ -16,6 +19,7 @@ edge is confirmed and placed by the chain's exact monodromy (module
 
 from __future__ import annotations
 
+import math
 from dataclasses import replace
 from typing import Callable, Iterator
 
@@ -28,6 +32,7 @@ from .floquet import modes_decouple
 from .lines import Edge, Probe, speed_points, walk
 
 RowSteps = Iterator[tuple[int, Row | None]]
+Needed = Callable[[int, str], bool]  # (row index, equilibrium) -> chart that mode there?
 
 
 def mode_models(model: Model, speed_min: float) -> tuple[Model, ...]:
@@ -44,9 +49,24 @@ def mode_models(model: Model, speed_min: float) -> tuple[Model, ...]:
 
 
 def modal_row_steps(model: Model, speed_min: float, y_axis: str, equilibria,
-                    row_steps: Callable[[Model], RowSteps]) -> RowSteps:
-    """(row index, chain row) in the order ``row_steps`` computes each mode's rows."""
-    walkers = [row_steps(mode) for mode in mode_models(model, speed_min)]
+                    row_steps: Callable[[Model, Needed], RowSteps]) -> RowSteps:
+    """(row index, chain row) in the order ``row_steps`` computes each mode's rows.
+
+    The modes' walkers run in step (``zip``), mode 0 first, so when mode i computes row j
+    the rows j of the modes before it are known: ``needed`` tells it to leave out an
+    equilibrium that they leave without a stable stretch there."""
+    latest: dict[int, Row | None] = {}  # mode -> its row last computed
+
+    def recorded(i: int, steps: RowSteps) -> RowSteps:
+        for j, row in steps:
+            latest[i] = row
+            yield j, row
+
+    def needed(i: int) -> Needed:
+        return lambda j, eq: bool(_common_stable([latest[k] for k in range(i)], eq))
+
+    walkers = [recorded(i, row_steps(mode, needed(i)))
+               for i, mode in enumerate(mode_models(model, speed_min))]
     coupled = not modes_decouple(model)
     done: dict[int, tuple[Row, Row]] = {}  # row index -> (chain row, its modes' prediction)
     for computed in zip(*walkers):
@@ -73,7 +93,7 @@ def chain_row(model: Model, rows: list[Row], y_axis: str, equilibria, coupled: b
     lo, hi = first.speed_min, first.speed_max
     edges, at_lo, count = {}, {}, sum(r.evaluations for r in rows)
     for eq in equilibria:
-        stretches = _intersection([r.stable_intervals(eq) for r in rows])
+        stretches = _common_stable(rows, eq)
         at_lo[eq] = bool(stretches) and stretches[0][0] <= lo
         found = []
         for a, b in stretches:
@@ -138,6 +158,16 @@ def _corrected(predicted: Row, near: tuple[tuple[Row, Row], ...], eq: str) -> tu
         t = (predicted.y - y0) / (y1 - y0)
         ratios = [a + t * (b - a) for a, b in zip(r0, r1)]
     return tuple(Edge(e.x * r, e.gained) for e, r in zip(own, ratios))
+
+
+def _common_stable(rows: list[Row | None], eq: str) -> list[tuple[float, float]]:
+    """Where every one of these mode rows holds ``eq`` stable (everywhere for no rows); none
+    if one of them is missing or left ``eq`` out (the modes before it held it nowhere)."""
+    if any(row is None or eq not in row.edges for row in rows):
+        return []
+    if not rows:
+        return [(-math.inf, math.inf)]
+    return _intersection([row.stable_intervals(eq) for row in rows])
 
 
 def _intersection(interval_sets: list[list[list[float]]]) -> list[tuple[float, float]]:
