@@ -108,10 +108,14 @@ def chain_row(model: Model, rows: list[Row], y_axis: str, equilibria, coupled: b
     for eq in equilibria:
         point = row_line(model, y_axis, first.y)[0]
         exact = Probe(model, eq, point, row_settings(model, point, lo, hi, eq, modal=False))
-        aimed = _corrected(predicted, near, eq)
+        aimed, checks = _aimed(predicted, near, eq)
         prefix: list[Edge] = []
         confirmed = confirm_edges(exact, aimed, at_lo[eq], lo, hi, rtol=CHART_RTOL,
                                   prefix=prefix)
+        for x in checks:  # the islands left out of the aim: one exact verdict each
+            if confirmed is not None and exact(x).stable != _verdict(confirmed, at_lo[eq], x):
+                prefix[:] = [e for e in confirmed if e.x < x]
+                confirmed = None
         if confirmed is None:  # follow the exact neighbours where they agree, else walk
             guide = predict(near[0][0], near[1][0], eq, first.y) if len(near) == 2 else None
             confirmed = _walk_on(exact, prefix, hi) if guide is None and prefix else None
@@ -121,6 +125,12 @@ def chain_row(model: Model, rows: list[Row], y_axis: str, equilibria, coupled: b
         edges[eq] = confirmed
         count += exact.count
     return Row(first.y, lo, hi, edges, at_lo, count), predicted
+
+
+def _verdict(edges: tuple[Edge, ...], stable_at_lo: bool, x: float) -> bool:
+    """A row's verdict at x from its edges."""
+    before = [e for e in edges if e.x < x]
+    return before[-1].gained if before else stable_at_lo
 
 
 def _walk_on(exact: Probe, prefix: list[Edge], hi: float) -> tuple[Edge, ...] | None:
@@ -135,29 +145,69 @@ def _walk_on(exact: Probe, prefix: list[Edge], hi: float) -> tuple[Edge, ...] | 
     return tuple(prefix) + tuple(walk(exact, start, s, points, rtol=CHART_RTOL))
 
 
-def _corrected(predicted: Row, near: tuple[tuple[Row, Row], ...], eq: str) -> tuple[Edge, ...]:
-    """The modes' edges moved by the exact-to-modal ratio of the same edges in the nearest
-    rows (interpolated in y), where those rows have the same edges as this one: the dampers'
-    shift of an edge (up to ~1e-3) changes slowly from row to row, so the aim lands well
-    inside the tightest confirmation bracket. Unchanged where no neighbour matches."""
+# An exact edge within MATCH (relative) of a modal edge of its kind in the same row is that
+# edge moved by the dampers (their shift is up to ~1e-2); a modal edge within NEAR of one
+# in a neighbour row is the same edge there (rows are a small step of y apart).
+MATCH = 0.02
+NEAR = 0.1
+
+
+def _aimed(predicted: Row, near: tuple[tuple[Row, Row], ...],
+           eq: str) -> tuple[tuple[Edge, ...], list[float]]:
+    """(edges to confirm, points to check): each modal edge moved by the exact-to-modal ratio
+    of the same edge in the nearest rows (interpolated in y): the dampers' shift of an edge
+    changes slowly from row to row, so the aim lands well inside the tightest confirmation
+    bracket. Edges are matched one by one (nearest of their kind), so an edge the exact rows
+    lack does not keep the others from their shift. A stable or unstable stretch between two
+    modal edges that no neighbour's exact row has (the dampers close a narrow island the
+    modes show) is left out of the aim, and its middle is returned: one exact verdict there
+    must agree with the confirmed row."""
     own = predicted.edges[eq]
-    kinds = [e.gained for e in own]
-    shifts = []
-    for exact, modal in near:
-        e, m = exact.edges[eq], modal.edges[eq]
-        if [x.gained for x in e] == kinds == [x.gained for x in m] and \
-                exact.stable_at_min[eq] == predicted.stable_at_min[eq] and \
-                exact.speed_min == predicted.speed_min:
-            shifts.append((exact.y, [a.x / b.x for a, b in zip(e, m)]))
-    if not shifts:
-        return own
-    if len(shifts) == 1 or shifts[0][0] == shifts[1][0]:
-        ratios = shifts[0][1]
-    else:
-        (y0, r0), (y1, r1) = shifts
-        t = (predicted.y - y0) / (y1 - y0)
-        ratios = [a + t * (b - a) for a, b in zip(r0, r1)]
-    return tuple(Edge(e.x * r, e.gained) for e, r in zip(own, ratios))
+    pairs = [pair for pair in near if pair[0].speed_min == predicted.speed_min]
+    shifts = [[_shift(exact, modal, eq, e) for exact, modal in pairs] for e in own]
+    aimed, checks, k = [], [], 0
+    while k < len(own):
+        if k + 1 < len(own) and _absent(shifts[k]) and _absent(shifts[k + 1]):
+            checks.append((own[k].x * own[k + 1].x) ** 0.5)
+            k += 2
+            continue
+        aimed.append(Edge(own[k].x * _ratio(predicted.y, pairs, shifts[k]), own[k].gained))
+        k += 1
+    return tuple(aimed), checks
+
+
+def _shift(exact: Row, modal: Row, eq: str, e: Edge) -> float | None | bool:
+    """In a neighbour row: exact / modal position of the modal edge matching ``e``; False
+    if that modal edge has no exact partner there; None if no modal edge matches ``e``."""
+    m = _nearest(modal.edges[eq], e, NEAR)
+    if m is None:
+        return None
+    x = _nearest(exact.edges[eq], m, MATCH)
+    return False if x is None else x.x / m.x
+
+
+def _nearest(edges: tuple[Edge, ...], e: Edge, within: float) -> Edge | None:
+    """The edge of ``e``'s kind nearest to it, if within ``within`` relative."""
+    same = [f for f in edges if f.gained == e.gained and abs(f.x / e.x - 1) <= within]
+    return min(same, key=lambda f: abs(f.x - e.x), default=None)
+
+
+def _absent(shifts: list) -> bool:
+    """True if the neighbours that show this edge in their modes all lack it exactly."""
+    votes = [s for s in shifts if s is not None]
+    return bool(votes) and all(s is False for s in votes)
+
+
+def _ratio(y: float, pairs: tuple[tuple[Row, Row], ...], shifts: list) -> float:
+    """The neighbours' exact-to-modal ratios of an edge, interpolated in y (1 if none)."""
+    known = [(exact.y, r) for (exact, _), r in zip(pairs, shifts)
+             if r is not None and r is not False]
+    if not known:
+        return 1.0
+    if len(known) == 1 or known[0][0] == known[1][0]:
+        return known[0][1]
+    (y0, r0), (y1, r1) = known
+    return r0 + (y - y0) / (y1 - y0) * (r1 - r0)
 
 
 def _common_stable(rows: list[Row | None], eq: str) -> list[tuple[float, float]]:
