@@ -29,7 +29,7 @@ from .chart_rows import (CHART_RTOL, CHART_SPEED_STEP, Row, line_edges, predict,
                          row_settings)
 from .confirm import confirm_edges
 from .floquet import modes_decouple
-from .lines import Edge, Probe, speed_points, walk
+from .lines import Edge, Probe, edge_between, speed_points, walk
 
 RowSteps = Iterator[tuple[int, Row | None]]
 Needed = Callable[[int, str], bool]  # (row index, equilibrium) -> chart that mode there?
@@ -112,10 +112,9 @@ def chain_row(model: Model, rows: list[Row], y_axis: str, equilibria, coupled: b
         prefix: list[Edge] = []
         confirmed = confirm_edges(exact, aimed, at_lo[eq], lo, hi, rtol=CHART_RTOL,
                                   prefix=prefix)
-        for x in checks:  # the islands left out of the aim: one exact verdict each
-            if confirmed is not None and exact(x).stable != _verdict(confirmed, at_lo[eq], x):
-                prefix[:] = [e for e in confirmed if e.x < x]
-                confirmed = None
+        for a, b in checks:  # the islands left out of the aim
+            if confirmed is not None:
+                confirmed = _island(exact, confirmed, at_lo[eq], a, b, prefix)
         if confirmed is None:  # follow the exact neighbours where they agree, else walk
             guide = predict(near[0][0], near[1][0], eq, first.y) if len(near) == 2 else None
             confirmed = _walk_on(exact, prefix, hi) if guide is None and prefix else None
@@ -125,6 +124,27 @@ def chain_row(model: Model, rows: list[Row], y_axis: str, equilibria, coupled: b
         edges[eq] = confirmed
         count += exact.count
     return Row(first.y, lo, hi, edges, at_lo, count), predicted
+
+
+def _island(exact: Probe, edges: tuple[Edge, ...], stable_at_lo: bool, a: float, b: float,
+            prefix: list[Edge]) -> tuple[Edge, ...] | None:
+    """The confirmed row, checked where it left out an island the modes show from a to b:
+    unchanged if the exact verdict in its middle is the row's there; else with the island's
+    two edges, each found between that middle and an end of the modes' island where the
+    exact verdict is the row's (the dampers shrink the island they do not close). None if
+    the ends do not bear that out (``prefix`` then holds the edges before the island)."""
+    x = (a * b) ** 0.5
+    around = _verdict(edges, stable_at_lo, x)
+    sx = exact(x)
+    if sx.stable == around:
+        return edges
+    sa, sb = exact(a), exact(b)
+    if sa.stable != around or sb.stable != around or any(a <= e.x <= b for e in edges):
+        prefix[:] = [e for e in edges if e.x < a]
+        return None
+    inner = (edge_between(exact, (a, sa), (x, sx), rtol=CHART_RTOL),
+             edge_between(exact, (x, sx), (b, sb), rtol=CHART_RTOL))
+    return tuple(sorted(edges + inner, key=lambda e: e.x))
 
 
 def _verdict(edges: tuple[Edge, ...], stable_at_lo: bool, x: float) -> bool:
@@ -153,22 +173,22 @@ NEAR = 0.1
 
 
 def _aimed(predicted: Row, near: tuple[tuple[Row, Row], ...],
-           eq: str) -> tuple[tuple[Edge, ...], list[float]]:
+           eq: str) -> tuple[tuple[Edge, ...], list[tuple[float, float]]]:
     """(edges to confirm, points to check): each modal edge moved by the exact-to-modal ratio
     of the same edge in the nearest rows (interpolated in y): the dampers' shift of an edge
     changes slowly from row to row, so the aim lands well inside the tightest confirmation
     bracket. Edges are matched one by one (nearest of their kind), so an edge the exact rows
     lack does not keep the others from their shift. A stable or unstable stretch between two
     modal edges that no neighbour's exact row has (the dampers close a narrow island the
-    modes show) is left out of the aim, and its middle is returned: one exact verdict there
-    must agree with the confirmed row."""
+    modes show) is left out of the aim, and its ends are returned to be checked
+    (``_island``)."""
     own = predicted.edges[eq]
     pairs = [pair for pair in near if pair[0].speed_min == predicted.speed_min]
     shifts = [[_shift(exact, modal, eq, e) for exact, modal in pairs] for e in own]
     aimed, checks, k = [], [], 0
     while k < len(own):
         if k + 1 < len(own) and _absent(shifts[k]) and _absent(shifts[k + 1]):
-            checks.append((own[k].x * own[k + 1].x) ** 0.5)
+            checks.append((own[k].x, own[k + 1].x))
             k += 2
             continue
         aimed.append(Edge(own[k].x * _ratio(predicted.y, pairs, shifts[k]), own[k].gained))
