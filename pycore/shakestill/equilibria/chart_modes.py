@@ -174,10 +174,10 @@ NEAR = 0.1
 
 def _aimed(predicted: Row, near: tuple[tuple[Row, Row], ...],
            eq: str) -> tuple[tuple[Edge, ...], list[tuple[float, float]]]:
-    """(edges to confirm, points to check): each modal edge moved by the exact-to-modal ratio
-    of the same edge in the nearest rows (interpolated in y): the dampers' shift of an edge
-    changes slowly from row to row, so the aim lands well inside the tightest confirmation
-    bracket. Edges are matched one by one (nearest of their kind), so an edge the exact rows
+    """(edges to confirm, islands left out: their modal ends): each modal edge moved by the
+    exact-to-modal ratio of the same edge in the nearest rows (interpolated in y): the
+    dampers' shift of an edge changes slowly from row to row, so the aim lands well inside
+    the tightest confirmation bracket. Edges are matched one by one (nearest of their kind), so an edge the exact rows
     lack does not keep the others from their shift. A stable or unstable stretch between two
     modal edges that no neighbour's exact row has (the dampers close a narrow island the
     modes show) is left out of the aim, and its ends are returned to be checked
