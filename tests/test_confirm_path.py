@@ -27,6 +27,7 @@ from scipy import special
 
 import refsolvers as R
 import shakestill as ss
+from shakestill.equilibria.chart_modes import _walk_on
 from shakestill.equilibria.confirm import _secant, confirm_edges, place_edge, tight_edge
 from shakestill.equilibria.lines import Edge, Probe, scan_settings
 from shakestill.model.derived import as_model
@@ -365,3 +366,19 @@ def test_brent_closes_the_bracket_to_the_precision_asked(make_probe):
     probe = make_probe()
     placed = place_edge(probe, Edge(x, False), True, LO, HI, 1e-9)
     assert abs(placed.x / lo2 - 1) < 3e-9
+
+def test_a_refused_row_is_walked_exactly_from_its_last_confirmed_edge(make_probe):
+    # chart_modes._walk_on: a row whose confirmation was refused after it placed an edge
+    # keeps that edge and walks exactly from just past it to the row's end. From the second
+    # tongue's low end the walk must meet its high end and both ends of the principal
+    # tongue: the Mathieu edges b_2, a_1, b_1 (scipy.special), within the chart's precision
+    # and alternating; a kept edge whose verdict just past it is not the one it gained
+    # (stable there, yet said to lose stability) gives None.
+    (lo2, hi2), (lo1, hi1) = tongue(2), tongue(1)
+    probe = make_probe()
+    row = _walk_on(probe, [Edge(lo2, False)], HI)
+    assert [e.gained for e in row] == [False, True, False, True]
+    assert row[0].x == lo2
+    for got, want in zip(row[1:], (hi2, lo1, hi1)):
+        assert abs(got.x / want - 1) < 1e-6, (got.x, want)
+    assert _walk_on(make_probe(), [Edge(hi2 * 1.01, False)], HI) is None
