@@ -15,6 +15,8 @@ import refsolvers as ref
 import shakestill as ss
 from shakestill.equilibria import lines
 from shakestill.equilibria.chart import accel_lines, chart, chart_dict, chart_steps
+from shakestill.equilibria.reach import MAX_TONGUE_ORDER
+from shakestill.model.rig import OutOfReach
 from test_stability_chart import TWO_LINKS, rod_rig
 
 
@@ -128,3 +130,21 @@ def test_accel_lines_sit_on_49_evenly_spaced_speeds():
         assert len(points) == len(want)
         for (v, y), (wv, wy) in zip(points, want):
             assert math.isclose(v, wv, rel_tol=1e-12) and math.isclose(y, wy, rel_tol=1e-9)
+
+
+def test_a_speed_range_wholly_below_the_scan_floor_is_refused_by_name():
+    # The scans resolve speeds down to 2 f0 / MAX_TONGUE_ORDER (f0 the hanging frequency:
+    # below it the drive meets too many parametric resonances); a rig whose whole speed
+    # range lies below that floor gets no chart but OutOfReach naming limits.speed_rpm, with
+    # the range and the floor in rpm (hand: f0 = sqrt(3 g / (2 L)) / (2 pi) for the rod).
+    f0 = math.sqrt(3 * 9.80665 / (2 * 0.3)) / (2 * math.pi)
+    floor = 2 * f0 / MAX_TONGUE_ORDER * 60
+    rig = rod_rig(limits={"speed_rpm": [floor / 4, floor / 2], "stroke_m": [0.0, 0.05]})
+    try:
+        chart(rig, rows=3)
+    except OutOfReach as refused:
+        (problem,) = refused.problems
+    else:
+        raise AssertionError("a chart below the scan floor was drawn")
+    assert problem.path == "limits.speed_rpm"
+    assert f"below {floor:.4g} rpm" in problem.message
