@@ -59,6 +59,7 @@ MODULES = [
 # The fast engine tests that exercise those modules (the slow long-run cases and the
 # Pyodide/browser passes are left out: each mutant re-runs the tests that reach it).
 TESTS = [
+    "tests/test_chart_fast.py",
     "tests/test_check_fields.py", "tests/test_estimates_modes.py", "tests/test_windows.py",
     "tests/test_ref_kapitza.py",
     "tests/test_ref_mathieu.py", "tests/test_hill.py", "tests/test_ref_crank.py",
