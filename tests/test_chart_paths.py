@@ -15,8 +15,9 @@ from scipy.special import mathieu_a, mathieu_b
 import shakestill as ss
 from shakestill.equilibria import lines
 from shakestill.equilibria.chart import accel_lines, chart, chart_dict
-from shakestill.model.derived import derive
 from shakestill.equilibria.chart_rows import line_edges, row_line, row_settings
+from shakestill.model.derived import derive
+from shakestill.model.rig import OutOfReach
 from test_stability_chart import TWO_LINKS, _ref_max_multiplier, rod_rig
 
 G = 9.80665
@@ -226,3 +227,24 @@ def test_two_link_damped_chart_edges_tongues_and_tally(counted):
     assert [(n, i) for _, n, i in got] == [(n, i) for _, n, i in want]
     assert [s for s, _, _ in got] == pytest.approx([s for s, _, _ in want], rel=1e-9)
     assert all(t["label"] == f"n={t['order']} (mode {t['mode'] + 1})" for t in c.tongues)
+
+
+def test_speed_floor_and_off_vertical_map():
+    # The scans resolve drives down to a 25th of the pendulum's own frequency (the rule the
+    # refusal states): f0 = sqrt(g / l_eq) / 2 pi (small-swing compound pendulum, textbook).
+    rig = rod_rig(limits={"speed_rpm": [1, 2], "stroke_m": [0.0, 0.05]})
+    f0 = math.sqrt(G / ss.properties(rig).l_eq_m) / (2 * math.pi)
+    with pytest.raises(OutOfReach, match=r"limits.speed_rpm: \[1.0, 2.0\] rpm is outside"):
+        chart(rig, rows=2)
+    low = chart(rod_rig(limits={"speed_rpm": [1, 400], "stroke_m": [0.01, 0.02]}), rows=2,
+                columns=False)
+    assert low.speed_range == pytest.approx((60 * f0 / 25, 400), rel=1e-6)
+    assert any(n.startswith(f"the chart starts at {60 * f0 / 25:.4g} rpm") for n in low.notes)
+    # a drive tilted off vertical: the map is of the vertical drive, and says so in its JSON
+    tilted = ss.rig_from_dict({**ss.rig_to_dict(rod_rig()),
+                               "drive": {"waveform": "sine", "stroke_m": 0.02,
+                                         "speed_rpm": 1500, "axis_tilt_deg": 5.0}})
+    d = chart_dict(chart(tilted, rows=2, columns=False))
+    assert (d["drive_as_mapped"], d["rig_axis_tilt_deg"], d["rig_side_stroke_m"]) == \
+        ("vertical", 5.0, 0.0)
+    assert "held_orbit" not in d and "drive_as_mapped" not in chart_dict(low)
