@@ -15,7 +15,10 @@ from scipy.special import mathieu_a, mathieu_b
 import shakestill as ss
 from shakestill.equilibria import lines
 from shakestill.equilibria.chart import accel_lines, chart, chart_dict
-from shakestill.equilibria.chart_rows import line_edges, row_line, row_settings
+from shakestill.equilibria.chart_rows import (CHART_RTOL, FOLLOW_CHECKS, FOLLOW_TIGHT,
+                                              FOLLOW_TIGHT_SLACK, line_edges, row_line,
+                                              row_settings)
+from shakestill.equilibria.confirm import CONFIRM_HALF_WIDTHS
 from shakestill.model.derived import derive
 from shakestill.model.rig import OutOfReach
 from test_stability_chart import TWO_LINKS, _ref_max_multiplier, rod_rig
@@ -134,6 +137,17 @@ def test_a_followed_row_costs_less_than_its_walk(counted):
         assert [e.x for e in edges] == pytest.approx([e.x for e in row.edges[eq]], rel=1e-7)
         walked += probe.count
     assert row.evaluations < walked / 2
+    # ... and no more than following needs at worst: its first verdict, the spot checks and
+    # the row's end, and per edge the tight bracket's two ends plus the bisection steps that
+    # take that bracket (FOLLOW_TIGHT of the neighbours' spread + FOLLOW_TIGHT_SLACK) to
+    # CHART_RTOL; Brent's method on a smooth margin needs fewer than bisection
+    need = 1 + FOLLOW_CHECKS + 1
+    for eq in ("inverted", "hanging"):
+        for p, q in zip(c.rows[2].edges[eq], c.rows[4].edges[eq]):
+            x = (p.x + q.x) / 2
+            half = abs(q.x - p.x) * FOLLOW_TIGHT + FOLLOW_TIGHT_SLACK * x
+            need += 2 + math.ceil(math.log2(2 * half / (x * CHART_RTOL)))
+    assert row.evaluations <= need
 
 
 @pytest.mark.parametrize("waveform", ["sine", "crank"])
@@ -203,6 +217,15 @@ def test_two_link_damped_chart_edges_tongues_and_tally(counted):
                   limits={"speed_rpm": [300, 3000], "stroke_m": [0.01, 0.04]})
     c = chart(rig, rows=5)
     assert c.complete and c.evaluations == counted[0]
+    # Column edges of a coupled chain are aimed on the straight line through the same edge at
+    # the two speeds before (a boundary along speed is smooth) and placed in one tight
+    # bracket: its two ends plus at most the bisection steps from that bracket
+    # (CONFIRM_HALF_WIDTHS[0] either side) to CHART_RTOL. The few edges found on the modes
+    # first (each gap's first two, and an aim that misses) cost more, but the average stays
+    # within that per edge.
+    spent = c.evaluations - sum(r.evaluations for r in c.rows)
+    per_edge = 2 + math.ceil(math.log2(2 * CONFIRM_HALF_WIDTHS[0] / CHART_RTOL))
+    assert spent <= per_edge * sum(len(v) for v in c.columns.values())
     checked = 0
     for row in c.rows:
         for eq in ("inverted", "hanging"):
