@@ -101,6 +101,18 @@ def test_sine_chart_json_rows_lines_and_tongues_against_mathieu(counted):
             assert curve != "a0" and b["kind"] == "tongue edge"
     columns = sum(len(v) for v in d["column_edges"].values())
     assert lines_points == row_edges + columns
+    # The linking rule (chart.boundaries): a line goes on to the nearest edge of its kind at
+    # the next station within 8% of the span across the stations (speed for rows, y for the
+    # columns). The rows' Kapitza edges here lie on a_0 at 2523, 1892, 1514, 1262 rpm, more
+    # than 0.08 x 2940 rpm apart: four lines of one point, never one line through them.
+    rows_y = {r["y"] for r in d["rows"]}
+    for b in d["boundaries"]:
+        by_rows = all(y in rows_y for _, y in b["points"])
+        for (x0, y0), (x1, y1) in zip(b["points"], b["points"][1:]):
+            assert (abs(x1 - x0) <= 0.08 * 2940) if by_rows else (abs(y1 - y0) <= 0.08 * 0.02)
+    kapitza_rows = [b for b in d["boundaries"] if b["equilibrium"] == "inverted"
+                    and all(y in rows_y for _, y in b["points"])]
+    assert sorted(len(b["points"]) for b in kapitza_rows) == [1, 1, 1, 1]
     # the two hanging tongues cross all five rows: four lines of five points, one per row
     tongue_lines = [b for b in d["boundaries"] if b["equilibrium"] == "hanging"]
     assert len(tongue_lines) == 4
@@ -271,3 +283,20 @@ def test_speed_floor_and_off_vertical_map():
     assert (d["drive_as_mapped"], d["rig_axis_tilt_deg"], d["rig_side_stroke_m"]) == \
         ("vertical", 5.0, 0.0)
     assert "held_orbit" not in d and "drive_as_mapped" not in chart_dict(low)
+
+
+def test_stroke_for_a_peak_accel_of_a_sampled_drive():
+    # Samples of y = (s/2)(cos phi + 0.1 cos 2 phi): span s (max at 0, min at pi), and
+    # |y''| = (s/2)|cos phi + 0.4 cos 2 phi| peaks at phi = 0 as 0.7 s (differentiated by
+    # hand). So the stroke giving a peak acceleration A at w is A / (0.7 w^2).
+    s, n = 0.02, 64
+    samples = [s / 2 * (math.cos(2 * math.pi * k / n) + 0.1 * math.cos(4 * math.pi * k / n))
+               for k in range(n)]
+    rig = ss.rig_from_dict({**ss.rig_to_dict(rod_rig()),
+                            "drive": {"waveform": "samples", "samples_m": samples,
+                                      "speed_rpm": 1500}})
+    assert rig.drive.stroke_m == pytest.approx(s, rel=1e-12)
+    for accel, speed in ((50.0, 600.0), (400.0, 2400.0)):
+        w = 2 * math.pi * speed / 60
+        stroke = row_line(rig, "accel", accel)[0](speed)[1]
+        assert stroke == pytest.approx(accel / (0.7 * w * w), rel=1e-9)
