@@ -300,3 +300,19 @@ def test_stroke_for_a_peak_accel_of_a_sampled_drive():
         w = 2 * math.pi * speed / 60
         stroke = row_line(rig, "accel", accel)[0](speed)[1]
         assert stroke == pytest.approx(accel / (0.7 * w * w), rel=1e-9)
+
+
+def test_accel_lines_chosen_under_the_chart_corner():
+    # The chart's corner (top stroke 0.05 m at 3000 rpm) reaches (0.05/2) w^2 = 251.6 g (sine
+    # formula); the iso-lines are the five largest of 1-2-5 steps below it, and each line has
+    # every one of the 49 evenly spaced speeds at which its stroke 2 g G / w^2 fits the chart.
+    rig = rod_rig()
+    c = chart(rig, rows=2, columns=False)
+    corner = 0.025 * (2 * math.pi * 3000 / 60) ** 2 / G
+    assert corner == pytest.approx(251.6, abs=0.1)
+    got = accel_lines(c, rig)
+    assert [g for g, _ in got] == [10, 20, 50, 100, 200]
+    for g_value, line in got:
+        speeds = [60 + 2940 * k / 48 for k in range(49)]
+        fits = [v for v in speeds if 2 * g_value * G / (2 * math.pi * v / 60) ** 2 <= 0.05]
+        assert [v for v, _ in line] == pytest.approx(fits, rel=1e-12)
