@@ -231,13 +231,14 @@ def test_two_link_damped_chart_edges_tongues_and_tally(counted):
     assert c.complete and c.evaluations == counted[0]
     # Column edges of a coupled chain are aimed on the straight line through the same edge at
     # the two speeds before (a boundary along speed is smooth) and placed in one tight
-    # bracket: its two ends plus at most the bisection steps from that bracket
-    # (CONFIRM_HALF_WIDTHS[0] either side) to CHART_RTOL. The few edges found on the modes
-    # first (each gap's first two, and an aim that misses) cost more, but the average stays
-    # within that per edge.
+    # bracket: its two ends plus the secant-led Brent steps from that bracket (relative
+    # 1e-4) to CHART_RTOL (1e-8): superlinear, order 1.6, so 3 steps. The method lands that
+    # aim nine times in ten (chart_columns' _trace); the rest cost a modal edge and its
+    # confirmation, each at most two ends and the bisection steps of a tight bracket.
     spent = c.evaluations - sum(r.evaluations for r in c.rows)
-    per_edge = 2 + math.ceil(math.log2(2 * CONFIRM_HALF_WIDTHS[0] / CHART_RTOL))
-    assert spent <= per_edge * sum(len(v) for v in c.columns.values())
+    aimed = 2 + 3
+    missed = 2 * (2 + math.ceil(math.log2(2 * CONFIRM_HALF_WIDTHS[0] / CHART_RTOL)))
+    assert spent <= (0.9 * aimed + 0.1 * missed) * sum(len(v) for v in c.columns.values())
     checked = 0
     for row in c.rows:
         for eq in ("inverted", "hanging"):
