@@ -317,3 +317,36 @@ def test_accel_lines_chosen_under_the_chart_corner():
         speeds = [60 + 2940 * k / 48 for k in range(49)]
         fits = [v for v in speeds if 2 * g_value * G / (2 * math.pi * v / 60) ** 2 <= 0.05]
         assert [v for v, _ in line] == pytest.approx(fits, rel=1e-12)
+
+
+def test_boundaries_link_each_edge_to_the_nearest_of_its_kind_within_the_gap():
+    # chart.boundaries' rule (its docstring): an edge continues the open line of its kind
+    # nearest to it within 8% of the span (speeds 1000-2000 rpm: 80 rpm; y 0-1: 0.08).
+    # Expected lines worked by hand (common practice, no source).
+    from shakestill.equilibria.chart import Chart, boundaries
+    from shakestill.equilibria.chart_columns import ColumnEdge
+    from shakestill.equilibria.chart_rows import Row
+    from shakestill.equilibria.lines import Edge
+
+    def row(y, *edges):
+        return Row(y, 1000.0, 2000.0, {"hanging": tuple(Edge(x, g) for x, g in edges)},
+                   {"hanging": True}, 0)
+
+    c = Chart("stroke", (1000.0, 2000.0), (0.0, 1.0),
+              (row(0.0, (1100, False), (1500, False)),
+               row(0.5, (1040, False), (1150, False), (1540, True), (1560, False)),
+               row(1.0, (1700, False))),
+              (), 0, True, (),
+              columns={"hanging": (ColumnEdge(1900.0, 0.2, True), ColumnEdge(1950.0, 0.25, True),
+                                   ColumnEdge(1950.0, 0.9, True))})
+    got = sorted((b["gained"], [tuple(p) for p in b["points"]]) for b in boundaries(c, "hanging"))
+    assert got == sorted([
+        (False, [(1100, 0.0), (1150, 0.5)]),  # 50 rpm away, nearer than 1040 (60 rpm)
+        (False, [(1040, 0.5)]),  # left over: a line of its own
+        (False, [(1500, 0.0), (1560, 0.5)]),  # not 1540: a gained edge, the other kind
+        (False, [(1700, 1.0)]),  # 140 rpm from 1560: beyond the 80 rpm gap
+        (True, [(1540, 0.5)]),
+        (True, [(1900, 0.2), (1950, 0.25)]),  # columns: 0.05 apart in y, within 0.08
+        (True, [(1950, 0.9)]),  # 0.7 from 0.2: a line of its own
+    ])
+    assert {b["kind"] for b in boundaries(c, "hanging")} == {"tongue edge"}
