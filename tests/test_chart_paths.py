@@ -350,3 +350,27 @@ def test_boundaries_link_each_edge_to_the_nearest_of_its_kind_within_the_gap():
         (True, [(1950, 0.9)]),  # 0.7 from 0.2: a line of its own
     ])
     assert {b["kind"] for b in boundaries(c, "hanging")} == {"tongue edge"}
+
+
+def test_column_and_island_helpers_by_hand():
+    # Worked by hand from each helper's docstring (common practice, no source).
+    from shakestill.equilibria.chart_columns import _evenly_spaced, _swept
+    from shakestill.equilibria.chart_modes import _verdict
+    from shakestill.equilibria.chart_rows import Row
+    from shakestill.equilibria.lines import Edge
+
+    def row(*edges):
+        return Row(0.0, 1000.0, 2000.0, {"inverted": tuple(Edge(x, g) for x, g in edges)},
+                   {"inverted": False}, 0)
+
+    below, above = row((1200, True), (1800, False)), row((1300, True))
+    # an edge of one row and one of the same kind in the other on either side of x (ends in)
+    assert [_swept(below, above, "inverted", x) for x in (1199, 1200, 1250, 1300, 1301, 1790)] \
+        == [False, True, True, True, False, False]
+    # neighbouring columns: the same step twice, to 1e-9 relative
+    assert [_evenly_spaced(*xs) for xs in ((1, 2, 3), (1, 2, 4), (1, 3, 4), (1, 2, 2))] == \
+        [True, False, False, False]
+    # a row's verdict at x: the last edge before x says, else the verdict at the row's start
+    edges = (Edge(100, True), Edge(200, False), Edge(300, True))
+    assert [_verdict(edges, False, x) for x in (50, 100, 150, 250, 350)] == \
+        [False, False, True, False, True]
