@@ -256,6 +256,10 @@ EQUIVALENT.update({
     "shakestill.equilibria.chart_columns.x__trace__mutmut_30": "the exact probe's modal=None "
         "for False: lines.scan_settings resolves None to `several and modes_decouple(model)`, "
         "which is False on the coupled chain this branch serves (and None stays None)",
+    "shakestill.equilibria.chart_columns.x__trace__mutmut_79": "the modal probe made for an "
+        "uncoupled rig too: scan_settings gives it the exact probe's settings (one link: "
+        "`modal` is read only with several links; several decoupled links: None resolves to "
+        "True), and only that probe is asked and counted",
 })
 
 
