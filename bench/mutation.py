@@ -59,6 +59,7 @@ MODULES = [
 # The fast engine tests that exercise those modules (the slow long-run cases and the
 # Pyodide/browser passes are left out: each mutant re-runs the tests that reach it).
 TESTS = [
+    "tests/test_chart_fast.py",
     "tests/test_check_fields.py", "tests/test_estimates_modes.py", "tests/test_windows.py",
     "tests/test_ref_kapitza.py",
     "tests/test_ref_mathieu.py", "tests/test_hill.py", "tests/test_ref_crank.py",
@@ -249,6 +250,17 @@ _SAME_MODEL = ("simulate() builds `chain_model or model(rig)`: the same model of
                "that loads() passes (a saving, not a number)")
 EQUIVALENT.update({f"shakestill.motion.loads.x_loads__mutmut_{i}": _SAME_MODEL
                    for i in (91, 94, 114, 117)})
+
+# equilibria/chart_columns.py (issue 12, mutchart3)
+EQUIVALENT.update({
+    "shakestill.equilibria.chart_columns.x__trace__mutmut_30": "the exact probe's modal=None "
+        "for False: lines.scan_settings resolves None to `several and modes_decouple(model)`, "
+        "which is False on the coupled chain this branch serves (and None stays None)",
+    "shakestill.equilibria.chart_columns.x__trace__mutmut_79": "the modal probe made for an "
+        "uncoupled rig too: scan_settings gives it the exact probe's settings (one link: "
+        "`modal` is read only with several links; several decoupled links: None resolves to "
+        "True), and only that probe is asked and counted",
+})
 
 
 def stage(modules: list[str], tests: list[str]) -> None:
