@@ -143,6 +143,23 @@ EQUIVALENT.update({
 })
 
 
+# equilibria/floquet.py (issue 12, 2026-12-05)
+_Q = "shakestill.equilibria.floquet.x_"
+EQUIVALENT.update({
+    _Q + "_hill_form_of__mutmut_31": "the sine coefficients' imaginary part with its sign turned: "
+        "every theta_n conjugated is the real equation run backwards, p(-z), whose monodromy is "
+        "similar to the inverse of p(z)'s; a 2 x 2 of determinant 1 and its inverse have one trace",
+    _Q + "_hill_form_of__mutmut_38": "imag == 1.0 for == 0.0 keeps a real drive's coefficients "
+        "complex: hill_trace's complex path gives the same real trace (tests/test_hill_parts.py)",
+    _Q + "_hill_stability__mutmut_4": "one link through mode_forms: its one sway mode is the link "
+        "itself (X = 1 / sqrt(J)), the same Hill form, and the method named by `modal` still",
+    _Q + "_hill_stability__mutmut_18": "rows starts at 1 for 0: it is max'ed with R, and R >= 8 "
+        "(default_truncation's least) or a given truncation >= 1",
+    _Q + "_hill_stability__mutmut_44": ">= MAX_HILL_WORK for >: (2R + 1)(2H + 1)^2 is odd and the "
+        "limit 4,000,000 even, so they are never equal",
+})
+
+
 # equilibria/runup.py (issue 12, mutrun)
 _R = "shakestill.equilibria.runup.x_"
 EQUIVALENT.update({

@@ -10,7 +10,7 @@ one-link Hill probe is cheap. References:
 - the path each edge should take, from confirm.py's documented rule (its module docstring):
   a bracket of relative half-width 5e-5 about the predicted edge; if both its verdicts are
   alike, up to 2 more such brackets aimed at the zero of the margin's secant through the last
-  two points, while the aim stays within 1e-3 of the prediction; then the brackets of half-width
+  two points, while the aim stays within 2e-2 of the prediction; then the brackets of half-width
   1e-3 and 2e-2 (clipped to [last, hi]); the first that confirms aims a tight bracket, clipped to
   it, at its secant, and Brent's method closes it if that misses. Each secant and verdict is
   taken from the reference margin, so the expected points come from outside the engine.
@@ -27,6 +27,7 @@ from scipy import special
 
 import refsolvers as R
 import shakestill as ss
+from shakestill.equilibria.chart_modes import _walk_on
 from shakestill.equilibria.confirm import _secant, confirm_edges, place_edge, tight_edge
 from shakestill.equilibria.lines import Edge, Probe, scan_settings
 from shakestill.model.derived import as_model
@@ -37,6 +38,7 @@ LO, HI = 250.0, 900.0  # the row: both tongues (near 299 and 547-671 rpm) lie in
 RTOL = 1e-4  # passed to Brent's method: looser than EDGE_RTOL (1e-10), so each is told apart
 HALF = (5e-5, 1e-3, 2e-2)  # the documented bracket half-widths, tightest first
 AIMS = 2  # the documented re-aims of the tightest bracket
+REACH = 2e-2  # ... while the aim stays this close to the prediction (relative)
 SAME = 1e-9  # two points the same: the engine's and the reference's secants agree to ~1e-12
 
 
@@ -90,7 +92,7 @@ def expected_path(x, before, gained, last, hi, stroke=STROKE):
             break
         fa, fb = ref_margin(a, stroke), ref_margin(b, stroke)
         aim = a - fa * (b - a) / (fb - fa)
-        if not abs(aim / x - 1) < HALF[1]:
+        if not abs(aim / x - 1) < REACH:
             break
     if edge is not None:
         return points, None, edge
@@ -158,19 +160,19 @@ def assert_path(probe, placed, x, before, gained, last, hi, truth, stroke=STROKE
 
 PRINCIPAL = [(1, end, off) for end in ("low", "high")
              for off in (0.0, 3e-4, -3e-4, 8e-4, 1e-3, -1e-3, 2e-3, 5e-3, -5e-3)]
-# The second tongue is 2.5e-3 (relative) wide: its margin bends within the 1e-3 of a re-aim, so
-# the first re-aim misses and the second confirms (6 points), or the re-aims leave 1e-3; the
-# high end's wider brackets are clipped at the low end placed before it.
+# The second tongue is 2.5e-3 (relative) wide: its margin bends within a re-aim's reach, so
+# the first re-aim misses and the second confirms (6 points), or both miss and the 1e-3
+# bracket confirms, its secant's tight bracket misses and Brent closes it (10 points and
+# Brent: low end +8e-4, +9e-4, high end -8e-4); the high end's wider brackets are clipped at
+# the low end placed before it.
 SECOND = [(2, end, off) for end in ("low", "high") for off in (-8e-4, -5e-4, 5e-4, 8e-4, 9e-4)]
 
 
 @pytest.mark.parametrize("order, end, offset", PRINCIPAL + SECOND)
 def test_place_edge_takes_the_documented_path(make_probe, order, end, offset):
     # A tongue's ends (Mathieu a_n, b_n), predicted `offset` off (relative).
-    # Principal tongue: 0: the first tight bracket confirms (2 points); 3e-4, 8e-4: it misses
-    # and one secant re-aim confirms (4 points); 1e-3 (low end), -1e-3 (high end): the re-aim
-    # leaves 1e-3, and the 1e-3 bracket confirms and aims a tight one clipped to its end;
-    # 2e-3, 5e-3: only the 2e-2 bracket confirms and Brent closes it.
+    # Principal tongue: 0: the first tight bracket confirms (2 points); +-3e-4 to 2e-3: it
+    # misses and one secant re-aim confirms (4 points); +-5e-3: two re-aims (6 points).
     lo, hi = tongue(order)
     truth, before, gained = (lo, True, False) if end == "low" else (hi, False, True)
     last = LO if end == "low" else lo
@@ -183,19 +185,22 @@ def test_place_edge_takes_the_documented_path(make_probe, order, end, offset):
     assert_path(probe, placed, x, before, gained, last, HI, truth)
 
 
-@pytest.mark.parametrize("offset, points", [(0.0, 2), (3e-4, 4), (8e-4, 4), (1e-3, 6),
-                                            (5e-3, 8)])
+@pytest.mark.parametrize("offset, points", [(0.0, 2), (3e-4, 4), (8e-4, 4), (1e-3, 4),
+                                            (5e-3, 6), (-5e-3, 6), (1e-2, 6), (1.5e-2, 6)])
 def test_evaluations_before_brent_are_the_methods_count(make_probe, offset, points):
-    # Counted by hand from the documented rule for the low end of the principal tongue:
-    # 2 per bracket tried (tight, re-aimed tight, 1e-3, 2e-2, tight about a secant).
+    # For the low end of the principal tongue, 2 verdicts per bracket tried (the documented
+    # rule): the tight bracket alone when the prediction is the edge; one re-aim by the
+    # reference margin's secant up to 1e-3 off, two from 5e-3 to 1.5e-2 (the margin's
+    # curvature there: the reference path, expected_path, takes as many); never Brent's
+    # method on this tongue, whose edge is 1.1e-1 wide and whose margin is smooth across it.
     lo1, _ = tongue(1)
+    x = lo1 * (1 + offset)
+    want, brent, _ = expected_path(x, True, False, LO, HI)
+    assert len(want) == points and brent is None
     probe = make_probe()
-    placed = place_edge(probe, Edge(lo1 * (1 + offset), False), True, LO, HI, RTOL)
-    if offset < 5e-3:
-        assert probe.count == points
-    else:  # then Brent: at least one more point, within its documented bracket
-        assert probe.count > points
-    assert abs(placed.x / lo1 - 1) <= RTOL
+    placed = place_edge(probe, Edge(x, False), True, LO, HI, RTOL)
+    assert probe.count == points
+    assert abs(placed.x / lo1 - 1) <= 2 * HALF[0]
 
 
 def test_brackets_are_clipped_to_last_and_hi(make_probe):
@@ -338,22 +343,42 @@ def test_the_re_aims_run_out_on_a_narrower_tongue(make_probe, offset):
 
 
 def test_brent_closes_the_bracket_to_the_precision_asked(make_probe):
-    # Predicted 5e-3 above a_1's speed only the 2e-2 bracket confirms and its secant's tight
-    # bracket misses (8 points, the path above), so Brent's method closes it at the precision
-    # asked: at 1e-2 relative the bracket (half-width 2e-2, so about 2.5e-2 of tolerance by
-    # Brent's stopping rule, 2 rtol |b| + xtol / 2, Brent 1973 ch. 4) is already closed: no
+    # Predicted 9e-4 above the second tongue's low end (its margin bends within a re-aim):
+    # three tight brackets miss, the 1e-3 bracket confirms and its secant's tight bracket
+    # misses (10 points, the reference path), so Brent's method closes that bracket at the
+    # precision asked: at 1e-2 relative the bracket (half-width 1e-3, far inside Brent's
+    # stopping tolerance 2 rtol |b| + xtol / 2, Brent 1973 ch. 4) is already closed: no
     # more points, an end of that bracket returned. The same through confirm_edges.
-    lo1, _ = tongue(1)
-    x = lo1 * (1 + 5e-3)
-    ends = pytest.approx([max(LO, x * (1 - HALF[2])), min(HI, x * (1 + HALF[2]))], rel=1e-15)
+    lo2, _ = tongue(2)
+    x = lo2 * (1 + 9e-4)
+    points, brent, _ = expected_path(x, True, False, LO, HI)
+    assert len(points) == 10 and brent is not None
+    ends = pytest.approx([x * (1 - HALF[1]), x * (1 + HALF[1])], rel=1e-15)
+    assert list(brent) == ends
     probe = make_probe()
     placed = place_edge(probe, Edge(x, False), True, LO, HI, 1e-2)
-    assert probe.count == 8 and probe.points[4:6] == ends
+    assert probe.count == 10 and probe.points[6:8] == ends
     assert [placed.x] == pytest.approx([e for e in ends.expected if e == placed.x])
     probe = make_probe()
     (row,) = confirm_edges(probe, (Edge(x, False),), True, LO, HI, rtol=1e-2)
-    assert probe.count == 8 and row.x == placed.x and row.gained is False
+    assert probe.count == 10 and row.x == placed.x and row.gained is False
     # at 1e-9 it is closed to the Mathieu edge within 1e-9 (relative, plus the reference's)
     probe = make_probe()
     placed = place_edge(probe, Edge(x, False), True, LO, HI, 1e-9)
-    assert abs(placed.x / lo1 - 1) < 3e-9
+    assert abs(placed.x / lo2 - 1) < 3e-9
+
+def test_a_refused_row_is_walked_exactly_from_its_last_confirmed_edge(make_probe):
+    # chart_modes._walk_on: a row whose confirmation was refused after it placed an edge
+    # keeps that edge and walks exactly from just past it to the row's end. From the second
+    # tongue's low end the walk must meet its high end and both ends of the principal
+    # tongue: the Mathieu edges b_2, a_1, b_1 (scipy.special), within the chart's precision
+    # and alternating; a kept edge whose verdict just past it is not the one it gained
+    # (stable there, yet said to lose stability) gives None.
+    (lo2, hi2), (lo1, hi1) = tongue(2), tongue(1)
+    probe = make_probe()
+    row = _walk_on(probe, [Edge(lo2, False)], HI)
+    assert [e.gained for e in row] == [False, True, False, True]
+    assert row[0].x == lo2
+    for got, want in zip(row[1:], (hi2, lo1, hi1)):
+        assert abs(got.x / want - 1) < 1e-6, (got.x, want)
+    assert _walk_on(make_probe(), [Edge(hi2 * 1.01, False)], HI) is None

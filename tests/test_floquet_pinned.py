@@ -227,3 +227,12 @@ def test_the_methods_asked_for_by_name():
                                          r"stroke under twice its 0\.05 m rod \(0\.1 m\)$"):
         ss.stability(ss.rig_from_dict(one_link(ref.crank(0.03, 0.05, 2700.0))), "inverted",
                      2700.0, 0.1)
+
+
+@pytest.mark.parametrize("name", ["truncation", "harmonics", "steps"])
+def test_fixed_settings_below_one_are_refused_by_name(name):
+    # Hill keeps at least one harmonic and one row, a cycle at least one step (a zero here
+    # crashed inside the determinant): refused naming the setting and what it takes.
+    rig = ss.rig_from_dict(one_link(ref.sine(0.02, 2400.0)))
+    with pytest.raises(ValueError, match=rf"^settings\.{name}: 0 must be a whole number of at least 1"):
+        ss.stability(rig, "inverted", settings=Settings(**{name: 0}))

@@ -5,13 +5,15 @@ determinant 1, so its multipliers are those roots, times exp(-gamma T) with damp
 out); scipy.special.mathieu_a / mathieu_b, at which the trace is exactly +-2.
 """
 import math
+import random
 
 import numpy as np
 import pytest
 from scipy.special import mathieu_a, mathieu_b
 
 from refsolvers import hill_trace_by_integration as trace_by_integration
-from shakestill.numerics.hill import default_truncation, hill_trace, multipliers_from_trace
+from shakestill.numerics.hill import (SPECIAL_DIVISOR, _special_rows, default_truncation, hill_trace,
+                                     multipliers_from_trace)
 
 
 @pytest.mark.parametrize("trace", [-7.5, -2.0, -1.3, 0.0, 0.4, 1.999, 2.0, 2.5, 41.0])
@@ -124,3 +126,19 @@ def test_needed_harmonics_scale_the_tolerance_by_a_large_trace():
         want = min(k for k in range(1, 5) if abs(traces[k] - full) <= tol * max(1.0, abs(full)))
         got = needed_harmonics(theta0, theta, default_truncation(theta0, theta), tol=tol)
         assert got == want, (tol, got, want)
+
+
+def test_special_rows_are_the_rows_the_definition_names():
+    # The rows left unnormalised are, by definition (Whittaker & Watson sec. 19.4 divide
+    # row r by theta0 - 4 r^2; hill.py keeps those with |theta0 - 4 r^2| < 1 whole), every r
+    # in -R..R meeting that test: counted here over all 2R + 1 rows, at random theta0 and
+    # right at the poles 4 k^2 +- 1, against the few rows the engine tries.
+    rng = random.Random(19)
+    thetas = [rng.uniform(-20.0, 40000.0) for _ in range(3000)]
+    thetas += [4 * k * k + d for k in range(120) for d in (-1.0, -0.999999, 0.0, 0.999999, 1.0)]
+    thetas += [-1.0, -0.5, 0.0, 0.5, 1.0, math.inf, -math.inf, math.nan]
+    for theta0 in thetas:
+        for truncation in (1, 4, 25, 110):
+            want = [r for r in range(-truncation, truncation + 1)
+                    if abs(theta0 - 4 * r * r) < SPECIAL_DIVISOR]
+            assert _special_rows(theta0, truncation) == want, (theta0, truncation)

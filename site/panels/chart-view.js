@@ -118,8 +118,8 @@ export function createChartView(els, { engine, onPick }) {
           finish("done", `Map complete: ${step.chart.rows.length} rows.`);
           return;
         }
-        status(`Drawing the map: ${Math.round(step.fraction * 100)}% (${step.chart ? step.chart.rows.length : 0} rows `
-          + "so far; the first ones are spread over the whole map, the rest fill in between)", step.fraction);
+        status(`Drawing the map: ${Math.round(step.fraction * 100)}%, ${step.chart ? step.chart.rows.length : 0} rows `
+          + "(spread over the map first, then filled in)", step.fraction);
       }
     } catch (err) {
       if (live() && !(err instanceof Cancelled)) finish("stale", `The map stopped: ${err.message}`);

@@ -20,6 +20,15 @@ export function markFresh(el) {
   delete el.dataset.kept;
 }
 
+/** Write a result on show again (new units) with ``show``, keeping its marks: stale stays
+ * stale, the last session's stays the last session's. */
+export function showAgain(el, show) {
+  const { state, kept } = el.dataset;
+  show();
+  el.dataset.state = state;
+  if (kept) el.dataset.kept = kept;
+}
+
 /**
  * The keeping of one panel's result. ``holder`` carries the state; ``note`` (the holder unless
  * given) gets the words, first, where the panel's next result replaces them.

@@ -8,7 +8,7 @@
 import { h, replaceChildren } from "../lib/dom.js";
 import { Runner, busyMark, num, statusLine } from "../engine/motion-job.js";
 import { displayUnits, lengthShown, unitOf } from "../state/units.js";
-import { isCurrent, lastSession, markFresh } from "./last-session.js";
+import { isCurrent, lastSession, markFresh, showAgain } from "./last-session.js";
 
 const SVG_NS = "http://www.w3.org/2000/svg";
 const EDGE_WORDS = {
@@ -259,10 +259,7 @@ export function createPlanView(els, { engine, getRig, editSpreads, onPick, chart
      * line's words below stay in the units it was worked out in, as their summary says). */
     unitsChanged() {
       if (!shownReply || !["fresh", "cached", "stale"].includes(els.out.dataset.state)) return;
-      const { state, kept: from } = els.out.dataset;
-      show(shownReply);
-      els.out.dataset.state = state;
-      if (from) els.out.dataset.kept = from;
+      showAgain(els.out, () => show(shownReply));
       kept.sayAgain();
       setOverlay();
     },

@@ -5,7 +5,7 @@
 import { h, replaceChildren } from "../lib/dom.js";
 import { Cancelled } from "../engine/worker-client.js";
 import { lengthShown } from "../state/units.js";
-import { isCurrent, lastSession, markFresh } from "./last-session.js";
+import { isCurrent, lastSession, markFresh, showAgain } from "./last-session.js";
 
 const NAMES = { inverted: "Inverted (upright)", hanging: "Hanging" };
 
@@ -136,11 +136,7 @@ export function createRunupView(els, { engine, getRig }) {
     /** The display units changed: the run-up on show is written again in them. */
     unitsChanged() {
       if (!shown) return;
-      const state = els.out.dataset.state;
-      const { kept: from } = els.out.dataset;
-      show(shown);
-      els.out.dataset.state = state;
-      if (from) els.out.dataset.kept = from;
+      showAgain(els.out, () => show(shown));
     },
     /** The rig changed: a shown result is of the old rig (the same rig checked again is not). */
     rigChanged(rig) {

@@ -92,6 +92,48 @@ def test_on_a_phone_terms_explain_themselves_on_tap_and_the_map_saves(new_contex
     assert_map_csv_is_the_cli_chart(page, got.value.path(), tmp_path)
 
 
+# Every frame from the first paint: where the map's legend sits below the map panel's heading,
+# with the map's state then (a rAF loop started before the page's own scripts).
+LEGEND_WATCH = """
+window.__legendTops = [];
+const look = () => {
+  const head = document.getElementById("map-h"), legend = document.querySelector(".map-legend");
+  const chart = document.getElementById("stability-chart");
+  if (head && legend && chart) {
+    const top = Math.round(legend.getBoundingClientRect().top - head.getBoundingClientRect().top);
+    const last = window.__legendTops[window.__legendTops.length - 1];
+    if (!last || last[0] !== top || last[1] !== chart.dataset.state) {
+      window.__legendTops.push([top, chart.dataset.state]);
+    }
+  }
+  requestAnimationFrame(look);
+};
+requestAnimationFrame(look);
+"""
+
+
+@pytest.mark.parametrize("size", sorted(SIZES))
+def test_the_page_below_the_map_holds_still_while_the_map_is_drawn(new_context, server, size):
+    # A term under the map is tapped while the map is drawn: if the map's box or its status
+    # line changes height on the way (empty, drawing, done, drawn again), the words move
+    # under the finger and the tap lands elsewhere. Layout shift as in the Core Web Vitals'
+    # Cumulative Layout Shift (web.dev, "Cumulative Layout Shift"): none is the target here,
+    # to the pixel.
+    context = new_context(**SIZES[size])
+    context.add_init_script(LEGEND_WATCH)
+    page = context.new_page()
+    page.goto(server.url)
+    wait_for_result(page)
+    done = "() => document.getElementById('stability-chart').dataset.state === 'done'"
+    page.wait_for_function(done, timeout=180_000)
+    page.locator("#chart-redraw").tap()
+    page.wait_for_function(done, timeout=180_000)
+    seen = page.evaluate("window.__legendTops")
+    states = {state for _, state in seen}
+    assert {"empty", "running", "done"} <= states, seen
+    assert len({top for top, _ in seen}) == 1, seen
+
+
 @pytest.mark.parametrize("size", sorted(SIZES))
 def test_the_single_file_shares_by_fragment_on_a_tablet_and_a_phone(new_context, offline_file,
                                                                    size):

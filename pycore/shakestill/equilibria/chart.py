@@ -146,7 +146,8 @@ def chart_steps(rig: Rig | Model, *, rows: int | None = None, y_axis: str = "str
         steps = _row_steps(model, ys, y_axis, equilibria)
     else:
         steps = modal_row_steps(model, lo, y_axis, equilibria,
-                                lambda mode: _row_steps(mode, ys, y_axis, equilibria))
+                                lambda mode, needed: _row_steps(mode, ys, y_axis, equilibria,
+                                                                needed))
     for k, (j, row) in enumerate(steps):
         if row is not None:
             done[j] = row
@@ -162,8 +163,10 @@ def chart_steps(rig: Rig | Model, *, rows: int | None = None, y_axis: str = "str
                        notes=notes + ((COLUMN_WORDS.format(len(speeds)),) if columns else ()))
 
 
-def _row_steps(model: Model, ys: list[float], y_axis: str, equilibria):
-    """(row index, row or None) for every row, coarse rows first (``_row_order``)."""
+def _row_steps(model: Model, ys: list[float], y_axis: str, equilibria, needed=None):
+    """(row index, row or None) for every row, coarse rows first (``_row_order``).
+    ``needed(j, equilibrium)``, if given, leaves an equilibrium out of row j when false
+    (the row then has no edges for it)."""
     rows = len(ys)
     order = _row_order(rows)
     coarse = set(order[:len(set(range(0, rows, COARSE_EVERY)) | {rows - 1})])
@@ -179,7 +182,8 @@ def _row_steps(model: Model, ys: list[float], y_axis: str, equilibria):
         return lambda eq, y: predict(done[below], done[above], eq, y)
 
     for j in order:
-        row = scan_row(model, y_axis, ys[j], equilibria, None if j in coarse else guide(j))
+        wanted = [eq for eq in equilibria if needed is None or needed(j, eq)]
+        row = scan_row(model, y_axis, ys[j], wanted, None if j in coarse else guide(j))
         if row is not None:
             done[j] = row
         yield j, row

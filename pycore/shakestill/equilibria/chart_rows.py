@@ -197,7 +197,10 @@ def speed_range(model: Rig | Model) -> tuple[float, float]:
 
 
 def predict(a: Row, b: Row, eq: str, y: float):
-    """(verdict at the row start, [(x, spread, gained)]) if rows a and b agree, else None."""
+    """(verdict at the row start, [(x, spread, gained)]) if rows a and b agree, else None
+    (also when either row left the equilibrium out)."""
+    if eq not in a.edges or eq not in b.edges:
+        return None
     ea, eb = a.edges[eq], b.edges[eq]
     if a.stable_at_min[eq] != b.stable_at_min[eq] or len(ea) != len(eb):
         return None

@@ -74,6 +74,14 @@ class Settings:
     cycle_phase: float = CYCLE_PHASE
     drive_tolerance: float = DRIVE_SERIES_TOLERANCE
 
+    def __post_init__(self):
+        # once per scan, not per point: a zero here crashed inside Hill's determinant
+        for name in ("truncation", "harmonics", "steps"):
+            value = getattr(self, name)
+            if value is not None and not (isinstance(value, int) and value >= 1):
+                raise ValueError(f"settings.{name}: {value!r} must be a whole number of at "
+                                 "least 1, or None to choose it")
+
 
 def modes_decouple(model: Rig | Model) -> bool:
     """True where the sway modes are the chain exactly: no damping, or damping whose modal
@@ -183,14 +191,6 @@ def _hill_stability(m: Model, equilibrium: str, settings: Settings, verify: bool
     return _summarise(m, equilibrium, rhos, max(margins), MODAL_METHOD if modal else "hill",
                       converged=converged, error_estimate=error, message=message,
                       work={"truncation": rows, "harmonics": len(forms[0].theta)})
-
-
-def _from_trace(m: Model, equilibrium: str, trace: float, gamma_T: float, method: str,
-                **extra) -> Stability:
-    """One link's verdict from the trace of its undamped form u = exp(gamma t) q."""
-    margin = abs(trace) - 2.0 * math.cosh(gamma_T)
-    rhos = multipliers_from_trace(trace, math.exp(-gamma_T))
-    return _summarise(m, equilibrium, rhos, margin, method, **extra)
 
 
 def _rk_trace_stability(m: Model, equilibrium: str, settings: Settings, *,

@@ -36,8 +36,18 @@ class HillTrace:
 
 
 def _special_rows(theta0: float, truncation: int) -> list[int]:
-    return [r for r in range(-truncation, truncation + 1)
-            if abs(theta0 - 4 * r * r) < SPECIAL_DIVISOR]
+    """Rows r in -R..R with |theta0 - 4 r^2| < SPECIAL_DIVISOR, ascending. Only |r| next to
+    sqrt(theta0) / 2 (or r = 0) can qualify, so those few are tried, not all 2R + 1 rows
+    (a chart asks this of every Hill determinant)."""
+    near = math.sqrt(theta0) / 2 if theta0 > 0 else 0.0
+    if not math.isfinite(near):
+        return []
+    low = max(0, math.floor(near) - 1)
+    found = {r for m in range(low, low + 4) for r in (-m, m)
+             if m <= truncation and abs(theta0 - 4 * m * m) < SPECIAL_DIVISOR}
+    if abs(theta0) < SPECIAL_DIVISOR:
+        found.add(0)
+    return sorted(found)
 
 
 def _sine_factor(theta0: float, special: list[int]) -> float:
