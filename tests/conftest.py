@@ -18,6 +18,10 @@ SLOW_FILES_FIRST = (
     "tests/browser/test_page.py", "tests/browser/test_words_page.py", "tests/browser/test_panel_units.py",
     "tests/browser/test_motion_panel.py", "tests/browser/test_share.py", "tests/browser/test_hostile_page.py",
     "tests/test_tolerance.py", "tests/browser/test_touch_sizes.py", "tests/browser/test_unit_hints.py",
+    # few tests but long ones (the cold second-visit snapshots ~50 s each, the off-vertical knock
+    # tolerance ~56 s, the map export/cancel ~40 s, 2026-12-05): by count alone they came 36th, 68th and
+    # 70th of 87 files, so one could start late while the other core had little left
+    "tests/browser/test_snapshot.py", "tests/test_tilt_motion.py", "tests/browser/test_chart.py",
 )
 
 

@@ -8,7 +8,7 @@ import pytest
 
 from shakestill.model.safety import CAUTIONS
 
-from pagekit import TABLET_PORTRAIT, open_page, shot, wait_for_result, wait_for_stale
+from pagekit import TOUCH_SIZES, open_page, shot, wait_for_result, wait_for_stale
 
 pytestmark = pytest.mark.browser
 
@@ -109,9 +109,9 @@ SMALL_TARGETS = """(least) => [...document.querySelectorAll("input, select, text
   .filter(([, r]) => r.width < least || r.height < least).map(([name]) => name)"""
 
 
-def test_every_control_is_named_and_big_enough_on_a_tablet(new_context, server):
-    page = new_context(viewport=TABLET_PORTRAIT, has_touch=True, is_mobile=True).new_page()
-    open_page(page, server.url)
+def test_every_control_is_named_and_big_enough_on_a_tablet(booted):
+    page = booted(**TOUCH_SIZES["tablet"])  # the worker's booted tablet page, reset (conftest)
+    wait_for_result(page)
     page.click('button[data-action="add-mass"]')
     assert page.evaluate(UNNAMED) == []
     # Touch targets of at least 44 by 44 CSS px at tablet width (the issue's figure; WCAG 2.2

@@ -22,7 +22,8 @@ from pathlib import Path
 import pytest
 from shakestill import bridge
 
-from pagekit import RESULT_TIMEOUT_MS, TABLET_PORTRAIT, TOP, open_page, open_watched, shot, wait_for_rig
+from pagekit import (RESULT_TIMEOUT_MS, TOP, TOUCH_SIZES, open_page, open_watched, shot, wait_for_result,
+                     wait_for_rig)
 
 pytestmark = pytest.mark.browser
 
@@ -272,20 +273,19 @@ def test_print_keeps_the_fit_without_its_controls(fit_page):
         page.emulate_media(media="screen")
 
 
-def test_tablet_touch_targets_and_screenshot(browser, server):
-    page = open_watched(browser, server.url, TABLET_PORTRAIT, has_touch=True, is_mobile=True)
-    try:
-        page.click("#fit-sample")
-        page.wait_for_function("() => document.getElementById('fit-log').value.length > 0")
-        start_fit(page)
-        wait_for_fit(page)
-        # touch targets of at least 44 by 44 CSS px (the page's --tap size)
-        assert page.evaluate(TOO_SMALL) == []
-        page.locator("section.fit").scroll_into_view_if_needed()
-        shot(page, "tablet-fit-result")
-        assert page.errors == []
-    finally:
-        page.context.close()
+def test_tablet_touch_targets_and_screenshot(booted):
+    # the worker's booted tablet page, reset to a first visit (conftest.BootedPages)
+    page = booted(**TOUCH_SIZES["tablet"])
+    wait_for_result(page)
+    page.click("#fit-sample")
+    page.wait_for_function("() => document.getElementById('fit-log').value.length > 0")
+    start_fit(page)
+    wait_for_fit(page)
+    # touch targets of at least 44 by 44 CSS px (the page's --tap size)
+    assert page.evaluate(TOO_SMALL) == []
+    page.locator("section.fit").scroll_into_view_if_needed()
+    shot(page, "tablet-fit-result")
+    assert page.context.recorder.errors == []
 
 
 def test_sample_loads_in_the_single_file(new_context, offline_file):

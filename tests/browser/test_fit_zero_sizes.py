@@ -16,14 +16,11 @@ import math
 
 import pytest
 
-from pagekit import RESULT_TIMEOUT_MS, SITE, TABLET_PORTRAIT, wait_for_result
+from pagekit import RESULT_TIMEOUT_MS, SITE, TOUCH_SIZES as SIZES, wait_for_result
 from test_fit_panel import cli_fit
 
 pytestmark = pytest.mark.browser
 
-PHONE = {"width": 390, "height": 844}
-SIZES = {"tablet": {"viewport": TABLET_PORTRAIT, "has_touch": True},
-         "phone": {"viewport": PHONE, "has_touch": True, "is_mobile": True}}
 FIT_REL = 1e-6  # page (Pyodide) vs command line (CPython): libm may differ in the last bits
 
 
@@ -38,10 +35,8 @@ def upright_log() -> str:
 
 
 @pytest.mark.parametrize("size", sorted(SIZES))
-def test_an_upright_zero_log_is_fitted_and_plotted_from_its_own_zero(new_context, server,
-                                                                    tmp_path, size):
-    page = new_context(**SIZES[size]).new_page()
-    page.goto(server.url)
+def test_an_upright_zero_log_is_fitted_and_plotted_from_its_own_zero(booted, tmp_path, size):
+    page = booted(**SIZES[size])  # the worker's booted page at this size, reset to a first visit
     wait_for_result(page)
     log = upright_log()
     page.fill("#fit-log", log)

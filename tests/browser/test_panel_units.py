@@ -16,7 +16,8 @@ import re
 
 import pytest
 
-from pagekit import (LAPTOP, TABLET_PORTRAIT, axe_violations, cli_json, open_page, press, shot)
+from pagekit import (LAPTOP, TABLET_PORTRAIT, axe_violations, cli_json, open_page, press, shot,
+                     wait_for_result)
 
 pytestmark = pytest.mark.browser
 
@@ -95,9 +96,11 @@ def test_loads_and_run_up_follow_the_units(new_context, server, size, tmp_path):
     assert page.get_attribute("#runup-result", "data-state") == "fresh"
 
 
-def test_panels_in_dark_mode_and_imperial_pass_the_audit(new_context, server):
-    page = new_context(viewport=LAPTOP, color_scheme="dark", bypass_csp=True).new_page()
-    open_page(page, server.url)
+def test_panels_in_dark_mode_and_imperial_pass_the_audit(booted):
+    # booted pages of the worker, reset to a first visit with the panels' work forgotten
+    # (conftest.BootedPages; tests/browser/test_reset_first_visit.py)
+    page = booted(viewport=LAPTOP, color_scheme="dark", bypass_csp=True)
+    wait_for_result(page)
     page.check('input[name="units"][value="imperial"]')
     page.click("#loads-go")
     page.click("#runup-go")
@@ -125,9 +128,9 @@ def save(page, holder: str):
     return info.value
 
 
-def test_every_plot_saves_its_numbers_as_csv(new_context, server, tmp_path):
-    page = new_context(viewport=LAPTOP).new_page()
-    open_page(page, server.url)
+def test_every_plot_saves_its_numbers_as_csv(demo_page, tmp_path):
+    page = demo_page
+    wait_for_result(page)
     rig = json.loads(page.get_attribute("#check-report", "data-rig"))
     # every picture holder on the page has SVG, PNG and CSV buttons
     holders = page.evaluate("""() => [...new Set([...document.querySelectorAll('button[data-save-from]')]
@@ -181,9 +184,9 @@ def test_every_plot_saves_its_numbers_as_csv(new_context, server, tmp_path):
     assert rows[0][0] == "t_s" and len(rows) > 10
 
 
-def test_fit_numbers_follow_the_units(new_context, server):
-    page = new_context(viewport=TABLET_PORTRAIT, has_touch=True, is_mobile=True).new_page()
-    open_page(page, server.url)
+def test_fit_numbers_follow_the_units(booted):
+    page = booted(**SIZES["tablet"])
+    wait_for_result(page)
     page.tap("#fit-sample")
     page.wait_for_function("() => document.getElementById('fit-log').value.length > 100")
     page.locator("#fit-go").scroll_into_view_if_needed()

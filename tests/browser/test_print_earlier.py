@@ -13,13 +13,14 @@ from __future__ import annotations
 
 import pytest
 
-from pagekit import LAPTOP, RESULT_TIMEOUT_MS, TABLET_PORTRAIT, open_watched, wait_for_result
+from pagekit import LAPTOP, RESULT_TIMEOUT_MS, TOUCH_SIZES, wait_for_result
 
 pytestmark = pytest.mark.browser
 
-PHONE = {"width": 390, "height": 844}
-SIZES = [("desktop", LAPTOP, {}), ("tablet", TABLET_PORTRAIT, {"has_touch": True}),
-         ("phone", PHONE, {"has_touch": True, "is_mobile": True})]
+# booted pages of the worker, reset to a first visit (conftest.BootedPages), with the other
+# touch tests' context options (pagekit.TOUCH_SIZES) so their pages serve here too
+SIZES = [("desktop", {"viewport": LAPTOP}), ("tablet", TOUCH_SIZES["tablet"]),
+         ("phone", TOUCH_SIZES["phone"])]
 
 BEFORE_TEXT = "(sel) => getComputedStyle(document.querySelector(sel), '::before').content"
 
@@ -34,10 +35,10 @@ def on_screen(page):
     page.evaluate("() => window.dispatchEvent(new Event('afterprint'))")
 
 
-@pytest.mark.parametrize("name, viewport, options", SIZES, ids=[s[0] for s in SIZES])
-def test_results_of_an_earlier_rig_are_left_out_of_the_print(browser, server, name, viewport,
-                                                             options):
-    page = open_watched(browser, server.url, viewport=viewport, **options)
+@pytest.mark.parametrize("name, options", SIZES, ids=[s[0] for s in SIZES])
+def test_results_of_an_earlier_rig_are_left_out_of_the_print(booted, name, options):
+    page = booted(**options)
+    wait_for_result(page)
     try:
         page.fill("#runup-rate", "20")
         page.click("#runup-go")
@@ -66,6 +67,10 @@ def test_results_of_an_earlier_rig_are_left_out_of_the_print(browser, server, na
         assert "left out" not in page.inner_text("#print-stamp")
         assert not page.is_visible("#print-earlier")  # the choice itself does not print
         on_screen(page)
-        assert page.errors == []
+        assert page.context.recorder.errors == []
     finally:
-        page.context.close()
+        # the reset leaves the print choice and its words alone: back as the HTML gives them
+        page.evaluate("() => { document.getElementById('print-earlier').checked = false;"
+                      " document.documentElement.classList.remove('print-earlier');"
+                      " document.getElementById('print-stamp').textContent = ''; }")
+        on_screen(page)

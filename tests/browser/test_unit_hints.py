@@ -4,7 +4,9 @@ The independent side is the engine's own refusal, read through the page: a unit 
 typed into the field brings back the validator's message, which names every unit it takes
 ("... use m, cm, mm, um, in, ft"). A unit added to the engine but not to the hint (or a hint
 naming a unit the engine refuses) fails here. Alternative spellings in brackets ("rpm
-(r/min)") are extra and not compared. Desktop, tablet (touch) and phone sizes.
+(r/min)") are extra and not compared. Desktop, tablet (touch) and phone sizes, each on a
+booted page of the worker reset to a first visit (conftest.BootedPages) instead of a boot of
+its own.
 """
 
 from __future__ import annotations
@@ -13,13 +15,14 @@ import re
 
 import pytest
 
-from pagekit import LAPTOP, RESULT_TIMEOUT_MS, TABLET_PORTRAIT, open_watched
+from pagekit import LAPTOP, RESULT_TIMEOUT_MS, TOUCH_SIZES, wait_for_result
 
 pytestmark = pytest.mark.browser
 
-PHONE = {"width": 390, "height": 844}
-SIZES = [("desktop", LAPTOP, {}), ("tablet", TABLET_PORTRAIT, {"has_touch": True}),
-         ("phone", PHONE, {"has_touch": True, "is_mobile": True})]
+# the same context options as the other touch tests (pagekit.TOUCH_SIZES), so their booted
+# pages serve this file too
+SIZES = [("desktop", {"viewport": LAPTOP}), ("tablet", TOUCH_SIZES["tablet"]),
+         ("phone", TOUCH_SIZES["phone"])]
 
 FIELDS_WITH_UNITS = """() => [...document.querySelectorAll('input[data-path]')]
   .filter((input) => input.offsetParent !== null)
@@ -38,9 +41,10 @@ def units_in(text: str, after: str) -> set[str]:
     return {u.strip() for u in listed.split(",") if u.strip()}
 
 
-@pytest.mark.parametrize("name, viewport, options", SIZES, ids=[s[0] for s in SIZES])
-def test_every_hint_names_the_units_the_engine_takes(browser, server, name, viewport, options):
-    page = open_watched(browser, server.url, viewport=viewport, **options)
+@pytest.mark.parametrize("name, options", SIZES, ids=[s[0] for s in SIZES])
+def test_every_hint_names_the_units_the_engine_takes(booted, name, options):
+    page = booted(**options)
+    wait_for_result(page)
     try:
         # the drive's path off vertical sits in a closed group: open it to check its fields
         page.evaluate("() => document.querySelectorAll('details.drive-path')"
@@ -65,6 +69,8 @@ def test_every_hint_names_the_units_the_engine_takes(browser, server, name, view
             page.wait_for_function("(id) => document.getElementById(id).hidden "
                                    "|| !document.getElementById(id).textContent.includes('zorks')",
                                    arg=f["msg"], timeout=RESULT_TIMEOUT_MS)
-        assert page.errors == []
+        assert page.context.recorder.errors == []
     finally:
-        page.context.close()
+        # the reset puts inputs back but not a group's open state: close what this test opened
+        page.evaluate("() => document.querySelectorAll('details.drive-path')"
+                      ".forEach((d) => { d.open = false; })")
