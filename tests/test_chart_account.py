@@ -9,14 +9,11 @@ import math
 import re
 
 import numpy as np
-import scipy.linalg
-
 import refsolvers as ref
+import scipy.linalg
 import shakestill as ss
 from shakestill.equilibria import lines
-from shakestill.equilibria.chart import accel_lines, chart, chart_dict, chart_steps
-from shakestill.equilibria.reach import MAX_TONGUE_ORDER
-from shakestill.model.rig import OutOfReach
+from shakestill.equilibria.chart import chart, chart_dict, chart_steps
 from test_stability_chart import TWO_LINKS, rod_rig
 
 
@@ -112,39 +109,3 @@ def test_tongue_labels_name_the_mode_only_for_several_links():
     assert {t["mode"] for t in two.tongues} == {0, 1}
     for t in two.tongues:
         assert t["label"] == f"n={t['order']} (mode {t['mode'] + 1})"
-
-
-def test_accel_lines_sit_on_49_evenly_spaced_speeds():
-    # Lines of equal peak acceleration over a stroke chart: for a sine drive the peak is
-    # (stroke / 2) w^2, so a g-line's stroke at speed v is 2 a / w^2 (hand); each line's
-    # points lie on the 49 speeds lo + (hi - lo) k / 48, k = 0..48, wherever that stroke is
-    # inside the chart's y range.
-    c = chart(rod_rig(), rows=3)
-    lo, hi = c.speed_range
-    grid = [lo + (hi - lo) * k / 48 for k in range(49)]
-    lines_g = accel_lines(c, rod_rig())
-    assert lines_g
-    for g_value, points in lines_g:
-        want = [[v, 2 * g_value * 9.80665 / (2 * math.pi * v / 60) ** 2] for v in grid]
-        want = [p for p in want if c.y_range[0] <= p[1] <= c.y_range[1]]
-        assert len(points) == len(want)
-        for (v, y), (wv, wy) in zip(points, want):
-            assert math.isclose(v, wv, rel_tol=1e-12) and math.isclose(y, wy, rel_tol=1e-9)
-
-
-def test_a_speed_range_wholly_below_the_scan_floor_is_refused_by_name():
-    # The scans resolve speeds down to 2 f0 / MAX_TONGUE_ORDER (f0 the hanging frequency:
-    # below it the drive meets too many parametric resonances); a rig whose whole speed
-    # range lies below that floor gets no chart but OutOfReach naming limits.speed_rpm, with
-    # the range and the floor in rpm (hand: f0 = sqrt(3 g / (2 L)) / (2 pi) for the rod).
-    f0 = math.sqrt(3 * 9.80665 / (2 * 0.3)) / (2 * math.pi)
-    floor = 2 * f0 / MAX_TONGUE_ORDER * 60
-    rig = rod_rig(limits={"speed_rpm": [floor / 4, floor / 2], "stroke_m": [0.0, 0.05]})
-    try:
-        chart(rig, rows=3)
-    except OutOfReach as refused:
-        (problem,) = refused.problems
-    else:
-        raise AssertionError("a chart below the scan floor was drawn")
-    assert problem.path == "limits.speed_rpm"
-    assert f"below {floor:.4g} rpm" in problem.message

@@ -8,16 +8,21 @@ import math
 
 import numpy as np
 import pytest
+import shakestill as ss
 from scipy.linalg import eigh
 from scipy.optimize import brentq
 from scipy.special import mathieu_a, mathieu_b
-
-import shakestill as ss
 from shakestill.equilibria import lines
 from shakestill.equilibria.chart import accel_lines, chart, chart_dict
-from shakestill.equilibria.chart_rows import (CHART_RTOL, FOLLOW_CHECKS, FOLLOW_TIGHT,
-                                              FOLLOW_TIGHT_SLACK, line_edges, row_line,
-                                              row_settings)
+from shakestill.equilibria.chart_rows import (
+    CHART_RTOL,
+    FOLLOW_CHECKS,
+    FOLLOW_TIGHT,
+    FOLLOW_TIGHT_SLACK,
+    line_edges,
+    row_line,
+    row_settings,
+)
 from shakestill.equilibria.confirm import CONFIRM_HALF_WIDTHS
 from shakestill.model.derived import derive
 from shakestill.model.rig import OutOfReach
@@ -270,8 +275,9 @@ def test_speed_floor_and_off_vertical_map():
     # refusal states): f0 = sqrt(g / l_eq) / 2 pi (small-swing compound pendulum, textbook).
     rig = rod_rig(limits={"speed_rpm": [1, 2], "stroke_m": [0.0, 0.05]})
     f0 = math.sqrt(G / ss.properties(rig).l_eq_m) / (2 * math.pi)
-    with pytest.raises(OutOfReach, match=r"limits.speed_rpm: \[1.0, 2.0\] rpm is outside"):
+    with pytest.raises(OutOfReach, match=r"limits.speed_rpm: \[1.0, 2.0\] rpm is outside") as no:
         chart(rig, rows=2)
+    assert f"below {60 * f0 / 25:.4g} rpm" in str(no.value)
     low = chart(rod_rig(limits={"speed_rpm": [1, 400], "stroke_m": [0.01, 0.02]}), rows=2,
                 columns=False)
     assert low.speed_range == pytest.approx((60 * f0 / 25, 400), rel=1e-6)
