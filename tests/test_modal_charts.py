@@ -3,6 +3,7 @@ references (the source is named beside each check)."""
 
 from __future__ import annotations
 
+import itertools
 import math
 import random
 
@@ -265,3 +266,32 @@ def test_an_island_the_modes_show_and_the_dampers_shrink_or_close():
             sides = [_ref_max_multiplier(data, "hanging", e.x * f, row.y) < 1
                      for f in (1 - 1e-4, 1 + 1e-4)]
             assert sides == [not e.gained, e.gained], (row.y, e.x)
+
+
+def test_the_modes_of_a_coupled_chain_predict_its_edges_with_longer_steps():
+    # The sway modes of a chain whose joint dampers couple them only predict its edges (the
+    # chain's exact monodromy confirms each within 5e-5 relative), so their rows take RK
+    # steps twice as long (chart_rows.PREDICTOR_STEP_PHASE). Each mode of a damped three-link
+    # rig on a crank drive, as the one-link rig the chart scans, has its predicted edges
+    # against the zero of log max |rho| of the solve_ivp monodromy (scipy brentq),
+    # within 1e-6 relative: a fiftieth of that bracket.
+    from shakestill.equilibria.chart_modes import mode_models
+    from shakestill.equilibria.chart_rows import scan_row
+
+    data = _three(damping=4e-4, drive=ref.crank(0.004, 0.05, 24000.0))
+    model = derive(ss.rig_from_dict(data))
+    assert model.modes.coupling > 1e-3  # the dampers couple the modes: predictions only
+    checked = 0
+    for mode in mode_models(model, 300.0):
+        mode_data = ss.rig_to_dict(mode.rig)
+        for eq, stroke in itertools.product(("hanging", "inverted"), (0.02, 0.03)):
+            row = scan_row(mode, "stroke", stroke, (eq,), predictor=True)
+            for edge in row.edges[eq]:
+                def margin(v):
+                    rho = np.linalg.eigvals(ref.monodromy(mode_data, eq, v, stroke))
+                    return math.log(max(abs(rho)))
+                want = brentq(margin, edge.x * (1 - 1e-3), edge.x * (1 + 1e-3), xtol=1e-9,
+                              rtol=1e-10)
+                assert edge.x == pytest.approx(want, rel=1e-6)
+                checked += 1
+    assert checked >= 10  # twelve rows, most of them with edges: none may go unchecked

@@ -145,9 +145,10 @@ def chart_steps(rig: Rig | Model, *, rows: int | None = None, y_axis: str = "str
     if rig.n_links == 1:
         steps = _row_steps(model, ys, y_axis, equilibria)
     else:
+        predictor = not modes_decouple(model)  # the chain's exact monodromy confirms
         steps = modal_row_steps(model, lo, y_axis, equilibria,
                                 lambda mode, needed: _row_steps(mode, ys, y_axis, equilibria,
-                                                                needed))
+                                                                needed, predictor))
     for k, (j, row) in enumerate(steps):
         if row is not None:
             done[j] = row
@@ -163,10 +164,11 @@ def chart_steps(rig: Rig | Model, *, rows: int | None = None, y_axis: str = "str
                        notes=notes + ((COLUMN_WORDS.format(len(speeds)),) if columns else ()))
 
 
-def _row_steps(model: Model, ys: list[float], y_axis: str, equilibria, needed=None):
+def _row_steps(model: Model, ys: list[float], y_axis: str, equilibria, needed=None,
+               predictor: bool = False):
     """(row index, row or None) for every row, coarse rows first (``_row_order``).
     ``needed(j, equilibrium)``, if given, leaves an equilibrium out of row j when false
-    (the row then has no edges for it)."""
+    (the row then has no edges for it); ``predictor``: see ``scan_row``."""
     rows = len(ys)
     order = _row_order(rows)
     coarse = set(order[:len(set(range(0, rows, COARSE_EVERY)) | {rows - 1})])
@@ -183,7 +185,8 @@ def _row_steps(model: Model, ys: list[float], y_axis: str, equilibria, needed=No
 
     for j in order:
         wanted = [eq for eq in equilibria if needed is None or needed(j, eq)]
-        row = scan_row(model, y_axis, ys[j], wanted, None if j in coarse else guide(j))
+        row = scan_row(model, y_axis, ys[j], wanted, None if j in coarse else guide(j),
+                       predictor)
         if row is not None:
             done[j] = row
         yield j, row

@@ -111,7 +111,8 @@ def _trace(model: Model, y_axis: str, equilibrium: str, x: float, y0: float, y1:
         if placed is not None:
             path[:] = [path[1], (x, placed.x)]
             return ColumnEdge(x, placed.x, placed.gained), exact.count
-    probe = _probe(model, equilibrium, point, y0, y1, modal=True) if coupled else exact
+    probe = _probe(model, equilibrium, point, y0, y1, modal=True, predictor=True) \
+        if coupled else exact
     a, b = (y0, probe(y0)), (y1, probe(y1))
     if a[1].stable == b[1].stable:
         return None, probe.count
@@ -142,6 +143,8 @@ def _evenly_spaced(xa: float, xb: float, x: float) -> bool:
     return step > 0 and abs((xb - xa) / step - 1) < 1e-9
 
 
-def _probe(model: Model, equilibrium: str, point, y0: float, y1: float, modal) -> Probe:
+def _probe(model: Model, equilibrium: str, point, y0: float, y1: float, modal,
+           predictor: bool = False) -> Probe:
     corners = [model.at(*point(y)) for y in (y0, y1)]
-    return Probe(model, equilibrium, point, chart_settings(model, equilibrium, corners, modal))
+    return Probe(model, equilibrium, point,
+                 chart_settings(model, equilibrium, corners, modal, predictor))

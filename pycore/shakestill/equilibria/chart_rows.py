@@ -38,6 +38,13 @@ CHART_HARMONIC_STEPS = 1
 # against 0.04-0.06 us a band unit, i.e. 1.25 : 0.05 = 6.25 : 0.25 (in whole crank charts
 # 6.25 beat 9.4 by 30%: wider bands cost more a unit).
 CHART_RK_STEP_US = 6.25
+# RK steps of the sway modes of a chain whose dampers couple them: the modes then only
+# predict its edges, which the chain's exact monodromy confirms and places within
+# confirm.CONFIRM_HALF_WIDTHS[0] (5e-5) of them, so steps twice as long do: the predicted
+# edges moved by at most 3e-7 relative and the exact ones not at all (three-link crank,
+# 2026-12-05), and Magnus is then cheaper than Hill's wider bands for the short modes.
+PREDICTOR_STEP_PHASE = 0.8
+PREDICTOR_MIN_STEPS = 8
 # The chain's Taylor steps of chart points (cycle.chain_steps): multipliers to ~5e-9
 # relative of max(1, |rho|) against solve_ivp on two- and three-link sine and crank drives,
 # a shorter rod too, where the check's settings give ~1e-10 (measured 2026-12-05)
@@ -106,28 +113,37 @@ def row_line(model: Rig | Model, y_axis: str, y: float):
     return (lambda x: (x, stroke_for_peak_accel(rig, y, x))), lo, hi
 
 
-def chart_settings(model: Model, eq: str, corners: list[Model], modal=None):
-    """The chart's scan settings for a line between ``corners`` (its RK steps above)."""
-    return scan_settings(model, eq, corners, step_phase=CHART_STEP_PHASE,
-                         min_steps=CHART_MIN_STEPS, per_harmonic=CHART_HARMONIC_STEPS,
-                         modal=modal, step_us=CHART_RK_STEP_US, cycle_phase=CHART_CYCLE_PHASE,
+def chart_settings(model: Model, eq: str, corners: list[Model], modal=None,
+                   predictor: bool = False):
+    """The chart's scan settings for a line between ``corners`` (its RK steps above);
+    ``predictor``: for sway modes whose edges the chain's exact monodromy confirms."""
+    return scan_settings(model, eq, corners,
+                         step_phase=PREDICTOR_STEP_PHASE if predictor else CHART_STEP_PHASE,
+                         min_steps=PREDICTOR_MIN_STEPS if predictor else CHART_MIN_STEPS,
+                         per_harmonic=CHART_HARMONIC_STEPS, modal=modal,
+                         step_us=CHART_RK_STEP_US, cycle_phase=CHART_CYCLE_PHASE,
                          drive_tolerance=CHART_DRIVE_TOLERANCE)
 
 
-def row_settings(model: Model, point, lo: float, hi: float, eq: str, modal=None):
-    return chart_settings(model, eq, [model.at(v, point(v)[1]) for v in (lo, hi)], modal)
+def row_settings(model: Model, point, lo: float, hi: float, eq: str, modal=None,
+                 predictor: bool = False):
+    return chart_settings(model, eq, [model.at(v, point(v)[1]) for v in (lo, hi)], modal,
+                          predictor)
 
 
-def scan_row(model: Model, y_axis: str, y: float, equilibria, guide=None) -> Row | None:
+def scan_row(model: Model, y_axis: str, y: float, equilibria, guide=None,
+             predictor: bool = False) -> Row | None:
     """One row: follow the edges of two computed neighbour rows where they agree
-    (bracketed root finding near the interpolated edges), else walk the whole row."""
+    (bracketed root finding near the interpolated edges), else walk the whole row.
+    ``predictor``: ``model`` is a sway mode of a chain that confirms the row's edges."""
     line = row_line(model, y_axis, y)
     if line is None:
         return None
     point, lo, hi = line
     edges, start_verdicts, count = {}, {}, 0
     for eq in equilibria:
-        probe = Probe(model, eq, point, row_settings(model, point, lo, hi, eq))
+        probe = Probe(model, eq, point, row_settings(model, point, lo, hi, eq,
+                                                     predictor=predictor))
         s0, edges[eq] = line_edges(probe, lo, hi, guide(eq, y) if guide else None)
         start_verdicts[eq] = s0.stable
         count += probe.count
