@@ -295,3 +295,34 @@ def test_the_modes_of_a_coupled_chain_predict_its_edges_with_longer_steps():
                 assert edge.x == pytest.approx(want, rel=1e-6)
                 checked += 1
     assert checked >= 10  # twelve rows, most of them with edges: none may go unchecked
+
+
+def test_a_tongue_tip_the_dampers_move_is_charted_where_the_chain_has_it():
+    # Three links with joint dampers (modal coupling 0.56): the second mode's principal
+    # hanging tongue (2 f_2 = 283 rpm) opens at a smaller stroke in the chain than in the
+    # mode (whose own damping closes it a row later), so a row between the two tips has
+    # the tongue exactly but not in its prediction. At its centre, 286 rpm, each row's
+    # verdict against the solve_ivp monodromy (DOP853, rtol 1e-11): the tip's row
+    # (0.00605 m) was charted stable at |rho| = 1.0042 before the neighbours' exact
+    # islands were checked there.
+    data = ss.demo_rig_dict()
+    data["drive"].update(waveform="sine", stroke_m=0.016)
+    link = {"length_m": 0.12, "rod_mass_kg": 0.02,
+            "point_masses": [{"mass_kg": 0.01, "at_m": 0.12}], "joint_damping_N_m_s": 1e-4}
+    data["links"] = [{"length_m": 0.15, "rod_mass_kg": 0.03, "joint_damping_N_m_s": 2e-4},
+                     link,
+                     {"length_m": 0.08, "rod_mass_kg": 0.01,
+                      "point_masses": [{"mass_kg": 0.006, "at_m": 0.08}],
+                      "joint_damping_N_m_s": 1e-4}]
+    rig = ss.rig_from_dict(data)
+    assert derive(rig).modes.coupling == pytest.approx(0.56, abs=0.01)
+    c = chart(rig, equilibria=("hanging",))
+    checked = 0
+    for row in c.rows:
+        if 0.0045 <= row.y <= 0.0075:
+            held = any(a <= 286.0 <= b for a, b in row.stable_intervals("hanging"))
+            rho = _ref_max_multiplier(data, "hanging", 286.0, row.y)
+            assert abs(rho - 1) > 1e-3  # no point this close to an edge
+            assert held == (rho < 1), (row.y, rho)
+            checked += 1
+    assert checked >= 9

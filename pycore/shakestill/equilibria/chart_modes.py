@@ -109,6 +109,7 @@ def chain_row(model: Model, rows: list[Row], y_axis: str, equilibria, coupled: b
         point = row_line(model, y_axis, first.y)[0]
         exact = Probe(model, eq, point, row_settings(model, point, lo, hi, eq, modal=False))
         aimed, checks = _aimed(predicted, near, eq)
+        checks = _merged(checks + _unpredicted(predicted, near, eq))
         prefix: list[Edge] = []
         confirmed = confirm_edges(exact, aimed, at_lo[eq], lo, hi, rtol=CHART_RTOL,
                                   prefix=prefix)
@@ -194,6 +195,38 @@ def _aimed(predicted: Row, near: tuple[tuple[Row, Row], ...],
         aimed.append(Edge(own[k].x * _ratio(predicted.y, pairs, shifts[k]), own[k].gained))
         k += 1
     return tuple(aimed), checks
+
+
+def _unpredicted(predicted: Row, near: tuple[tuple[Row, Row], ...],
+                 eq: str) -> list[tuple[float, float]]:
+    """Islands of the neighbours' exact rows that this row's modes do not show (the
+    prediction's verdict in the island's middle is the other one, and no modal edge lies
+    within MATCH of it), widened by MATCH, to be checked (``_island``): where the dampers
+    move a tongue's tip in y (the modes close it a row sooner than the chain does) the exact
+    neighbour has a tongue that the row's prediction lacks."""
+    own = predicted.edges[eq]
+    out = []
+    for exact, _ in near:
+        if exact.speed_min != predicted.speed_min:
+            continue
+        edges = exact.edges[eq]
+        for e, f in zip(edges, edges[1:]):
+            a, b = e.x * (1 - MATCH), f.x * (1 + MATCH)
+            shown = _verdict(own, predicted.stable_at_min[eq], (e.x * f.x) ** 0.5) == e.gained
+            if not shown and not any(a <= g.x <= b for g in own):
+                out.append((max(a, predicted.speed_min), min(b, predicted.speed_max)))
+    return out
+
+
+def _merged(spans: list[tuple[float, float]]) -> list[tuple[float, float]]:
+    """Overlapping spans joined, in order of speed."""
+    out: list[tuple[float, float]] = []
+    for a, b in sorted(spans):
+        if out and a <= out[-1][1]:
+            out[-1] = (out[-1][0], max(out[-1][1], b))
+        else:
+            out.append((a, b))
+    return out
 
 
 def _shift(exact: Row, modal: Row, eq: str, e: Edge) -> float | None | bool:
