@@ -203,3 +203,28 @@ def test_edges_along_speed_are_traced_in_stroke_onto_mathieu_curves():
             assert ref.transition_q_error(a, q) < 1e-6
     drawn = [b for b in chart_dict(c)["boundaries"] if b["kind"] == "upper edge"]
     assert max(len(b["points"]) for b in drawn) > 50  # one line along the traced edge
+
+
+@pytest.mark.parametrize("speeds", [(0.965, 30.0), (0.5, 1.035)], ids=["start", "end"])
+def test_a_tongue_next_to_a_rows_end_is_found(speeds):
+    # A point-mass pendulum (l = 0.1 m, undamped) on a sine drive whose speeds start 3.5%
+    # below its principal hanging tongue, 2 f0 (f0 = sqrt(g / l) / 2 pi), or end 3.5% above
+    # it: the margin falls from the row's end to the nearest scan point, so the tongue
+    # between them shows only as a peak towards that end. Every row with a stroke has the tongue's
+    # two edges, on the Mathieu transition curves b_1 and a_1 (scipy.special; y'' + (a - 2q
+    # cos 2z) y = 0 with a = 4 g / (l w^2), q = stroke / l, so w = 2 sqrt(g / l) / sqrt(a)),
+    # to 1e-8 relative in speed (the chart's precision).
+    length = 0.1
+    top = 2 * math.sqrt(G / length) / (2 * math.pi) * 60
+    rig = ss.rig_from_dict({
+        "format": "shakestill-rig", "version": 1,
+        "links": [{"length_m": length, "point_masses": [{"mass_kg": 0.05, "at_m": length}]}],
+        "drive": {"waveform": "sine", "stroke_m": 0.002, "speed_rpm": 1000},
+        "limits": {"speed_rpm": [speeds[0] * top, speeds[1] * top], "stroke_m": [0.0, 0.004]}})
+    c = chart(rig, rows=5, equilibria=("hanging",), columns=False)
+    for row in c.rows[1:]:
+        near = [e for e in row.edges["hanging"] if 0.9 * top < e.x < 1.1 * top]
+        assert [e.gained for e in near] == [False, True]
+        q = row.y / length
+        want = [top / math.sqrt(mathieu_a(1, q)), top / math.sqrt(mathieu_b(1, q))]
+        assert [e.x for e in near] == pytest.approx(want, rel=1e-8)

@@ -28,6 +28,11 @@ PHASE_STEP = 0.08  # scan spacing in sqrt(|theta0|) ~ 2 f0 / f (tongue n sits ne
 SPEED_STEP = 0.04  # at most this relative change of speed between scan points
 STROKE_POINTS = 50  # scan points across a stroke range
 PEAK_FLOOR = 1e-12  # relative rise that counts as a peak (well above round-off)
+# A margin that peaks towards a line's first or last point has no neighbour beyond it to
+# show the peak: the interval next to that end is halved this many times towards it, each
+# middle tried as a peak (a tongue 3.5% above a chart row's start, between it and the first
+# scan point 8% up, was missed before: 2026-12-05, against solve_ivp).
+END_HALVINGS = 2
 # Cost model of one link's two exact methods (microseconds, measured on CPython 3.11; only
 # the ratio matters): Hill's band LU with more than one harmonic per entry of its band, the
 # fixed RK cycle per step. A scan takes the cheaper one (a sine keeps Hill's tridiagonal form).
@@ -208,22 +213,55 @@ def edge_between(probe: Probe, a, b, *, rtol: float = EDGE_RTOL) -> Edge:
     return Edge(x, gained)
 
 
+def _end_point(probe: Probe, end, inner, rtol: float):
+    """If the margin of ``end`` and ``inner`` (one verdict) peaks towards the line's end
+    point ``end``, a point of the other verdict between them, or None: the interval is
+    halved END_HALVINGS times towards ``end``, each middle tried as a peak there."""
+    sign = 1.0 if end[1].stable else -1.0
+    for _ in range(END_HALVINGS):
+        if not sign * end[1].margin > sign * inner[1].margin:
+            return None
+        x = (end[0] * inner[0]) ** 0.5 if end[0] * inner[0] > 0 else 0.5 * (end[0] + inner[0])
+        middle = (x, probe(x))
+        if middle[1].stable != end[1].stable:
+            return middle
+        hidden = _hidden_point(probe, end, middle, inner, rtol)
+        if hidden is not None:
+            return hidden
+        inner = middle
+    return None
+
+
+def _split(probe: Probe, a, hidden, b, rtol: float) -> list[Edge]:
+    """The two edges about a point ``hidden`` of the other verdict between a and b, in
+    walking order from a."""
+    edges = (edge_between(probe, a, hidden, rtol=rtol), edge_between(probe, hidden, b, rtol=rtol))
+    return sorted(edges, key=lambda e: abs(e.x - a[0]))
+
+
 def walk(probe: Probe, start: float, s0: Stability, points: list[float], *,
          rtol: float = EDGE_RTOL) -> Iterator[Edge]:
     """Every edge met walking from ``start`` through ``points``, in walking order."""
     prev2, prev = None, (start, s0)
-    for x in points:
+    for k, x in enumerate(points):
         cur = (x, probe(x))
         if cur[1].stable != prev[1].stable:
             yield edge_between(probe, prev, cur, rtol=rtol)
             prev2 = None
         else:
-            hidden = _hidden_point(probe, prev2, prev, cur, rtol) if prev2 is not None else None
+            if prev2 is not None:
+                hidden = _hidden_point(probe, prev2, prev, cur, rtol)
+                first = prev2
+            else:
+                hidden = _end_point(probe, prev, cur, rtol) if k == 0 else None
+                first = prev
             if hidden is not None:
-                edges = (edge_between(probe, prev2, hidden, rtol=rtol),
-                         edge_between(probe, hidden, cur, rtol=rtol))
-                yield from sorted(edges, key=lambda e: abs(e.x - prev2[0]))
+                yield from _split(probe, first, hidden, cur, rtol)
                 prev2 = None
             else:
                 prev2 = prev
         prev = cur
+    if prev2 is not None:  # the last point: a peak towards it has no neighbour beyond
+        hidden = _end_point(probe, prev, prev2, rtol)
+        if hidden is not None:
+            yield from _split(probe, prev2, hidden, prev, rtol)
