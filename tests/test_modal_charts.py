@@ -120,7 +120,7 @@ def test_damped_sine_chart_is_confirmed_by_solve_ivp(make):
     # exact monodromy. Reference: solve_ivp monodromy (DOP853, rtol 1e-11): the verdict at
     # 60 random points of the rows (points within 1e-6 of an edge skipped), and the first
     # edges of the busiest row by scipy.optimize.brentq on it to 1e-4 relative (the target).
-    data = make(damping=3e-4)
+    data = make(damping=2e-4)  # dampers that mix the modes by 0.38 at most: predicted
     rig = ss.rig_from_dict(data)
     assert derive(rig).modes.coupling > 0.01  # the dampers do couple the modes
     c = chart(rig, rows=8)
@@ -326,3 +326,41 @@ def test_a_tongue_tip_the_dampers_move_is_charted_where_the_chain_has_it():
             assert held == (rho < 1), (row.y, rho)
             checked += 1
     assert checked >= 9
+
+
+def test_dampers_that_mix_the_modes_strongly_chart_the_chain_exactly():
+    # A heavy damper on a short last link (1.5e-3 N m s) mixes the second and third sway
+    # modes: their cross damping (X^T D X)_23 against the gap of their hanging rates
+    # sqrt(g / L) is 2.5 (scipy.linalg.eigh(K, M) below), and the chain's principal hanging
+    # tongue near 400 rpm is one the undamped modes do not have. The chart walks the chain's
+    # exact monodromy instead: verdicts across each row against solve_ivp (DOP853, rtol
+    # 1e-11), and the busiest row's edges by scipy brentq on it, to 1e-6 relative.
+    from shakestill.equilibria.chart_modes import STRONG_MIXING, damper_mixing
+
+    links = [ref.link(0.12, 0.034, [(0.019, 0.12)]),
+             ref.link(0.11, 0.026, [(0.026, 0.11)], damping=1.7e-4),
+             ref.link(0.055, 0.027, [(0.023, 0.055)], damping=1.5e-3)]
+    data = ref.rig(links, ref.crank(0.01, 0.165, 2000.0),
+                   limits={"speed_rpm": [300.0, 1200.0], "stroke_m": [0.0, 0.007]})
+    mass, damp, stiff = ref.chain_matrices(data, "hanging")
+    lam, x = scipy.linalg.eigh(np.abs(stiff), mass)
+    cross, rates = x.T @ damp @ x, np.sqrt(G * lam)
+    want = max(abs(cross[i, j]) / abs(rates[i] - rates[j])
+               for i in range(3) for j in range(3) if i != j)
+    rig = ss.rig_from_dict(data)
+    assert damper_mixing(derive(rig)) == pytest.approx(want, rel=1e-9)
+    assert want > STRONG_MIXING
+    c = chart(rig, rows=8, equilibria=("hanging",))
+    assert any("every row is walked by the chain's exact monodromy" in n for n in c.notes)
+    for row in c.rows:
+        for speed in (330.0, 380.0, 420.0, 470.0, 600.0):
+            held = any(a <= speed <= b for a, b in row.stable_intervals("hanging"))
+            rho = _ref_max_multiplier(data, "hanging", speed, row.y)
+            if abs(rho - 1) > 1e-6:
+                assert held == (rho < 1), (row.y, speed, rho)
+    row = c.rows[-1]
+    assert len(row.edges["hanging"]) == 2  # the tongue's two sides (verdicts above)
+    for e in row.edges["hanging"]:
+        edge = brentq(lambda v: _ref_max_multiplier(data, "hanging", v, row.y) - 1,
+                      e.x * (1 - 1e-3), e.x * (1 + 1e-3), xtol=1e-10 * e.x)
+        assert e.x == pytest.approx(edge, rel=1e-6)

@@ -19,7 +19,7 @@ from ..model.derived import Model, as_model
 from ..model.linear import EQUILIBRIA
 from ..model.rig import Rig, max_stroke_m, with_operating_point
 from .chart_columns import column_edges, column_speeds
-from .chart_modes import modal_row_steps
+from .chart_modes import STRONG_MIXING, damper_mixing, modal_row_steps, modes_predict
 from .chart_rows import (CHART_RTOL, CHART_SPEED_STEP, Row, predict, scan_row, speed_range,
                          stroke_for_peak_accel)
 from .confirm import CONFIRM_HALF_WIDTHS
@@ -142,7 +142,7 @@ def chart_steps(rig: Rig | Model, *, rows: int | None = None, y_axis: str = "str
     off_vertical = ((rig.drive.axis_tilt_deg, rig.drive.side_stroke_m)
                     if rig.drive.off_vertical else None)
     marks = tongues(model)
-    if rig.n_links == 1:
+    if rig.n_links == 1 or not modes_predict(model):
         steps = _row_steps(model, ys, y_axis, equilibria)
     else:
         predictor = not modes_decouple(model)  # the chain's exact monodromy confirms
@@ -198,6 +198,11 @@ def _modes_words(model: Model) -> str:
              "equivalent length and the chain holds where every mode holds (Acheson 1993)")
     if modes_decouple(model):
         return words + "; no damping couples the modes, so this is exact"
+    if not modes_predict(model):
+        return ("several links: the joint dampers mix the sway modes too much for them to "
+                f"predict the chain (mixing {damper_mixing(model):.2g}, over "
+                f"{STRONG_MIXING:g}: cross damping against the gap between two modes' "
+                "rates), so every row is walked by the chain's exact monodromy")
     return (f"{words}; the joint dampers couple the modes ({model.modes.coupling:.2g}), so "
             "every edge is confirmed by the chain's exact monodromy within "
             f"{CONFIRM_HALF_WIDTHS[0]:g} relative and placed there, and a row the exact "

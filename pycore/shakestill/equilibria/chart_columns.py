@@ -15,6 +15,7 @@ from bisect import bisect_right
 from dataclasses import dataclass
 
 from ..model.derived import Model
+from .chart_modes import modes_predict
 from .chart_rows import CHART_RTOL, Row, chart_settings, stroke_for_peak_accel
 from .confirm import place_edge, tight_edge
 from .floquet import modes_decouple
@@ -102,7 +103,7 @@ def _trace(model: Model, y_axis: str, equilibrium: str, x: float, y0: float, y1:
     else:
         def point(y):
             return x, stroke_for_peak_accel(rig, y, x)
-    coupled = rig.n_links > 1 and not modes_decouple(model)
+    coupled = rig.n_links > 1 and not modes_decouple(model) and modes_predict(model)
     exact = _probe(model, equilibrium, point, y0, y1, modal=False if coupled else None)
     if coupled and len(path) == 2 and _evenly_spaced(path[0][0], path[1][0], x):
         (xa, ya), (xb, yb) = path

@@ -27,6 +27,7 @@ class Modes:
     shapes: tuple[tuple[float, ...], ...]  # link angles per mode, largest +1
     damping: tuple[float, ...]  # modal damping (X^T D X)_ii, 1/s with X^T M X = I
     coupling: float  # largest |(X^T D X)_ij| / sqrt(ii jj), i != j; 0: modes decouple
+    cross_damping: tuple[tuple[float, ...], ...] = ()  # the whole X^T D X, 1/s
 
     @property
     def count(self) -> int:
@@ -59,4 +60,5 @@ def modes_of(ch: Chain) -> Modes:
         big = max(col, key=abs)
         shapes.append(tuple(c / big for c in col))
     return Modes(lengths_m=tuple(1.0 / lams[k] for k in order), shapes=tuple(shapes),
-                 damping=tuple(modal_d[k][k] for k in range(n)), coupling=coupling)
+                 damping=tuple(modal_d[k][k] for k in range(n)), coupling=coupling,
+                 cross_damping=tuple(tuple(row) for row in modal_d))
