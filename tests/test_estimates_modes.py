@@ -15,6 +15,7 @@ from scipy.optimize import brentq
 import refsolvers as ref
 import shakestill as ss
 from shakestill.equilibria.estimates import estimates
+from shakestill.render.report import report_text
 
 G = ref.G_STANDARD
 
@@ -86,6 +87,10 @@ def test_below_the_kapitza_speed_there_is_no_well_and_no_upright_sway():
     want = math.sqrt(aw2 / (2 * length ** 2) + G / length) / (2 * math.pi)
     assert est["hanging_slow_frequency_hz"] == pytest.approx(want, rel=1e-12)
     assert est["hanging_sway_modes_hz"] == [pytest.approx(want, rel=1e-12)]
+    # the report says so in words, with the hanging figure to its three decimals
+    text = report_text(ss.check(ss.rig_from_dict(data)))
+    assert (f"inverted slow sway none: the estimate has it falling over; hanging about "
+            f"{want:.3f} Hz") in text
 
 
 def _mode_lengths(data):

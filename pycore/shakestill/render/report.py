@@ -140,8 +140,8 @@ def report_text(result: dict, warnings=(), units: str = "metric") -> str:
                "stroke" + binds(est["min_speed_mode"]) + " (exact edge: "
                + _edge_text(result["inverted"]) + ")")
     inv = est["inverted_slow_frequency_hz"]
-    out.append("  inverted slow sway about " + (f"{inv:.3f} Hz" if inv else "none (estimate: "
-                                                "unstable)")
+    out.append("  inverted slow sway " + (f"about {inv:.3f} Hz" if inv else
+                                          "none: the estimate has it falling over")
                + f"; hanging about {est['hanging_slow_frequency_hz']:.3f} Hz")
     out.append(f"  inverted lost above a stroke of about {_mm(est['max_stroke_estimate_m'], units)} "
                "at any speed" + binds(est["max_stroke_mode"]))
