@@ -75,3 +75,26 @@ def test_a_defective_pair_keeps_its_sum_and_product():
     assert abs(pair[0] + pair[1] + 2.0) <= 1e-12 * np.linalg.norm(a, 2)
     assert abs(pair[0] * pair[1] - 1.0) <= 1e-10 * np.linalg.norm(a, 2)
     assert worst_mismatch(rest, [0.3 + 0.2j, 0.3 - 0.2j]) <= 1e-12 * np.linalg.norm(a, 2)
+
+
+# A monodromy of a three-link chain whose joint dampers mix its modes (chart_audit seed
+# 303, its 34th rig, 4006 rpm, 22.8 mm, at the chart's settings): angles and rates side by
+# side make entries from 1e-6 to 3e2, and the unbalanced QR stalled on it.
+STALLED = [
+    [0.991183867782361, -1.3545142772694881e-05, -2.39631626061625e-05, 0.014198119690733969, -8.973553547235415e-07, -3.3441197592787866e-06],
+    [-1.6194985033207454e-06, 0.5268225129147946, 0.005063040413232381, -8.973553562822448e-07, 0.00804220884549093, -0.0001007611069841005],
+    [-1.4607315989463053e-06, 0.0031236388250527637, -0.30601808309111556, -3.3441197531546367e-06, -0.00010076110654640944, 0.0028888528450360827],
+    [-1.2361716515090484, 0.005267972919542382, 0.06808152705278012, 0.9911331967856336, -8.615681139663923e-05, -0.00014720083086943142],
+    [0.0002550548163622965, -88.30553463189148, 4.289052634838044, -0.00016249601091108254, 0.517574699817096, -0.003915049117717825],
+    [0.002197282792222457, 2.2145856465125964, -285.2702319338916, -0.000725493847795077, -0.014317486862718075, -0.3214117094671328],
+]
+
+
+def test_a_badly_balanced_monodromy_is_balanced_first():
+    # numpy.linalg.eigvals (LAPACK dgeev, which balances too) for the values
+    want = np.linalg.eigvals(np.array(STALLED))
+    assert worst_mismatch(real_eigvals(STALLED), want) <= 1e-12
+    # any scaling of rows and columns (a similarity D A D^-1, ten decades) balances alike
+    d = 10.0 ** np.linspace(-5, 5, 6)
+    scaled = (np.diag(d) @ np.array(STALLED) @ np.diag(1 / d)).tolist()
+    assert worst_mismatch(real_eigvals(scaled), want) <= 1e-10
