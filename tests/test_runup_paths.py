@@ -15,32 +15,23 @@ import numpy as np
 import pytest
 
 import shakestill as ss
-from test_runup import (END, G, LENGTH, LIMITS, NOTE, RATE, REL, RUNDOWN, SCAN_FLOOR, STROKE,
-                        R, frozen_integral, max_multiplier, rig_data, tongue_rpm,
-                        transfer_gain)
+from test_runup import (END, G, LENGTH, LIMITS, NOTE, RATE, REL, RUNDOWN, STROKE, R,
+                        frozen_integral, max_multiplier, rig_data, tongue_rpm, transfer_gain)
 
 
-def test_a_still_pivot_topples_the_upright_pendulum_only():
-    # stroke 0: no pivot acceleration, the floor is infinite: hanging nothing is crossed (the
-    # empty product 1, minimum rate 0, ok); upright the pendulum falls at every speed, from
-    # the slowest scanned one: its multiplier is exp(sqrt(g / l) T), T = 60 / s, so
-    # I = integral of ln|rho| s / 60 ds = sqrt(g / l) (END - SCAN_FLOOR) (hand)
+def test_a_still_pivot_crosses_nothing():
+    # stroke 0: no pivot acceleration, the floor is infinite, nothing is crossed: the empty
+    # product 1, minimum rate 0, ok (hand, from the documented rule)
     from shakestill.equilibria.runup import runup
     data = R.rig([R.link(LENGTH, 0.0, [(0.1, LENGTH)])], R.sine(0.0, END), limits=LIMITS)
     got = runup(ss.rig_from_dict(data), rate_rpm_s=RATE)
-    assert got["low_speed_floor_rpm"] == math.inf
+    assert got["low_speed_floor_rpm"] == math.inf and got["evaluations"] == 0
     assert (got["start_rpm"], got["end_rpm"]) == (0.0, END)  # from rest to the operating speed
     assert (got["rate_rpm_s"], got["factor"], got["stroke_m"]) == (RATE, 10.0, 0.0)  # as given
-    hanging = got["hanging"]
-    assert hanging["crossings"] == [] and hanging["total_amplification"] == 1.0
-    assert json.dumps(hanging["total_amplification"]) == "1.0"  # the JSON's empty product
-    assert hanging["min_rate_rpm_s"] == 0.0 and hanging["ok"] is True
-    (c,) = got["inverted"]["crossings"]
-    assert (c["speed_from_rpm"], c["speed_to_rpm"]) == (pytest.approx(SCAN_FLOOR, rel=1e-12),
-                                                        END)
-    integral = math.sqrt(G / LENGTH) * (END - SCAN_FLOOR)
-    assert RATE * math.log(c["amplification"]) == pytest.approx(integral, rel=1e-9)
-    assert got["inverted"]["ok"] is False
+    for eq in ("hanging", "inverted"):
+        assert got[eq]["crossings"] == [] and got[eq]["total_amplification"] == 1.0
+        assert json.dumps(got[eq]["total_amplification"]) == "1.0"  # the JSON's empty product
+        assert got[eq]["min_rate_rpm_s"] == 0.0 and got[eq]["ok"] is True
 
 
 @pytest.mark.parametrize("kwargs, words", [
@@ -144,19 +135,19 @@ def test_inverted_growth_its_cap_and_when_a_ramp_is_simulated(model):
     # I / 201 not (None); and the frozen figure's exponent is capped at 700 (e^700, below the
     # largest double e^709.8): at R = I / 750 the figure is e^700 (hand).
     from shakestill.equilibria.runup import crossings
-    integral = frozen_integral(SCAN_FLOOR, END, "inverted")
+    integral = frozen_integral(FLOOR, END, "inverted")
     (c,), _ = crossings(model, "inverted", 0.0, END, RATE)
-    assert (c.speed_from_rpm, c.speed_to_rpm) == (pytest.approx(SCAN_FLOOR, rel=1e-12), END)
+    assert (c.speed_from_rpm, c.speed_to_rpm) == (pytest.approx(FLOOR, rel=1e-12), END)
     assert RATE * math.log(c.amplification) == pytest.approx(integral, rel=1e-9)
     assert c.simulated_amplification is None
     # the peak is the largest multiplier at the 20 Gauss-Legendre nodes (numpy's leggauss)
     # mapped by s = a + (b - a)(1 - cos(pi (x + 1) / 2)) / 2 (the module's docstring): upside
     # down it grows towards low speed, so the node nearest the floor (solve_ivp)
     x = min(np.polynomial.legendre.leggauss(20)[0])
-    s = SCAN_FLOOR + (END - SCAN_FLOOR) / 2 * (1 - math.cos(math.pi * (x + 1) / 2))
+    s = FLOOR + (END - FLOOR) / 2 * (1 - math.cos(math.pi * (x + 1) / 2))
     assert c.peak_multiplier == pytest.approx(max_multiplier(s, "inverted"), rel=1e-8)
     (c,), _ = crossings(model, "inverted", 0.0, END, integral / 199)
-    want = transfer_gain(SCAN_FLOOR, END, integral / 199, "inverted")
+    want = transfer_gain(FLOOR, END, integral / 199, "inverted")
     assert c.simulated_amplification == pytest.approx(want, rel=1e-6)
     (c,), _ = crossings(model, "inverted", 0.0, END, integral / 201)
     assert c.simulated_amplification is None
@@ -252,9 +243,8 @@ def test_recommended_rate_is_the_binding_crossings_minimum(model):
     big = recommended_rate(model, start_rpm=500.0, end_rpm=END, factor=1e100)
     assert big == pytest.approx(frozen_integral(500.0, END, "inverted") / math.log(1e100),
                                 rel=1e-8)
-    # nothing crossed hanging below the floor: 0; a refused factor is named
-    assert recommended_rate(model, start_rpm=0.0, end_rpm=FLOOR * 0.9,
-                            equilibria=("hanging",)) == 0.0
+    # nothing crossed below the floor: 0; a refused factor is named
+    assert recommended_rate(model, start_rpm=0.0, end_rpm=FLOOR * 0.9) == 0.0
     with pytest.raises(ValueError, match=r"^factor: 1\.0 must be a finite number above 1$"):
         recommended_rate(model, factor=1.0)
 

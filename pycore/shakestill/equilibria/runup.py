@@ -150,10 +150,7 @@ def _spans(model: Model, equilibrium: str, start_rpm: float, end_rpm: float) -> 
     """Unstable intervals met between two speeds at the operating stroke, and evaluations."""
     rig = model.rig
     lo, hi = sorted((start_rpm, end_rpm))
-    # the low-speed floor is the hanging pendulum's (no drive to speak of, nothing grows);
-    # upright, gravity alone topples it there
-    floor = low_speed_floor(rig) if equilibrium == "hanging" else 0.0
-    lo = max(lo, floor, scan_floor_rpm(model))
+    lo = max(lo, low_speed_floor(rig), scan_floor_rpm(model))
     hi = min(hi, MAX_SPEED_RPM)
     if lo >= hi:
         return [], 0
@@ -292,9 +289,7 @@ def runup(rig: Rig | Model, *, rate_rpm_s: float | None, start_rpm: float = 0.0,
               "note": ("frozen-speed (adiabatic) estimate: the product of the largest Floquet "
                        "multiplier over the cycles spent in each unstable interval; below the "
                        "low-speed floor the pivot's peak acceleration is under "
-                       f"{LOW_ACCEL_FRACTION:g} g and nothing is taken to grow hanging (the "
-                       "upright pendulum falls there: its crossing starts as slow as the "
-                       "scans resolve)"),
+                       f"{LOW_ACCEL_FRACTION:g} g and nothing is taken to grow"),
               "rate_recommended": recommended}
     for eq in equilibria:
         eq_spans, count = spans[eq]
