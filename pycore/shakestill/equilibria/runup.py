@@ -22,8 +22,9 @@ from ..model import drive as drv
 from ..model.derived import Model, as_model
 from ..model.linear import EQUILIBRIA
 from ..model.rig import Rig
-from ..numerics.linalg import eigvals, matmul
+from ..numerics.linalg import matmul
 from ..numerics.rk import STAGE_NODES, fundamental_matrix
+from ..numerics.symeig import jacobi_eigen
 from .floquet import stability
 from .lines import Probe, scan_settings, speed_points, walk
 from .reach import MAX_SPEED_RPM, scan_floor_rpm
@@ -90,12 +91,24 @@ def ramp_amplification(rig: Rig | Model, equilibrium: str, a: float, b: float,
     scale_in = [1.0] * n + [w_in] * n  # multiply columns: inverse of the entry scaling
     scale_out = [1.0] * n + [1.0 / w_out] * n
     Fs = [[scale_out[i] * F[i][j] * scale_in[j] for j in range(2 * n)] for i in range(2 * n)]
-    # Divided by its largest entry first: a growth near e^200 (MAX_LOG_GROWTH) squares to
-    # e^400 in F^T F, whose eigenvalue search then overflows.
-    big = max(abs(v) for row in Fs for v in row)
-    Fs = [[v / big for v in row] for row in Fs]
-    FtF = matmul([list(col) for col in zip(*Fs)], Fs)
-    return big * math.sqrt(max(ev.real for ev in eigvals(FtF)))
+    return largest_singular_value(Fs)
+
+
+def largest_singular_value(a: list[list[float]]) -> float:
+    """The 2-norm of a square matrix: the root of F^T F's largest eigenvalue (symmetric:
+    Jacobi's rotations). Divided by its largest entry first (a growth near e^200,
+    MAX_LOG_GROWTH, squares to e^400 in F^T F and overflows). Infinite if an entry is not
+    finite: the ramp's growth overflowed a double, as a secant step of the minimum-rate
+    search can ask for a ramp far slower than the frozen estimate's e^200 bound (three
+    links, 2026-12-05: its NaNs stalled the eigenvalue search and the run-up crashed)."""
+    if not all(math.isfinite(v) for row in a for v in row):
+        return math.inf
+    big = max(abs(v) for row in a for v in row)
+    if big == 0.0:
+        return 0.0
+    scaled = [[v / big for v in row] for row in a]
+    gram = matmul([list(col) for col in zip(*scaled)], scaled)
+    return big * math.sqrt(max(max(jacobi_eigen(gram)[0]), 0.0))
 
 
 @dataclass(frozen=True)
