@@ -15,23 +15,34 @@ import numpy as np
 import pytest
 
 import shakestill as ss
+from shakestill.render.report import runup_text
 from test_runup import (END, G, LENGTH, LIMITS, NOTE, RATE, REL, RUNDOWN, STROKE, R,
                         frozen_integral, max_multiplier, rig_data, tongue_rpm, transfer_gain)
 
 
-def test_a_still_pivot_crosses_nothing():
+def test_a_still_pivot_crosses_nothing_and_holds_nothing_upright():
     # stroke 0: no pivot acceleration, the floor is infinite, nothing is crossed: the empty
-    # product 1, minimum rate 0, ok (hand, from the documented rule)
+    # product 1, minimum rate 0 (hand, from the documented rule). One verdict at the end
+    # speed each: hanging the undamped pendulum is held (ok); upright it falls, its
+    # multiplier exp(sqrt(g / l) T) with T = 60 / END s (hand), so not ok.
     from shakestill.equilibria.runup import runup
     data = R.rig([R.link(LENGTH, 0.0, [(0.1, LENGTH)])], R.sine(0.0, END), limits=LIMITS)
     got = runup(ss.rig_from_dict(data), rate_rpm_s=RATE)
-    assert got["low_speed_floor_rpm"] == math.inf and got["evaluations"] == 0
+    assert got["low_speed_floor_rpm"] == math.inf and got["evaluations"] == 2
     assert (got["start_rpm"], got["end_rpm"]) == (0.0, END)  # from rest to the operating speed
     assert (got["rate_rpm_s"], got["factor"], got["stroke_m"]) == (RATE, 10.0, 0.0)  # as given
     for eq in ("hanging", "inverted"):
         assert got[eq]["crossings"] == [] and got[eq]["total_amplification"] == 1.0
         assert json.dumps(got[eq]["total_amplification"]) == "1.0"  # the JSON's empty product
-        assert got[eq]["min_rate_rpm_s"] == 0.0 and got[eq]["ok"] is True
+        assert got[eq]["min_rate_rpm_s"] == 0.0
+    assert got["hanging"]["held_at_end"] is True and got["hanging"]["ok"] is True
+    assert "end_max_multiplier" not in got["hanging"]
+    assert got["inverted"]["held_at_end"] is False and got["inverted"]["ok"] is False
+    assert got["inverted"]["end_max_multiplier"] == pytest.approx(
+        math.exp(math.sqrt(G / LENGTH) * 60 / END), rel=1e-9)
+    text = runup_text(got)
+    assert (f"but not held at {END:,.0f} rpm: a disturbance grows "
+            f"x{math.exp(math.sqrt(G / LENGTH) * 60 / END):.3g} every cycle there") in text
 
 
 @pytest.mark.parametrize("kwargs, words", [

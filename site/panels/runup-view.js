@@ -115,6 +115,12 @@ export function createRunupView(els, { engine, getRig }) {
         + `${n(stroke)} ${unit}; the run-down passes the same intervals in reverse, with the same growth at the same rate.`),
       all.length ? h("ol", { class: "crossings" }, all.map((c) => crossingItem(c, result)))
         : h("p", {}, "No unstable interval is crossed on the way."),
+      // held at the end speed? Said where no crossing runs to it (below the low-speed
+      // floor nothing counts as crossed, yet an upright pendulum falls there)
+      ...["inverted", "hanging"].filter((eq) => result[eq].end_max_multiplier != null).map((eq) =>
+        h("p", { class: "crossing-warn", "data-key": `not-held-${eq}` },
+          `${NAMES[eq]}: not held at ${n(result.end_rpm)} rpm: a small disturbance grows `
+          + `×${n(result[eq].end_max_multiplier, 3)} every drive cycle there.`)),
       h("details", { class: "how" }, h("summary", {}, "How this was computed"),
         h("p", { class: "hint" }, `${result.note}.`)));
   }

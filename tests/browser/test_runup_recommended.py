@@ -9,8 +9,9 @@ import json
 
 import pytest
 
-from pagekit import RESULT_TIMEOUT_MS, assert_same_numbers, cli_json, wait_for_result
+from pagekit import RESULT_TIMEOUT_MS, assert_same_numbers, cli_json, wait_for_result, wait_for_rig
 import shakestill as ss
+from shakestill.model.share import encode
 
 pytestmark = pytest.mark.browser
 
@@ -42,4 +43,30 @@ def test_a_blank_rate_runs_at_the_recommended_rate_and_says_so(demo_page, tmp_pa
     typed = json.loads(page.get_attribute("#runup-result", "data-result"))
     assert typed["rate_recommended"] is False
     assert page.locator("#runup-result [data-key=recommended]").count() == 0
+    assert page.context.recorder.errors == []
+
+
+def test_a_ramp_below_the_low_speed_floor_says_the_upright_pendulum_is_not_held(demo_page):
+    # A slow drive: 150 rpm at a 3 mm stroke, under the speed where the peak pivot
+    # acceleration reaches 0.05 g (A w^2 = 0.05 g: 173 rpm, hand), so the ramp crosses
+    # nothing; upright the pendulum still falls at that speed. The panel says it is not held
+    # there, with the multiplier the core gives on CPython (ss.stability), to 4 digits.
+    page = demo_page
+    wait_for_result(page)
+    data = ss.demo_rig_dict()
+    data["title"] = "Slow drive"
+    data["drive"].update(waveform="sine", stroke_m=0.003, speed_rpm=150.0)
+    rig = ss.rig_from_dict(data)
+    fragment = encode(data)
+    page.evaluate("(f) => { location.hash = f; }", fragment)
+    wait_for_rig(page, "Slow drive")
+    page.fill("#runup-rate", "100")
+    page.click("#runup-go")
+    got = wait_runup(page)
+    assert got["inverted"]["crossings"] == [] and got["inverted"]["ok"] is False
+    want = ss.stability(rig, "inverted", speed_rpm=150.0).max_multiplier
+    assert got["inverted"]["end_max_multiplier"] == pytest.approx(want, rel=1e-9)
+    words = page.inner_text("#runup-result [data-key=not-held-inverted]")
+    assert f"not held at 150 rpm: a small disturbance grows ×{float(f'{want:.3g}'):g}" in words
+    assert page.locator("#runup-result [data-key=not-held-hanging]").count() == 0
     assert page.context.recorder.errors == []

@@ -21,7 +21,7 @@ from functools import lru_cache
 from ..model import drive as drv
 from ..model.derived import Model, as_model
 from ..model.linear import EQUILIBRIA
-from ..model.rig import Rig
+from ..model.rig import OutOfReach, Rig
 from ..numerics.linalg import matmul
 from ..numerics.rk import STAGE_NODES, fundamental_matrix
 from ..numerics.symeig import jacobi_eigen
@@ -307,6 +307,19 @@ def runup(rig: Rig | Model, *, rate_rpm_s: float | None, start_rpm: float = 0.0,
     for eq in equilibria:
         eq_spans, count = spans[eq]
         found = [_crossing(model, eq, s, rate_rpm_s, factor) for s in eq_spans]
+        # held at the end speed? Known where a crossing runs to it; else one verdict there
+        # (a ramp wholly below the low-speed floor crosses nothing, yet the upright
+        # pendulum falls at every speed of it)
+        end_rho = None
+        if found and found[-1].speed_to_rpm >= end:
+            held = False
+        else:
+            try:
+                at_end = stability(model, eq, speed_rpm=end)
+                held, end_rho = at_end.stable, at_end.max_multiplier
+            except OutOfReach:  # an end speed the method cannot resolve: not known
+                held = None
+            count += 1
         result["evaluations"] += count
         items = [c.__dict__ for c in found]
         result[eq] = {
@@ -315,8 +328,12 @@ def runup(rig: Rig | Model, *, rate_rpm_s: float | None, start_rpm: float = 0.0,
             "rundown": "the run-down passes the same intervals in reverse: at the same rate "
                        "the same amplification",
             "min_rate_rpm_s": max((c.min_rate_rpm_s for c in found), default=0.0),
-            "ok": all((c.simulated_amplification or c.amplification) <= factor for c in found),
+            "held_at_end": held,
+            "ok": held is not False and all((c.simulated_amplification or c.amplification)
+                                            <= factor for c in found),
         }
+        if end_rho is not None and not held:
+            result[eq]["end_max_multiplier"] = end_rho
     return result
 
 

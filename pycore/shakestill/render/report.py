@@ -203,6 +203,10 @@ def runup_text(result: dict, units: str = "metric") -> str:
         out.append(f"{_NAMES[name]}:")
         if not r["crossings"]:
             out.append("  no unstable speeds crossed")
+        if "end_max_multiplier" in r:
+            out.append(f"  but not held at {_rpm(result['end_rpm'])}: a disturbance grows "
+                       f"x{r['end_max_multiplier']:.3g} every cycle there (below the low-speed "
+                       "floor nothing is counted as crossed)")
         for c in r["crossings"]:
             grow = c["simulated_amplification"] or c["amplification"]
             out.append(f"  unstable from {_rpm(c['speed_from_rpm'])} to {_rpm(c['speed_to_rpm'])}:"
