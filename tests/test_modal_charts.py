@@ -358,8 +358,18 @@ def test_dampers_that_mix_the_modes_strongly_chart_the_chain_exactly():
             rho = _ref_max_multiplier(data, "hanging", speed, row.y)
             if abs(rho - 1) > 1e-6:
                 assert held == (rho < 1), (row.y, speed, rho)
+    # its tongue is labelled where the damped chain swings: 2 f / n with f the free
+    # oscillation frequencies of M q'' + D q' + g K q = 0 (numpy eigvals of the first-order
+    # companion in q, q'), here 3.31 Hz where the undamped modes have 2.93 and 4.35 Hz
+    a = np.block([[np.zeros((3, 3)), np.eye(3)],
+                  [-np.linalg.solve(mass, G * np.abs(stiff)), -np.linalg.solve(mass, damp)]])
+    swings = sorted(z.imag / (2 * math.pi) for z in np.linalg.eigvals(a) if z.imag > 0)
+    assert [(t["order"], t["mode"]) for t in c.tongues] == [(1, 1)]
+    assert c.tongues[0]["speed_rpm"] == pytest.approx(120 * swings[1], rel=1e-9)
+    assert c.tongues[0]["label"] == "n=1 (mode 2)"
     row = c.rows[-1]
     assert len(row.edges["hanging"]) == 2  # the tongue's two sides (verdicts above)
+    assert row.edges["hanging"][0].x < c.tongues[0]["speed_rpm"] < row.edges["hanging"][1].x
     for e in row.edges["hanging"]:
         edge = brentq(lambda v: _ref_max_multiplier(data, "hanging", v, row.y) - 1,
                       e.x * (1 - 1e-3), e.x * (1 + 1e-3), xtol=1e-10 * e.x)

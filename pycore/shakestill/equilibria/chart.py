@@ -19,7 +19,8 @@ from ..model.derived import Model, as_model
 from ..model.linear import EQUILIBRIA
 from ..model.rig import Rig, max_stroke_m, with_operating_point
 from .chart_columns import column_edges, column_speeds
-from .chart_modes import STRONG_MIXING, damper_mixing, modal_row_steps, modes_predict
+from .chart_modes import (STRONG_MIXING, damped_hanging_frequencies_hz, damper_mixing,
+                          modal_row_steps, modes_predict)
 from .chart_rows import (CHART_RTOL, CHART_SPEED_STEP, Row, predict, scan_row, speed_range,
                          stroke_for_peak_accel)
 from .confirm import CONFIRM_HALF_WIDTHS
@@ -80,12 +81,16 @@ def _row_order(n: int) -> list[int]:
 
 
 def tongues(rig: Rig | Model) -> tuple[dict, ...]:
-    """Where the hanging position's parametric resonances sit: drive frequency 2 f_i / n."""
+    """Where the hanging position's parametric resonances sit: drive frequency 2 f_i / n,
+    f_i the sway modes' frequencies, or the damped chain's own where its dampers mix the
+    modes (``chart_modes.damped_hanging_frequencies_hz``)."""
     model = as_model(rig)
     rig = model.rig
     lo, hi = rig.limits.speed_rpm
     out = []
-    for mode, f in enumerate(model.properties.hanging_frequencies_hz):
+    frequencies = (model.properties.hanging_frequencies_hz if modes_predict(model)
+                   else damped_hanging_frequencies_hz(model))
+    for mode, f in enumerate(frequencies):
         for n in range(1, 200):
             rpm = 2 * f / n * 60
             if rpm < lo:

@@ -25,6 +25,7 @@ from typing import Callable, Iterator
 
 from ..model.derived import Model, derive
 from ..model.rig import Link, PointMass
+from ..numerics.linalg import eigvals
 from .chart_rows import (CHART_RTOL, CHART_SPEED_STEP, Row, line_edges, predict, row_line,
                          row_settings)
 from .confirm import confirm_edges
@@ -71,6 +72,21 @@ def damper_mixing(model: Model) -> float:
             if cross > 0.0:
                 worst = max(worst, cross / gap if gap > 0.0 else math.inf)
     return worst
+
+
+def damped_hanging_frequencies_hz(model: Model) -> tuple[float, ...]:
+    """The hanging chain's free oscillation frequencies with its joint dampers, ascending:
+    the eigenvalues lambda of z'' + (X^T D X) z' + g diag(1 / L) z = 0 (the sway-mode
+    coordinates) with positive imaginary part, Im lambda / 2 pi; an overdamped mode has none.
+    Where the dampers mix the modes (``modes_predict`` false) the chain's tongues sit near
+    twice these, not the undamped modes' (a heavy damper on a short last link: 3.31 Hz
+    where the undamped modes have 2.93 and 4.35)."""
+    modes, g = model.modes, model.rig.g_m_s2
+    n = modes.count
+    companion = [[1.0 if j == i + n else 0.0 for j in range(2 * n)] for i in range(n)]
+    companion += [[-g / modes.lengths_m[i] if j == i else 0.0 for j in range(n)]
+                  + [-modes.cross_damping[i][j] for j in range(n)] for i in range(n)]
+    return tuple(sorted(lam.imag / (2 * math.pi) for lam in eigvals(companion) if lam.imag > 0))
 
 
 def modes_predict(model: Model) -> bool:
