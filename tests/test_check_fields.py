@@ -133,6 +133,8 @@ def test_the_report_words_carry_the_same_numbers():
     result = ss.check(rig)
     from shakestill.render.report import report_text
     text = report_text(result)
+    # one link: no modes to mix (hand), and no word of it
+    assert result["modes"]["damper_mixing"] == 0.0 and "mix the sway modes" not in text
     inv = result["inverted"]
     lo, hi = inv["speed_window_rpm"]
     assert f"speed window: {lo:,.0f} rpm (stability edge, {inv['margins_percent']['speed_down']:.1f}% below)" in text

@@ -18,6 +18,7 @@ import shakestill as ss
 from shakestill.equilibria.chart import chart
 from shakestill.equilibria.floquet import MODAL_METHOD
 from shakestill.model.derived import derive
+from shakestill.render.report import report_text
 
 G = ref.G_STANDARD
 LIMITS = {"speed_rpm": [300.0, 6000.0], "stroke_m": [0.0, 0.03]}
@@ -350,6 +351,11 @@ def test_dampers_that_mix_the_modes_strongly_chart_the_chain_exactly():
     rig = ss.rig_from_dict(data)
     assert damper_mixing(derive(rig)) == pytest.approx(want, rel=1e-9)
     assert want > STRONG_MIXING
+    checked = ss.check(rig)  # the check's JSON and words carry it
+    assert checked["modes"]["damper_mixing"] == pytest.approx(want, rel=1e-9)
+    assert checked["modes"]["strong_mixing"] == STRONG_MIXING
+    assert (f"the joint dampers mix the sway modes strongly, by {want:.2g}"
+            in report_text(checked))
     c = chart(rig, rows=8, equilibria=("hanging",))
     assert any("every row is walked by the chain's exact monodromy" in n for n in c.notes)
     for row in c.rows:

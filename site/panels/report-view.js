@@ -125,6 +125,14 @@ function equilibriumCard(name, eq) {
     h("ul", { class: "eq-notes" }, notes.map((n) => h("li", {}, n)))) : null);
 }
 
+/** A line where the joint dampers mix the sway modes too much for the modes' estimates. */
+function mixed(modes) {
+  if (!modes || !(modes.damper_mixing > modes.strong_mixing)) return null;
+  return h("p", { class: "hint", "data-key": "strong-mixing" },
+    `The joint dampers mix the sway modes strongly (by ${num(modes.damper_mixing, 2)}): `
+    + "the modes' estimates are rough here, and the map is worked out on the whole chain.");
+}
+
 /** Kapitza's closed-form estimates beside the exact values of the same things. */
 function estimates(result) {
   const est = result.estimates;
@@ -156,6 +164,7 @@ function estimates(result) {
     h("h3", { id: "est-h" }, "Quick estimates beside the exact values"),
     h("p", { class: "hint" }, "Kapitza's averaging treats the drive as fast and the links as one rigid "
       + "pendulum: a guide to what moves the result, not the answer."),
+    mixed(result.modes),
     h("table", { class: "est-table" },
       h("thead", {}, h("tr", {}, h("th", { scope: "col" }, "Quantity"),
         h("th", { scope: "col" }, "Estimate"), h("th", { scope: "col" }, "Exact"))),

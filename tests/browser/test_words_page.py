@@ -119,3 +119,30 @@ def test_axe_finds_nothing_with_the_lean_chart_and_the_plan_shown(new_context, s
     page.wait_for_function("() => ['fresh', 'failed'].includes("
                            "document.getElementById('plan-result').dataset.state)", timeout=180_000)
     _clean(page, "lean chart and plan shown")
+
+
+def test_strongly_mixed_modes_are_said_beside_the_estimates(demo_page, tmp_path):
+    # A three-link rig with a heavy damper on its short last link: the damper mixing of the
+    # command line's check (CPython, the independent value; its figure is checked against
+    # scipy eigh in tests/test_modal_charts.py) above 0.5, said beside the estimates with
+    # its two digits; the demo rig (one link) has no such line.
+    from pagekit import wait_for_rig
+    page = demo_page
+    wait_for_result(page)
+    assert page.locator("[data-key=strong-mixing]").count() == 0
+    data = ss.demo_rig_dict()
+    data["title"] = "Damped triple"
+    data["links"] = [
+        {"length_m": 0.12, "rod_mass_kg": 0.034,
+         "point_masses": [{"mass_kg": 0.019, "at_m": 0.12}]},
+        {"length_m": 0.11, "rod_mass_kg": 0.026,
+         "point_masses": [{"mass_kg": 0.026, "at_m": 0.11}], "joint_damping_N_m_s": 1.7e-4},
+        {"length_m": 0.055, "rod_mass_kg": 0.027,
+         "point_masses": [{"mass_kg": 0.023, "at_m": 0.055}], "joint_damping_N_m_s": 1.5e-3}]
+    want = cli_check(data, tmp_path)["modes"]["damper_mixing"]
+    assert want > 0.5
+    page.evaluate("(f) => { location.hash = f; }", share.encode(data))
+    wait_for_rig(page, "Damped triple")
+    words = page.inner_text("[data-key=strong-mixing]")
+    assert f"mix the sway modes strongly (by {float(f'{want:.2g}'):g})" in words, words
+    assert page.context.recorder.errors == []

@@ -6,6 +6,7 @@
 from __future__ import annotations
 
 from ..model import drive as drv
+from .chart_modes import STRONG_MIXING, damper_mixing
 from .estimates import estimates
 from .floquet import stability
 from ..model.linear import EQUILIBRIA
@@ -90,6 +91,8 @@ def check(rig: Rig) -> dict:
         "equivalent_lengths_m": list(sway.lengths_m),
         "shapes": [list(shape) for shape in sway.shapes],
         "damping_coupling": sway.coupling,
+        "damper_mixing": damper_mixing(model),
+        "strong_mixing": STRONG_MIXING,
     }
     result["properties"] = {
         "total_mass_kg": props.total_mass_kg,

@@ -131,6 +131,11 @@ def report_text(result: dict, warnings=(), units: str = "metric") -> str:
     lengths = est["mode_lengths_m"]
     out.append(f"  equivalent pendulum length l_eq{' (links held in line)' if len(lengths) > 1 else ''}"
                f": {length_text(est['l_eq_m'], units, '.1f')}")
+    mixing = result["modes"].get("damper_mixing", 0.0)
+    if mixing > result["modes"].get("strong_mixing", math.inf):
+        out.append(f"  (the joint dampers mix the sway modes strongly, by {mixing:.2g}: the "
+                   "modes' estimates below are rough, and the map is worked out on the whole "
+                   "chain)")
     if len(lengths) > 1:
         out.extend(f"  mode {k + 1}: equivalent length {length_text(length, units, '.1f')}, "
                    f"{shape_words(shape)}"
