@@ -55,19 +55,13 @@ def audit(data: dict, rows: int, points: int, rng: random.Random) -> dict:
     c = chart(rig, rows=rows)
     seconds = time.process_time() - start
     tried = wrong = 0
-    for _ in range(points):
-        row = rng.choice(c.rows[1:])
-        x = row.speed_min * (row.speed_max / row.speed_min) ** rng.random()
-        for eq in ("inverted", "hanging"):
-            if any(abs(x - e.x) < 1e-6 * x for e in row.edges[eq]):
-                continue
-            held = any(a <= x <= b for a, b in row.stable_intervals(eq))
-            rho = max(abs(ref.multipliers(ref.monodromy(data, eq, speed_rpm=x, stroke_m=row.y,
-                                                        rtol=1e-11, atol=1e-12))))
-            if abs(rho - 1) < 1e-7:
-                continue
-            tried += 1
-            wrong += int(held != bool(rho < 1))
+    for row, x, eq, held in ref.chart_points(c, rng, points):
+        rho = max(abs(ref.multipliers(ref.monodromy(data, eq, speed_rpm=x, stroke_m=row.y,
+                                                    rtol=1e-11, atol=1e-12))))
+        if abs(rho - 1) < 1e-7:
+            continue
+        tried += 1
+        wrong += int(held != bool(rho < 1))
     return {"links": len(data["links"]), "drive": data["drive"]["waveform"],
             "mixing": round(damper_mixing(derive(rig)), 4), "chart_s": round(seconds, 2),
             "points": tried, "wrong": wrong}

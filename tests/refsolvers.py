@@ -437,3 +437,16 @@ def st_rig(draw, max_links=3):
                limits={"speed_rpm": [100.0, 6000.0], "stroke_m": [0.0, 0.08]},
                g=draw(st.one_of(st.just(G_STANDARD), st.floats(1.0, 25.0))),
                title=draw(st.text(max_size=30)))
+
+
+def chart_points(c, rng, count):
+    """(row, speed, equilibrium, held by the chart) at ``count`` random speeds (log-uniform)
+    of random rows but the first, both equilibria; points within 1e-6 of one of the row's
+    edges are skipped. For checking a chart's verdicts against the monodromy above."""
+    for _ in range(count):
+        row = rng.choice(c.rows[1:])
+        x = row.speed_min * (row.speed_max / row.speed_min) ** rng.random()
+        for eq in ("inverted", "hanging"):
+            if any(abs(x - e.x) < 1e-6 * x for e in row.edges[eq]):
+                continue
+            yield row, x, eq, any(a <= x <= b for a, b in row.stable_intervals(eq))

@@ -126,15 +126,8 @@ def test_damped_sine_chart_is_confirmed_by_solve_ivp(make):
     assert derive(rig).modes.coupling > 0.01  # the dampers do couple the modes
     c = chart(rig, rows=8)
     assert any("confirmed by the chain's exact monodromy" in n for n in c.notes)
-    rng = random.Random(11)
-    for _ in range(60):
-        row = rng.choice(c.rows[1:])
-        x = row.speed_min * (row.speed_max / row.speed_min) ** rng.random()
-        for eq in ("inverted", "hanging"):
-            if any(abs(x - e.x) < 1e-6 * x for e in row.edges[eq]):
-                continue
-            inside = any(a <= x <= b for a, b in row.stable_intervals(eq))
-            assert inside == (_ref_max_multiplier(data, eq, x, row.y) < 1)
+    for row, x, eq, held in ref.chart_points(c, random.Random(11), 60):
+        assert held == (_ref_max_multiplier(data, eq, x, row.y) < 1)
     row = max(c.rows, key=lambda r: len(r.edges["inverted"]) + len(r.edges["hanging"]))
     checked = 0
     for eq in ("inverted", "hanging"):
