@@ -1,0 +1,163 @@
+"""How the chart of several links aims and assembles its rows (module chart_modes), against its
+documented rules worked by hand: the exact-to-modal shift of an edge in the neighbour rows,
+interpolated in y; the islands the neighbours' exact rows lack; which modes a row asks for; a
+chain row as the intersection of its modes' rows. These parts change what the chart costs, and
+(for the row's assembly) the stable intervals a user reads; the rules are in each function's
+docstring, and every expected value below is worked by hand from them (common practice, no
+source). Rows are built in each test's body, small and synthetic (no stability evaluated),
+so mutation runs map the tests to chart_modes and judge in well under a second."""
+
+from __future__ import annotations
+
+import pytest
+
+import refsolvers as ref
+import shakestill as ss
+from shakestill.equilibria import chart_modes
+from shakestill.equilibria.chart_modes import _aimed, _nearest, modal_row_steps
+from shakestill.equilibria.chart_rows import Row
+from shakestill.equilibria.lines import Edge
+from shakestill.model.derived import derive
+
+LO, HI = 300.0, 3000.0
+
+
+def _row(y, **eqs):
+    """A row from LO to HI: eq=(stable at LO, (x, gained), ...) for each equilibrium given."""
+    return Row(y, LO, HI, {eq: tuple(Edge(x, g) for x, g in spec[1:]) for eq, spec in eqs.items()},
+               {eq: spec[0] for eq, spec in eqs.items()}, 0)
+
+
+def test_modal_edges_aimed_by_the_neighbours_shift_and_islands_left_out():
+    # chart_modes._aimed / _shift / _ratio / _absent (their docstrings): each modal edge of
+    # the row is moved by the exact / modal ratio of the same edge (the neighbour's modal edge
+    # of its kind nearest to it within 10%, and that one's exact partner within 2%) in the
+    # neighbour rows, interpolated linearly in y (one neighbour: its ratio; none: 1); two
+    # successive modal edges that every neighbour showing them lacks exactly are an island,
+    # left out of the aim and returned as (its two modal ends) to be checked.
+    predicted = _row(0.015, inverted=(False, (1000.0, True), (1500.0, False), (2000.0, True),
+                                     (2100.0, False), (3000.0, True)))
+    below_modal = _row(0.01, inverted=(False, (1000.0, True), (1500.0, False), (2000.0, True),
+                                       (2100.0, False), (3000.0, True)))
+    below_exact = _row(0.01, inverted=(False, (1005.0, True), (1515.0, False), (2970.0, True)))
+    above_modal = _row(0.03, inverted=(False, (990.0, True), (1500.0, False), (2010.0, True),
+                                       (2090.0, False)))
+    above_exact = _row(0.03, inverted=(False, (1004.85, True)))
+    near = ((below_exact, below_modal), (above_exact, above_modal))
+    aimed, checks = _aimed(predicted, near, "inverted")
+    # 1000: ratios 1005/1000 = 1.005 at y = 0.01 and 1004.85/990 = 1.015 at y = 0.03, so
+    #       1.005 + (0.015 - 0.01) / 0.02 x 0.01 = 1.0075 at y = 0.015: aimed at 1007.5.
+    # 1500: 1515/1500 = 1.01 below; above, its modal edge has no exact partner within 2%
+    #       (that neighbour lacks it): the one ratio, 1.01 -> 1515.
+    # 2000 and 2100: both neighbours show them in their modes and lack both exactly: an
+    #       island, checked between its modal ends (2000, 2100), not aimed.
+    # 3000: 2970/3000 = 0.99 below; above, no modal edge of its kind within 10%: 2970.
+    assert [e.gained for e in aimed] == [True, False, True]
+    assert [e.x for e in aimed] == pytest.approx([1007.5, 1515.0, 2970.0], rel=1e-12)
+    assert checks == [(2000.0, 2100.0)]
+    # A neighbour of another first speed (an accel row starting elsewhere) is not used: with
+    # none left, every ratio is 1 and nothing is known to be absent.
+    elsewhere = tuple((Row(exact.y, LO + 1.0, HI, exact.edges, exact.stable_at_min, 0), modal)
+                      for exact, modal in near)
+    aimed, checks = _aimed(predicted, elsewhere, "inverted")
+    assert [e.x for e in aimed] == [e.x for e in predicted.edges["inverted"]] and checks == []
+
+
+def test_nearest_edge_of_its_kind_within_the_reach():
+    # chart_modes._nearest (its docstring): the edge of e's kind nearest to e, if within the
+    # reach (relative); an edge of the other kind is never taken, however near.
+    edges = (Edge(1005.0, True), Edge(1030.0, False), Edge(1090.0, False), Edge(950.0, False))
+    assert _nearest(edges, Edge(1000.0, False), 0.1) == Edge(1030.0, False)  # 3% off
+    assert _nearest(edges, Edge(1000.0, True), 0.1) == Edge(1005.0, True)
+    assert _nearest(edges, Edge(1000.0, False), 0.02) is None  # 950 and 1030: 5% and 3%
+    assert _nearest(edges, Edge(1080.0, False), 0.02) == Edge(1090.0, False)  # 0.93% off
+    assert _nearest((), Edge(1000.0, True), 0.1) is None
+
+
+def _links(damping):
+    return [ref.link(0.2, 0.04, damping=damping), ref.link(0.12, 0.02, [(0.01, 0.12)])]
+
+
+@pytest.mark.parametrize("damping", [0.0, 3e-4], ids=["modes decouple", "dampers couple"])
+def test_modal_rows_ask_only_for_what_the_modes_before_leave_and_intersect(monkeypatch, damping):
+    # chart_modes.modal_row_steps (its docstring): the modes' walkers run in step, mode 0
+    # first; mode i is told to leave out an equilibrium of row j where the rows j of the modes
+    # before it hold it stable nowhere (mode 0 is never told to); a row that one mode could
+    # not make is None for the chain, and the rows after it still come; each chain row is
+    # made (chain_row) with the nearest computed rows below and above it, confirmed exactly
+    # iff the dampers couple the modes (a joint damper on the first link only couples them:
+    # floquet.modes_decouple). chart_modes.chain_row: the chain holds where every mode holds
+    # (Acheson 1993), so uncoupled its row's edges are the ends of the intersection of the
+    # modes' stable stretches inside the row, stable at its start where all are.
+    model = derive(ss.rig_from_dict(ref.rig(_links(damping), ref.sine(0.01, 1500.0))))
+    order = [0, 4, 2, 1, 3]
+    asked = []  # (mode, row, equilibrium, needed?)
+    mode0 = {0: _row(0.0, inverted=(False,), hanging=(True, (1000.0, False), (1200.0, True))),
+             4: _row(0.04, inverted=(False, (2000.0, True)), hanging=(True, (1000.0, False))),
+             2: None,
+             1: _row(0.01, inverted=(True, (600.0, False)), hanging=(True,)),
+             3: _row(0.03, inverted=(False,), hanging=(False, (800.0, True)))}
+    mode1 = {0: {"inverted": (False, (400.0, True)),
+                 "hanging": (True, (500.0, False), (600.0, True))},
+             4: {"inverted": (False, (2500.0, True)), "hanging": (True, (900.0, False))},
+             2: {"inverted": (False,), "hanging": (True,)},
+             1: {"inverted": (True, (700.0, False)), "hanging": (False, (350.0, True))},
+             3: {"inverted": (True,), "hanging": (True, (1000.0, False))}}
+
+    def row_steps(mode, needed):
+        i = len(walked)
+        walked.append(mode)
+        for j in order:
+            wanted = [eq for eq in ("inverted", "hanging") if needed(j, eq)]
+            asked.extend((i, j, eq, eq in wanted) for eq in ("inverted", "hanging"))
+            if i == 0:
+                yield j, mode0[j]
+            else:
+                yield j, _row(j / 100, **{eq: mode1[j][eq] for eq in wanted})
+
+    walked = []
+    made = []
+    real = chart_modes.chain_row
+
+    def spy(model_, rows, y_axis, equilibria, coupled, near=()):
+        made.append((rows[0].y, coupled, tuple(pair[0].y for pair in near)))
+        if coupled:  # the exact confirmation is another test's: the modes' rows suffice here
+            return real(model_, rows, y_axis, equilibria, False, near)
+        return real(model_, rows, y_axis, equilibria, coupled, near)
+
+    monkeypatch.setattr(chart_modes, "chain_row", spy)
+    got = list(modal_row_steps(model, LO, "stroke", ("inverted", "hanging"), row_steps))
+    assert [len(w.rig.links) for w in walked] == [1, 1]  # one walker per sway mode
+    # mode 0 always asked for both; mode 1 only where mode 0's row holds the equilibrium
+    # stable somewhere: row 0 inverted nowhere (unstable at LO, no edge), row 3 likewise,
+    # row 2 not made at all
+    want_asked = [(0, j, eq, True) for j in order for eq in ("inverted", "hanging")]
+    want_asked += [(1, 0, "inverted", False), (1, 0, "hanging", True),
+                   (1, 4, "inverted", True), (1, 4, "hanging", True),
+                   (1, 2, "inverted", False), (1, 2, "hanging", False),
+                   (1, 1, "inverted", True), (1, 1, "hanging", True),
+                   (1, 3, "inverted", False), (1, 3, "hanging", True)]
+    assert sorted(asked) == sorted(want_asked)
+    assert [j for j, _ in got] == order and got[2][1] is None
+    coupled = damping > 0
+    # the neighbours by y: row 4 has row 0 below; row 1 rows 0 and 4 (row 2 was not made);
+    # row 3 rows 1 and 4
+    assert made == [(0.0, coupled, ()), (0.04, coupled, (0.0,)), (0.01, coupled, (0.0, 0.04)),
+                    (0.03, coupled, (0.01, 0.04))]
+    assert all(type(c) is bool for _, c, _ in made)
+    rows = {j: row for j, row in got if row is not None}
+    # intersections by hand: row 0 hanging [300, 500] + [600, 1000] + [1200, 3000] (mode 0
+    # [300, 1000] + [1200, 3000], mode 1 [300, 500] + [600, 3000]); inverted left out of
+    # mode 1: held nowhere.
+    want = {0: {"inverted": (False,), "hanging": (True, (500.0, False), (600.0, True),
+                                                  (1000.0, False), (1200.0, True))},
+            4: {"inverted": (False, (2500.0, True)), "hanging": (True, (900.0, False))},
+            1: {"inverted": (True, (600.0, False)), "hanging": (False, (350.0, True))},
+            3: {"inverted": (False,), "hanging": (False, (800.0, True), (1000.0, False))}}
+    for j, eqs in want.items():
+        row = rows[j]
+        assert (row.y, row.speed_min, row.speed_max) == (j / 100, LO, HI)
+        for eq, (at_lo, *edges) in eqs.items():
+            assert row.stable_at_min[eq] is at_lo, (j, eq)
+            assert [(e.x, e.gained) for e in row.edges[eq]] == list(edges), (j, eq)
+            assert all(type(e.gained) is bool for e in row.edges[eq])
