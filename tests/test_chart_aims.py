@@ -1,21 +1,29 @@
 """How the chart of several links aims and assembles its rows (module chart_modes), against its
 documented rules worked by hand: the exact-to-modal shift of an edge in the neighbour rows,
 interpolated in y; the islands the neighbours' exact rows lack; which modes a row asks for; a
-chain row as the intersection of its modes' rows. These parts change what the chart costs, and
-(for the row's assembly) the stable intervals a user reads; the rules are in each function's
-docstring, and every expected value below is worked by hand from them (common practice, no
-source). Rows are built in each test's body, small and synthetic (no stability evaluated),
-so mutation runs map the tests to chart_modes and judge in well under a second."""
+chain row as the intersection of its modes' rows; a damped row refused part-way or aimed past
+a false island (its edge by solve_ivp, the points asked by the rule); the notes' words on how
+several links were charted (the coupling by scipy eigh). These parts change what the chart
+costs, and the stable intervals and notes a user reads; the rules are in each function's
+docstring, and the expected values are worked by hand from them (common practice, no source)
+unless a reference is named. Everything is built in each test's body, small (synthetic rows
+where no stability is needed), so mutation runs map the tests to the chart modules and judge
+a mutant in about a second."""
 
 from __future__ import annotations
 
+import math
+
+import numpy as np
 import pytest
+import scipy.linalg
 
 import refsolvers as ref
 import shakestill as ss
 from shakestill.equilibria import chart_modes
+from shakestill.equilibria.chart import chart
 from shakestill.equilibria.chart_modes import _aimed, _nearest, modal_row_steps
-from shakestill.equilibria.chart_rows import Row
+from shakestill.equilibria.chart_rows import Row, scan_row
 from shakestill.equilibria.lines import Edge
 from shakestill.model.derived import derive
 
@@ -161,3 +169,97 @@ def test_modal_rows_ask_only_for_what_the_modes_before_leave_and_intersect(monke
             assert row.stable_at_min[eq] is at_lo, (j, eq)
             assert [(e.x, e.gained) for e in row.edges[eq]] == list(edges), (j, eq)
             assert all(type(e.gained) is bool for e in row.edges[eq])
+
+
+class _Recorder(chart_modes.Probe):
+    """The chart's exact probe, remembering every point it is asked about."""
+
+    points: list = []
+
+    def __call__(self, x):
+        _Recorder.points.append(x)
+        return super().__call__(x)
+
+
+@pytest.mark.parametrize("neighbour", [False, True], ids=["refused part-way", "island aimed past"])
+def test_a_damped_chain_row_refused_or_aimed_past_a_false_island(monkeypatch, neighbour):
+    # Two links, joint dampers (coupled modes: every edge confirmed by the exact monodromy).
+    # Mode 0's row is given a false island (unstable 1500-1600 rpm) the chain does not have.
+    # chart_modes.chain_row (its docstring and confirm's): with no neighbours the prediction
+    # is confirmed edge by edge; refused at the false island, the edges confirmed before it
+    # are kept and the row is walked exactly only from just past the last of them. With a
+    # neighbour row whose modes show the island and whose exact row lacks it, the island is
+    # left out of the aim and checked by one exact verdict at its middle sqrt(1500 x 1600)
+    # (chart_modes._island). Either way no point below the first edge's widest confirmation
+    # bracket (2% relative, confirm.CONFIRM_HALF_WIDTHS) is asked: the stretch before a
+    # confirmed edge is never walked. The chain's row: its one edge, the hanging chain
+    # gaining stability at ~578 rpm, by the solve_ivp monodromy (DOP853, rtol 1e-11,
+    # tests/refsolvers.py) 1e-4 either side, and stable inside the false island.
+    links = [ref.link(0.2, 0.04, damping=3e-4),
+             ref.link(0.12, 0.02, [(0.01, 0.12)], damping=1e-4)]
+    data = ref.rig(links, ref.sine(0.02, 1500.0),
+                   limits={"speed_rpm": [LO, HI], "stroke_m": [0.0, 0.04]})
+    model = derive(ss.rig_from_dict(data))
+    modes = chart_modes.mode_models(model, LO)
+    rows = [scan_row(m, "stroke", 0.02, ("hanging",)) for m in modes]
+    first = rows[1].edges["hanging"][0]  # the short mode's principal tongue ends here
+    assert rows[0].edges["hanging"] == () and rows[0].stable_at_min["hanging"]
+    assert [e.gained for e in rows[1].edges["hanging"]] == [True]
+    rows[0] = Row(0.02, LO, HI, {"hanging": (Edge(1500.0, False), Edge(1600.0, True))},
+                  {"hanging": True}, rows[0].evaluations)
+    near = ()
+    if neighbour:
+        near = ((_row(0.021, hanging=(False, (first.x, True))),
+                 _row(0.021, hanging=(False, (first.x, True), (1500.0, False), (1600.0, True)))),)
+    _Recorder.points = []
+    monkeypatch.setattr(chart_modes, "Probe", _Recorder)
+    row, predicted = chart_modes.chain_row(model, rows, "stroke", ("hanging",), True, near)
+    # the modes' prediction: the intersection, worked by hand
+    assert [(e.x, e.gained) for e in predicted.edges["hanging"]] == \
+        [(first.x, True), (1500.0, False), (1600.0, True)]
+    assert row.stable_at_min["hanging"] is False
+    (edge,) = row.edges["hanging"]
+    assert edge.gained is True and abs(edge.x / first.x - 1) < 1e-3
+    for f, stable in ((1 - 1e-4, False), (1 + 1e-4, True)):
+        rho = ref.multipliers(ref.monodromy(data, "hanging", speed_rpm=edge.x * f,
+                                            stroke_m=0.02, rtol=1e-11, atol=1e-12))
+        assert bool(max(abs(rho)) < 1) == stable
+    rho = ref.multipliers(ref.monodromy(data, "hanging", speed_rpm=1550.0, stroke_m=0.02,
+                                        rtol=1e-11, atol=1e-12))
+    assert max(abs(rho)) < 1
+    assert min(_Recorder.points) >= first.x * (1 - 0.02)
+    assert row.evaluations == sum(r.evaluations for r in rows) + len(_Recorder.points)
+    if neighbour:
+        assert _Recorder.points.count(math.sqrt(1500.0 * 1600.0)) == 1
+        assert [x for x in _Recorder.points if x > first.x * 1.02] == \
+            [math.sqrt(1500.0 * 1600.0)]
+
+
+@pytest.mark.parametrize("damping", [0.0, 3e-4], ids=["modes decouple", "dampers couple"])
+def test_the_notes_say_how_several_links_were_charted(damping):
+    # The chart's note for several links (chart._modes_words): charted by sway modes (Acheson
+    # 1993); exact when no damping couples the modes, else the coupling, the largest
+    # |(X^T D X)_ij| / sqrt((X^T D X)_ii (X^T D X)_jj), i != j, with X from
+    # scipy.linalg.eigh(K, M) of the reference chain (tests/refsolvers.py), printed to two
+    # figures, and the confirmation bracket CONFIRM_HALF_WIDTHS[0] = 5e-5 (its documented
+    # value, chart_rows/confirm). One link has no such note.
+    data = ref.rig(_links(damping), ref.sine(0.02, 1500.0),
+                   limits={"speed_rpm": [LO, HI], "stroke_m": [0.0, 0.04]})
+    notes = chart(ss.rig_from_dict(data), rows=2, columns=False).notes
+    mass, damp, stiff = (np.array(m) for m in ref.chain_matrices(data, "hanging"))
+    _, x = scipy.linalg.eigh(stiff, mass)
+    modal = x.T @ damp @ x
+    coupling = abs(modal[0, 1]) / math.sqrt(modal[0, 0] * modal[1, 1]) if damping else 0.0
+    words = ("several links: each sway mode is charted as a one-link pendulum of its "
+             "equivalent length and the chain holds where every mode holds (Acheson 1993)")
+    if damping:
+        words += (f"; the joint dampers couple the modes ({coupling:.2g}), so every edge is "
+                  "confirmed by the chain's exact monodromy within 5e-05 relative and placed "
+                  "there, and a row the exact method does not bear out is walked by it")
+    else:
+        words += "; no damping couples the modes, so this is exact"
+    assert [n for n in notes if n.startswith("several links")] == [words]
+    one = ref.rig(_links(damping)[:1], ref.sine(0.02, 1500.0),
+                  limits={"speed_rpm": [LO, HI], "stroke_m": [0.0, 0.04]})
+    assert not any("several links" in n for n in chart(ss.rig_from_dict(one), rows=2,
+                                                        columns=False).notes)
