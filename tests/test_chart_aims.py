@@ -2,8 +2,10 @@
 documented rules worked by hand: the exact-to-modal shift of an edge in the neighbour rows,
 interpolated in y; the islands the neighbours' exact rows lack; which modes a row asks for; a
 chain row as the intersection of its modes' rows; a damped row refused part-way or aimed past
-a false island (its edge by solve_ivp, the points asked by the rule); the notes' words on how
-several links were charted (the coupling by scipy eigh). These parts change what the chart
+a false island (its edge by solve_ivp, the points asked by the rule); a chain's column edges
+found on the modes, then aimed by the dampers' shift and by the line through the edges before
+(chart_columns._trace: which method is asked how often, each edge by solve_ivp); the notes'
+words on how several links were charted (the coupling by scipy eigh). These parts change what the chart
 costs, and the stable intervals and notes a user reads; the rules are in each function's
 docstring, and the expected values are worked by hand from them (common practice, no source)
 unless a reference is named. Everything is built in each test's body, small (synthetic rows
@@ -20,10 +22,12 @@ import scipy.linalg
 
 import refsolvers as ref
 import shakestill as ss
-from shakestill.equilibria import chart_modes
+from shakestill.equilibria import chart_modes, lines
 from shakestill.equilibria.chart import chart
 from shakestill.equilibria.chart_modes import _aimed, _nearest, modal_row_steps
+from shakestill.equilibria.chart_columns import _trace
 from shakestill.equilibria.chart_rows import Row, scan_row
+from shakestill.equilibria.floquet import MODAL_METHOD
 from shakestill.equilibria.lines import Edge
 from shakestill.model.derived import derive
 
@@ -263,3 +267,51 @@ def test_the_notes_say_how_several_links_were_charted(damping):
                   limits={"speed_rpm": [LO, HI], "stroke_m": [0.0, 0.04]})
     assert not any("several links" in n for n in chart(ss.rig_from_dict(one), rows=2,
                                                         columns=False).notes)
+
+
+@pytest.mark.parametrize("damping, y0, y1", [(1e-2, 0.032, 0.038), (0.0, 0.027, 0.033)],
+                         ids=["dampers couple", "modes decouple"])
+def test_column_edges_of_a_chain_found_on_the_modes_then_aimed_by_shift_and_line(
+        monkeypatch, damping, y0, y1):
+    # chart_columns._trace (its docstring), the upright two-link chain's upper edge in stroke
+    # at successive column speeds (300-3000 rpm in 200 columns: 13.5 rpm apart). Undamped,
+    # the modes are the chain (Acheson 1993): every verdict is the modes' (Hill on the sway
+    # modes) and no other method is asked. With joint dampers heavy enough to move this edge
+    # by ~3e-4 relative, beyond the tight bracket's 5e-5 (confirm.CONFIRM_HALF_WIDTHS): at
+    # the first speed the edge is found on the modes, then confirmed and placed by the
+    # chain's exact monodromy (the tight bracket about the modal edge misses: more than its
+    # two verdicts); at the second, the modal edge moved by the exact / modal shift of the
+    # first lands in the tight bracket: exactly two exact verdicts; from the third on, the
+    # straight line through the two edges before lands it too and the modes are not asked:
+    # two exact verdicts only. Every edge: the solve_ivp monodromy (DOP853, rtol 1e-11,
+    # tests/refsolvers.py) stable 1e-4 below it in stroke and unstable 1e-4 above.
+    links = [ref.link(0.2, 0.04, damping=damping),
+             ref.link(0.12, 0.02, [(0.01, 0.12)], damping=damping / 3)]
+    data = ref.rig(links, ref.sine(0.02, 1500.0),
+                   limits={"speed_rpm": [LO, HI], "stroke_m": [0.0, 0.04]})
+    model = derive(ss.rig_from_dict(data))
+    methods = []
+    real = lines.stability
+
+    def counting(*args, **kwargs):
+        s = real(*args, **kwargs)
+        methods.append(s.method)
+        return s
+
+    monkeypatch.setattr(lines, "stability", counting)
+    shifts, path, asked = {}, [], []
+    for x in (1980.75, 1994.25, 2007.75, 2021.25):
+        methods.clear()
+        edge, spent = _trace(model, "stroke", "inverted", x, y0, y1, shifts, 0, False, path)
+        assert spent == len(methods)
+        asked.append((methods.count(MODAL_METHOD), len(methods) - methods.count(MODAL_METHOD)))
+        assert (edge.speed_rpm, edge.gained) == (x, False)
+        for f, stable in ((1 - 1e-4, True), (1 + 1e-4, False)):
+            rho = ref.multipliers(ref.monodromy(data, "inverted", speed_rpm=x,
+                                                stroke_m=edge.y * f, rtol=1e-11, atol=1e-12))
+            assert bool(max(abs(rho)) < 1) == stable, (x, f)
+    if damping:
+        (m1, e1), (m2, e2), (m3, e3), (m4, e4) = asked
+        assert m1 > 0 and e1 > 2 and m2 > 0 and e2 == 2 and (m3, e3) == (m4, e4) == (0, 2)
+    else:
+        assert all(m > 0 and e == 0 for m, e in asked) and shifts == {} and path == []
