@@ -1,16 +1,16 @@
 """How the chart of several links aims and assembles its rows (module chart_modes), against its
 documented rules worked by hand: the exact-to-modal shift of an edge in the neighbour rows,
 interpolated in y; the islands the neighbours' exact rows lack; which modes a row asks for; a
-chain row as the intersection of its modes' rows; a damped row refused part-way or aimed past
-a false island (its edge by solve_ivp, the points asked by the rule); a chain's column edges
-found on the modes, then aimed by the dampers' shift and by the line through the edges before
+chain row as the intersection of its modes' rows; a damped row refused part-way or aimed past a
+false island (its edge by solve_ivp, the points asked by the rule); a chain's column edges found
+on the modes, then aimed by the dampers' shift and by the line through the edges before
 (chart_columns._trace: which method is asked how often, each edge by solve_ivp); the notes'
-words on how several links were charted (the coupling by scipy eigh). These parts change what the chart
-costs, and the stable intervals and notes a user reads; the rules are in each function's
-docstring, and the expected values are worked by hand from them (common practice, no source)
-unless a reference is named. Everything is built in each test's body, small (synthetic rows
-where no stability is needed), so mutation runs map the tests to the chart modules and judge
-a mutant in about a second."""
+words on how several links were charted (the coupling by scipy eigh). These parts change what
+the chart costs, and the stable intervals and notes a user reads; the rules are in each
+function's docstring, and the expected values are worked by hand from them (common practice, no
+source) unless a reference is named. Everything is built in each test's body, small (synthetic
+rows where no stability is needed), so mutation runs map the tests to the chart modules and
+judge a mutant in about a second."""
 
 from __future__ import annotations
 
