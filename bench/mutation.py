@@ -262,6 +262,19 @@ EQUIVALENT.update({
         "True), and only that probe is asked and counted",
 })
 
+# equilibria/chart_modes.py and chart_rows.py (issue 12, mutchart4)
+EQUIVALENT.update({
+    "shakestill.equilibria.chart_modes.x_chain_row__mutmut_2": "first = rows[1] for rows[0]: "
+        "chain_row reads only y, speed_min and speed_max of it, and every mode's row j has the "
+        "same three (the same ys; mode_models starts each mode at the chain's first speed, at "
+        "or above each mode's own scan floor; an accel row's first speed comes from the same "
+        "drive and stroke limit)",
+    "shakestill.equilibria.chart_rows.x_row_settings__mutmut_4": "modal passed as None: its "
+        "callers pass None (scan_row) or False on a chain whose dampers couple the modes "
+        "(chain_row), and scan_settings resolves None to `several and modes_decouple(model)`, "
+        "False there",
+})
+
 
 def stage(modules: list[str], tests: list[str]) -> None:
     if STAGE.exists():
