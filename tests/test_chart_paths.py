@@ -323,6 +323,17 @@ def test_accel_lines_chosen_under_the_chart_corner():
         speeds = [60 + 2940 * k / 48 for k in range(49)]
         fits = [v for v in speeds if 2 * g_value * G / (2 * math.pi * v / 60) ** 2 <= 0.05]
         assert [v for v, _ in line] == pytest.approx(fits, rel=1e-12)
+    # The ends are in the chart: a top stroke on which the 10 g line's stroke lands exactly at
+    # the 41st speed (2510 rpm; the stroke (10 G / w^2) / 0.5, the sine formula, in the order
+    # of operations that makes it the same double) keeps that speed in the line: 9 speeds from
+    # 2510 to 3000 rpm, the first at the top.
+    v = 60 + (3000 - 60) * 40 / 48
+    top = (10 * G / (2 * math.pi * v / 60) ** 2) / 0.5
+    rig = rod_rig(limits={"speed_rpm": [60, 3000], "stroke_m": [0.0, top]})
+    line = dict(accel_lines(chart(rig, rows=2, columns=False), rig))[10]
+    assert [x for x, _ in line] == pytest.approx([60 + 2940 * k / 48 for k in range(40, 49)],
+                                                 rel=1e-12)
+    assert line[0][1] == top
 
 
 def test_boundaries_link_each_edge_to_the_nearest_of_its_kind_within_the_gap():
@@ -380,3 +391,24 @@ def test_column_and_island_helpers_by_hand():
     edges = (Edge(100, True), Edge(200, False), Edge(300, True))
     assert [_verdict(edges, False, x) for x in (50, 100, 150, 250, 350)] == \
         [False, False, True, False, True]
+
+
+def test_the_notes_say_how_the_chart_was_made():
+    # The notes a user reads with the chart (chart.chart_steps): the row scan's step (10% of
+    # speed, chart_rows.CHART_SPEED_STEP, or 0.08 of a tongue spacing, lines.PHASE_STEP), the
+    # edges' precision (1e-8, CHART_RTOL), what a feature between two coarse rows is (every
+    # 8th row is coarse: 8 / (rows - 1) of the y range, here 3 rows: 4), and the columns'
+    # count (200, chart_columns.COLUMNS); a one-link rig in its limits has no other note.
+    # Documented values, the words by hand (common practice, no source).
+    c = chart(rod_rig(), rows=3)
+    assert c.notes == (
+        "coarse rows are walked whole (a scan every 10% of speed or 0.08 of a tongue spacing, "
+        "every local peak of the margin searched); the rows between follow the edges of their "
+        "nearest computed neighbours (filled in by bisection) by bracketed root finding, and "
+        "are walked whole where the neighbours disagree; edges are refined to 1e-08 relative "
+        "in speed; a feature that starts and ends between two coarse rows (4 of the y range) "
+        "is not seen",
+        "at 200 evenly spaced speeds, an edge between two rows that no pair of the rows' edges "
+        "explains (a boundary running along speed, such as the upright pendulum's upper edge) "
+        "is traced in y by root finding to the same precision")
+    assert chart_dict(c)["notes"] == list(c.notes)
