@@ -315,3 +315,35 @@ def test_column_edges_of_a_chain_found_on_the_modes_then_aimed_by_shift_and_line
         assert m1 > 0 and e1 > 2 and m2 > 0 and e2 == 2 and (m3, e3) == (m4, e4) == (0, 2)
     else:
         assert all(m > 0 and e == 0 for m, e in asked) and shifts == {} and path == []
+
+
+def test_a_chain_chart_asks_no_later_mode_for_what_the_longest_holds_nowhere(monkeypatch):
+    # chart_modes (module docstring): a mode is left out of a row for an equilibrium where the
+    # modes before it (the longest first) leave no stable stretch. Here the upright chain is
+    # held nowhere by its longest mode: Kapitza's condition (A w)^2 > 2 g L (Landau &
+    # Lifshitz, Mechanics, sec. 30; Acheson 1993 for a chain's longest mode, L from scipy
+    # eigh) fails everywhere on the chart, (0.005 x 104.7 rad/s)^2 = 0.27 m^2/s^2 against
+    # 2 g L > 4. So the shorter mode is asked about the hanging position only, and every
+    # evaluation is counted outside the chart (lines.stability wrapped) by the mode's length.
+    data = ref.rig(_links(0.0), ref.sine(0.01, 600.0),
+                   limits={"speed_rpm": [LO, 1000.0], "stroke_m": [0.0, 0.01]})
+    mass, _, stiff = (np.array(m) for m in ref.chain_matrices(data, "hanging"))
+    lengths = sorted(1.0 / scipy.linalg.eigh(stiff, mass, eigvals_only=True), reverse=True)
+    w = 2 * math.pi * 1000.0 / 60
+    assert (0.01 / 2 * w) ** 2 < 2 * ref.G_STANDARD * lengths[0]
+    asked = {}
+    real = lines.stability
+
+    def counting(model, eq, *args, **kwargs):
+        length = model.rig.links[0].length_m
+        mode = min(range(2), key=lambda i: abs(lengths[i] / length - 1))
+        assert abs(lengths[mode] / length - 1) < 1e-9  # a mode's one-link pendulum
+        asked[mode, eq] = asked.get((mode, eq), 0) + 1
+        return real(model, eq, *args, **kwargs)
+
+    monkeypatch.setattr(lines, "stability", counting)
+    c = chart(ss.rig_from_dict(data), rows=3, columns=False)
+    assert all(row.stable_intervals("inverted") == [] for row in c.rows)
+    assert sum(asked.values()) == c.evaluations
+    assert asked.get((0, "inverted"), 0) > 0 and asked.get((0, "hanging"), 0) > 0
+    assert asked.get((1, "hanging"), 0) > 0 and (1, "inverted") not in asked

@@ -289,6 +289,10 @@ def test_speed_floor_and_off_vertical_map():
     d = chart_dict(chart(tilted, rows=2, columns=False))
     assert (d["drive_as_mapped"], d["rig_axis_tilt_deg"], d["rig_side_stroke_m"]) == \
         ("vertical", 5.0, 0.0)
+    assert d["notes"][1:] == [  # its words by hand (common practice, no source)
+        "the map is of the positions with the drive vertical: off vertical the check's verdict "
+        "and windows are those of the held orbit (on the stroke view, bars through the "
+        "operating point), and the lean chart shows how far it leans"]
     assert "held_orbit" not in d and "drive_as_mapped" not in chart_dict(low)
 
 
@@ -412,3 +416,33 @@ def test_the_notes_say_how_the_chart_was_made():
         "explains (a boundary running along speed, such as the upright pendulum's upper edge) "
         "is traced in y by root finding to the same precision")
     assert chart_dict(c)["notes"] == list(c.notes)
+
+
+def test_the_notes_name_where_the_map_leaves_the_rigs_speeds():
+    # chart.chart_steps' notes where the map is not the rig's whole range or drive (words by
+    # hand, common practice, no source): below the scan floor, a 25th of the pendulum's own
+    # frequency f0 = sqrt(g / l_eq) / 2 pi (small swings; a uniform rod about its end has
+    # l_eq = I / (m c) = (m L^2 / 3) / (m L / 2) = 2 L / 3, textbook), here under 1 rpm (a 3 m
+    # rod: 0.846 rpm, from a speed limit of 0); above MAX_SPEED_RPM (1e6 rpm), which the rig
+    # file refuses but a Rig made in Python may ask for (a drive tilted off vertical: in
+    # test_speed_floor_and_off_vertical_map).
+    from dataclasses import replace
+
+    rod = ss.rig_from_dict({**ss.rig_to_dict(rod_rig()),
+                            "links": [{"length_m": 3.0, "rod_mass_kg": 0.1}],
+                            "limits": {"speed_rpm": [0, 60], "stroke_m": [0.0, 0.05]}})
+    f0 = math.sqrt(G / (2 * 3.0 / 3)) / (2 * math.pi)
+    floor = 60 * f0 / 25
+    assert floor < 1
+    c = chart(rod, rows=2, columns=False)
+    assert c.speed_range == pytest.approx((floor, 60), rel=1e-9)
+    assert c.notes[1:] == (
+        f"the chart starts at {floor:.4g} rpm, above the rig's lowest speed: below "
+        f"{floor:.4g} rpm the pendulum's own frequency ({f0:.3g} Hz) is more than 25 times the "
+        "drive's, too many parametric resonances to resolve",)
+    fast = rod_rig()
+    fast = replace(fast, limits=replace(fast.limits, speed_rpm=(300.0, 2e6)))
+    c = chart(fast, rows=2, columns=False)
+    assert c.speed_range == (300.0, 1e6)
+    assert c.notes[1:] == ("the chart stops at 1e+06 rpm, below the rig's highest speed: above "
+                           "1e+06 rpm the drive is outside the range this method is built for",)
