@@ -28,7 +28,7 @@ from scipy import special
 import refsolvers as R
 import shakestill as ss
 from shakestill.equilibria.chart_modes import _island, _walk_on
-from shakestill.equilibria.chart_rows import CHART_RTOL
+from shakestill.equilibria.chart_rows import CHART_RTOL, line_edges
 from shakestill.equilibria.confirm import _secant, confirm_edges, place_edge, tight_edge
 from shakestill.equilibria.lines import Edge, Probe, edge_between, scan_settings
 from shakestill.model.derived import as_model
@@ -431,3 +431,31 @@ def test_an_island_left_out_of_the_aim_is_checked_at_its_middle(operating):
     exact = probe()
     assert _island(exact, row, True, 560.0, 680.0, prefix) is None
     assert exact.points == [math.sqrt(560.0 * 680.0), 560.0, 680.0] and prefix == list(row)
+
+
+def test_a_followed_row_asks_the_documented_brackets_and_spot_checks(make_probe):
+    # chart_rows._follow (its docstring and constants): each predicted edge (x, spread) is
+    # looked for in a tight bracket, half-width spread x FOLLOW_TIGHT (1/16) + 5e-5 x, then
+    # in a wide one, spread / 2 + 0.002 x (clipped to the last edge and the row's end); the
+    # edge is then closed by Brent's method; last, 6 verdicts spot-check the row at
+    # lo (hi / lo)^(k / 7), k = 1..6, and the 7th at its end. Edges predicted at the Mathieu
+    # edges (scipy.special) of both tongues, the principal tongue's low edge 0.4% high with a
+    # spread of 1% (outside the tight bracket, inside the wide one).
+    (lo2, hi2), (lo1, hi1) = tongue(2), tongue(1)
+    predicted = [(lo2, 1e-4 * lo2, False), (hi2, 1e-4 * hi2, True),
+                 (lo1 * 1.004, 0.01 * lo1, False), (hi1, 1e-4 * hi1, True)]
+    probe = make_probe()
+    s0, edges = line_edges(probe, LO, HI, (True, predicted))
+    assert probe.points[0] == LO and s0.stable  # stable below both tongues (solve_ivp)
+    assert ref_stable(LO)
+    assert [e.gained for e in edges] == [False, True, False, True]
+    for got, want in zip(edges, (lo2, hi2, lo1, hi1)):
+        assert abs(got.x / want - 1) < 1e-7
+    x, spread = predicted[2][:2]
+    tight = spread / 16 + 5e-5 * x
+    wide = spread / 2 + 0.002 * x
+    assert abs(x / lo1 - 1) > tight / x and abs(x / lo1 - 1) < wide / x
+    for end in (x - tight, x + tight, x - wide, x + wide):
+        assert any(p == pytest.approx(end, rel=1e-14) for p in probe.points), end
+    checks = [LO * (HI / LO) ** (k / 7) for k in range(1, 7)] + [HI]
+    assert probe.points[-7:] == pytest.approx(checks, rel=1e-14)
