@@ -446,3 +446,28 @@ def test_the_notes_name_where_the_map_leaves_the_rigs_speeds():
     assert c.speed_range == (300.0, 1e6)
     assert c.notes[1:] == ("the chart stops at 1e+06 rpm, below the rig's highest speed: above "
                            "1e+06 rpm the drive is outside the range this method is built for",)
+
+
+def test_a_rows_points_share_the_settings_sized_at_its_ends(monkeypatch):
+    # chart_rows.scan_row / row_settings (their docstrings): every point of a row is
+    # evaluated with one Settings, sized at the row's two ends (not each point's own
+    # defaults, as the check takes them): here a crank row, whose settings are the 2 x 2 RK
+    # trace with fixed steps ("monodromy"), where a point's defaults would take Hill's method.
+    from shakestill.equilibria.chart_rows import scan_row
+
+    rig = rod_rig("crank")
+    model = derive(rig)
+    given = []
+    real = lines.stability
+
+    def recording(*args, settings=None, **kwargs):
+        given.append(settings)
+        return real(*args, settings=settings, **kwargs)
+
+    monkeypatch.setattr(lines, "stability", recording)
+    row = scan_row(model, "stroke", 0.03, ("hanging",))
+    point, lo, hi = row_line(model, "stroke", 0.03)
+    want = row_settings(model, point, lo, hi, "hanging")
+    assert (want.method, want.steps is not None) == ("monodromy", True)
+    assert len(given) == row.evaluations and all(s == want for s in given)
+    assert real(model, "hanging", 1500.0, 0.03).method == "hill"  # a point's defaults
