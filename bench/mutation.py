@@ -273,6 +273,9 @@ EQUIVALENT.update({
         "callers pass None (scan_row) or False on a chain whose dampers couple the modes "
         "(chain_row), and scan_settings resolves None to `several and modes_decouple(model)`, "
         "False there",
+    "shakestill.equilibria.chart_modes.x_modal_row_steps__mutmut_30": "the row index read "
+        "from the second mode's step: every mode's walker is _row_steps over the same ys and "
+        "the same _row_order, so all yield the same index at each step",
     "shakestill.equilibria.chart_rows.x__follow__mutmut_77": "the spot check's span searched "
         "over range(len(cuts) + 1): next() stops at the first match, and one exists before "
         "the last index (x is clamped to [lo, hi], and cuts runs from lo through the edges, "

@@ -25,10 +25,10 @@ import shakestill as ss
 from shakestill.equilibria import chart_modes, lines
 from shakestill.equilibria.chart import chart
 from shakestill.equilibria.chart_modes import _aimed, _nearest, modal_row_steps
-from shakestill.equilibria.chart_columns import _trace
-from shakestill.equilibria.chart_rows import Row, scan_row
+from shakestill.equilibria.chart_columns import _probe, _trace
+from shakestill.equilibria.chart_rows import CHART_RTOL, Row, scan_row
 from shakestill.equilibria.floquet import MODAL_METHOD
-from shakestill.equilibria.lines import Edge
+from shakestill.equilibria.lines import Edge, edge_between
 from shakestill.model.derived import derive
 
 LO, HI = 300.0, 3000.0
@@ -84,6 +84,8 @@ def test_nearest_edge_of_its_kind_within_the_reach():
     assert _nearest(edges, Edge(1000.0, False), 0.02) is None  # 950 and 1030: 5% and 3%
     assert _nearest(edges, Edge(1080.0, False), 0.02) == Edge(1090.0, False)  # 0.93% off
     assert _nearest((), Edge(1000.0, True), 0.1) is None
+    # the reach's end is within it: 1152 / 1024 - 1 = 0.125 exactly (binary fractions)
+    assert _nearest((Edge(1152.0, True),), Edge(1024.0, True), 0.125) == Edge(1152.0, True)
 
 
 def _links(damping):
@@ -312,7 +314,16 @@ def test_column_edges_of_a_chain_found_on_the_modes_then_aimed_by_shift_and_line
             assert bool(max(abs(rho)) < 1) == stable, (x, f)
     if damping:
         (m1, e1), (m2, e2), (m3, e3), (m4, e4) = asked
-        assert m1 > 0 and e1 > 2 and m2 > 0 and e2 == 2 and (m3, e3) == (m4, e4) == (0, 2)
+        # the modes' edge: its two ends and Brent's method to CHART_RTOL, side by side on a
+        # modal probe of the same line (chart_columns._probe)
+        for (m, _), x in zip(asked[:2], (1980.75, 1994.25)):
+            modal = _probe(model, "inverted", lambda y, x=x: (x, y), y0, y1, modal=True)
+            edge_between(modal, (y0, modal(y0)), (y1, modal(y1)), rtol=CHART_RTOL)
+            assert m == modal.count
+        # the first exact placing: the tight bracket and at most AIMS (2) re-aims of it
+        # (confirm.place_edge), never the wider brackets or a walk
+        assert 2 < e1 <= 2 + 2 * 2
+        assert e2 == 2 and (m3, e3) == (m4, e4) == (0, 2)
     else:
         assert all(m > 0 and e == 0 for m, e in asked) and shifts == {} and path == []
 

@@ -375,7 +375,7 @@ def test_boundaries_link_each_edge_to_the_nearest_of_its_kind_within_the_gap():
 
 def test_column_and_island_helpers_by_hand():
     # Worked by hand from each helper's docstring (common practice, no source).
-    from shakestill.equilibria.chart_columns import _evenly_spaced, _swept
+    from shakestill.equilibria.chart_columns import _evenly_spaced, _swept, column_speeds
     from shakestill.equilibria.chart_modes import _verdict
     from shakestill.equilibria.chart_rows import Row
     from shakestill.equilibria.lines import Edge
@@ -388,6 +388,11 @@ def test_column_and_island_helpers_by_hand():
     # an edge of one row and one of the same kind in the other on either side of x (ends in)
     assert [_swept(below, above, "inverted", x) for x in (1199, 1200, 1250, 1300, 1301, 1790)] \
         == [False, True, True, True, False, False]
+    # the columns: the middles of 200 equal cells of the chart's speeds (300-3000 rpm: 13.5
+    # rpm wide), 306.75, 320.25, ..., 2993.25 rpm
+    speeds = column_speeds((300.0, 3000.0))
+    assert len(speeds) == 200 and speeds[:2] == pytest.approx([306.75, 320.25], rel=1e-15)
+    assert speeds[-1] == pytest.approx(2993.25, rel=1e-15)
     # neighbouring columns: the same step twice, to 1e-9 relative
     assert [_evenly_spaced(*xs) for xs in ((1, 2, 3), (1, 2, 4), (1, 3, 4), (1, 2, 2))] == \
         [True, False, False, False]
