@@ -262,6 +262,26 @@ EQUIVALENT.update({
         "True), and only that probe is asked and counted",
 })
 
+# equilibria/chart_modes.py and chart_rows.py (issue 12, mutchart4)
+EQUIVALENT.update({
+    "shakestill.equilibria.chart_modes.x_chain_row__mutmut_2": "first = rows[1] for rows[0]: "
+        "chain_row reads only y, speed_min and speed_max of it, and every mode's row j has the "
+        "same three (the same ys; mode_models starts each mode at the chain's first speed, at "
+        "or above each mode's own scan floor; an accel row's first speed comes from the same "
+        "drive and stroke limit)",
+    "shakestill.equilibria.chart_rows.x_row_settings__mutmut_4": "modal passed as None: its "
+        "callers pass None (scan_row) or False on a chain whose dampers couple the modes "
+        "(chain_row), and scan_settings resolves None to `several and modes_decouple(model)`, "
+        "False there",
+    "shakestill.equilibria.chart_modes.x_modal_row_steps__mutmut_30": "the row index read "
+        "from the second mode's step: every mode's walker is _row_steps over the same ys and "
+        "the same _row_order, so all yield the same index at each step",
+    "shakestill.equilibria.chart_rows.x__follow__mutmut_77": "the spot check's span searched "
+        "over range(len(cuts) + 1): next() stops at the first match, and one exists before "
+        "the last index (x is clamped to [lo, hi], and cuts runs from lo through the edges, "
+        "each found inside its bracket past the one before, to hi)",
+})
+
 
 def stage(modules: list[str], tests: list[str]) -> None:
     if STAGE.exists():

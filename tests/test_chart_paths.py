@@ -289,6 +289,10 @@ def test_speed_floor_and_off_vertical_map():
     d = chart_dict(chart(tilted, rows=2, columns=False))
     assert (d["drive_as_mapped"], d["rig_axis_tilt_deg"], d["rig_side_stroke_m"]) == \
         ("vertical", 5.0, 0.0)
+    assert d["notes"][1:] == [  # its words by hand (common practice, no source)
+        "the map is of the positions with the drive vertical: off vertical the check's verdict "
+        "and windows are those of the held orbit (on the stroke view, bars through the "
+        "operating point), and the lean chart shows how far it leans"]
     assert "held_orbit" not in d and "drive_as_mapped" not in chart_dict(low)
 
 
@@ -323,6 +327,17 @@ def test_accel_lines_chosen_under_the_chart_corner():
         speeds = [60 + 2940 * k / 48 for k in range(49)]
         fits = [v for v in speeds if 2 * g_value * G / (2 * math.pi * v / 60) ** 2 <= 0.05]
         assert [v for v, _ in line] == pytest.approx(fits, rel=1e-12)
+    # The ends are in the chart: a top stroke on which the 10 g line's stroke lands exactly at
+    # the 41st speed (2510 rpm; the stroke (10 G / w^2) / 0.5, the sine formula, in the order
+    # of operations that makes it the same double) keeps that speed in the line: 9 speeds from
+    # 2510 to 3000 rpm, the first at the top.
+    v = 60 + (3000 - 60) * 40 / 48
+    top = (10 * G / (2 * math.pi * v / 60) ** 2) / 0.5
+    rig = rod_rig(limits={"speed_rpm": [60, 3000], "stroke_m": [0.0, top]})
+    line = dict(accel_lines(chart(rig, rows=2, columns=False), rig))[10]
+    assert [x for x, _ in line] == pytest.approx([60 + 2940 * k / 48 for k in range(40, 49)],
+                                                 rel=1e-12)
+    assert line[0][1] == top
 
 
 def test_boundaries_link_each_edge_to_the_nearest_of_its_kind_within_the_gap():
@@ -360,7 +375,7 @@ def test_boundaries_link_each_edge_to_the_nearest_of_its_kind_within_the_gap():
 
 def test_column_and_island_helpers_by_hand():
     # Worked by hand from each helper's docstring (common practice, no source).
-    from shakestill.equilibria.chart_columns import _evenly_spaced, _swept
+    from shakestill.equilibria.chart_columns import _evenly_spaced, _swept, column_speeds
     from shakestill.equilibria.chart_modes import _verdict
     from shakestill.equilibria.chart_rows import Row
     from shakestill.equilibria.lines import Edge
@@ -373,6 +388,11 @@ def test_column_and_island_helpers_by_hand():
     # an edge of one row and one of the same kind in the other on either side of x (ends in)
     assert [_swept(below, above, "inverted", x) for x in (1199, 1200, 1250, 1300, 1301, 1790)] \
         == [False, True, True, True, False, False]
+    # the columns: the middles of 200 equal cells of the chart's speeds (300-3000 rpm: 13.5
+    # rpm wide), 306.75, 320.25, ..., 2993.25 rpm
+    speeds = column_speeds((300.0, 3000.0))
+    assert len(speeds) == 200 and speeds[:2] == pytest.approx([306.75, 320.25], rel=1e-15)
+    assert speeds[-1] == pytest.approx(2993.25, rel=1e-15)
     # neighbouring columns: the same step twice, to 1e-9 relative
     assert [_evenly_spaced(*xs) for xs in ((1, 2, 3), (1, 2, 4), (1, 3, 4), (1, 2, 2))] == \
         [True, False, False, False]
@@ -380,3 +400,79 @@ def test_column_and_island_helpers_by_hand():
     edges = (Edge(100, True), Edge(200, False), Edge(300, True))
     assert [_verdict(edges, False, x) for x in (50, 100, 150, 250, 350)] == \
         [False, False, True, False, True]
+
+
+def test_the_notes_say_how_the_chart_was_made():
+    # The notes a user reads with the chart (chart.chart_steps): the row scan's step (10% of
+    # speed, chart_rows.CHART_SPEED_STEP, or 0.08 of a tongue spacing, lines.PHASE_STEP), the
+    # edges' precision (1e-8, CHART_RTOL), what a feature between two coarse rows is (every
+    # 8th row is coarse: 8 / (rows - 1) of the y range, here 3 rows: 4), and the columns'
+    # count (200, chart_columns.COLUMNS); a one-link rig in its limits has no other note.
+    # Documented values, the words by hand (common practice, no source).
+    c = chart(rod_rig(), rows=3)
+    assert c.notes == (
+        "coarse rows are walked whole (a scan every 10% of speed or 0.08 of a tongue spacing, "
+        "every local peak of the margin searched); the rows between follow the edges of their "
+        "nearest computed neighbours (filled in by bisection) by bracketed root finding, and "
+        "are walked whole where the neighbours disagree; edges are refined to 1e-08 relative "
+        "in speed; a feature that starts and ends between two coarse rows (4 of the y range) "
+        "is not seen",
+        "at 200 evenly spaced speeds, an edge between two rows that no pair of the rows' edges "
+        "explains (a boundary running along speed, such as the upright pendulum's upper edge) "
+        "is traced in y by root finding to the same precision")
+    assert chart_dict(c)["notes"] == list(c.notes)
+
+
+def test_the_notes_name_where_the_map_leaves_the_rigs_speeds():
+    # chart.chart_steps' notes where the map is not the rig's whole range or drive (words by
+    # hand, common practice, no source): below the scan floor, a 25th of the pendulum's own
+    # frequency f0 = sqrt(g / l_eq) / 2 pi (small swings; a uniform rod about its end has
+    # l_eq = I / (m c) = (m L^2 / 3) / (m L / 2) = 2 L / 3, textbook), here under 1 rpm (a 3 m
+    # rod: 0.846 rpm, from a speed limit of 0); above MAX_SPEED_RPM (1e6 rpm), which the rig
+    # file refuses but a Rig made in Python may ask for (a drive tilted off vertical: in
+    # test_speed_floor_and_off_vertical_map).
+    from dataclasses import replace
+
+    rod = ss.rig_from_dict({**ss.rig_to_dict(rod_rig()),
+                            "links": [{"length_m": 3.0, "rod_mass_kg": 0.1}],
+                            "limits": {"speed_rpm": [0, 60], "stroke_m": [0.0, 0.05]}})
+    f0 = math.sqrt(G / (2 * 3.0 / 3)) / (2 * math.pi)
+    floor = 60 * f0 / 25
+    assert floor < 1
+    c = chart(rod, rows=2, columns=False)
+    assert c.speed_range == pytest.approx((floor, 60), rel=1e-9)
+    assert c.notes[1:] == (
+        f"the chart starts at {floor:.4g} rpm, above the rig's lowest speed: below "
+        f"{floor:.4g} rpm the pendulum's own frequency ({f0:.3g} Hz) is more than 25 times the "
+        "drive's, too many parametric resonances to resolve",)
+    fast = rod_rig()
+    fast = replace(fast, limits=replace(fast.limits, speed_rpm=(300.0, 2e6)))
+    c = chart(fast, rows=2, columns=False)
+    assert c.speed_range == (300.0, 1e6)
+    assert c.notes[1:] == ("the chart stops at 1e+06 rpm, below the rig's highest speed: above "
+                           "1e+06 rpm the drive is outside the range this method is built for",)
+
+
+def test_a_rows_points_share_the_settings_sized_at_its_ends(monkeypatch):
+    # chart_rows.scan_row / row_settings (their docstrings): every point of a row is
+    # evaluated with one Settings, sized at the row's two ends (not each point's own
+    # defaults, as the check takes them): here a crank row, whose settings are the 2 x 2 RK
+    # trace with fixed steps ("monodromy"), where a point's defaults would take Hill's method.
+    from shakestill.equilibria.chart_rows import scan_row
+
+    rig = rod_rig("crank")
+    model = derive(rig)
+    given = []
+    real = lines.stability
+
+    def recording(*args, settings=None, **kwargs):
+        given.append(settings)
+        return real(*args, settings=settings, **kwargs)
+
+    monkeypatch.setattr(lines, "stability", recording)
+    row = scan_row(model, "stroke", 0.03, ("hanging",))
+    point, lo, hi = row_line(model, "stroke", 0.03)
+    want = row_settings(model, point, lo, hi, "hanging")
+    assert (want.method, want.steps is not None) == ("monodromy", True)
+    assert len(given) == row.evaluations and all(s == want for s in given)
+    assert real(model, "hanging", 1500.0, 0.03).method == "hill"  # a point's defaults

@@ -27,9 +27,10 @@ from scipy import special
 
 import refsolvers as R
 import shakestill as ss
-from shakestill.equilibria.chart_modes import _walk_on
+from shakestill.equilibria.chart_modes import _island, _walk_on
+from shakestill.equilibria.chart_rows import CHART_RTOL, line_edges
 from shakestill.equilibria.confirm import _secant, confirm_edges, place_edge, tight_edge
-from shakestill.equilibria.lines import Edge, Probe, scan_settings
+from shakestill.equilibria.lines import Edge, Probe, edge_between, scan_settings
 from shakestill.model.derived import as_model
 
 G = R.G_STANDARD
@@ -382,3 +383,79 @@ def test_a_refused_row_is_walked_exactly_from_its_last_confirmed_edge(make_probe
     for got, want in zip(row[1:], (hi2, lo1, hi1)):
         assert abs(got.x / want - 1) < 1e-6, (got.x, want)
     assert _walk_on(make_probe(), [Edge(hi2 * 1.01, False)], HI) is None
+
+
+@pytest.mark.parametrize("operating", [450.0, 600.0], ids=["stable there", "unstable there"])
+def test_an_island_left_out_of_the_aim_is_checked_at_its_middle(operating):
+    # chart_modes._island (its docstring): a confirmed row that left out an island the modes
+    # show from a to b is checked by one exact verdict at the island's middle sqrt(a b); if
+    # that is the row's verdict there, the row stands (one point); else both ends are asked
+    # and, where both are the row's verdict and the row has no edge inside, the island's two
+    # edges are found by Brent's method between the middle and each end, to the chart's
+    # precision CHART_RTOL (the points the same as edge_between's at that rtol, side by side);
+    # if an end is not the row's verdict, None, with the edges before the island in prefix.
+    # The row here lacks the principal tongue: its edges must be the Mathieu edges a_1, b_1
+    # (scipy.special), within 1e-7 (Brent stops within 2.5 CHART_RTOL of the root). The
+    # rig's own operating speed (stable at 450 rpm, inside the tongue at 600) plays no part:
+    # every point is the row's.
+    model = as_model(ss.rig_from_dict(R.rig([R.link(LENGTH, 0.0, [(0.1, LENGTH)])],
+                                            R.sine(STROKE, operating),
+                                            limits={"speed_rpm": [200.0, 3600.0],
+                                                    "stroke_m": [0.0, 0.01]})))
+    settings = scan_settings(model, "hanging", [model.at(speed_rpm=v) for v in (LO, HI)])
+
+    def probe():
+        return Recorder(model, "hanging", lambda x: (x, STROKE), settings)
+    (lo2, hi2), (lo1, hi1) = tongue(2), tongue(1)
+    assert ref_stable(LO) and ref_stable(450.0) and not ref_stable(600.0)  # solve_ivp
+    row = (Edge(lo2, False), Edge(hi2, True))  # stable at LO (solve_ivp, above)
+    a, b = 540.0, 680.0  # the modes' island around the principal tongue (547-671 rpm)
+    x = math.sqrt(a * b)
+    exact = probe()
+    prefix = []
+    got = _island(exact, row, True, a, b, prefix)
+    assert exact.points[:3] == [x, a, b] and prefix == []
+    assert got[:2] == row and [e.gained for e in got[2:]] == [False, True]
+    assert abs(got[2].x / lo1 - 1) < 1e-7 and abs(got[3].x / hi1 - 1) < 1e-7
+    side = probe()
+    s = {v: side(v) for v in (x, a, b)}  # in _island's order
+    want = (edge_between(side, (a, s[a]), (x, s[x]), rtol=CHART_RTOL),
+            edge_between(side, (x, s[x]), (b, s[b]), rtol=CHART_RTOL))
+    assert got[2:] == want and exact.points == side.points
+    # an island the exact method does not bear out at its middle: the row stands, one point
+    exact = probe()
+    assert _island(exact, row, True, 400.0, 500.0, prefix) is row
+    assert exact.points == [math.sqrt(400.0 * 500.0)] and prefix == []
+    # an end inside the tongue (560 rpm: unstable, solve_ivp) is not the row's verdict
+    assert not ref_stable(560.0)
+    exact = probe()
+    assert _island(exact, row, True, 560.0, 680.0, prefix) is None
+    assert exact.points == [math.sqrt(560.0 * 680.0), 560.0, 680.0] and prefix == list(row)
+
+
+def test_a_followed_row_asks_the_documented_brackets_and_spot_checks(make_probe):
+    # chart_rows._follow (its docstring and constants): each predicted edge (x, spread) is
+    # looked for in a tight bracket, half-width spread x FOLLOW_TIGHT (1/16) + 5e-5 x, then
+    # in a wide one, spread / 2 + 0.002 x (clipped to the last edge and the row's end); the
+    # edge is then closed by Brent's method; last, 6 verdicts spot-check the row at
+    # lo (hi / lo)^(k / 7), k = 1..6, and the 7th at its end. Edges predicted at the Mathieu
+    # edges (scipy.special) of both tongues, the principal tongue's low edge 0.4% high with a
+    # spread of 1% (outside the tight bracket, inside the wide one).
+    (lo2, hi2), (lo1, hi1) = tongue(2), tongue(1)
+    predicted = [(lo2, 1e-4 * lo2, False), (hi2, 1e-4 * hi2, True),
+                 (lo1 * 1.004, 0.01 * lo1, False), (hi1, 1e-4 * hi1, True)]
+    probe = make_probe()
+    s0, edges = line_edges(probe, LO, HI, (True, predicted))
+    assert probe.points[0] == LO and s0.stable  # stable below both tongues (solve_ivp)
+    assert ref_stable(LO)
+    assert [e.gained for e in edges] == [False, True, False, True]
+    for got, want in zip(edges, (lo2, hi2, lo1, hi1)):
+        assert abs(got.x / want - 1) < 1e-7
+    x, spread = predicted[2][:2]
+    tight = spread / 16 + 5e-5 * x
+    wide = spread / 2 + 0.002 * x
+    assert abs(x / lo1 - 1) > tight / x and abs(x / lo1 - 1) < wide / x
+    for end in (x - tight, x + tight, x - wide, x + wide):
+        assert any(p == pytest.approx(end, rel=1e-14) for p in probe.points), end
+    checks = [LO * (HI / LO) ** (k / 7) for k in range(1, 7)] + [HI]
+    assert probe.points[-7:] == pytest.approx(checks, rel=1e-14)
