@@ -148,8 +148,9 @@ def test_tolerance_map_and_fit_come_back_marked_and_a_kept_fit_can_be_applied(bo
     assert marks(page, "#fit-result") == ["cached", "last-session"]
     assert page.is_enabled("#fit-apply")
     fitted = kept["fit"]["parameters"][0]
+    old = fitted_value(page, fitted["path"])  # read before the click: the engine may answer first
     page.click("#fit-apply")
-    rig_after = wait_for_fitted(page, fitted["path"])
+    rig_after = wait_for_fitted(page, fitted["path"], old)
     assert rig_after == pytest.approx(fitted["value"], rel=1e-12)
     assert page.get_attribute("#fit-result", "data-state") == "applied"
     # the sheet holds the fitted rig now: the kept tolerance and map are of an earlier rig, and
@@ -169,16 +170,27 @@ def test_tolerance_map_and_fit_come_back_marked_and_a_kept_fit_can_be_applied(bo
         page.evaluate("() => window.dispatchEvent(new Event('afterprint'))")
 
 
-def wait_for_fitted(page, path: str) -> float:
-    """The number at ``path`` (links[0].joint_damping_N_m_s, say) in the rig the check read."""
+def _link_field(path: str) -> tuple[int, str]:
     link, name = path.split(".")
-    index = int(link[len("links["):-1])
+    return int(link[len("links["):-1]), name
+
+
+def fitted_value(page, path: str) -> float:
+    """The number at ``path`` (links[0].joint_damping_N_m_s, say) in the rig the check read."""
+    index, name = _link_field(path)
+    return data(page, "#check-report", "rig")["links"][index][name]
+
+
+def wait_for_fitted(page, path: str, old: float) -> float:
+    """The number at ``path`` once a fresh check has read a rig where it is no longer ``old``
+    (read before the action that changes it: a fast engine can answer before this starts)."""
+    index, name = _link_field(path)
     page.wait_for_function("""([i, name, old]) => {
         const el = document.getElementById("check-report");
         const rig = el.dataset.rig && JSON.parse(el.dataset.rig);
         return el.dataset.state === "fresh" && rig && rig.links[i][name] !== old;
-    }""", arg=[index, name, data(page, "#check-report", "rig")["links"][index][name]], timeout=BOOT_TIMEOUT_MS)
-    return data(page, "#check-report", "rig")["links"][index][name]
+    }""", arg=[index, name, old], timeout=BOOT_TIMEOUT_MS)
+    return fitted_value(page, path)
 
 
 def test_inputs_typed_just_before_a_reload_are_kept(booted):
