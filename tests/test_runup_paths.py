@@ -401,3 +401,25 @@ def test_largest_singular_value_against_numpy_svd():
     assert largest_singular_value([[1.0, math.nan], [0.0, 1.0]]) == math.inf
     assert largest_singular_value([[math.inf, 0.0], [0.0, 1.0]]) == math.inf
     assert largest_singular_value([[0.0, 0.0], [0.0, 0.0]]) == 0.0
+
+
+def test_a_crossing_running_to_the_end_speed_is_never_ok():
+    # Upside down the ramp from 500 rpm ends inside its unstable interval (Kapitza, Landau &
+    # Lifshitz sec. 30: 443 rad/s needed, far above 900 rpm). With a factor of 1e300 its
+    # growth, e^(I / R) with I by quad over solve_ivp multipliers (about e^124), is within
+    # the factor, yet the end speed does not hold the pendulum: not held, not ok, and no
+    # verdict beyond the crossing is asked for (the crossing says it). Hanging, the ramp
+    # ends between tongues: held, one verdict at the end speed.
+    from shakestill.equilibria.runup import runup
+    rig = ss.rig_from_dict(rig_data())
+    got = runup(rig, rate_rpm_s=RATE, start_rpm=500.0, factor=1e300)
+    (c,) = got["inverted"]["crossings"]
+    assert c["speed_to_rpm"] == END
+    assert math.log(c["amplification"]) == pytest.approx(
+        frozen_integral(500.0, END, "inverted") / RATE, rel=1e-8)
+    assert c["amplification"] < 1e300
+    inv = got["inverted"]
+    assert inv["held_at_end"] is False and inv["ok"] is False
+    assert "end_max_multiplier" not in inv
+    assert got["hanging"]["held_at_end"] is True and got["hanging"]["ok"] is True
+    assert max_multiplier(END) < 1  # the hanging verdict at the end speed (solve_ivp)
