@@ -331,13 +331,5 @@ def multipliers_from_trace(trace: float, decay: float) -> tuple[complex, complex
     half = trace / 2.0
     if math.isinf(trace):
         return (complex(math.copysign(math.inf, trace)), 0j)
-    if abs(half) > 1.0:  # a real pair: |half| sqrt(1 - 1/half^2) does not overflow as half^2
-        root = abs(half) * math.sqrt((1.0 - 1.0 / half) * (1.0 + 1.0 / half))
-        plus, minus = half + root, half - root
-        # the larger from the sum, the smaller as its reciprocal (their product is 1): no
-        # cancellation, and a trace past 1e154 no longer gives an infinite multiplier
-        if half > 0:
-            return (complex(decay * plus), complex(decay / plus))
-        return (complex(decay / minus), complex(decay * minus))
     root = cmath.sqrt(half * half - 1.0)
     return (decay * (half + root), decay * (half - root))
