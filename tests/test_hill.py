@@ -2,6 +2,7 @@
 
 import math
 
+import numpy as np
 import pytest
 from scipy.special import mathieu_a, mathieu_b
 
@@ -115,3 +116,16 @@ def test_trace_next_to_the_poles(theta0, theta):
     # would allow if it were wrong.
     R = default_truncation(theta0, theta)
     assert abs(hill_trace(theta0, theta, R) - trace_by_integration(theta0, theta)) < 1e-11
+
+
+def test_multipliers_of_a_huge_trace_stay_finite_and_multiply_to_the_decay_squared():
+    # rho^2 - t rho + 1 = 0 scaled by d: roots d (t/2 +- sqrt(t^2/4 - 1)); for |t| = 3.2e163
+    # the larger is d t (1 - 1/t^2 ...) and the smaller d / t (hand): both finite, their
+    # product d^2 (Vieta), where the square t^2 overflowed before.
+    from shakestill.numerics.hill import multipliers_from_trace
+    for t in (3.2e163, -3.2e163, 5.0, -2.5):
+        d = 0.7
+        a, b = multipliers_from_trace(t, d)
+        want = np.roots([1.0, -t, 1.0]) * d if abs(t) < 1e100 else [d * t, d / t]
+        assert sorted([a.real, b.real]) == pytest.approx(sorted(np.real(want)), rel=1e-12)
+        assert a * b == pytest.approx(d * d, rel=1e-12)

@@ -326,10 +326,21 @@ def needed_harmonics(theta0: float, theta: tuple, truncation: int, *,
     return hi
 
 
+HUGE_HALF_TRACE = 1e150  # half^2 overflows a double past 1.34e154
+
+
 def multipliers_from_trace(trace: float, decay: float) -> tuple[complex, complex]:
     """Roots of rho^2 - trace rho + 1 scaled by ``decay`` (= exp(-gamma T))."""
     half = trace / 2.0
     if math.isinf(trace):
         return (complex(math.copysign(math.inf, trace)), 0j)
+    if abs(half) > HUGE_HALF_TRACE:  # a real pair whose half^2 would overflow
+        root = abs(half) * math.sqrt((1.0 - 1.0 / half) * (1.0 + 1.0 / half))
+        plus, minus = half + root, half - root
+        # the larger from the sum, the smaller as its reciprocal (their product is 1). Only
+        # here: below it the usual formula stays, bit for bit as before.
+        if half > 0:
+            return (complex(decay * plus), complex(decay / plus))
+        return (complex(decay / minus), complex(decay * minus))
     root = cmath.sqrt(half * half - 1.0)
     return (decay * (half + root), decay * (half - root))
