@@ -423,3 +423,25 @@ def test_a_crossing_running_to_the_end_speed_is_never_ok():
     assert "end_max_multiplier" not in inv
     assert got["hanging"]["held_at_end"] is True and got["hanging"]["ok"] is True
     assert max_multiplier(END) < 1  # the hanging verdict at the end speed (solve_ivp)
+
+
+def test_an_end_speed_past_reach_or_past_a_double_is_said_so():
+    # At 5 rpm the drive is all but still (peak pivot acceleration 3e-4 m/s^2), so the
+    # upright pendulum's multiplier is exp(sqrt(g / l) T) = 1.6e163 (T = 12 s, hand), to
+    # 1e-6: a trace past 1e154 gave an infinite multiplier before (its square overflowed).
+    # A three-link rig asked to end at 0.2 rpm (far under the speed its scans resolve) gets
+    # no upright verdict there: held_at_end null, said in words.
+    from shakestill.equilibria.runup import runup
+    got = runup(ss.rig_from_dict(rig_data()), rate_rpm_s=1.0, end_rpm=5.0)
+    assert got["inverted"]["held_at_end"] is False and got["inverted"]["ok"] is False
+    assert "but not held at 5 rpm: a disturbance grows " in runup_text(got)
+    m = got["inverted"]["end_max_multiplier"]
+    assert m == pytest.approx(math.exp(math.sqrt(G / LENGTH) * 12), rel=1e-6)
+    assert f"grows x{m:.3g} every cycle" in runup_text(got)
+    triple = R.rig([R.link(0.12, 0.034, [(0.019, 0.12)]),
+                    R.link(0.11, 0.026, [(0.026, 0.11)], damping=1.7e-4),
+                    R.link(0.055, 0.027, [(0.023, 0.055)], damping=1.5e-3)],
+                   R.crank(0.005, 0.165, 420.0), limits=LIMITS)
+    far = runup(ss.rig_from_dict(triple), rate_rpm_s=100.0, end_rpm=0.2)
+    assert far["inverted"]["held_at_end"] is None and far["inverted"]["crossings"] == []
+    assert "whether 0.2 rpm holds it is not known" in runup_text(far)

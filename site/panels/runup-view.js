@@ -117,10 +117,16 @@ export function createRunupView(els, { engine, getRig }) {
         : h("p", {}, "No unstable interval is crossed on the way."),
       // held at the end speed? Said where no crossing runs to it (below the low-speed
       // floor nothing counts as crossed, yet an upright pendulum falls there)
-      ...["inverted", "hanging"].filter((eq) => result[eq].end_max_multiplier != null).map((eq) =>
-        h("p", { class: "crossing-warn", "data-key": `not-held-${eq}` },
+      ...["inverted", "hanging"].filter((eq) => "end_max_multiplier" in result[eq]).map((eq) => {
+        const m = result[eq].end_max_multiplier; // null: past what a double holds
+        return h("p", { class: "crossing-warn", "data-key": `not-held-${eq}` },
           `${NAMES[eq]}: not held at ${n(result.end_rpm)} rpm: a small disturbance grows `
-          + `×${n(result[eq].end_max_multiplier, 3)} every drive cycle there.`)),
+          + `${Number.isFinite(m) ? `×${n(m, 3)}` : "beyond ×1e308"} every drive cycle there.`);
+      }),
+      ...["inverted", "hanging"].filter((eq) => result[eq].held_at_end === null).map((eq) =>
+        h("p", { class: "hint", "data-key": `end-unknown-${eq}` },
+          `${NAMES[eq]}: whether ${n(result.end_rpm)} rpm holds it is not known: that speed is `
+          + "outside what the method can resolve.")),
       h("details", { class: "how" }, h("summary", {}, "How this was computed"),
         h("p", { class: "hint" }, `${result.note}.`)));
   }

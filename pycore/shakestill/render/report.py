@@ -209,9 +209,14 @@ def runup_text(result: dict, units: str = "metric") -> str:
         if not r["crossings"]:
             out.append("  no unstable speeds crossed")
         if "end_max_multiplier" in r:
+            m = r["end_max_multiplier"]
+            grows = f"x{m:.3g}" if m is not None and math.isfinite(m) else "beyond x1e308"
             out.append(f"  but not held at {_rpm(result['end_rpm'])}: a disturbance grows "
-                       f"x{r['end_max_multiplier']:.3g} every cycle there (below the low-speed "
-                       "floor nothing is counted as crossed)")
+                       f"{grows} every cycle there (below the low-speed floor nothing is "
+                       "counted as crossed)")
+        if r.get("held_at_end", True) is None:
+            out.append(f"  whether {result['end_rpm']:.3g} rpm holds it is not known: that speed is "
+                       "outside what the method can resolve")
         for c in r["crossings"]:
             grow = c["simulated_amplification"] or c["amplification"]
             out.append(f"  unstable from {_rpm(c['speed_from_rpm'])} to {_rpm(c['speed_to_rpm'])}:"
