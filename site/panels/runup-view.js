@@ -103,11 +103,17 @@ export function createRunupView(els, { engine, getRig }) {
     els.out.dataset.result = JSON.stringify(result);
     const all = ["inverted", "hanging"].flatMap((eq) => result[eq].crossings);
     const bad = ["inverted", "hanging"].filter((eq) => !result[eq].ok);
+    // an end speed the method cannot resolve: the crossings are fine, the end is not known
+    const unknown = ["inverted", "hanging"].filter((eq) => result[eq].held_at_end === null);
+    const within = `Every crossing stays within ×${n(result.factor)} at ${n(result.rate_rpm_s)} rpm/s`;
+    const summaryClass = bad.length ? "is-not-met" : unknown.length ? "is-unknown" : "is-met";
     replaceChildren(els.out,
-      h("p", { class: bad.length ? "runup-summary is-not-met" : "runup-summary is-met", role: "status" },
+      h("p", { class: `runup-summary ${summaryClass}`, role: "status" },
         bad.length
           ? `Not met for ${bad.map((eq) => NAMES[eq].toLowerCase()).join(" and ")}: see below before you start the drive.`
-          : `Every crossing stays within ×${n(result.factor)} at ${n(result.rate_rpm_s)} rpm/s.`),
+          : unknown.length
+            ? `${within}, but whether ${n(result.end_rpm)} rpm holds the ${unknown.map((eq) => NAMES[eq].toLowerCase()).join(" and ")} pendulum is not known: see below.`
+            : `${within}.`),
       result.rate_recommended
         ? h("p", { "data-key": "recommended" }, `${n(result.rate_rpm_s)} rpm/s is the slowest ramp that keeps a disturbance of the hanging pendulum within ×${n(result.factor)} through every resonance on the way (the pendulum rests hanging while the drive runs up); ramp at least this fast.`)
         : null,

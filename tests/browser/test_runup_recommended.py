@@ -70,3 +70,38 @@ def test_a_ramp_below_the_low_speed_floor_says_the_upright_pendulum_is_not_held(
     assert f"not held at 150 rpm: a small disturbance grows ×{float(f'{want:.3g}'):g}" in words
     assert page.locator("#runup-result [data-key=not-held-hanging]").count() == 0
     assert page.context.recorder.errors == []
+
+
+def test_an_end_speed_past_what_the_method_resolves_is_said_not_known(demo_page):
+    # A three-link rig run up to 0.2 rpm, far under the slowest speed its scans resolve
+    # (about 10 rpm: the top sway mode more than 25 times the drive's frequency): the
+    # upright verdict at the end is not known, and the page says so rather than "held" or
+    # "not held", as `runup --json` gives held_at_end null on CPython.
+    page = demo_page
+    wait_for_result(page)
+    data = ss.demo_rig_dict()
+    data["title"] = "Three links, nearly still"
+    data["links"] = [
+        {"length_m": 0.12, "rod_mass_kg": 0.034, "point_masses": [{"mass_kg": 0.019, "at_m": 0.12}]},
+        {"length_m": 0.11, "rod_mass_kg": 0.026, "point_masses": [{"mass_kg": 0.026, "at_m": 0.11}],
+         "joint_damping_N_m_s": 1.7e-4},
+        {"length_m": 0.055, "rod_mass_kg": 0.027, "point_masses": [{"mass_kg": 0.023, "at_m": 0.055}],
+         "joint_damping_N_m_s": 1.5e-3}]
+    data["drive"].update(waveform="crank", stroke_m=0.005, rod_length_m=0.165, speed_rpm=0.2)
+    data["limits"]["speed_rpm"] = [0.1, 3600.0]
+    page.evaluate("(f) => { location.hash = f; }", encode(data))
+    # the check refuses the speed (the sheet marks it), so wait for the sheet to hold the rig
+    page.wait_for_function("(t) => [...document.querySelectorAll('input')].some("
+                           "(e) => e.value === t)", arg=data["title"], timeout=RESULT_TIMEOUT_MS)
+    page.fill("#runup-rate", "100")
+    page.click("#runup-go")
+    got = wait_runup(page)
+    assert got["inverted"]["held_at_end"] is None and got["inverted"]["crossings"] == []
+    words = page.inner_text("#runup-result [data-key=end-unknown-inverted]")
+    assert "whether 0.2 rpm holds it is not known" in words, words
+    # the summary is not the plain "within" of a run-up that holds both ends
+    summary = page.locator("#runup-result .runup-summary")
+    assert "is-unknown" in summary.get_attribute("class").split()
+    assert "not known" in summary.inner_text()
+    assert page.locator("#runup-result [data-key=not-held-inverted]").count() == 0
+    assert page.context.recorder.errors == []
