@@ -180,9 +180,6 @@ EQUIVALENT.update({
                                  "0.0, the else value",
     _R + "_min_rate__mutmut_87": "fast <= math.inf for <: true for inf too, and then 1 / inf "
                                  "is 0.0, the else value (as mutmut_84)",
-    _R + "ramp_amplification__mutmut_12": "sign from b > a for b >= a: they differ only at "
-                                          "b == a, a ramp lasting 0 s whose transfer matrix is "
-                                          "the identity whatever alpha's sign",
 })
 
 

@@ -227,6 +227,89 @@ def monodromy(rig_data, equilibrium, speed_rpm=None, stroke_m=None,
     return sol.y[:, -1].reshape(2 * n, 2 * n)
 
 
+
+# --------------------------------------------------------------- speed ramp
+
+def ramp_growths(rig_data, equilibrium, a_rpm, b_rpm, rates, phases=8, rtol=1e-12):
+    """Growth through a linear speed ramp from a_rpm to b_rpm (drive phase 0 at a_rpm), one
+    per rate (rpm/s), as the run-up defines it: the largest singular value (numpy.linalg.svd)
+    of the transfer matrix from any of `phases` instants i * min(60 / a, T / 2) / phases after
+    the start to any of `phases` instants j * min(60 / b, T / 2) / phases before the end
+    (T the ramp's duration), in the norm sum_i z_i^2 + (z_i' / W_i)^2 of the sway modes
+    q = X z (scipy.linalg.eigh(K, M): X^T M X = I, kappa_i its eigenvalues) with
+    W_i^2 = g |kappa_i| + kappa_i^2 w^2 <(dy/dphi)^2> at each instant's speed w (Kapitza's
+    averaged drive, Landau & Lifshitz sec. 30; the mean by scipy.integrate.quad).
+
+    The pivot: y_p(t) = y(phi(t)), phi = w_a t + alpha t^2 / 2, so
+    y_p'' = y''(phi) phi'^2 + y'(phi) alpha (chain rule). Every rate is integrated at once
+    by scipy.integrate.solve_ivp (DOP853) in a time scaled to each ramp's own segments:
+    first cycle, middle, last cycle.
+    """
+    from scipy.integrate import quad
+    rates = np.asarray(rates, dtype=float)
+    mass, damp, stiff = chain_matrices(rig_data, equilibrium)
+    n = mass.shape[0]
+    g = rig_data.get("g_m_s2", G_STANDARD)
+    piv = Pivot(rig_data["drive"])
+    md, mk = np.linalg.solve(mass, damp), np.linalg.solve(mass, stiff)
+    kappa, modes = eigh(stiff, mass)
+    to_modes = modes.T @ mass  # X^-1
+    slope2 = quad(lambda p: float(piv.derivs(p)[1]) ** 2, 0, 2 * math.pi, limit=200,
+                  epsabs=0, epsrel=1e-13)[0] / (2 * math.pi)
+    sign = 1.0 if b_rpm >= a_rpm else -1.0
+    w_a = 2 * math.pi * a_rpm / 60
+    alpha = sign * 2 * math.pi * rates / 60
+    duration = abs(b_rpm - a_rpm) / rates
+    first = np.minimum(60 / a_rpm, duration / 2) / phases
+    last = np.minimum(60 / b_rpm, duration / 2) / phases
+    size = 2 * n
+    k = len(rates)
+
+    def segment(t0, t1, start, count):
+        span = t1 - t0
+
+        def rhs(sig, x):
+            t = t0 + sig * span
+            phi = w_a * t + alpha * t * t / 2
+            _, dy, d2y = piv.derivs(phi)
+            gt = g + (w_a + alpha * t) ** 2 * d2y + alpha * dy
+            x = x.reshape(k, size, size)
+            q, p = x[:, :n], x[:, n:]
+            acc = -np.einsum("ij,rjc->ric", md, p) - gt[:, None, None] * np.einsum(
+                "ij,rjc->ric", mk, q)
+            return (span[:, None, None] * np.concatenate([p, acc], axis=1)).ravel()
+        sol = solve_ivp(rhs, (0.0, 1.0), start.ravel(), method="DOP853", rtol=rtol,
+                        atol=1e-12 * rtol, t_eval=np.linspace(0.0, 1.0, count))
+        assert sol.success, sol.message
+        return sol.y.T.reshape(count, k, size, size)
+
+    eye = np.broadcast_to(np.eye(size), (k, size, size)).copy()
+    head = segment(np.zeros(k), (phases - 1) * first, eye, phases)  # at i * first
+    core = segment((phases - 1) * first, duration - (phases - 1) * last, head[-1], 2)
+    tail = segment(duration - (phases - 1) * last, duration, core[-1], phases)[::-1]  # j
+
+    def size_map(t, inverse):  # per ramp: the state (q, q') -> (z, z' / W) at time t
+        w = w_a + alpha * t
+        freq = np.sqrt(g * np.abs(kappa)[None, :] + kappa[None, :] ** 2 * (w ** 2)[:, None]
+                       * slope2)
+        out = np.zeros((k, size, size))
+        for r in range(k):
+            if inverse:
+                out[r] = np.block([[modes, np.zeros((n, n))],
+                                   [np.zeros((n, n)), modes @ np.diag(freq[r])]])
+            else:
+                out[r] = np.block([[to_modes, np.zeros((n, n))],
+                                   [np.zeros((n, n)), np.diag(1 / freq[r]) @ to_modes]])
+        return out
+
+    growth = np.zeros(k)
+    for i in range(phases):
+        back = np.linalg.inv(head[i]) @ size_map(i * first, True)
+        for j in range(phases):
+            fwd = size_map(duration - j * last, False) @ tail[j]
+            growth = np.maximum(growth, np.linalg.svd(fwd @ back, compute_uv=False)[:, 0])
+    return growth
+
 def hill_trace_by_integration(theta0, theta):
     """Trace of the pi-periodic monodromy of Hill's equation u'' + (theta0 + sum_k 2 Re(theta_k
     e^{2ikz})) u = 0 by scipy.integrate.solve_ivp (DOP853, rtol = atol = 1e-13)."""

@@ -9,8 +9,11 @@ principal parametric tongue while running up to 900 rpm. The references:
 - the simulated amplification: the linearised equation with the speed ramping,
   q'' + (g + y_p''(t)) q / l = 0, y_p(t) = (stroke / 2) cos(phi(t)), phi = w_a t + alpha t^2 / 2,
   integrated by scipy.integrate.solve_ivp (DOP853, rtol 1e-12), and the largest singular
-  value (numpy.linalg.svd) of its transfer matrix in the norm the result names
-  (|q|^2 + |q' / (w / 2)|^2, w the drive's angular speed at entry and at exit).
+  value (numpy.linalg.svd) of its transfer matrix in the norm the result names, worst over 8
+  instants in the ramp's first cycle and 8 in its last (tests/refsolvers.py's ramp_growths):
+  |q|^2 + |q' / W|^2 with W^2 = g / l + (r w)^2 / (2 l^2), r = stroke / 2, w the drive's
+  angular speed at the instant (the pendulum's own frequency with Kapitza's averaged drive,
+  Landau & Lifshitz sec. 30; a sine's mean square pivot speed is (r w)^2 / 2).
 """
 
 from __future__ import annotations
@@ -24,7 +27,7 @@ from functools import lru_cache
 import numpy as np
 import pytest
 from scipy import special
-from scipy.integrate import quad, solve_ivp
+from scipy.integrate import quad
 from scipy.optimize import brentq
 
 import refsolvers as R
@@ -118,27 +121,10 @@ def test_frozen_amplification_against_quad_of_solve_ivp_multipliers(result):
 
 
 def transfer_gain(a_rpm, b_rpm, rate, equilibrium="hanging"):
-    """Largest singular value of the ramp's scaled transfer matrix, solve_ivp + numpy.svd
-    (inverted: q'' - (g + y_p'') q / l = 0, the same pendulum upside down)."""
-    sign = 1.0 if equilibrium == "hanging" else -1.0
-    w_a = 2 * math.pi * a_rpm / 60
-    alpha = 2 * math.pi * rate / 60 * (1 if b_rpm >= a_rpm else -1)
-    duration = abs(b_rpm - a_rpm) / rate
-    r = STROKE / 2
-
-    def rhs(t, x):
-        phi = w_a * t + alpha * t * t / 2
-        w = w_a + alpha * t
-        ypp = -r * math.cos(phi) * w * w - r * math.sin(phi) * alpha  # d2/dt2 of r cos(phi(t))
-        x = x.reshape(2, 2)
-        return np.array([x[1], -sign * (G + ypp) / LENGTH * x[0]]).ravel()
-
-    sol = solve_ivp(rhs, (0, duration), np.eye(2).ravel(), method="DOP853", rtol=1e-12,
-                    atol=1e-12)
-    F = sol.y[:, -1].reshape(2, 2)
-    w_in, w_out = math.pi * a_rpm / 60, math.pi * b_rpm / 60  # half the drive's angular speed
-    scaled = np.diag([1.0, 1.0 / w_out]) @ F @ np.diag([1.0, w_in])
-    return float(np.linalg.svd(scaled, compute_uv=False)[0])
+    """The ramp's growth in the norm |q|^2 + |q' / W|^2 (W above), worst over 8 instants of
+    its first and of its last cycle: solve_ivp + numpy.svd (refsolvers.ramp_growths; inverted:
+    q'' - (g + y_p'') q / l = 0, the same pendulum upside down)."""
+    return float(R.ramp_growths(rig_data(), equilibrium, a_rpm, b_rpm, [rate])[0])
 
 
 def test_simulated_amplification_against_solve_ivp(result):
@@ -150,22 +136,29 @@ def test_simulated_amplification_against_solve_ivp(result):
     assert result["hanging"]["ok"] is all(g <= 10.0 for g in gains)  # default factor 10
 
 
+# The promise's slack: the growth is sampled at 8 drive phases at each end, and between
+# neighbouring rates 0.15% apart it rose by at most 0.46% on this rig's tongues (measured
+# 2026-12-06 with the reference below, while falling by 35% from 1x to 1.3x); twice that,
+# rounded up. No crossing measured went over the factor at all (largest 0.995 of it).
+PROMISE_TOL = 0.01
+FASTER = np.concatenate([np.linspace(1.0, 1.3, 200), [1.5, 2.0, 3.0, 5.0, 10.0]])
+
+
 def test_minimum_rate_keeps_the_growth_at_the_factor(result):
-    # At the reported minimum rate a ramp through the crossing grows a disturbance by at most
-    # the factor (10), and so do faster ramps (several: through the narrow tongue, crossed in
-    # a few cycles, the growth wobbles with the rate). Reference: the transfer matrix's
-    # largest singular value by solve_ivp and numpy.svd (transfer_gain above).
+    # What a user reads in min_rate_rpm_s: ramp at least this fast and the growth stays under
+    # the factor (10). Checked at the rate and at 200 faster ones up to 1.3x (0.15% apart,
+    # finer than the ~0.3% period in rate at which a single ramp's growth wobbled through the
+    # narrow n = 2 tongue, 314 cycles) and five far above, within PROMISE_TOL over the factor;
+    # and at the rate itself within the search's own 2% under it (the documented window), so
+    # a ramp 10% slower breaks the factor through either tongue. Reference: solve_ivp +
+    # numpy.svd, every rate at once (refsolvers.ramp_growths, the norm of transfer_gain).
     for c in result["hanging"]["crossings"]:
         a, b, rate = c["speed_from_rpm"], c["speed_to_rpm"], c["min_rate_rpm_s"]
-        assert transfer_gain(a, b, rate) <= 10.0 * (1 + REL)
-        for faster in (1.05, 1.5, 3.0):
-            assert transfer_gain(a, b, rate * faster) <= 10.0
-    # Through the principal tongue the growth is smooth in the rate: the engine lands within
-    # 2% under the factor (its documented tolerance), and a ramp 10% slower breaks it.
-    c = principal(result)
-    a, b, rate = c["speed_from_rpm"], c["speed_to_rpm"], c["min_rate_rpm_s"]
-    assert 10.0 / 1.02 * (1 - REL) <= transfer_gain(a, b, rate)
-    assert transfer_gain(a, b, rate / 1.1) > 10.0
+        growth = R.ramp_growths(rig_data(), "hanging", a, b, rate * FASTER)
+        assert growth[0] == pytest.approx(transfer_gain(a, b, rate), rel=1e-9)
+        assert 10.0 / 1.02 * (1 - REL) <= growth[0]
+        assert growth.max() <= 10.0 * (1 + PROMISE_TOL), FASTER[growth.argmax()]
+        assert transfer_gain(a, b, rate / 1.1) > 10.0
     assert result["hanging"]["min_rate_rpm_s"] == max(x["min_rate_rpm_s"]
                                                       for x in result["hanging"]["crossings"])
 
@@ -184,7 +177,9 @@ def test_inverted_is_unstable_from_the_low_speed_floor(result):
 
 NOTE = ("frozen-speed (adiabatic) estimate: the product of the largest Floquet multiplier over "
         "the cycles spent in each unstable interval; below the low-speed floor the pivot's "
-        "peak acceleration is under 0.05 g and nothing is taken to grow")
+        "peak acceleration is under 0.05 g and nothing is taken to grow; the simulated growth is "
+        "the ramp's own, the worst over the drive's phase as it enters and leaves, with a "
+        "disturbance sized by each sway mode's angle and rate over the mode's own frequency")
 RUNDOWN = ("the run-down passes the same intervals in reverse: at the same rate the same "
            "amplification")
 

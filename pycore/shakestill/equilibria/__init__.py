@@ -5,5 +5,6 @@ monodromy for several); ``lines`` stability edges along a line in (speed,
 stroke); ``windows`` the speed and stroke windows; ``estimates`` Kapitza's
 closed forms; ``check`` the operating check (``shakestill check --json``);
 ``chart`` the stability chart's rows and boundaries; ``runup`` the
-resonances crossed while the speed ramps.
+resonances crossed while the speed ramps (``ramp`` the growth through one,
+simulated).
 """
