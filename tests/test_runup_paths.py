@@ -482,3 +482,21 @@ def test_minimum_rate_keeps_the_growth_at_the_factor_on_chains(data, equilibrium
         assert 10.0 / 1.02 * (1 - REL) <= growth[0] <= 10.0 * (1 + REL)
         assert growth.max() <= 10.0 * (1 + PROMISE_TOL), FASTER[growth.argmax()]
         assert R.ramp_growths(data, equilibrium, a, b, [rate / 1.1])[0] > 10.0
+
+
+def test_a_slow_ramp_past_the_cap_is_said_in_words_not_digits():
+    # 1e-5 rpm/s from 0.05 rpm: the upright crossing from the floor (211 rpm) to 900 rpm takes
+    # (900 - 211) / 1e-5 = 6.9e7 s (hand), 6.4e8 cycles ((b^2 - a^2) / 120 / R, hand), and
+    # the still-pivot growth rate sqrt(g / l) = 31 / s over it is far past e^700: the frozen
+    # estimate stops at e^700 (the documented cap), and the words say "past", give the
+    # seconds and cycles to 3 digits, and the start speed as typed, not rounded to 0.
+    from shakestill.equilibria.runup import runup
+    got = runup(ss.rig_from_dict(rig_data()), rate_rpm_s=1e-5, start_rpm=0.05)
+    (up,) = got["inverted"]["crossings"]
+    assert up["amplification"] == math.exp(700.0) and up["simulated_amplification"] is None
+    seconds = (END - up["speed_from_rpm"]) / 1e-5
+    cycles = (END ** 2 - up["speed_from_rpm"] ** 2) / 120 / 1e-5
+    assert up["seconds"] == pytest.approx(seconds, rel=1e-12)
+    text = runup_text(got)
+    assert f"{seconds:.3g} s, {cycles:.3g} cycles, a disturbance grows past x1e+304" in text
+    assert "from 0.05 to 900 rpm" in text

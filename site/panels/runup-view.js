@@ -7,6 +7,7 @@ import { Cancelled } from "../engine/worker-client.js";
 import { lengthShown } from "../state/units.js";
 import { isCurrent, lastSession, markFresh, showAgain } from "./last-session.js";
 
+const GROWTH_CAP = Math.exp(700) * (1 - 1e-12);
 const NAMES = { inverted: "Inverted (upright)", hanging: "Hanging" };
 
 function n(x, digits = 4) {
@@ -28,6 +29,8 @@ function crossingItem(c, result) {
   const growth = c.simulated_amplification ?? c.amplification;
   const how = c.simulated_amplification !== null ? "simulated ramp" : "frozen-speed estimate";
   const met = Number.isFinite(growth) && growth <= result.factor;
+  // the frozen estimate stops at e^700 (runup.LOG_GROWTH_CAP): past it, no number is shown
+  const grows = growth >= GROWTH_CAP ? "past ×1e304" : `about ×${n(growth, 3)}`;
   const minRate = c.min_rate_rpm_s;
   const advice = met
     ? `Within your limit of ×${n(result.factor)}.`
@@ -41,7 +44,7 @@ function crossingItem(c, result) {
     h("p", { class: "crossing-head" },
       h("strong", {}, `${NAMES[c.equilibrium]}: unstable from ${n(c.speed_from_rpm)} to ${n(c.speed_to_rpm)} rpm`)),
     h("p", {}, `At ${n(result.rate_rpm_s)} rpm/s the drive spends ${n(c.seconds, 3)} s there `
-      + `(${n(c.cycles, 3)} drive cycles); a small disturbance grows about ×${n(growth, 3)} (${how}; `
+      + `(${n(c.cycles, 3)} drive cycles); a small disturbance grows ${grows} (${how}; `
       + `largest multiplier ${n(c.peak_multiplier)}).`),
     h("p", {}, `Slowest ramp that keeps this under ×${n(result.factor)}: `
       + (Number.isFinite(minRate) ? `${n(minRate)} rpm/s.` : "none (no rate is fast enough).")),

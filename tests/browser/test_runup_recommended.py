@@ -34,6 +34,18 @@ def test_a_blank_rate_runs_at_the_recommended_rate_and_says_so(demo_page, tmp_pa
     words = page.inner_text("#runup-result [data-key=recommended]")
     shown = float(f"{want['rate_rpm_s']:.4g}")  # four significant digits, as the panel
     assert f"{shown:g} rpm/s is the slowest ramp" in words, words
+    # At that slow rate the upright crossing's frozen estimate is past what it counts (e^700,
+    # the documented cap; by hand the growth is about exp(sqrt(g/l) t) over ~700 s, far past
+    # it): the page says "past", not a number; the hanging crossing's simulated growth is a
+    # number, to 3 digits as the CLI's JSON gives it.
+    (up,) = want["inverted"]["crossings"]
+    assert up["simulated_amplification"] is None and up["amplification"] >= 1e304
+    upright = page.inner_text("#runup-result li[data-eq=inverted]")
+    assert "a small disturbance grows past ×1e304 (frozen-speed estimate" in upright, upright
+    (down,) = want["hanging"]["crossings"]
+    hanging = page.inner_text("#runup-result li[data-eq=hanging]")
+    grown = float(f"{down['simulated_amplification']:.3g}")
+    assert f"grows about ×{grown:g} (simulated" in hanging, hanging
     # a typed rate is used as typed, and the recommendation is not claimed for it
     page.fill("#runup-rate", "20")
     page.click("#runup-go")

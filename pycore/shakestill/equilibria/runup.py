@@ -32,6 +32,7 @@ LOW_ACCEL_FRACTION = 0.05  # below this peak pivot acceleration (in g) nothing i
 DEFAULT_FACTOR = 10.0
 MAX_SIMULATED_CYCLES = 20000  # beyond this the ramp is not simulated, only estimated
 MAX_LOG_GROWTH = 200.0  # e^200: past this a disturbance is lost anyway; not simulated
+LOG_GROWTH_CAP = 700.0  # the frozen estimate stops at e^700 (1.01e304): a double holds it
 
 
 @lru_cache(maxsize=8)
@@ -135,7 +136,7 @@ def _crossing(model: Model, equilibrium: str, span: _Span, rate_rpm_s: float,
               factor: float) -> Crossing:
     """A span crossed at a ramp rate: its frozen and (where feasible) simulated growth."""
     a, b, integral = span.start_rpm, span.end_rpm, span.log_integral
-    frozen = math.exp(min(integral / rate_rpm_s, 700.0))
+    frozen = math.exp(min(integral / rate_rpm_s, LOG_GROWTH_CAP))
     cycles = (b * b - a * a) / 120.0 / rate_rpm_s
     simulated = (ramp_amplification(model, equilibrium, a, b, rate_rpm_s)
                  if cycles <= MAX_SIMULATED_CYCLES and integral / rate_rpm_s < MAX_LOG_GROWTH

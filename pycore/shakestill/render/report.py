@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import math
 
+from ..equilibria.runup import LOG_GROWTH_CAP
 from ..model.safety import CAUTIONS
 from .shown import length_text, text
 
@@ -12,8 +13,21 @@ _NAMES = {"inverted": "Inverted (pendulum up)", "hanging": "Hanging (pendulum do
 VERDICTS = {"inverted": ("STAYS UP", "FALLS OVER"), "hanging": ("HANGS STEADY", "SWINGS UP")}
 
 
+GROWTH_CAP = math.exp(LOG_GROWTH_CAP) * (1 - 1e-12)
+
+
 def _rpm(x: float) -> str:
-    return f"{x:,.0f} rpm"
+    return f"{_speed(x)} rpm"
+
+
+def _speed(x: float) -> str:
+    """A speed in rpm: whole rpm, but 3 digits under 10 rpm (0.02 is not "0")."""
+    return f"{x:,.0f}" if x >= 10 or x == 0 else f"{x:.3g}"
+
+
+def _seconds(x: float) -> str:
+    """Seconds to the hundredth, or 3 digits past a million (a very slow ramp)."""
+    return f"{x:.2f}" if x < 1e6 else f"{x:.3g}"
 
 
 def _mm(x: float, units: str = "metric") -> str:
@@ -189,7 +203,14 @@ def _rate(x: float) -> str:
     return f"{float(f'{x:.3g}'):,.0f}" if 1000 <= x < math.inf else f"{x:.3g}"
 
 
+def _growth(x: float) -> str:
+    """x1.23, or "past x1e+304" where the frozen estimate stops (runup.LOG_GROWTH_CAP)."""
+    return "past x1e+304" if x >= GROWTH_CAP else f"x{x:.3g}"
+
+
 def _cycles(n: float) -> str:
+    if n >= 1e7:  # a very slow ramp: 3 digits, not thirty
+        return f"{n:.3g} cycles"
     return "under 1 cycle" if n < 0.5 else f"{n:,.0f} cycle" + ("" if round(n) == 1 else "s")
 
 
@@ -197,8 +218,8 @@ def runup_text(result: dict, units: str = "metric") -> str:
     """Words for a run-up result (the stroke in ``units``)."""
     chosen = (" (recommended: the slowest ramp that keeps the hanging pendulum's growth under "
               f"x{result['factor']:g})" if result.get("rate_recommended") else "")
-    out = [f"Run-up at {result['rate_rpm_s']:.4g} rpm/s{chosen} from {result['start_rpm']:,.0f} "
-           f"to {result['end_rpm']:,.0f} rpm, stroke {_mm(result['stroke_m'], units)} "
+    out = [f"Run-up at {result['rate_rpm_s']:.4g} rpm/s{chosen} from {_speed(result['start_rpm'])} "
+           f"to {_rpm(result['end_rpm'])}, stroke {_mm(result['stroke_m'], units)} "
            f"(acceptable growth: x{result['factor']:g})"]
     for name in ("inverted", "hanging"):
         r = result.get(name)
@@ -220,8 +241,8 @@ def runup_text(result: dict, units: str = "metric") -> str:
         for c in r["crossings"]:
             grow = c["simulated_amplification"] or c["amplification"]
             out.append(f"  unstable from {_rpm(c['speed_from_rpm'])} to {_rpm(c['speed_to_rpm'])}:"
-                       f" {c['seconds']:.2f} s, {_cycles(c['cycles'])}, a disturbance grows "
-                       f"x{grow:.3g} (estimate x{c['amplification']:.3g})")
+                       f" {_seconds(c['seconds'])} s, {_cycles(c['cycles'])}, a disturbance grows "
+                       f"{_growth(grow)} (estimate {_growth(c['amplification'])})")
         if r["crossings"]:
             out.append(f"  ramp at least {_rate(r['min_rate_rpm_s'])} rpm/s to keep each crossing "
                        f"under x{result['factor']:g}" + ("" if r["ok"] else "  <- NOT MET"))
