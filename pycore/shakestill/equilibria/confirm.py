@@ -105,8 +105,9 @@ def _edge_function(sa: Stability, sb: Stability) -> Callable[[Stability], float]
     """A function of a point's multipliers for secants between these two points, as smooth
     through their edge as can be: the characteristic polynomial at +1 or -1, det(M -+ I) =
     prod (rho_k -+ 1), where one real multiplier leaves the unit circle there (the point
-    further out has no other outside it) and that value changes sign between the points
-    (or not, for two points on one side); else the margin (log of the largest |rho|).
+    further out has no other outside it), or, with none outside, where the multiplier
+    nearest +1 or -1 will leave, and that value changes sign between the points (or not,
+    for two points on one side); else the margin (log of the largest |rho|).
 
     With dampers the margin is flat on the stable side (a pair of multipliers on a circle
     of radius below 1) and turns where the pair meets on the real axis, just inside the
@@ -116,9 +117,12 @@ def _edge_function(sa: Stability, sb: Stability) -> Callable[[Stability], float]
     may pass +-1 inside the unit circle elsewhere, which is no edge."""
     top = max((sa, sb), key=lambda s: s.margin)
     outside = [r for r in top.multipliers if abs(r) > 1.0]
-    rho = outside[0] if len(outside) == 1 else max(top.multipliers, key=abs)
-    if len(outside) > 1 or (outside and abs(rho.imag) > REAL * abs(rho)):
+    if len(outside) > 1 or (outside and abs(outside[0].imag) > REAL * abs(outside[0])):
         return _margin
+    # one real multiplier outside; or none, and the pair nearest +1 or -1 is the one that
+    # will leave there (on the damped stable side the margin is flat: no secant in it)
+    rho = outside[0] if outside else min(top.multipliers,
+                                         key=lambda r: min(abs(r - 1.0), abs(r + 1.0)))
     side = 1.0 if rho.real > 0 else -1.0
 
     def at_one(s: Stability) -> float:
