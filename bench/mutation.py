@@ -8,6 +8,8 @@
     python bench/mutation.py --survivors --resume --modules fit/fitting.py   # both, one module
     python bench/mutation.py --sample 150 --seed 1 --modules fit/fitting.py  # a random 150 of
                                              # its untested mutants, the score with its 95% interval
+    python bench/mutation.py --sample 40 --seed 21 --modules equilibria/lines.py \
+        --functions _end_point _split      # a draw from those functions' mutants only
     python bench/pinned.py                   # every module's last score, coverage, CI time
 
 mutmut expects the package under ./ or src/; the engine lives in pycore/. So this script
@@ -50,7 +52,8 @@ MODULES = [
     "equilibria/floquet.py", "equilibria/lines.py", "equilibria/windows.py",
     "equilibria/estimates.py", "equilibria/check.py", "equilibria/chart.py",
     "equilibria/chart_rows.py", "equilibria/chart_modes.py", "equilibria/chart_columns.py",
-    "equilibria/confirm.py", "equilibria/runup.py", "numerics/hill.py", "motion/loads.py",
+    "equilibria/confirm.py", "equilibria/runup.py", "equilibria/ramp.py", "numerics/hill.py",
+    "motion/loads.py",
     "fit/fitting.py",
     # the chain's stability engine since 2026-12-05 (the Taylor cycle, its eigenvalues) and
     # the scans' 2 x 2 traces
@@ -359,6 +362,13 @@ def score(status: dict[str, str]) -> dict:
             "survivors": [k for k in survivors if k not in EQUIVALENT]}
 
 
+def function_of(name: str) -> str:
+    """mutmut's mutant name -> the function mutated: '..lines.x__end_point__mutmut_3' ->
+    '_end_point', '..lines.xǁProbeǁ__call____mutmut_19' -> 'Probe.__call__'."""
+    inner = re.match(r".*?\.x(?:_|ǁ)(.*)__mutmut_\d+$", name).group(1)
+    return inner.replace("ǁ", ".")
+
+
 def draw(untested: list[str], n: int, seed: int) -> list[str]:
     """A random n of the untested mutants (all of them when fewer), the same for the same seed."""
     return sorted(random.Random(seed).sample(sorted(untested), min(n, len(untested))))
@@ -441,8 +451,9 @@ def report(tests: list[str] | None = None) -> int:
     for module, drawn in sorted(draws().items()):
         mine = {k: s for k, s in status.items() if module_of(k) == module}
         r = sampled(mine, drawn)
-        print(f"SAMPLED {module} (seed {r['seed']}, {r['drawn']} of {r['stratum']} untested "
-              f"drawn): {r['killed']} killed of {r['counted']} non-equivalent tested = "
+        only = drawn.get("functions")
+        print(f"SAMPLED {module}{' ' + '/'.join(only) if only else ''} (seed {r['seed']}, "
+              f"{r['drawn']} of {r['stratum']} untested drawn): {r['killed']} killed of {r['counted']} non-equivalent tested = "
               f"{100 * r['score']:.1f}%, 95% interval {100 * r['ci95'][0]:.1f}-"
               f"{100 * r['ci95'][1]:.1f}% (Wilson); module estimate "
               f"{100 * r['module_estimate']:.1f}% ({100 * r['module_ci95'][0]:.1f}-"
@@ -481,6 +492,10 @@ def main() -> int:
                          "module is staged first when the stage lacks it) and print the score "
                          "with its binomial 95%% interval, marked SAMPLED")
     ap.add_argument("--seed", type=int, help="the --sample draw's seed (required with it)")
+    ap.add_argument("--functions", nargs="+", metavar="NAME",
+                    help="with --sample: in each module that has some of these functions "
+                         "(a method as Class.name), draw only from their mutants (the stratum, "
+                         "and so the estimate, is theirs); a module with none is drawn whole")
     a = ap.parse_args()
     if a.report:  # records the staged run's figures too (a run stopped part way included)
         return report(staged_tests())
@@ -510,10 +525,13 @@ def main() -> int:
         if a.sample:
             drawn = draws()
             for module in a.modules:
-                untested = [k for k, s in status.items()
-                            if s == "not checked" and module_of(k) == module]
+                mine = [k for k in status if module_of(k) == module]
+                only = sorted({function_of(k) for k in mine} & set(a.functions or []))
+                untested = [k for k in mine if status[k] == "not checked"
+                            and (not only or function_of(k) in only)]
                 picked = draw(untested, a.sample, a.seed)
-                drawn[module] = {"seed": a.seed, "names": picked, "stratum": sorted(untested)}
+                drawn[module] = {"seed": a.seed, "names": picked, "stratum": sorted(untested),
+                                 "functions": only}
                 names = sorted(set(names) | set(picked))
             SAMPLE.write_text(json.dumps(drawn, indent=0) + "\n")
         a.tests = add_tests(staged_tests() or TESTS, a.tests or [])
