@@ -482,3 +482,27 @@ def test_minimum_rate_keeps_the_growth_at_the_factor_on_chains(data, equilibrium
         assert 10.0 / 1.02 * (1 - REL) <= growth[0] <= 10.0 * (1 + REL)
         assert growth.max() <= 10.0 * (1 + PROMISE_TOL), FASTER[growth.argmax()]
         assert R.ramp_growths(data, equilibrium, a, b, [rate / 1.1])[0] > 10.0
+
+
+def test_a_recommended_rate_under_one_rpm_s():
+    # A 250 mm pendulum on a 10 mm sine stroke (q = 0.04) crosses its principal tongue near
+    # 120 rpm; the slowest safe rate is a quarter of an rpm/s (the growth exponent falls as
+    # q^2 f^2: tests/test_runup.py's 10 mm pendulum at this q needs 6.3 rpm/s). It is
+    # recommended, not refused: the growth at it, by solve_ivp + numpy.svd
+    # (refsolvers.ramp_growths), lands within the search's 2% under the factor 10 (REL over
+    # it: the references are good to ~1e-11). Hand: hanging and held at the end speed, no
+    # end multiplier is given; with no equilibrium asked about nothing is crossed: 0.
+    from shakestill.equilibria.runup import recommended_rate, runup
+    data = R.rig([R.link(0.25, 0.0, [(0.1, 0.25)])], R.sine(0.01, 200.0),
+                 limits={"speed_rpm": [10.0, 600.0], "stroke_m": [0.0, 0.05]})
+    rig = ss.rig_from_dict(data)
+    got = runup(rig, rate_rpm_s=None, end_rpm=200.0, equilibria=("hanging",))
+    rate = got["rate_rpm_s"]
+    assert got["rate_recommended"] is True and 0.1 < rate < 1.0
+    (c,) = got["hanging"]["crossings"]
+    assert c["min_rate_rpm_s"] == rate
+    growth = R.ramp_growths(data, "hanging", c["speed_from_rpm"], c["speed_to_rpm"], [rate])[0]
+    assert 10.0 / 1.02 * (1 - REL) <= growth <= 10.0 * (1 + REL)
+    assert c["simulated_amplification"] == pytest.approx(growth, rel=REL)
+    assert got["hanging"]["held_at_end"] is True and "end_max_multiplier" not in got["hanging"]
+    assert recommended_rate(rig, end_rpm=200.0, equilibria=()) == 0.0
