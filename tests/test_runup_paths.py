@@ -506,3 +506,18 @@ def test_a_recommended_rate_under_one_rpm_s():
     assert c["simulated_amplification"] == pytest.approx(growth, rel=REL)
     assert got["hanging"]["held_at_end"] is True and "end_max_multiplier" not in got["hanging"]
     assert recommended_rate(rig, end_rpm=200.0, equilibria=()) == 0.0
+
+
+@pytest.mark.parametrize("rate", [5000.0, 50000.0])
+def test_a_ramp_shorter_than_two_drive_cycles(rate):
+    # Through the principal tongue (Mathieu a_1/b_1 ends, 547-671 rpm) in 25 ms and 2.5 ms,
+    # a quarter and a fortieth of a drive cycle: the instants at entry and exit then spread
+    # over the first and last half of the ramp, not a cycle (ramp.py's docstring). Up and
+    # down, against solve_ivp + numpy.svd on the same instants (refsolvers.ramp_growths),
+    # to REL (the references agree to ~1e-14 here).
+    from shakestill.equilibria.ramp import ramp_amplification
+    lo, hi = tongue_rpm(1)
+    model = ss.rig_from_dict(rig_data())
+    for a, b in ((lo, hi), (hi, lo)):
+        want = R.ramp_growths(rig_data(), "hanging", a, b, [rate])[0]
+        assert ramp_amplification(model, "hanging", a, b, rate) == pytest.approx(want, rel=REL)
