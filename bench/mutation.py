@@ -283,6 +283,27 @@ EQUIVALENT.update({
 })
 
 
+# Today's new code (mutramp, 2026-12-05): ramp.py, runup.py's end-speed verdict, chart_modes'
+# _unpredicted/_merged/damper_mixing/modes_predict/damped_hanging_frequencies_hz, lines'
+# _end_point/_split, real_qr's _balance, hill's multipliers_from_trace past 1e150
+_HUGE = ("in the branch |half| > HUGE_HALF_TRACE (1e150), 1 / half and 2 / half are below "
+         "1e-150, far under half an ulp of 1.0 (1.1e-16): 1 - c / half and 1 + c / half are "
+         "1.0 exactly, and so their product or quotient and its square root")
+_HT = "shakestill.numerics.hill.x_multipliers_from_trace__mutmut_"
+EQUIVALENT.update({
+    "shakestill.equilibria.chart_modes.x_damped_hanging_frequencies_hz__mutmut_12": "the "
+        "companion's first n rows padded to 3n columns with zeros: real_eigvals copies the "
+        "rows and reads h[i][j] only for j < len(h) = 2n (balance, Hessenberg, QR), so the "
+        "padding is never read",
+    _HT + "14": "abs(half) / sqrt(...) for * sqrt(...): " + _HUGE,
+    _HT + "17": "(1 - 1 / half) / (1 + 1 / half) for *: " + _HUGE,
+    _HT + "21": "1 - 2 / half for 1 - 1 / half: " + _HUGE,
+    _HT + "22": "1 - 1 / half for 1 + 1 / half: " + _HUGE,
+    _HT + "25": "1 + 2 / half for 1 + 1 / half: " + _HUGE,
+    _HT + "29": "half >= 0 for half > 0: in that branch |half| > 1e150, never 0",
+})
+
+
 def stage(modules: list[str], tests: list[str]) -> None:
     if STAGE.exists():
         shutil.rmtree(STAGE)
@@ -484,7 +505,8 @@ def main() -> int:
     ap.add_argument("--jobs", type=int, default=2, help="mutmut --max-children (default 2)")
     ap.add_argument("--report", action="store_true", help="only print the last run's results")
     ap.add_argument("--survivors", action="store_true",
-                    help="re-test the last run's survivors with the working tree's tests")
+                    help="re-test the last run's survivors (not those judged equivalent) "
+                         "with the working tree's tests")
     ap.add_argument("--resume", action="store_true",
                     help="carry on the staged run (mutants not yet tested) with today's tests")
     ap.add_argument("--sample", type=int, metavar="N",
@@ -520,8 +542,9 @@ def main() -> int:
         wanted = (("survived", "no tests") if a.survivors else ()) + \
             (("not checked",) if a.resume else ())
         status = results()
-        names = sorted(k for k, s in status.items()
-                       if s in wanted and module_of(k) in a.modules)
+        names = sorted(k for k, s in status.items()  # not the survivors judged equivalent:
+                       if s in wanted and module_of(k) in a.modules  # no test can kill them
+                       and not (s == "survived" and k in EQUIVALENT))
         if a.sample:
             drawn = draws()
             for module in a.modules:
