@@ -300,6 +300,8 @@ EQUIVALENT.update({
     _HT + "21": "1 - 2 / half for 1 - 1 / half: " + _HUGE,
     _HT + "22": "1 - 1 / half for 1 + 1 / half: " + _HUGE,
     _HT + "25": "1 + 2 / half for 1 + 1 / half: " + _HUGE,
+    "shakestill.numerics.real_qr.x__balance__mutmut_2": "done = None for False: read only "
+        "by `while not done`, where None and False are alike",
     _HT + "29": "half >= 0 for half > 0: in that branch |half| > 1e150, never 0",
     _HT + "30": "half > 1 for half > 0: in that branch |half| > 1e150, so both split the "
                 "positive from the negative alike",
