@@ -8,6 +8,8 @@
     python bench/mutation.py --survivors --resume --modules fit/fitting.py   # both, one module
     python bench/mutation.py --sample 150 --seed 1 --modules fit/fitting.py  # a random 150 of
                                              # its untested mutants, the score with its 95% interval
+    python bench/mutation.py --sample 40 --seed 21 --modules equilibria/lines.py \
+        --functions _end_point _split      # a draw from those functions' mutants only
     python bench/pinned.py                   # every module's last score, coverage, CI time
 
 mutmut expects the package under ./ or src/; the engine lives in pycore/. So this script
@@ -50,7 +52,8 @@ MODULES = [
     "equilibria/floquet.py", "equilibria/lines.py", "equilibria/windows.py",
     "equilibria/estimates.py", "equilibria/check.py", "equilibria/chart.py",
     "equilibria/chart_rows.py", "equilibria/chart_modes.py", "equilibria/chart_columns.py",
-    "equilibria/confirm.py", "equilibria/runup.py", "numerics/hill.py", "motion/loads.py",
+    "equilibria/confirm.py", "equilibria/runup.py", "equilibria/ramp.py", "numerics/hill.py",
+    "motion/loads.py",
     "fit/fitting.py",
     # the chain's stability engine since 2026-12-05 (the Taylor cycle, its eigenvalues) and
     # the scans' 2 x 2 traces
@@ -280,6 +283,31 @@ EQUIVALENT.update({
 })
 
 
+# Today's new code (mutramp, 2026-12-05): ramp.py, runup.py's end-speed verdict, chart_modes'
+# _unpredicted/_merged/damper_mixing/modes_predict/damped_hanging_frequencies_hz, lines'
+# _end_point/_split, real_qr's _balance, hill's multipliers_from_trace past 1e150
+_HUGE = ("in the branch |half| > HUGE_HALF_TRACE (1e150), 1 / half and 2 / half are below "
+         "1e-150, far under half an ulp of 1.0 (1.1e-16): 1 - c / half and 1 + c / half are "
+         "1.0 exactly, and so their product or quotient and its square root")
+_HT = "shakestill.numerics.hill.x_multipliers_from_trace__mutmut_"
+EQUIVALENT.update({
+    "shakestill.equilibria.chart_modes.x_damped_hanging_frequencies_hz__mutmut_12": "the "
+        "companion's first n rows padded to 3n columns with zeros: real_eigvals copies the "
+        "rows and reads h[i][j] only for j < len(h) = 2n (balance, Hessenberg, QR), so the "
+        "padding is never read",
+    _HT + "14": "abs(half) / sqrt(...) for * sqrt(...): " + _HUGE,
+    _HT + "17": "(1 - 1 / half) / (1 + 1 / half) for *: " + _HUGE,
+    _HT + "21": "1 - 2 / half for 1 - 1 / half: " + _HUGE,
+    _HT + "22": "1 - 1 / half for 1 + 1 / half: " + _HUGE,
+    _HT + "25": "1 + 2 / half for 1 + 1 / half: " + _HUGE,
+    "shakestill.numerics.real_qr.x__balance__mutmut_2": "done = None for False: read only "
+        "by `while not done`, where None and False are alike",
+    _HT + "29": "half >= 0 for half > 0: in that branch |half| > 1e150, never 0",
+    _HT + "30": "half > 1 for half > 0: in that branch |half| > 1e150, so both split the "
+                "positive from the negative alike",
+})
+
+
 def stage(modules: list[str], tests: list[str]) -> None:
     if STAGE.exists():
         shutil.rmtree(STAGE)
@@ -357,6 +385,13 @@ def score(status: dict[str, str]) -> dict:
     return {"mutants": len(status), "by_status": counts, "killed": killed, "survived": len(survivors),
             "equivalent": len(judged), "tested": killed + len(survivors),
             "survivors": [k for k in survivors if k not in EQUIVALENT]}
+
+
+def function_of(name: str) -> str:
+    """mutmut's mutant name -> the function mutated: '..lines.x__end_point__mutmut_3' ->
+    '_end_point', '..lines.xǁProbeǁ__call____mutmut_19' -> 'Probe.__call__'."""
+    inner = re.match(r".*?\.x(?:_|ǁ)(.*)__mutmut_\d+$", name).group(1)
+    return inner.replace("ǁ", ".")
 
 
 def draw(untested: list[str], n: int, seed: int) -> list[str]:
@@ -441,8 +476,9 @@ def report(tests: list[str] | None = None) -> int:
     for module, drawn in sorted(draws().items()):
         mine = {k: s for k, s in status.items() if module_of(k) == module}
         r = sampled(mine, drawn)
-        print(f"SAMPLED {module} (seed {r['seed']}, {r['drawn']} of {r['stratum']} untested "
-              f"drawn): {r['killed']} killed of {r['counted']} non-equivalent tested = "
+        only = drawn.get("functions")
+        print(f"SAMPLED {module}{' ' + '/'.join(only) if only else ''} (seed {r['seed']}, "
+              f"{r['drawn']} of {r['stratum']} untested drawn): {r['killed']} killed of {r['counted']} non-equivalent tested = "
               f"{100 * r['score']:.1f}%, 95% interval {100 * r['ci95'][0]:.1f}-"
               f"{100 * r['ci95'][1]:.1f}% (Wilson); module estimate "
               f"{100 * r['module_estimate']:.1f}% ({100 * r['module_ci95'][0]:.1f}-"
@@ -473,7 +509,8 @@ def main() -> int:
     ap.add_argument("--jobs", type=int, default=2, help="mutmut --max-children (default 2)")
     ap.add_argument("--report", action="store_true", help="only print the last run's results")
     ap.add_argument("--survivors", action="store_true",
-                    help="re-test the last run's survivors with the working tree's tests")
+                    help="re-test the last run's survivors (not those judged equivalent) "
+                         "with the working tree's tests")
     ap.add_argument("--resume", action="store_true",
                     help="carry on the staged run (mutants not yet tested) with today's tests")
     ap.add_argument("--sample", type=int, metavar="N",
@@ -481,6 +518,10 @@ def main() -> int:
                          "module is staged first when the stage lacks it) and print the score "
                          "with its binomial 95%% interval, marked SAMPLED")
     ap.add_argument("--seed", type=int, help="the --sample draw's seed (required with it)")
+    ap.add_argument("--functions", nargs="+", metavar="NAME",
+                    help="with --sample: in each module that has some of these functions "
+                         "(a method as Class.name), draw only from their mutants (the stratum, "
+                         "and so the estimate, is theirs); a module with none is drawn whole")
     a = ap.parse_args()
     if a.report:  # records the staged run's figures too (a run stopped part way included)
         return report(staged_tests())
@@ -505,15 +546,19 @@ def main() -> int:
         wanted = (("survived", "no tests") if a.survivors else ()) + \
             (("not checked",) if a.resume else ())
         status = results()
-        names = sorted(k for k, s in status.items()
-                       if s in wanted and module_of(k) in a.modules)
+        names = sorted(k for k, s in status.items()  # not the survivors judged equivalent:
+                       if s in wanted and module_of(k) in a.modules  # no test can kill them
+                       and not (s == "survived" and k in EQUIVALENT))
         if a.sample:
             drawn = draws()
             for module in a.modules:
-                untested = [k for k, s in status.items()
-                            if s == "not checked" and module_of(k) == module]
+                mine = [k for k in status if module_of(k) == module]
+                only = sorted({function_of(k) for k in mine} & set(a.functions or []))
+                untested = [k for k in mine if status[k] == "not checked"
+                            and (not only or function_of(k) in only)]
                 picked = draw(untested, a.sample, a.seed)
-                drawn[module] = {"seed": a.seed, "names": picked, "stratum": sorted(untested)}
+                drawn[module] = {"seed": a.seed, "names": picked, "stratum": sorted(untested),
+                                 "functions": only}
                 names = sorted(set(names) | set(picked))
             SAMPLE.write_text(json.dumps(drawn, indent=0) + "\n")
         a.tests = add_tests(staged_tests() or TESTS, a.tests or [])

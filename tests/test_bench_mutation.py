@@ -70,3 +70,15 @@ def test_the_module_estimate_counts_the_stratum_by_the_sample():
     assert r["module_ci95"] == pytest.approx(
         [(90 + 360 * ci.low) / 459, (90 + 360 * ci.high) / 459], abs=1e-12)
     assert r["sampled"] is True
+
+
+def test_function_of_names_the_mutated_function():
+    # mutmut's names (its trampoline: x_<function>__mutmut_<i>, xǁ<Class>ǁ<method>__mutmut_<i>),
+    # as they appear in build/mutation/status.json; the function read off by hand.
+    assert mutation.function_of("shakestill.equilibria.lines.x__end_point__mutmut_3") == \
+        "_end_point"
+    assert mutation.function_of("shakestill.numerics.hill.x_multipliers_from_trace__mutmut_12") \
+        == "multipliers_from_trace"
+    assert mutation.function_of("shakestill.equilibria.lines.xǁProbeǁ__call____mutmut_19") == \
+        "Probe.__call__"
+    assert mutation.function_of("shakestill.equilibria.lines.x_split__mutmut_1") != "_split"

@@ -358,3 +358,31 @@ def test_a_chain_chart_asks_no_later_mode_for_what_the_longest_holds_nowhere(mon
     assert sum(asked.values()) == c.evaluations
     assert asked.get((0, "inverted"), 0) > 0 and asked.get((0, "hanging"), 0) > 0
     assert asked.get((1, "hanging"), 0) > 0 and (1, "inverted") not in asked
+
+
+def test_islands_the_prediction_lacks_and_their_merge():
+    # chart_modes._unpredicted (its docstring): each island of a neighbour's exact row (of
+    # the same first speed: a neighbour starting elsewhere is skipped, not the end of the
+    # search) that the row's modes do not show, where no modal edge lies within MATCH of
+    # it, widened by MATCH and clipped to the row; worked by hand. MATCH = 2%.
+    m = chart_modes.MATCH
+    predicted = _row(0.015, hanging=(True, (2000.0, False), (2100.0, True),
+                                     (2400.0, False), (2500.0 * (1 - m), True)))
+    modal = _row(0.01, hanging=(True,))
+    elsewhere = Row(0.01, LO + 1.0, HI, {"hanging": (Edge(1500.0, False), Edge(1600.0, True))},
+                    {"hanging": True}, 0)
+    exact = _row(0.01, hanging=(True, (301.0, False), (320.0, True), (1000.0, False),
+                                (1050.0, True), (2010.0, False), (2090.0, True),
+                                (2500.0, False), (2600.0, True)))
+    got = chart_modes._unpredicted(predicted, ((elsewhere, modal), (exact, modal)), "hanging")
+    # 301-320: lacking, widened to 294.98-326.4 and clipped at the row's first speed 300;
+    # 1000-1050: lacking, 980-1071; 2010-2090: the modes show it (unstable 2000-2100);
+    # 2500-2600: lacking, but the modal edge at 2500 (1 - MATCH) lies within MATCH (the
+    # reach is inclusive); the stable stretches between islands: shown. 1500-1600 of the
+    # neighbour with another first speed: not used.
+    assert got == [(300.0, 320.0 * (1 + m)), (1000.0 * (1 - m), 1050.0 * (1 + m))]
+    # _merged (its docstring): overlapping spans joined, in order of speed; spans that
+    # touch are joined, one inside another keeps the outer end (hand).
+    spans = [(3.0, 4.0), (1.0, 2.0), (1.5, 2.5), (4.0, 5.0), (2.5, 2.6), (1.2, 1.3), (6.0, 7.0)]
+    assert chart_modes._merged(spans) == [(1.0, 2.6), (3.0, 5.0), (6.0, 7.0)]
+    assert chart_modes._merged([]) == []

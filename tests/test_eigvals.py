@@ -98,3 +98,56 @@ def test_a_badly_balanced_monodromy_is_balanced_first():
     d = 10.0 ** np.linspace(-5, 5, 6)
     scaled = (np.diag(d) @ np.array(STALLED) @ np.diag(1 / d)).tolist()
     assert worst_mismatch(real_eigvals(scaled), want) <= 1e-10
+
+
+def balanc(a):
+    """EISPACK's balanc (Parlett & Reinsch, Numer. Math. 13 (1969) 293; the Fortran of
+    EISPACK, radix 2) without its permutation search, in numpy: off-diagonal 1-norms c of
+    column i and r of row i; skip a row or column that is zero off the diagonal; f the power
+    of 2 from `while c < r / 2: f *= 2, c *= 4`, then `while c >= 2 r: f /= 2, c /= 4`; if
+    (c + r) / f < 0.95 (c + r) scale row i by 1 / f and column i by f, and sweep again
+    until no row is scaled."""
+    a = np.array(a, dtype=float)
+    n = len(a)
+    noconv = True
+    while noconv:
+        noconv = False
+        for i in range(n):
+            c = float(np.sum(np.abs(np.delete(a[:, i], i))))
+            r = float(np.sum(np.abs(np.delete(a[i, :], i))))
+            if c == 0.0 or r == 0.0:
+                continue
+            s, f = c + r, 1.0
+            while c < r / 2.0:
+                f, c = f * 2.0, c * 4.0
+            while c >= r * 2.0:
+                f, c = f / 2.0, c / 4.0
+            if (c + r) / f < 0.95 * s:
+                noconv = True
+                a[i, :] /= f
+                a[:, i] *= f
+    return a
+
+
+def test_balancing_is_eispacks_balanc():
+    # real_qr._balance against EISPACK's balanc written out above (its published Fortran,
+    # without permutations), on the badly scaled matrices (ten decades), a companion matrix
+    # (off-diagonal sums of exactly 1, a zero column off the diagonal), the stalled
+    # monodromy and a matrix whose first row is zero off the diagonal: the same powers of 2
+    # everywhere, so the same matrix to the last bit (1e-15 relative allows only the sums'
+    # order). Then the scaling is a similarity: numpy's eigenvalues unchanged, 1e-10.
+    from shakestill.numerics.real_qr import _balance
+    companion = [[0.0, 0.0, 1.0, 0.0], [0.0, 0.0, 0.0, 1.0],
+                 [-400.0, 0.0, -3e-3, 1e-4], [0.0, -9e4, 1e-4, -0.5]]
+    first_row_zero = [[2.0, 0.0, 0.0], [1e-6, 1.0, 3e4], [5e3, 1e-5, -1.0]]
+    column_of_one = [[0.0, 400.0, 3.0], [1.0, 0.0, 0.0], [0.0, 1.0, -2.0]]  # c = 1 at i = 0
+    row_of_one = [[0.0, 1.0, 0.0], [400.0, 0.0, 3.0], [0.0, 2.0, -1.0]]  # r = 1 at i = 0
+    cases = [*random_matrices("badly scaled", count=60, seed=11), companion, STALLED,
+             first_row_zero, column_of_one, row_of_one]
+    for a in cases:
+        h = np.array(a, dtype=float).tolist()
+        _balance(h)
+        want = balanc(a)
+        assert np.array(h) == pytest.approx(want, rel=1e-15, abs=0.0)
+        assert worst_mismatch(np.linalg.eigvals(np.array(h)), np.linalg.eigvals(np.array(a))) \
+            <= 1e-10 * max(1.0, np.linalg.norm(a, 2))

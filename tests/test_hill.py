@@ -129,3 +129,8 @@ def test_multipliers_of_a_huge_trace_stay_finite_and_multiply_to_the_decay_squar
         want = np.roots([1.0, -t, 1.0]) * d if abs(t) < 1e100 else [d * t, d / t]
         assert sorted([a.real, b.real]) == pytest.approx(sorted(np.real(want)), rel=1e-12)
         assert a * b == pytest.approx(d * d, rel=1e-12)
+    # An overflowed trace: the limits of d t and d / t (hand), the smaller 0 (signed inf and
+    # 0 exactly: the run-up reads an infinite growth from the first).
+    for t in (math.inf, -math.inf):
+        a, b = multipliers_from_trace(t, 0.7)
+        assert (a, b) == (complex(t), 0j) and b.imag == 0.0

@@ -373,3 +373,23 @@ def test_dampers_that_mix_the_modes_strongly_chart_the_chain_exactly():
         edge = brentq(lambda v: _ref_max_multiplier(data, "hanging", v, row.y) - 1,
                       e.x * (1 - 1e-3), e.x * (1 + 1e-3), xtol=1e-10 * e.x)
         assert e.x == pytest.approx(edge, rel=1e-6)
+
+
+def test_damper_mixing_of_modes_closer_than_one_rad_s():
+    # Two 15 m links (a slow chain: its hanging sway modes' rates sqrt(g / L) are 1.49 and
+    # 0.62 rad/s, 0.87 apart) with a damper on the second joint: the mixing is the cross
+    # damping (X^T D X)_12 over that gap, finite however close the rates (scipy.linalg.eigh
+    # (K, M), as in the test above, 1e-9 relative); a mix under STRONG_MIXING predicts by
+    # the modes, hand.
+    from shakestill.equilibria.chart_modes import STRONG_MIXING, damper_mixing, modes_predict
+    links = [ref.link(15.0, 0.0, [(1.0, 15.0)]), ref.link(15.0, 0.0, [(1.0, 15.0)], damping=0.05)]
+    data = ref.rig(links, ref.sine(0.01, 10.0),
+                   limits={"speed_rpm": [1.0, 100.0], "stroke_m": [0.0, 0.05]})
+    mass, damp, stiff = ref.chain_matrices(data, "hanging")
+    lam, x = scipy.linalg.eigh(np.abs(stiff), mass)
+    cross, rates = x.T @ damp @ x, np.sqrt(G * lam)
+    assert 0.0 < abs(rates[0] - rates[1]) < 1.0
+    want = abs(cross[0, 1]) / abs(rates[0] - rates[1])
+    model = derive(ss.rig_from_dict(data))
+    assert damper_mixing(model) == pytest.approx(want, rel=1e-9)
+    assert want < STRONG_MIXING and modes_predict(model)

@@ -500,3 +500,42 @@ def test_a_slow_ramp_past_the_cap_is_said_in_words_not_digits():
     text = runup_text(got)
     assert f"{seconds:.3g} s, {cycles:.3g} cycles, a disturbance grows past x1e+304" in text
     assert "from 0.05 to 900 rpm" in text
+
+
+def test_a_recommended_rate_under_one_rpm_s():
+    # A 250 mm pendulum on a 10 mm sine stroke (q = 0.04) crosses its principal tongue near
+    # 120 rpm; the slowest safe rate is a quarter of an rpm/s (the growth exponent falls as
+    # q^2 f^2: tests/test_runup.py's 10 mm pendulum at this q needs 6.3 rpm/s). It is
+    # recommended, not refused: the growth at it, by solve_ivp + numpy.svd
+    # (refsolvers.ramp_growths), lands within the search's 2% under the factor 10 (REL over
+    # it: the references are good to ~1e-11). Hand: hanging and held at the end speed, no
+    # end multiplier is given; with no equilibrium asked about nothing is crossed: 0.
+    from shakestill.equilibria.runup import recommended_rate, runup
+    data = R.rig([R.link(0.25, 0.0, [(0.1, 0.25)])], R.sine(0.01, 200.0),
+                 limits={"speed_rpm": [10.0, 600.0], "stroke_m": [0.0, 0.05]})
+    rig = ss.rig_from_dict(data)
+    got = runup(rig, rate_rpm_s=None, end_rpm=200.0, equilibria=("hanging",))
+    rate = got["rate_rpm_s"]
+    assert got["rate_recommended"] is True and 0.1 < rate < 1.0
+    (c,) = got["hanging"]["crossings"]
+    assert c["min_rate_rpm_s"] == rate
+    growth = R.ramp_growths(data, "hanging", c["speed_from_rpm"], c["speed_to_rpm"], [rate])[0]
+    assert 10.0 / 1.02 * (1 - REL) <= growth <= 10.0 * (1 + REL)
+    assert c["simulated_amplification"] == pytest.approx(growth, rel=REL)
+    assert got["hanging"]["held_at_end"] is True and "end_max_multiplier" not in got["hanging"]
+    assert recommended_rate(rig, end_rpm=200.0, equilibria=()) == 0.0
+
+
+@pytest.mark.parametrize("rate", [5000.0, 50000.0])
+def test_a_ramp_shorter_than_two_drive_cycles(rate):
+    # Through the principal tongue (Mathieu a_1/b_1 ends, 547-671 rpm) in 25 ms and 2.5 ms,
+    # a quarter and a fortieth of a drive cycle: the instants at entry and exit then spread
+    # over the first and last half of the ramp, not a cycle (ramp.py's docstring). Up and
+    # down, against solve_ivp + numpy.svd on the same instants (refsolvers.ramp_growths),
+    # to REL (the references agree to ~1e-14 here).
+    from shakestill.equilibria.ramp import ramp_amplification
+    lo, hi = tongue_rpm(1)
+    model = ss.rig_from_dict(rig_data())
+    for a, b in ((lo, hi), (hi, lo)):
+        want = R.ramp_growths(rig_data(), "hanging", a, b, [rate])[0]
+        assert ramp_amplification(model, "hanging", a, b, rate) == pytest.approx(want, rel=REL)

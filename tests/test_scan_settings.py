@@ -192,6 +192,25 @@ def test_a_looser_tolerance_is_passed_on_and_costs_fewer_evaluations():
         assert walk_at(1e-4, a_values, want) < walk_at(1e-10, a_values, want)
 
 
+def test_both_edges_of_a_found_island_get_the_tolerance_asked(monkeypatch):
+    # walk(..., rtol): every edge it reports is searched to the rtol asked (its signature and
+    # edge_between's), the two about a hidden island (lines._split) too. Each edge search is
+    # recorded on its way to edge_between (a spy; default EDGE_RTOL where none is passed):
+    # on the island walk of test_a_stable_island_between_three_unstable_points_is_found at
+    # rtol 1e-4, two searches, each at 1e-4, each edge within 1e-4 of its Mathieu edge
+    # (scipy.special a_1(5), b_2(5)), in walking order (down in speed).
+    from shakestill.equilibria import lines
+    asked = []
+    real = lines.edge_between
+
+    def spy(probe, a, b, *, rtol=lines.EDGE_RTOL):
+        asked.append(rtol)
+        return real(probe, a, b, rtol=rtol)
+    monkeypatch.setattr(lines, "edge_between", spy)
+    walk_at(1e-4, [1.4, 1.75, 2.5], [mathieu_a(1, Q), mathieu_b(2, Q)])
+    assert asked == [1e-4, 1e-4]
+
+
 # ------------------------------------------------------------ the scan's points and its caps
 
 def test_speed_points_step_a_tongue_spacing_or_four_percent():
