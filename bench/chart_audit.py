@@ -30,7 +30,7 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "pycore"))
 import refsolvers as ref  # noqa: E402
 import shakestill as ss  # noqa: E402
 from shakestill.equilibria.chart import chart  # noqa: E402
-from shakestill.equilibria.chart_modes import damper_mixing  # noqa: E402
+from shakestill.model.modes import damper_mixing  # noqa: E402
 from shakestill.model.derived import derive  # noqa: E402
 
 
@@ -63,7 +63,7 @@ def audit(data: dict, rows: int, points: int, rng: random.Random) -> dict:
         tried += 1
         wrong += int(held != bool(rho < 1))
     return {"links": len(data["links"]), "drive": data["drive"]["waveform"],
-            "mixing": round(damper_mixing(derive(rig)), 4), "chart_s": round(seconds, 2),
+            "mixing": round(damper_mixing(derive(rig).modes, rig.g_m_s2), 4), "chart_s": round(seconds, 2),
             "points": tried, "wrong": wrong}
 
 

@@ -329,7 +329,7 @@ def test_dampers_that_mix_the_modes_strongly_chart_the_chain_exactly():
     # tongue near 400 rpm is one the undamped modes do not have. The chart walks the chain's
     # exact monodromy instead: verdicts across each row against solve_ivp (DOP853, rtol
     # 1e-11), and the busiest row's edges by scipy brentq on it, to 1e-6 relative.
-    from shakestill.equilibria.chart_modes import STRONG_MIXING, damper_mixing
+    from shakestill.model.modes import STRONG_MIXING, damper_mixing
 
     links = [ref.link(0.12, 0.034, [(0.019, 0.12)]),
              ref.link(0.11, 0.026, [(0.026, 0.11)], damping=1.7e-4),
@@ -342,7 +342,7 @@ def test_dampers_that_mix_the_modes_strongly_chart_the_chain_exactly():
     want = max(abs(cross[i, j]) / abs(rates[i] - rates[j])
                for i in range(3) for j in range(3) if i != j)
     rig = ss.rig_from_dict(data)
-    assert damper_mixing(derive(rig)) == pytest.approx(want, rel=1e-9)
+    assert damper_mixing(derive(rig).modes, rig.g_m_s2) == pytest.approx(want, rel=1e-9)
     assert want > STRONG_MIXING
     checked = ss.check(rig)  # the check's JSON and words carry it
     assert checked["modes"]["damper_mixing"] == pytest.approx(want, rel=1e-9)
@@ -381,7 +381,8 @@ def test_damper_mixing_of_modes_closer_than_one_rad_s():
     # damping (X^T D X)_12 over that gap, finite however close the rates (scipy.linalg.eigh
     # (K, M), as in the test above, 1e-9 relative); a mix under STRONG_MIXING predicts by
     # the modes, hand.
-    from shakestill.equilibria.chart_modes import STRONG_MIXING, damper_mixing, modes_predict
+    from shakestill.equilibria.chart_modes import modes_predict
+    from shakestill.model.modes import STRONG_MIXING, damper_mixing
     links = [ref.link(15.0, 0.0, [(1.0, 15.0)]), ref.link(15.0, 0.0, [(1.0, 15.0)], damping=0.05)]
     data = ref.rig(links, ref.sine(0.01, 10.0),
                    limits={"speed_rpm": [1.0, 100.0], "stroke_m": [0.0, 0.05]})
@@ -391,5 +392,5 @@ def test_damper_mixing_of_modes_closer_than_one_rad_s():
     assert 0.0 < abs(rates[0] - rates[1]) < 1.0
     want = abs(cross[0, 1]) / abs(rates[0] - rates[1])
     model = derive(ss.rig_from_dict(data))
-    assert damper_mixing(model) == pytest.approx(want, rel=1e-9)
+    assert damper_mixing(model.modes, model.rig.g_m_s2) == pytest.approx(want, rel=1e-9)
     assert want < STRONG_MIXING and modes_predict(model)

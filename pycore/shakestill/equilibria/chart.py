@@ -17,10 +17,10 @@ from typing import Iterator
 from ..model import drive as drv
 from ..model.derived import Model, as_model
 from ..model.linear import EQUILIBRIA
+from ..model.modes import STRONG_MIXING, damper_mixing
 from ..model.rig import Rig, max_stroke_m, with_operating_point
 from .chart_columns import column_edges, column_speeds
-from .chart_modes import (STRONG_MIXING, damped_hanging_frequencies_hz, damper_mixing,
-                          modal_row_steps, modes_predict)
+from .chart_modes import damped_hanging_frequencies_hz, modal_row_steps, modes_predict
 from .chart_rows import (CHART_RTOL, CHART_SPEED_STEP, Row, predict, scan_row, speed_range,
                          stroke_for_peak_accel)
 from .confirm import CONFIRM_HALF_WIDTHS
@@ -205,7 +205,7 @@ def _modes_words(model: Model) -> str:
         return words + "; no damping couples the modes, so this is exact"
     if not modes_predict(model):
         return ("several links: the joint dampers mix the sway modes too much for them to "
-                f"predict the chain (mixing {damper_mixing(model):.2g}, over "
+                f"predict the chain (mixing {damper_mixing(model.modes, model.rig.g_m_s2):.2g}, over "
                 f"{STRONG_MIXING:g}: cross damping against the gap between two modes' "
                 "rates), so every row is walked by the chain's exact monodromy")
     return (f"{words}; the joint dampers couple the modes ({model.modes.coupling:.2g}), so "

@@ -24,6 +24,7 @@ from dataclasses import replace
 from typing import Callable, Iterator
 
 from ..model.derived import Model, derive
+from ..model.modes import STRONG_MIXING, damper_mixing
 from ..model.rig import Link, PointMass
 from ..numerics.linalg import eigvals
 from .chart_rows import (CHART_RTOL, CHART_SPEED_STEP, Row, line_edges, predict, row_line,
@@ -49,31 +50,6 @@ def mode_models(model: Model, speed_min: float) -> tuple[Model, ...]:
     return tuple(out)
 
 
-# Joint dampers that mix two sway modes by more than this leave the modes no predictor of
-# the chain: the cross damping of two modes against the gap between their hanging rates,
-# |(X^T D X)_ij| / |w_i - w_j| with w = sqrt(g / L) (first-order mixing of two oscillators
-# coupled through their velocities). On 97 random damped two- and three-link chains
-# (2026-12-05, 15,440 chart points against solve_ivp) the modes lost tongues, whole
-# principal ones at |rho| up to 1.1, in 7 of the 13 chains mixed by 1.27 or more, and in
-# none mixed by 1.23 or less: this bound leaves a factor 2.5. Such a chart walks the chain
-# exactly (about 4.5 s for 120 rows of three links, against 0.6 s by the modes).
-STRONG_MIXING = 0.5
-
-
-def damper_mixing(model: Model) -> float:
-    """How far the joint dampers mix the sway modes (see STRONG_MIXING); 0 for one link."""
-    modes, g = model.modes, model.rig.g_m_s2
-    rates = [math.sqrt(g / length) for length in modes.lengths_m]
-    worst = 0.0
-    for i in range(len(rates)):
-        for j in range(i + 1, len(rates)):
-            cross = abs(modes.cross_damping[i][j])
-            gap = abs(rates[i] - rates[j])
-            if cross > 0.0:
-                worst = max(worst, cross / gap if gap > 0.0 else math.inf)
-    return worst
-
-
 def damped_hanging_frequencies_hz(model: Model) -> tuple[float, ...]:
     """The hanging chain's free oscillation frequencies with its joint dampers, ascending:
     the eigenvalues lambda of z'' + (X^T D X) z' + g diag(1 / L) z = 0 (the sway-mode
@@ -93,7 +69,7 @@ def modes_predict(model: Model) -> bool:
     """True if several links are charted by their sway modes (exact, or confirmed by the
     chain's monodromy); False if the dampers mix the modes too much and the chart walks
     the chain exactly."""
-    return damper_mixing(model) <= STRONG_MIXING
+    return damper_mixing(model.modes, model.rig.g_m_s2) <= STRONG_MIXING
 
 
 def modal_row_steps(model: Model, speed_min: float, y_axis: str, equilibria,

@@ -6,11 +6,11 @@
 from __future__ import annotations
 
 from ..model import drive as drv
-from .chart_modes import STRONG_MIXING, damper_mixing
 from .estimates import estimates
 from .floquet import stability
 from ..model.linear import EQUILIBRIA
 from ..model.derived import Model, derive
+from ..model.modes import STRONG_MIXING, damper_mixing
 from ..model.rig import Rig
 from .reach import require_in_reach
 from .windows import window
@@ -91,7 +91,7 @@ def check(rig: Rig) -> dict:
         "equivalent_lengths_m": list(sway.lengths_m),
         "shapes": [list(shape) for shape in sway.shapes],
         "damping_coupling": sway.coupling,
-        "damper_mixing": damper_mixing(model),
+        "damper_mixing": damper_mixing(model.modes, model.rig.g_m_s2),
         "strong_mixing": STRONG_MIXING,
     }
     result["properties"] = {
