@@ -285,26 +285,16 @@ EQUIVALENT.update({
 
 # Today's new code (mutramp, 2026-12-05): ramp.py, runup.py's end-speed verdict, chart_modes'
 # _unpredicted/_merged/damper_mixing/modes_predict/damped_hanging_frequencies_hz, lines'
-# _end_point/_split, real_qr's _balance, hill's multipliers_from_trace past 1e150
-_HUGE = ("in the branch |half| > HUGE_HALF_TRACE (1e150), 1 / half and 2 / half are below "
-         "1e-150, far under half an ulp of 1.0 (1.1e-16): 1 - c / half and 1 + c / half are "
-         "1.0 exactly, and so their product or quotient and its square root")
-_HT = "shakestill.numerics.hill.x_multipliers_from_trace__mutmut_"
+# _end_point/_split, real_qr's _balance (hill's multipliers_from_trace past 1e150 was
+# simplified after the run to trace and 1/trace: its equivalents, mutants of a factor that
+# was exactly 1.0 there, are gone with the factor)
 EQUIVALENT.update({
     "shakestill.equilibria.chart_modes.x_damped_hanging_frequencies_hz__mutmut_12": "the "
         "companion's first n rows padded to 3n columns with zeros: real_eigvals copies the "
         "rows and reads h[i][j] only for j < len(h) = 2n (balance, Hessenberg, QR), so the "
         "padding is never read",
-    _HT + "14": "abs(half) / sqrt(...) for * sqrt(...): " + _HUGE,
-    _HT + "17": "(1 - 1 / half) / (1 + 1 / half) for *: " + _HUGE,
-    _HT + "21": "1 - 2 / half for 1 - 1 / half: " + _HUGE,
-    _HT + "22": "1 - 1 / half for 1 + 1 / half: " + _HUGE,
-    _HT + "25": "1 + 2 / half for 1 + 1 / half: " + _HUGE,
     "shakestill.numerics.real_qr.x__balance__mutmut_2": "done = None for False: read only "
         "by `while not done`, where None and False are alike",
-    _HT + "29": "half >= 0 for half > 0: in that branch |half| > 1e150, never 0",
-    _HT + "30": "half > 1 for half > 0: in that branch |half| > 1e150, so both split the "
-                "positive from the negative alike",
 })
 
 

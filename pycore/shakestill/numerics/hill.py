@@ -334,13 +334,11 @@ def multipliers_from_trace(trace: float, decay: float) -> tuple[complex, complex
     half = trace / 2.0
     if math.isinf(trace):
         return (complex(math.copysign(math.inf, trace)), 0j)
-    if abs(half) > HUGE_HALF_TRACE:  # a real pair whose half^2 would overflow
-        root = abs(half) * math.sqrt((1.0 - 1.0 / half) * (1.0 + 1.0 / half))
-        plus, minus = half + root, half - root
-        # the larger from the sum, the smaller as its reciprocal (their product is 1). Only
-        # here: below it the usual formula stays, bit for bit as before.
-        if half > 0:
-            return (complex(decay * plus), complex(decay / plus))
-        return (complex(decay / minus), complex(decay * minus))
+    if abs(half) > HUGE_HALF_TRACE:
+        # half^2 would overflow: the roots are trace (1 - 1/trace^2 ...) and its reciprocal
+        # (their product is 1), and 1/trace^2 < 1e-300 is nothing beside 1. Only here: below
+        # it the usual formula stays, bit for bit as before.
+        big, small = complex(decay * trace), complex(decay / trace)
+        return (big, small) if trace > 0 else (small, big)
     root = cmath.sqrt(half * half - 1.0)
     return (decay * (half + root), decay * (half - root))
