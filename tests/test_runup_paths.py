@@ -389,7 +389,7 @@ def test_largest_singular_value_against_numpy_svd():
     # on 300 random 2 x 2 .. 6 x 6 matrices, half of them nearly of rank one with a growth up
     # to 1e80 (a steep crossing), to 1e-12 relative; an overflowed ramp (inf or NaN entries)
     # is an infinite growth and a zero matrix has none (hand).
-    from shakestill.equilibria.runup import largest_singular_value
+    from shakestill.equilibria.ramp import largest_singular_value
     rng = np.random.default_rng(5)
     for k in range(300):
         n = int(rng.integers(2, 7))

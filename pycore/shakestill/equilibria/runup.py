@@ -24,7 +24,7 @@ from ..model.linear import EQUILIBRIA
 from ..model.rig import OutOfReach, Rig
 from .floquet import stability
 from .lines import Probe, scan_settings, speed_points, walk
-from .ramp import largest_singular_value, ramp_amplification  # noqa: F401 (the run-up's API)
+from .ramp import ramp_amplification
 from .reach import MAX_SPEED_RPM, scan_floor_rpm
 
 GAUSS_POINTS = 20  # per interval, after the cosine map that absorbs sqrt edge behaviour
